@@ -1,0 +1,208 @@
+//! `layflow check`: validate a scenario and print its static picture.
+
+use std::fmt::Write as _;
+use std::path::PathBuf;
+
+use clap::Args;
+use layflow_models::analysis::StaticPicture;
+use layflow_models::plant::{DepartmentRole, Handling, Plant};
+use serde_json::json;
+
+use crate::table::{num, Table};
+use crate::{load, Failure, Format};
+
+/// Arguments of `layflow check`.
+#[derive(Args, Debug)]
+pub struct CheckArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+}
+
+/// Validate `args.scenario` and print its static picture.
+pub fn check(args: &CheckArgs) -> Result<(), Failure> {
+    let plant = load(&args.scenario)?;
+    let factor = demand_factor(&plant, args.demand)?;
+    let pic = StaticPicture::new(&plant, factor);
+    match args.format {
+        Format::Table => print!("{}", render(&plant, &args.scenario, &pic)),
+        Format::Json => println!("{}", serde_json::to_string_pretty(&to_json(&plant, &pic)).expect("JSON")),
+    }
+    warn_overload(&plant, &pic);
+    Ok(())
+}
+
+/// The demand factor to use: the command line's, else the scenario's.
+pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
+    match arg {
+        None => Ok(plant.demand_factor),
+        Some(f) if f > 0.0 && f.is_finite() => Ok(f),
+        Some(f) => Err(Failure::input(format!(
+            "--demand {f}: the demand factor must be a positive number, e.g. 1.2"
+        ))),
+    }
+}
+
+/// Print a loud warning on stderr for every department predicted at or over capacity.
+pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
+    for d in pic.overloaded() {
+        let dep = &plant.departments[d];
+        eprintln!(
+            "WARNING: department \"{}\" is predicted at {:.0}% utilisation ({} machine{}): the plant cannot keep up \
+             with this demand; queues there grow without bound and simulated results will not settle.",
+            dep.id,
+            pic.utilization[d] * 100.0,
+            dep.machines,
+            if dep.machines == 1 { "" } else { "s" }
+        );
+    }
+    for (l, lp) in pic.layouts.iter().enumerate() {
+        for (f, &u) in lp.fleet_utilization_lower_bound.iter().enumerate() {
+            if u >= 1.0 {
+                eprintln!(
+                    "WARNING: fleet \"{}\" needs at least {:.0}% of its time for loaded moves under layout \"{}\": \
+                     it cannot keep up; add movers.",
+                    plant.fleets()[f].id,
+                    u * 100.0,
+                    plant.layouts[l].name
+                );
+            }
+        }
+    }
+}
+
+fn render(plant: &Plant, path: &PathBuf, pic: &StaticPicture) -> String {
+    let mut s = String::new();
+    let docks = plant.departments.iter().filter(|d| d.role != DepartmentRole::Work).count();
+    let _ = writeln!(s, "{}", plant.name);
+    let _ = writeln!(
+        s,
+        "scenario {} is valid: {} locations, {} departments ({} docks), {} products, {} layouts, {}",
+        path.display(),
+        plant.locations.len(),
+        plant.departments.len(),
+        docks,
+        plant.products.len(),
+        plant.layouts.len(),
+        match &plant.handling {
+            Handling::Instant => "instant moves (no fleet)".to_string(),
+            Handling::Fleets(f) => format!("{} fleet{}", f.len(), if f.len() == 1 { "" } else { "s" }),
+        }
+    );
+    let _ = writeln!(s, "demand factor {}", num(pic.demand_factor));
+    let _ = writeln!(s);
+
+    let nd = plant.departments.len();
+    let used: Vec<usize> = (0..nd)
+        .filter(|&d| (0..nd).any(|o| pic.from_to[d * nd + o] > 0.0 || pic.from_to[o * nd + d] > 0.0))
+        .collect();
+    let _ = writeln!(s, "From-to chart: expected loads per hour (rows: from, columns: to; rework included)");
+    let mut header = vec!["from \\ to".to_string()];
+    header.extend(used.iter().map(|&d| plant.departments[d].id.clone()));
+    header.push("total".into());
+    let mut t = Table::new(&header);
+    for &i in &used {
+        let mut row = vec![plant.departments[i].id.clone()];
+        let mut total = 0.0;
+        for &j in &used {
+            let f = pic.from_to[i * nd + j];
+            total += f;
+            row.push(if f > 0.0 { format!("{f:.2}") } else { ".".into() });
+        }
+        row.push(format!("{total:.2}"));
+        t.row(row);
+    }
+    s.push_str(&t.render(2));
+    let _ = writeln!(s);
+
+    let _ = writeln!(s, "Departments: predicted utilisation = arrivals × mean processing time ÷ machines");
+    let mut t = Table::new(&["department", "machines", "lots/h", "utilisation", ""]);
+    for (d, dep) in plant.departments.iter().enumerate() {
+        if dep.role != DepartmentRole::Work {
+            continue;
+        }
+        let u = pic.utilization[d];
+        t.row(vec![
+            dep.id.clone(),
+            dep.machines.to_string(),
+            format!("{:.2}", pic.arrivals_per_h[d]),
+            format!("{:.1}%", u * 100.0),
+            if u >= 1.0 {
+                "OVERLOADED".into()
+            } else if u >= 0.85 {
+                "high".into()
+            } else {
+                String::new()
+            },
+        ]);
+    }
+    s.push_str(&t.render(2));
+    let _ = writeln!(s);
+
+    let _ = writeln!(
+        s,
+        "Layouts: load-distance = Σ loads/h × distance; static cost = load-distance × {} per load-metre",
+        num(plant.cost_per_load_metre)
+    );
+    let mut header: Vec<String> =
+        vec!["layout".into(), "load-distance (load-m/h)".into(), "static cost (/h)".into()];
+    for f in plant.fleets() {
+        header.push(format!("{} util ≥", f.id));
+    }
+    let mut t = Table::new(&header);
+    for (l, lp) in pic.layouts.iter().enumerate() {
+        let mut row = vec![
+            plant.layouts[l].name.clone(),
+            format!("{:.0}", lp.load_distance_m_per_h),
+            format!("{:.2}", lp.handling_cost_per_h),
+        ];
+        row.extend(lp.fleet_utilization_lower_bound.iter().map(|u| format!("{:.1}%", u * 100.0)));
+        t.row(row);
+    }
+    s.push_str(&t.render(2));
+    if !plant.fleets().is_empty() {
+        let _ =
+            writeln!(s, "  (fleet bound: loaded travel + loading + unloading only; empty travel adds to it)");
+    }
+    s
+}
+
+fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
+    let nd = plant.departments.len();
+    let ids: Vec<&str> = plant.departments.iter().map(|d| d.id.as_str()).collect();
+    let mut pairs = Vec::new();
+    for i in 0..nd {
+        for j in 0..nd {
+            let f = pic.from_to[i * nd + j];
+            if f > 0.0 {
+                pairs.push(json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }));
+            }
+        }
+    }
+    json!({
+        "plant": plant.name,
+        "demand_factor": pic.demand_factor,
+        "from_to": pairs,
+        "departments": plant.departments.iter().enumerate().map(|(d, dep)| json!({
+            "department": dep.id,
+            "machines": dep.machines,
+            "arrivals_per_h": pic.arrivals_per_h[d],
+            "utilization_predicted": pic.utilization[d],
+        })).collect::<Vec<_>>(),
+        "layouts": pic.layouts.iter().enumerate().map(|(l, lp)| json!({
+            "layout": plant.layouts[l].name,
+            "load_distance_m_per_h": lp.load_distance_m_per_h,
+            "handling_cost_static_per_h": lp.handling_cost_per_h,
+            "fleets": plant.fleets().iter().enumerate().map(|(f, fl)| json!({
+                "fleet": fl.id,
+                "trips_per_h": lp.fleet_trips_per_h[f],
+                "utilization_lower_bound": lp.fleet_utilization_lower_bound[f],
+            })).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
+    })
+}

@@ -1,0 +1,83 @@
+//! The layflow command line: verbs on a scenario file.
+//!
+//! Human tables go to stdout, diagnostics and progress to stderr. Exit codes:
+//! 0 success, 2 bad input (scenario or arguments), 1 the run itself failed.
+
+mod check;
+mod run;
+mod table;
+
+use std::path::PathBuf;
+use std::process::ExitCode;
+
+use clap::{Parser, Subcommand, ValueEnum};
+
+/// Simulate work in process moving through a plant laid out by departments,
+/// and compare layouts on throughput, WIP, flow time and handling cost.
+#[derive(Parser, Debug)]
+#[command(name = "layflow", version, about, long_about = None)]
+struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Subcommand, Debug)]
+enum Command {
+    /// Validate a scenario and print its static picture for every layout:
+    /// from-to chart, load-distance, static handling cost, predicted utilisations.
+    Check(check::CheckArgs),
+    /// Simulate every layout (or those named) over replications and report
+    /// means with 95% confidence intervals.
+    Run(run::RunArgs),
+}
+
+/// Output format shared by the commands.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// Aligned tables for people.
+    Table,
+    /// JSON for programs.
+    Json,
+}
+
+/// A failure with its exit code: 2 for bad input, 1 for a failed run.
+pub struct Failure {
+    code: u8,
+    message: String,
+}
+
+impl Failure {
+    /// Bad input: the scenario or an argument.
+    pub fn input(message: impl Into<String>) -> Failure {
+        Failure { code: 2, message: message.into() }
+    }
+    /// The run itself failed.
+    pub fn run(message: impl Into<String>) -> Failure {
+        Failure { code: 1, message: message.into() }
+    }
+}
+
+/// Load a scenario, turning its error into a bad-input failure.
+pub fn load(path: &PathBuf) -> Result<layflow_models::plant::Plant, Failure> {
+    layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
+}
+
+fn main() -> ExitCode {
+    let cli = Cli::parse();
+    let result = match cli.command {
+        Command::Check(a) => check::check(&a),
+        Command::Run(a) => run::run(&a),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(f) => {
+            let msg = f.message.trim_end();
+            if msg.starts_with("error") {
+                eprintln!("{msg}");
+            } else {
+                eprintln!("error: {msg}");
+            }
+            ExitCode::from(f.code)
+        }
+    }
+}

@@ -1,0 +1,320 @@
+//! `layflow run`: simulate layouts over replications and report with confidence intervals.
+
+use std::fmt::Write as _;
+use std::path::PathBuf;
+use std::time::Instant;
+
+use clap::Args;
+use indicatif::{ProgressBar, ProgressStyle};
+use layflow_models::analysis::StaticPicture;
+use layflow_models::plant::Plant;
+use layflow_models::report::{replicate, summarize, LayoutSummary};
+use layflow_models::sim::{Plan, RunSpec};
+use layflow_models::units::parse_duration;
+use serde::Serialize;
+
+use crate::check::{demand_factor, warn_overload};
+use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, Table};
+use crate::{load, Failure, Format};
+
+/// Arguments of `layflow run`.
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Layout to simulate (repeat, or separate by commas); default: every layout.
+    #[arg(long, value_name = "NAME", value_delimiter = ',')]
+    pub layout: Vec<String>,
+    /// Replications per layout (overrides run.replications).
+    #[arg(long, value_name = "N")]
+    pub replications: Option<u32>,
+    /// Base seed of every random stream (overrides run.seed).
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Simulated time per replication, warm-up included, e.g. "30 d" (overrides run.horizon).
+    #[arg(long, value_name = "DURATION")]
+    pub horizon: Option<String>,
+    /// Statistics are cleared at this time, e.g. "2 d" (overrides run.warmup).
+    #[arg(long, value_name = "DURATION")]
+    pub warmup: Option<String>,
+    /// Scale every product's demand by this factor (overrides demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// Worker threads for replications (default: every core). Results do not depend on it.
+    #[arg(long, value_name = "K")]
+    pub threads: Option<usize>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
+    #[arg(long)]
+    pub no_wall_clock: bool,
+}
+
+#[derive(Serialize)]
+struct RunOutput<'a> {
+    plant: &'a str,
+    scenario: String,
+    horizon_s: f64,
+    warmup_s: f64,
+    replications: u32,
+    seed: u64,
+    demand_factor: f64,
+    confidence: f64,
+    layouts: Vec<LayoutSummary>,
+    events: u64,
+    #[serde(skip_serializing_if = "Option::is_none")]
+    wall_s: Option<f64>,
+}
+
+fn duration_arg(flag: &str, v: &Option<String>, default: f64) -> Result<f64, Failure> {
+    match v {
+        None => Ok(default),
+        Some(text) => {
+            parse_duration(text).map_err(|e| Failure::input(format!("{flag} {text:?}: {e}"))).and_then(|s| {
+                if s >= 0.0 {
+                    Ok(s)
+                } else {
+                    Err(Failure::input(format!("{flag} {text:?}: must not be negative")))
+                }
+            })
+        }
+    }
+}
+
+/// Resolve layout names (default: all), with a did-you-mean on a miss.
+pub fn layouts(plant: &Plant, names: &[String]) -> Result<Vec<usize>, Failure> {
+    if names.is_empty() {
+        return Ok((0..plant.layouts.len()).collect());
+    }
+    names
+        .iter()
+        .map(|n| {
+            plant.layout_index(n).ok_or_else(|| {
+                let known: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
+                Failure::input(format!(
+                    "--layout {n:?}: no such layout; the scenario has: {}",
+                    known.join(", ")
+                ))
+            })
+        })
+        .collect()
+}
+
+/// Simulate and report.
+pub fn run(args: &RunArgs) -> Result<(), Failure> {
+    let plant = load(&args.scenario)?;
+    let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
+    let warmup_s = duration_arg("--warmup", &args.warmup, plant.run.warmup_s)?;
+    if !(horizon_s > warmup_s) {
+        return Err(Failure::input(format!(
+            "the horizon ({}) must be longer than the warm-up ({})",
+            dur_plain(horizon_s),
+            dur_plain(warmup_s)
+        )));
+    }
+    let replications = args.replications.unwrap_or(plant.run.replications);
+    if replications == 0 {
+        return Err(Failure::input("--replications must be at least 1"));
+    }
+    let seed = args.seed.unwrap_or(plant.run.seed);
+    let factor = demand_factor(&plant, args.demand)?;
+    let which = layouts(&plant, &args.layout)?;
+    let threads = match args.threads {
+        Some(0) => return Err(Failure::input("--threads must be at least 1")),
+        Some(k) => k,
+        None => std::thread::available_parallelism().map_or(1, usize::from),
+    };
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+
+    let pic = StaticPicture::new(&plant, factor);
+    warn_overload(&plant, &pic);
+
+    let total = which.len() as u64 * u64::from(replications);
+    let bar = ProgressBar::new(total).with_style(
+        ProgressStyle::with_template(
+            "{spinner} {msg} [{bar:30}] {pos}/{len} replications, {elapsed} elapsed, ~{eta} left",
+        )
+        .expect("valid progress template")
+        .progress_chars("=> "),
+    );
+    let started = Instant::now();
+    let mut summaries = Vec::with_capacity(which.len());
+    for &l in &which {
+        bar.set_message(format!("layout {}", plant.layouts[l].name));
+        let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
+        let plan = Plan::new(&plant, l);
+        let reps = pool.install(|| replicate(&plan, &spec, replications, || bar.inc(1)));
+        summaries.push(summarize(&plant, &spec, &pic, &reps));
+    }
+    bar.finish_and_clear();
+    let wall_s = started.elapsed().as_secs_f64();
+    let events = summaries.iter().map(|s| s.events).sum();
+
+    let out = RunOutput {
+        plant: &plant.name,
+        scenario: args.scenario.display().to_string(),
+        horizon_s,
+        warmup_s,
+        replications,
+        seed,
+        demand_factor: factor,
+        confidence: layflow_models::report::CONFIDENCE,
+        layouts: summaries,
+        events,
+        wall_s: (!args.no_wall_clock).then_some(wall_s),
+    };
+    match args.format {
+        Format::Json => println!("{}", serde_json::to_string_pretty(&out).expect("summaries serialise")),
+        Format::Table => print!("{}", render(&plant, &out, wall_s)),
+    }
+    Ok(())
+}
+
+fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
+    let mut s = String::new();
+    let _ = writeln!(s, "{}", out.plant);
+    let _ = writeln!(
+        s,
+        "{} replications × {} ({} warm-up), seed {}, demand factor {}; ± is the 95% confidence half-width",
+        out.replications,
+        dur_plain(out.horizon_s),
+        dur_plain(out.warmup_s),
+        out.seed,
+        num(out.demand_factor)
+    );
+    let _ = writeln!(
+        s,
+        "{} events in {:.2} s ({:.1} million events/s)",
+        out.events,
+        wall_s,
+        out.events as f64 / wall_s.max(1e-9) / 1e6
+    );
+    for l in &out.layouts {
+        let _ = writeln!(s, "\n== layout {} ==", l.layout);
+        let (ft, ftp) = dur_pct(&l.flow_time_s);
+        let mut t = Table::new(&["plant", "value", ""]);
+        t.row(vec!["throughput".into(), format!("{} lots/h", pm(&l.throughput_per_h, 1.0)), String::new()]);
+        t.row(vec!["flow time".into(), ft, ftp]);
+        t.row(vec![
+            "work in process".into(),
+            format!("{} lots", pm(&l.wip_mean, 1.0)),
+            format!("in transit {} lots", pm(&l.wip_in_transit_mean, 1.0)),
+        ]);
+        if !plant.fleets().is_empty() {
+            let (mw, mwp) = dur_pct(&l.move_wait_s);
+            t.row(vec!["wait for a mover".into(), mw, mwp]);
+            t.row(vec![
+                "distance loaded".into(),
+                format!("{} m/h", pm(&l.distance_loaded_m_per_h, 1.0)),
+                format!("static load-distance {:.0} load-m/h", l.load_distance_static_m_per_h),
+            ]);
+            t.row(vec![
+                "distance empty".into(),
+                format!("{} m/h", pm(&l.distance_empty_m_per_h, 1.0)),
+                String::new(),
+            ]);
+            t.row(vec![
+                "handling cost".into(),
+                format!("{} /h", pm(&l.handling_cost_per_h, 1.0)),
+                format!("static {} /h", num(l.handling_cost_static_per_h)),
+            ]);
+        }
+        s.push_str(&t.render(2));
+
+        let mut t = Table::new(&["product", "throughput (lots/h)", "flow time"]);
+        for p in &l.products {
+            t.row(vec![p.product.clone(), pm(&p.throughput_per_h, 1.0), dur(&p.flow_time_s)]);
+        }
+        s.push('\n');
+        s.push_str(&t.render(2));
+
+        let mut t =
+            Table::new(&["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"]);
+        for (d, dep) in l.departments.iter().enumerate() {
+            let machines = plant.departments[d].machines;
+            let (u, up) = if machines == 0 {
+                ("dock".to_string(), String::new())
+            } else {
+                (pct(&dep.utilization), format!("{:.1}%", dep.utilization_predicted * 100.0))
+            };
+            t.row(vec![
+                dep.department.clone(),
+                machines.to_string(),
+                u,
+                up,
+                pm(&dep.queue_mean, 1.0),
+                pm(&dep.wip_mean, 1.0),
+            ]);
+        }
+        s.push('\n');
+        s.push_str(&t.render(2));
+
+        if !l.fleets.is_empty() {
+            let mut t = Table::new(&[
+                "fleet",
+                "movers",
+                "busy",
+                "loaded",
+                "empty",
+                "load/unload",
+                "idle",
+                "moves/h",
+                "wait",
+                "cost/h",
+            ]);
+            for f in &l.fleets {
+                t.row(vec![
+                    f.fleet.clone(),
+                    f.movers.to_string(),
+                    pct(&f.utilization),
+                    format!("{:.1}%", f.loaded_travel_share.mean * 100.0),
+                    format!("{:.1}%", f.empty_travel_share.mean * 100.0),
+                    format!("{:.1}%", f.handling_share.mean * 100.0),
+                    format!("{:.1}%", f.idle_share.mean * 100.0),
+                    pm(&f.moves_per_h, 1.0),
+                    dur(&f.move_wait_s),
+                    pm(&f.handling_cost_per_h, 1.0),
+                ]);
+            }
+            s.push('\n');
+            s.push_str(&t.render(2));
+        }
+    }
+    if out.layouts.len() > 1 {
+        let _ = writeln!(s, "\n== layouts side by side ==");
+        let mut t = Table::new(&[
+            "layout",
+            "throughput (lots/h)",
+            "flow time",
+            "WIP (lots)",
+            "wait for a mover",
+            "handling cost (/h)",
+            "static load-distance",
+        ]);
+        for l in &out.layouts {
+            t.row(vec![
+                l.layout.clone(),
+                pm(&l.throughput_per_h, 1.0),
+                dur(&layflow_models::report::Estimate {
+                    mean: l.flow_time_s.mean,
+                    half_width: l.flow_time_s.half_width,
+                    n: l.flow_time_s.n,
+                }),
+                pm(&l.wip_mean, 1.0),
+                dur(&layflow_models::report::Estimate {
+                    mean: l.move_wait_s.mean,
+                    half_width: l.move_wait_s.half_width,
+                    n: l.move_wait_s.n,
+                }),
+                pm(&l.handling_cost_per_h, 1.0),
+                format!("{:.0} load-m/h", l.load_distance_static_m_per_h),
+            ]);
+        }
+        s.push_str(&t.render(2));
+    }
+    s
+}

@@ -1,0 +1,137 @@
+//! Plain aligned text tables and number formatting for the terminal.
+
+use layflow_models::report::{DurationEstimate, Estimate};
+
+/// A table of text cells; the first column is left-aligned, the rest right-aligned.
+pub struct Table {
+    header: Vec<String>,
+    rows: Vec<Vec<String>>,
+}
+
+impl Table {
+    /// A table with these column headings.
+    pub fn new<S: AsRef<str>>(header: &[S]) -> Table {
+        Table { header: header.iter().map(|s| s.as_ref().to_string()).collect(), rows: Vec::new() }
+    }
+
+    /// Add a row (cells beyond the header are dropped, missing ones blank).
+    pub fn row(&mut self, cells: Vec<String>) {
+        self.rows.push(cells);
+    }
+
+    /// Render with two spaces between columns and an indent.
+    pub fn render(&self, indent: usize) -> String {
+        let n = self.header.len();
+        let mut width: Vec<usize> = self.header.iter().map(|h| h.chars().count()).collect();
+        for r in &self.rows {
+            for (i, c) in r.iter().take(n).enumerate() {
+                width[i] = width[i].max(c.chars().count());
+            }
+        }
+        let mut out = String::new();
+        let line = |cells: &[String], out: &mut String| {
+            out.push_str(&" ".repeat(indent));
+            for i in 0..n {
+                let c = cells.get(i).map_or("", String::as_str);
+                let pad = width[i] - c.chars().count();
+                if i == 0 {
+                    out.push_str(c);
+                    out.push_str(&" ".repeat(pad));
+                } else {
+                    out.push_str("  ");
+                    out.push_str(&" ".repeat(pad));
+                    out.push_str(c);
+                }
+            }
+            let trimmed = out.trim_end().len();
+            out.truncate(trimmed);
+            out.push('\n');
+        };
+        line(&self.header, &mut out);
+        for r in &self.rows {
+            line(r, &mut out);
+        }
+        out
+    }
+}
+
+/// A number with about four significant digits, thousands not separated.
+pub fn num(x: f64) -> String {
+    if !x.is_finite() {
+        return "-".to_string();
+    }
+    let a = x.abs();
+    if a >= 1000.0 {
+        format!("{x:.0}")
+    } else if a >= 100.0 {
+        format!("{x:.1}")
+    } else if a >= 10.0 {
+        format!("{x:.2}")
+    } else {
+        format!("{x:.3}")
+    }
+}
+
+/// `mean ± half-width` scaled by `scale`, with the half-width to the same decimals.
+pub fn pm(e: &Estimate, scale: f64) -> String {
+    pm_parts(e.mean, e.half_width, scale)
+}
+
+fn pm_parts(mean: f64, hw: Option<f64>, scale: f64) -> String {
+    let m = num(mean * scale);
+    match hw {
+        Some(h) => {
+            let decimals = m.split('.').nth(1).map_or(0, str::len);
+            format!("{m} ± {:.*}", decimals, h * scale)
+        }
+        None => m,
+    }
+}
+
+/// A share as a percentage with its half-width.
+pub fn pct(e: &Estimate) -> String {
+    match e.half_width {
+        Some(h) => format!("{:.1} ± {:.1}%", e.mean * 100.0, h * 100.0),
+        None => format!("{:.1}%", e.mean * 100.0),
+    }
+}
+
+/// The unit (and its length in seconds) that reads best for a duration.
+pub fn time_unit(seconds: f64) -> (&'static str, f64) {
+    let a = seconds.abs();
+    if a >= 2.0 * 86400.0 {
+        ("d", 86400.0)
+    } else if a >= 2.0 * 3600.0 {
+        ("h", 3600.0)
+    } else if a >= 120.0 {
+        ("min", 60.0)
+    } else {
+        ("s", 1.0)
+    }
+}
+
+/// A duration estimate in a readable unit, e.g. `5.21 ± 0.10 h`.
+pub fn dur(e: &Estimate) -> String {
+    let (u, s) = time_unit(e.mean);
+    format!("{} {u}", pm(e, 1.0 / s))
+}
+
+/// A duration estimate with its pooled percentiles.
+pub fn dur_pct(e: &DurationEstimate) -> (String, String) {
+    let (u, s) = time_unit(e.mean);
+    let head = format!("{} {u}", pm_parts(e.mean, e.half_width, 1.0 / s));
+    let tail = format!(
+        "p50 {}  p90 {}  p95 {}  p99 {} {u}",
+        num(e.p50 / s),
+        num(e.p90 / s),
+        num(e.p95 / s),
+        num(e.p99 / s)
+    );
+    (head, tail)
+}
+
+/// A plain duration in seconds, in a readable unit.
+pub fn dur_plain(seconds: f64) -> String {
+    let (u, s) = time_unit(seconds);
+    format!("{} {u}", num(seconds / s))
+}

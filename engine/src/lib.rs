@@ -1,0 +1,14 @@
+//! layflow-engine: a small, general discrete-event kernel — calendar, random
+//! streams, statistics and output analysis. It knows nothing of plants.
+
+pub mod calendar;
+pub mod model;
+pub mod output;
+pub mod stats;
+pub mod streams;
+
+pub use calendar::{Calendar, Time};
+pub use model::{run_until, Model};
+pub use output::{interval, paired_difference, t_quantile, Interval};
+pub use stats::{Tally, TickHistogram, TimeWeighted};
+pub use streams::{splitmix64, stream, stream_seed, Stream};

@@ -1,0 +1,208 @@
+//! The static picture of a plant: visit ratios, from-to chart, load-distance and predicted utilisations.
+//!
+//! Expected flows come from demand × routing probabilities. Rework loops mean
+//! an operation can be visited more than once per lot, so visit ratios solve
+//! the visit (traffic) equations v = e₁ + Pᵀv of the product's routing, an
+//! absorbing Markov chain whose absorbing state is the shipping step
+//! (Jackson 1957 for the open-network form of these equations).
+
+use crate::plant::{DepartmentRole, Plant};
+
+/// Expected visits per lot to each operation of a product's routing.
+///
+/// The loader guarantees every reachable step can reach shipping, so the
+/// system is non-singular; a singular one (which validation rules out) gives
+/// `None`.
+pub fn visit_ratios(plant: &Plant, product: usize) -> Option<Vec<f64>> {
+    let ops = &plant.products[product].routing;
+    let n = ops.len();
+    // (I − Pᵀ) v = e₁, with P[i][j] the branch probability from step i to step j.
+    let mut a = vec![0.0; n * n];
+    let mut b = vec![0.0; n];
+    b[0] = 1.0;
+    for i in 0..n {
+        a[i * n + i] += 1.0;
+    }
+    for (i, op) in ops.iter().enumerate() {
+        for &(j, p) in &op.next {
+            a[j * n + i] -= p;
+        }
+    }
+    solve(&mut a, &mut b, n).then_some(b)
+}
+
+/// Gaussian elimination with partial pivoting, in place; `b` becomes the solution.
+fn solve(a: &mut [f64], b: &mut [f64], n: usize) -> bool {
+    for col in 0..n {
+        let pivot =
+            (col..n).max_by(|&r, &s| a[r * n + col].abs().total_cmp(&a[s * n + col].abs())).unwrap_or(col);
+        if a[pivot * n + col].abs() < 1e-12 {
+            return false;
+        }
+        if pivot != col {
+            for k in 0..n {
+                a.swap(col * n + k, pivot * n + k);
+            }
+            b.swap(col, pivot);
+        }
+        for r in col + 1..n {
+            let f = a[r * n + col] / a[col * n + col];
+            if f != 0.0 {
+                for k in col..n {
+                    a[r * n + k] -= f * a[col * n + k];
+                }
+                b[r] -= f * b[col];
+            }
+        }
+    }
+    for col in (0..n).rev() {
+        let mut s = b[col];
+        for k in col + 1..n {
+            s -= a[col * n + k] * b[k];
+        }
+        b[col] = s / a[col * n + col];
+    }
+    true
+}
+
+/// The static picture of a plant at a demand factor; layout-dependent parts per layout.
+#[derive(Debug, Clone)]
+pub struct StaticPicture {
+    /// Demand factor applied.
+    pub demand_factor: f64,
+    /// Visit ratios per product, per operation.
+    pub visits: Vec<Vec<f64>>,
+    /// Loads per hour from department i to department j (row-major, departments²),
+    /// all products. Moves within a department are not counted.
+    pub from_to: Vec<f64>,
+    /// The same per product.
+    pub from_to_by_product: Vec<Vec<f64>>,
+    /// Lots per hour arriving for processing at each department.
+    pub arrivals_per_h: Vec<f64>,
+    /// Predicted utilisation λ·E[S]/c per department (0 for docks).
+    pub utilization: Vec<f64>,
+    /// Per layout, in scenario order.
+    pub layouts: Vec<LayoutPicture>,
+}
+
+/// What the static method says about one layout.
+#[derive(Debug, Clone)]
+pub struct LayoutPicture {
+    /// Σ flow × distance, load-metres per hour.
+    pub load_distance_m_per_h: f64,
+    /// load-distance × cost per load-metre, currency per hour.
+    pub handling_cost_per_h: f64,
+    /// Per fleet: a lower bound on utilisation (loaded travel, loading and
+    /// unloading only; any empty travel comes on top).
+    pub fleet_utilization_lower_bound: Vec<f64>,
+    /// Per fleet: loaded trips per hour it must make.
+    pub fleet_trips_per_h: Vec<f64>,
+}
+
+impl StaticPicture {
+    /// Compute the picture; `demand_factor` overrides the scenario's.
+    pub fn new(plant: &Plant, demand_factor: f64) -> StaticPicture {
+        let nd = plant.departments.len();
+        let mut visits = Vec::with_capacity(plant.products.len());
+        let mut from_to = vec![0.0; nd * nd];
+        let mut by_product = Vec::with_capacity(plant.products.len());
+        let mut arrivals = vec![0.0; nd];
+        let mut work_s_per_h = vec![0.0; nd];
+        for (p, prod) in plant.products.iter().enumerate() {
+            let v = visit_ratios(plant, p).unwrap_or_else(|| vec![0.0; prod.routing.len()]);
+            let rate_h = prod.rate_per_s * 3600.0 * demand_factor;
+            let mut ft = vec![0.0; nd * nd];
+            let first = prod.routing[0].department;
+            if first != prod.enters_at {
+                ft[prod.enters_at * nd + first] += rate_h;
+            }
+            for (k, op) in prod.routing.iter().enumerate() {
+                let d = op.department;
+                if plant.departments[d].role == DepartmentRole::Work {
+                    arrivals[d] += rate_h * v[k];
+                    work_s_per_h[d] += rate_h * v[k] * op.time.as_ref().map_or(0.0, |t| t.mean());
+                }
+                for &(j, pr) in &op.next {
+                    let to = prod.routing[j].department;
+                    if to != d {
+                        ft[d * nd + to] += rate_h * v[k] * pr;
+                    }
+                }
+            }
+            for (a, b) in from_to.iter_mut().zip(&ft) {
+                *a += b;
+            }
+            visits.push(v);
+            by_product.push(ft);
+        }
+        let utilization = plant
+            .departments
+            .iter()
+            .enumerate()
+            .map(
+                |(d, dep)| {
+                    if dep.machines == 0 {
+                        0.0
+                    } else {
+                        work_s_per_h[d] / 3600.0 / f64::from(dep.machines)
+                    }
+                },
+            )
+            .collect();
+        let layouts =
+            (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
+        StaticPicture {
+            demand_factor,
+            visits,
+            from_to,
+            from_to_by_product: by_product,
+            arrivals_per_h: arrivals,
+            utilization,
+            layouts,
+        }
+    }
+
+    /// Departments predicted to be at or over capacity (utilisation ≥ 1).
+    pub fn overloaded(&self) -> impl Iterator<Item = usize> + '_ {
+        self.utilization.iter().enumerate().filter(|(_, &u)| u >= 1.0).map(|(d, _)| d)
+    }
+}
+
+/// Σ_ij flow_ij × d(location(i), location(j)) over a department-level flow matrix.
+pub fn load_distance(plant: &Plant, layout: usize, flow: &[f64]) -> f64 {
+    let nd = plant.departments.len();
+    let loc = &plant.layouts[layout].location_of;
+    let mut z = 0.0;
+    for i in 0..nd {
+        for j in 0..nd {
+            let f = flow[i * nd + j];
+            if f != 0.0 {
+                z += f * plant.distance(loc[i], loc[j]);
+            }
+        }
+    }
+    z
+}
+
+fn layout_picture(plant: &Plant, layout: usize, from_to: &[f64], by_product: &[Vec<f64>]) -> LayoutPicture {
+    let load_distance_m_per_h = load_distance(plant, layout, from_to);
+    let fleets = plant.fleets();
+    let mut trips = vec![0.0; fleets.len()];
+    let mut busy_s_per_h = vec![0.0; fleets.len()];
+    for (p, ft) in by_product.iter().enumerate() {
+        let Some(f) = plant.fleet_for(p) else {
+            continue;
+        };
+        let fl = &fleets[f];
+        let n: f64 = ft.iter().sum();
+        trips[f] += n;
+        busy_s_per_h[f] += load_distance(plant, layout, ft) / fl.speed_loaded + n * (fl.load_s + fl.unload_s);
+    }
+    let bound = fleets.iter().zip(&busy_s_per_h).map(|(fl, &s)| s / 3600.0 / f64::from(fl.count)).collect();
+    LayoutPicture {
+        load_distance_m_per_h,
+        handling_cost_per_h: load_distance_m_per_h * plant.cost_per_load_metre,
+        fleet_utilization_lower_bound: bound,
+        fleet_trips_per_h: trips,
+    }
+}

@@ -1,0 +1,196 @@
+//! Probability distributions for processing times: validated on construction, sampled from a stream.
+//!
+//! Each family lives in its own submodule with its constructor checks, its
+//! sampler and its moments; this file only dispatches. Constructors return
+//! `Result` and are written so that NaN fails every check, so a `Dist` that
+//! exists is valid: sampling cannot fail and never yields a negative value.
+
+mod empirical;
+mod exponential;
+mod gamma;
+mod lognormal;
+mod normal;
+mod triangular;
+mod uniform;
+mod weibull;
+
+pub use empirical::Empirical;
+pub use exponential::Exponential;
+pub use gamma::{Erlang, Gamma};
+pub use lognormal::LogNormal;
+pub use normal::TruncatedNormal;
+pub use triangular::Triangular;
+pub use uniform::Uniform;
+pub use weibull::Weibull;
+
+use rand::Rng;
+
+/// A validated distribution of a non-negative quantity (seconds for times).
+///
+/// Construct through the `Dist::...` constructors, which reject NaN and
+/// out-of-range parameters, so an invalid distribution cannot exist.
+///
+/// ```
+/// use layflow_models::dist::Dist;
+/// use rand::SeedableRng;
+/// let d = Dist::triangular(240.0, 300.0, 480.0).unwrap();
+/// let mut rng = rand_xoshiro::Xoshiro256PlusPlus::seed_from_u64(7);
+/// let x = d.sample(&mut rng);
+/// assert!((240.0..=480.0).contains(&x));
+/// assert_eq!(d.mean(), 340.0);
+/// ```
+#[derive(Debug, Clone, PartialEq)]
+pub enum Dist {
+    /// Always the same value.
+    Constant(f64),
+    /// Uniform on [min, max).
+    Uniform(Uniform),
+    /// Triangular on [min, max] with a mode.
+    Triangular(Triangular),
+    /// Exponential with a mean.
+    Exponential(Exponential),
+    /// Normal truncated at zero (negative draws are redrawn).
+    Normal(TruncatedNormal),
+    /// Lognormal given by the mean and coefficient of variation of the variable itself.
+    LogNormal(LogNormal),
+    /// Gamma with a shape and scale.
+    Gamma(Gamma),
+    /// Erlang: a gamma with whole-number shape k, the sum of k exponential phases.
+    Erlang(Erlang),
+    /// Weibull with a scale and shape.
+    Weibull(Weibull),
+    /// A discrete table of values and probabilities.
+    Empirical(Empirical),
+}
+
+/// Checks that a parameter is finite and at least zero (false for NaN).
+pub(crate) fn non_negative(name: &str, v: f64) -> Result<(), String> {
+    if v >= 0.0 && v.is_finite() {
+        Ok(())
+    } else {
+        Err(format!("{name} must be a finite number >= 0, got {v}"))
+    }
+}
+
+/// Checks that a parameter is finite and greater than zero (false for NaN).
+pub(crate) fn positive(name: &str, v: f64) -> Result<(), String> {
+    if v > 0.0 && v.is_finite() {
+        Ok(())
+    } else {
+        Err(format!("{name} must be a finite number > 0, got {v}"))
+    }
+}
+
+impl Dist {
+    /// Always `value` (finite, >= 0).
+    pub fn constant(value: f64) -> Result<Dist, String> {
+        non_negative("constant value", value)?;
+        Ok(Dist::Constant(value))
+    }
+    /// Uniform on [min, max) with 0 <= min < max.
+    pub fn uniform(min: f64, max: f64) -> Result<Dist, String> {
+        Uniform::new(min, max).map(Dist::Uniform)
+    }
+    /// Triangular with 0 <= min <= mode <= max and min < max.
+    pub fn triangular(min: f64, mode: f64, max: f64) -> Result<Dist, String> {
+        Triangular::new(min, mode, max).map(Dist::Triangular)
+    }
+    /// Exponential with `mean` > 0.
+    pub fn exponential(mean: f64) -> Result<Dist, String> {
+        Exponential::new(mean).map(Dist::Exponential)
+    }
+    /// Normal with the given mean and sd (both > 0) *before* truncation at zero.
+    pub fn normal(mean: f64, sd: f64) -> Result<Dist, String> {
+        TruncatedNormal::new(mean, sd).map(Dist::Normal)
+    }
+    /// Lognormal whose own mean is `mean` (> 0) and coefficient of variation `cv` (> 0).
+    pub fn lognormal(mean: f64, cv: f64) -> Result<Dist, String> {
+        LogNormal::new(mean, cv).map(Dist::LogNormal)
+    }
+    /// Gamma with mean `mean` (> 0) and coefficient of variation `cv` (> 0).
+    pub fn gamma(mean: f64, cv: f64) -> Result<Dist, String> {
+        positive("gamma mean", mean)?;
+        positive("gamma cv", cv)?;
+        Gamma::new(1.0 / (cv * cv), mean * cv * cv).map(Dist::Gamma)
+    }
+    /// Gamma with `shape` and `scale` (both > 0); mean = shape × scale.
+    pub fn gamma_shape_scale(shape: f64, scale: f64) -> Result<Dist, String> {
+        Gamma::new(shape, scale).map(Dist::Gamma)
+    }
+    /// Erlang with `k` >= 1 phases and overall `mean` > 0.
+    pub fn erlang(k: u32, mean: f64) -> Result<Dist, String> {
+        Erlang::new(k, mean).map(Dist::Erlang)
+    }
+    /// Weibull with `scale` > 0 and `shape` > 0.
+    pub fn weibull(scale: f64, shape: f64) -> Result<Dist, String> {
+        Weibull::new(scale, shape).map(Dist::Weibull)
+    }
+    /// A table of `(value, probability)` rows; values >= 0, probabilities >= 0 summing to 1 (±1e-9).
+    pub fn empirical(rows: &[(f64, f64)]) -> Result<Dist, String> {
+        Empirical::new(rows).map(Dist::Empirical)
+    }
+
+    /// Draw one value (never negative).
+    pub fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
+        match self {
+            Dist::Constant(v) => *v,
+            Dist::Uniform(d) => d.sample(rng),
+            Dist::Triangular(d) => d.sample(rng),
+            Dist::Exponential(d) => d.sample(rng),
+            Dist::Normal(d) => d.sample(rng),
+            Dist::LogNormal(d) => d.sample(rng),
+            Dist::Gamma(d) => d.sample(rng),
+            Dist::Erlang(d) => d.sample(rng),
+            Dist::Weibull(d) => d.sample(rng),
+            Dist::Empirical(d) => d.sample(rng),
+        }
+    }
+
+    /// The mean of the distribution as sampled (after any truncation).
+    pub fn mean(&self) -> f64 {
+        match self {
+            Dist::Constant(v) => *v,
+            Dist::Uniform(d) => d.mean(),
+            Dist::Triangular(d) => d.mean(),
+            Dist::Exponential(d) => d.mean(),
+            Dist::Normal(d) => d.mean(),
+            Dist::LogNormal(d) => d.mean(),
+            Dist::Gamma(d) => d.mean(),
+            Dist::Erlang(d) => d.mean(),
+            Dist::Weibull(d) => d.mean(),
+            Dist::Empirical(d) => d.mean(),
+        }
+    }
+
+    /// The variance of the distribution as sampled (after any truncation).
+    pub fn variance(&self) -> f64 {
+        match self {
+            Dist::Constant(_) => 0.0,
+            Dist::Uniform(d) => d.variance(),
+            Dist::Triangular(d) => d.variance(),
+            Dist::Exponential(d) => d.variance(),
+            Dist::Normal(d) => d.variance(),
+            Dist::LogNormal(d) => d.variance(),
+            Dist::Gamma(d) => d.variance(),
+            Dist::Erlang(d) => d.variance(),
+            Dist::Weibull(d) => d.variance(),
+            Dist::Empirical(d) => d.variance(),
+        }
+    }
+
+    /// The cumulative distribution function P(X <= x), for statistical checks.
+    pub fn cdf(&self, x: f64) -> f64 {
+        match self {
+            Dist::Constant(v) => f64::from(u8::from(x >= *v)),
+            Dist::Uniform(d) => d.cdf(x),
+            Dist::Triangular(d) => d.cdf(x),
+            Dist::Exponential(d) => d.cdf(x),
+            Dist::Normal(d) => d.cdf(x),
+            Dist::LogNormal(d) => d.cdf(x),
+            Dist::Gamma(d) => d.cdf(x),
+            Dist::Erlang(d) => d.cdf(x),
+            Dist::Weibull(d) => d.cdf(x),
+            Dist::Empirical(d) => d.cdf(x),
+        }
+    }
+}

@@ -1,0 +1,11 @@
+//! layflow-models: the plant — scenario format, layouts, routings, fleets, static analysis and the simulation model.
+
+pub mod analysis;
+pub mod dist;
+pub mod plant;
+pub mod report;
+pub mod scenario;
+pub mod sim;
+pub mod units;
+
+pub use scenario::{load_scenario, parse_scenario, ScenarioError};

@@ -1,0 +1,276 @@
+//! Summaries across replications: the metrics a user reads, each with a 95% Student t interval.
+//!
+//! Field names are the JSON keys: snake_case with the unit in the name.
+//! Percentiles come from the histograms of every replication merged (counts
+//! added exactly), so they describe the pooled lots, not a mean of percentiles.
+
+use layflow_engine::{interval, Interval, TickHistogram};
+use rayon::prelude::*;
+use serde::Serialize;
+
+use crate::analysis::StaticPicture;
+use crate::plant::Plant;
+use crate::sim::{simulate, Plan, RepStats, RunSpec, TICK_S};
+
+/// Confidence level of every interval in a summary.
+pub const CONFIDENCE: f64 = 0.95;
+
+/// A mean over replications with its 95% half-width (`null` with one replication).
+#[derive(Debug, Clone, Copy, Serialize, PartialEq)]
+pub struct Estimate {
+    /// Mean over replications.
+    pub mean: f64,
+    /// Half-width of the 95% Student t interval.
+    pub half_width: Option<f64>,
+    /// Replications.
+    pub n: usize,
+}
+
+/// An [`Estimate`] of a duration, with percentiles of the pooled histogram.
+#[derive(Debug, Clone, Copy, Serialize, PartialEq)]
+pub struct DurationEstimate {
+    /// Mean over replications of each replication's mean.
+    pub mean: f64,
+    /// Half-width of the 95% Student t interval.
+    pub half_width: Option<f64>,
+    /// Replications.
+    pub n: usize,
+    /// Median of every observation pooled across replications.
+    pub p50: f64,
+    /// 90th percentile, pooled.
+    pub p90: f64,
+    /// 95th percentile, pooled.
+    pub p95: f64,
+    /// 99th percentile, pooled.
+    pub p99: f64,
+    /// Observations pooled.
+    pub count: u64,
+}
+
+impl From<Interval> for Estimate {
+    fn from(iv: Interval) -> Self {
+        Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n }
+    }
+}
+
+fn est(xs: impl Iterator<Item = f64>) -> Estimate {
+    let v: Vec<f64> = xs.collect();
+    interval(&v, CONFIDENCE).into()
+}
+
+fn dur(means: impl Iterator<Item = f64>, hist: &TickHistogram) -> DurationEstimate {
+    let e = est(means);
+    DurationEstimate {
+        mean: e.mean,
+        half_width: e.half_width,
+        n: e.n,
+        p50: hist.quantile(0.50),
+        p90: hist.quantile(0.90),
+        p95: hist.quantile(0.95),
+        p99: hist.quantile(0.99),
+        count: hist.count(),
+    }
+}
+
+/// Per-product results.
+#[derive(Debug, Clone, Serialize)]
+pub struct ProductSummary {
+    /// Product id.
+    pub product: String,
+    /// Lots shipped per hour.
+    pub throughput_per_h: Estimate,
+    /// Mean flow time from receiving to shipping, s.
+    pub flow_time_s: Estimate,
+}
+
+/// Per-department results.
+#[derive(Debug, Clone, Serialize)]
+pub struct DepartmentSummary {
+    /// Department id.
+    pub department: String,
+    /// Time-average lots at the department (queued, in process, waiting for a mover).
+    pub wip_mean: Estimate,
+    /// Time-average share of machines busy (0 for docks).
+    pub utilization: Estimate,
+    /// Time-average lots waiting for a machine.
+    pub queue_mean: Estimate,
+    /// Predicted utilisation λ·E[S]/c from the static picture.
+    pub utilization_predicted: f64,
+}
+
+/// Per-fleet results.
+#[derive(Debug, Clone, Serialize)]
+pub struct FleetSummary {
+    /// Fleet id.
+    pub fleet: String,
+    /// Movers in the fleet.
+    pub movers: u32,
+    /// Share of mover time busy (loaded + empty + handling).
+    pub utilization: Estimate,
+    /// Share of mover time travelling loaded.
+    pub loaded_travel_share: Estimate,
+    /// Share of mover time travelling empty.
+    pub empty_travel_share: Estimate,
+    /// Share of mover time loading and unloading.
+    pub handling_share: Estimate,
+    /// Share of mover time idle.
+    pub idle_share: Estimate,
+    /// Loads moved per hour.
+    pub moves_per_h: Estimate,
+    /// Mean wait from move request to pick-up, s.
+    pub move_wait_s: Estimate,
+    /// Metres travelled loaded per hour (all movers of the fleet).
+    pub distance_loaded_m_per_h: Estimate,
+    /// Metres travelled empty per hour.
+    pub distance_empty_m_per_h: Estimate,
+    /// Mover hours × cost per hour + km × cost per km, per hour.
+    pub handling_cost_per_h: Estimate,
+    /// Static lower bound on utilisation (no empty travel).
+    pub utilization_lower_bound: f64,
+}
+
+/// Everything `run` reports for one layout.
+#[derive(Debug, Clone, Serialize)]
+pub struct LayoutSummary {
+    /// Layout name.
+    pub layout: String,
+    /// Lots shipped per hour, all products.
+    pub throughput_per_h: Estimate,
+    /// Flow time, receiving to shipping, s.
+    pub flow_time_s: DurationEstimate,
+    /// Time-average lots in the plant.
+    pub wip_mean: Estimate,
+    /// Time-average lots on movers.
+    pub wip_in_transit_mean: Estimate,
+    /// Wait from move request to pick-up, every fleet, s (empty with instant moves).
+    pub move_wait_s: DurationEstimate,
+    /// Metres travelled loaded per hour, every fleet.
+    pub distance_loaded_m_per_h: Estimate,
+    /// Metres travelled empty per hour, every fleet.
+    pub distance_empty_m_per_h: Estimate,
+    /// Handling cost per hour, every fleet.
+    pub handling_cost_per_h: Estimate,
+    /// The static load-distance of this layout, load-metres per hour.
+    pub load_distance_static_m_per_h: f64,
+    /// The static handling cost (load-distance × cost per load-metre), per hour.
+    pub handling_cost_static_per_h: f64,
+    /// Little's law check: |WIP − throughput × flow time| ÷ WIP, from the means.
+    pub little_relative_gap: f64,
+    /// Per product.
+    pub products: Vec<ProductSummary>,
+    /// Per department.
+    pub departments: Vec<DepartmentSummary>,
+    /// Per fleet.
+    pub fleets: Vec<FleetSummary>,
+    /// Events handled, all replications.
+    pub events: u64,
+}
+
+/// Run `replications` replications of one layout, in parallel on the current
+/// rayon pool, calling `done` after each; results come back in replication
+/// order, so the summary is the same whatever the thread count.
+pub fn replicate(plan: &Plan, spec: &RunSpec, replications: u32, done: impl Fn() + Sync) -> Vec<RepStats> {
+    (0..u64::from(replications))
+        .into_par_iter()
+        .map(|r| {
+            let s = simulate(plan, spec, r);
+            done();
+            s
+        })
+        .collect()
+}
+
+/// Summarise the replications of layout `spec.layout`.
+pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &[RepStats]) -> LayoutSummary {
+    let per_h = |x: f64, r: &RepStats| x / r.window_s * 3600.0;
+    let mut flow_hist = TickHistogram::new(TICK_S);
+    let mut wait_hist = TickHistogram::new(TICK_S);
+    for r in reps {
+        flow_hist.merge(&r.flow_hist);
+        wait_hist.merge(&r.move_wait_hist);
+    }
+    let lp = &picture.layouts[spec.layout];
+    let fleets = plant.fleets();
+    let fleet_cost = |r: &RepStats, f: usize| {
+        let fl = &fleets[f];
+        let s = &r.fleets[f];
+        f64::from(fl.count) * fl.cost_per_h
+            + per_h((s.distance_loaded_m + s.distance_empty_m) / 1000.0 * fl.cost_per_km, r)
+    };
+    let throughput = est(reps.iter().map(|r| per_h(r.shipped.iter().sum::<u64>() as f64, r)));
+    let flow = dur(reps.iter().map(|r| r.flow_time_all.mean()), &flow_hist);
+    let wip = est(reps.iter().map(|r| r.wip_total));
+    let little_relative_gap =
+        if wip.mean > 0.0 { (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean } else { 0.0 };
+    LayoutSummary {
+        layout: plant.layouts[spec.layout].name.clone(),
+        throughput_per_h: throughput,
+        flow_time_s: flow,
+        wip_mean: wip,
+        wip_in_transit_mean: est(reps.iter().map(|r| r.wip_transit)),
+        move_wait_s: dur(reps.iter().map(|r| r.move_wait_all.mean()), &wait_hist),
+        distance_loaded_m_per_h: est(reps
+            .iter()
+            .map(|r| per_h(r.fleets.iter().map(|f| f.distance_loaded_m).sum(), r))),
+        distance_empty_m_per_h: est(reps
+            .iter()
+            .map(|r| per_h(r.fleets.iter().map(|f| f.distance_empty_m).sum(), r))),
+        handling_cost_per_h: est(reps.iter().map(|r| (0..fleets.len()).map(|f| fleet_cost(r, f)).sum())),
+        load_distance_static_m_per_h: lp.load_distance_m_per_h,
+        handling_cost_static_per_h: lp.handling_cost_per_h,
+        little_relative_gap,
+        products: plant
+            .products
+            .iter()
+            .enumerate()
+            .map(|(p, prod)| ProductSummary {
+                product: prod.id.clone(),
+                throughput_per_h: est(reps.iter().map(|r| per_h(r.shipped[p] as f64, r))),
+                flow_time_s: est(reps.iter().map(|r| r.flow_time[p].mean())),
+            })
+            .collect(),
+        departments: plant
+            .departments
+            .iter()
+            .enumerate()
+            .map(|(d, dep)| DepartmentSummary {
+                department: dep.id.clone(),
+                wip_mean: est(reps.iter().map(|r| r.wip_department[d])),
+                utilization: est(reps.iter().map(|r| r.utilization[d])),
+                queue_mean: est(reps.iter().map(|r| r.queue[d])),
+                utilization_predicted: picture.utilization[d],
+            })
+            .collect(),
+        fleets: fleets
+            .iter()
+            .enumerate()
+            .map(|(f, fl)| {
+                let cap = |r: &RepStats| f64::from(fl.count) * r.window_s;
+                let share = |g: fn(&crate::sim::FleetStats) -> f64| {
+                    est(reps.iter().map(move |r| g(&r.fleets[f]) / cap(r)))
+                };
+                FleetSummary {
+                    fleet: fl.id.clone(),
+                    movers: fl.count,
+                    utilization: share(|s| s.loaded_s + s.empty_s + s.handling_s),
+                    loaded_travel_share: share(|s| s.loaded_s),
+                    empty_travel_share: share(|s| s.empty_s),
+                    handling_share: share(|s| s.handling_s),
+                    idle_share: est(reps.iter().map(|r| {
+                        let s = &r.fleets[f];
+                        1.0 - (s.loaded_s + s.empty_s + s.handling_s) / cap(r)
+                    })),
+                    moves_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].moves as f64, r))),
+                    move_wait_s: est(reps.iter().map(|r| r.move_wait[f].mean())),
+                    distance_loaded_m_per_h: est(reps
+                        .iter()
+                        .map(|r| per_h(r.fleets[f].distance_loaded_m, r))),
+                    distance_empty_m_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].distance_empty_m, r))),
+                    handling_cost_per_h: est(reps.iter().map(|r| fleet_cost(r, f))),
+                    utilization_lower_bound: lp.fleet_utilization_lower_bound[f],
+                }
+            })
+            .collect(),
+        events: reps.iter().map(|r| r.events).sum(),
+    }
+}

@@ -1,0 +1,283 @@
+//! Resolves the names of a deserialized scenario into the index-based [`Plant`], checking every rule.
+//!
+//! Checks run in file order (run settings, locations, distance, departments,
+//! layouts, products, fleets) and stop at the first error, so a message can
+//! rely on everything above it being valid.
+
+use std::path::Path;
+
+use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
+use super::locate::{line_of, FieldPath};
+use super::schema::{DockSpec, Scenario};
+use super::{distance, fleet, routing};
+use crate::plant::{Department, DepartmentRole, Layout, Location, Plant, RunSettings};
+use crate::units::format_duration;
+
+/// Default number of replications when the scenario gives none.
+const DEFAULT_REPLICATIONS: u32 = 10;
+
+/// What every check needs to report an error: the text (for line numbers) and the file.
+pub(crate) struct Ctx<'a> {
+    pub text: &'a str,
+    pub origin: &'a Path,
+    pub file: String,
+}
+
+impl Ctx<'_> {
+    /// An error at `path`, with its line looked up in the text.
+    pub(crate) fn err(&self, path: &FieldPath, message: impl Into<String>) -> ScenarioError {
+        ScenarioError::new(ErrorKind::Invalid, &self.file, message)
+            .at_path(path.to_string())
+            .at_line(line_of(self.text, path), None)
+    }
+}
+
+/// Finds `name` among `ids`, or reports it as an unknown `what` with a suggestion.
+pub(crate) fn resolve(
+    ctx: &Ctx,
+    path: &FieldPath,
+    what: &str,
+    name: &str,
+    ids: &[&str],
+) -> Result<usize, ScenarioError> {
+    ids.iter().position(|i| *i == name).ok_or_else(|| {
+        ctx.err(path, format!("unknown {what} \"{name}\"{}", did_you_mean(name, ids.iter().copied())))
+            .with_hint(format!("the {what}s are: {}", name_list(ids.iter().copied())))
+    })
+}
+
+/// Reports the first id that appears twice.
+pub(crate) fn check_unique<'a>(
+    ctx: &Ctx,
+    what: &str,
+    ids: impl IntoIterator<Item = (&'a str, FieldPath)>,
+) -> Result<(), ScenarioError> {
+    let mut seen: Vec<&str> = Vec::new();
+    for (id, path) in ids {
+        if id.trim().is_empty() {
+            return Err(ctx.err(&path, format!("{what} id is empty")));
+        }
+        if seen.contains(&id) {
+            return Err(ctx.err(&path, format!("{what} \"{id}\" is defined twice")));
+        }
+        seen.push(id);
+    }
+    Ok(())
+}
+
+/// Turns a checked scenario into a plant.
+pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
+    let root = FieldPath::root();
+    if let Some(u) = &s.units {
+        if u.length != "m" {
+            return Err(ctx
+                .err(
+                    &root.key("units").key("length"),
+                    format!("length unit \"{}\" is not supported", u.length),
+                )
+                .with_hint("only metres are supported for now: write `units: { length: m }`"));
+        }
+    }
+    if s.plant.trim().is_empty() {
+        return Err(ctx.err(&root.key("plant"), "the plant needs a name"));
+    }
+    let run = run_settings(&s, ctx)?;
+    let demand_factor = s.demand_factor.unwrap_or(1.0);
+    if !(demand_factor > 0.0 && demand_factor.is_finite()) {
+        return Err(ctx.err(
+            &root.key("demand_factor"),
+            format!("demand_factor must be a number > 0, got {demand_factor}"),
+        ));
+    }
+    let locations = locations(&s, ctx)?;
+    let (distance_rule, distance) = distance::compile(&s, &locations, ctx)?;
+    let departments = departments(&s, ctx)?;
+    let layouts = layouts(&s, &departments, &locations, ctx)?;
+    let products = routing::products(&s, &departments, ctx)?;
+    let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
+    let cost_per_load_metre = s.costs.as_ref().map_or(0.0, |c| c.per_load_metre);
+    if !(cost_per_load_metre >= 0.0 && cost_per_load_metre.is_finite()) {
+        return Err(ctx.err(
+            &root.key("costs").key("per_load_metre"),
+            format!("per_load_metre must be a number >= 0, got {cost_per_load_metre}"),
+        ));
+    }
+    Ok(Plant {
+        name: s.plant.clone(),
+        locations,
+        distance_rule,
+        distance,
+        departments,
+        layouts,
+        products,
+        handling,
+        run,
+        demand_factor,
+        cost_per_load_metre,
+    })
+}
+
+fn run_settings(s: &Scenario, ctx: &Ctx) -> Result<RunSettings, ScenarioError> {
+    let p = FieldPath::root().key("run");
+    let horizon = s.run.horizon.0;
+    if !(horizon > 0.0) {
+        return Err(ctx.err(
+            &p.key("horizon"),
+            format!("horizon must be longer than 0, got {}", format_duration(horizon)),
+        ));
+    }
+    let warmup = s.run.warmup.map_or(0.0, |w| w.0);
+    if !(warmup >= 0.0) {
+        return Err(ctx
+            .err(&p.key("warmup"), format!("warmup must not be negative, got {}", format_duration(warmup))));
+    }
+    if !(warmup < horizon) {
+        return Err(ctx
+            .err(
+                &p.key("warmup"),
+                format!(
+                    "warmup ({}) must be shorter than the horizon ({})",
+                    format_duration(warmup),
+                    format_duration(horizon)
+                ),
+            )
+            .with_hint("the horizon includes the warm-up; statistics are kept from warmup to horizon"));
+    }
+    let replications = s.run.replications.unwrap_or(DEFAULT_REPLICATIONS);
+    if replications == 0 {
+        return Err(ctx.err(&p.key("replications"), "replications must be at least 1"));
+    }
+    Ok(RunSettings { horizon_s: horizon, warmup_s: warmup, replications, seed: s.run.seed.unwrap_or(1) })
+}
+
+fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {
+    let p = FieldPath::root().key("locations");
+    if s.locations.is_empty() {
+        return Err(ctx.err(&p, "the plant has no locations"));
+    }
+    check_unique(
+        ctx,
+        "location",
+        s.locations.iter().enumerate().map(|(i, l)| (l.id.as_str(), p.index(i).key("id"))),
+    )?;
+    let mut out = Vec::with_capacity(s.locations.len());
+    for (i, l) in s.locations.iter().enumerate() {
+        let [x, y] = l.at;
+        if !(x.is_finite() && y.is_finite()) {
+            return Err(ctx.err(
+                &p.index(i).key("at"),
+                format!("coordinates of location \"{}\" must be finite numbers (metres)", l.id),
+            ));
+        }
+        out.push(Location { id: l.id.clone(), x, y });
+    }
+    Ok(out)
+}
+
+fn departments(s: &Scenario, ctx: &Ctx) -> Result<Vec<Department>, ScenarioError> {
+    let p = FieldPath::root().key("departments");
+    check_unique(
+        ctx,
+        "department",
+        s.departments.iter().enumerate().map(|(i, d)| (d.id.as_str(), p.index(i).key("id"))),
+    )?;
+    let mut out = Vec::with_capacity(s.departments.len());
+    for (i, d) in s.departments.iter().enumerate() {
+        let (role, machines) = match (d.dock, d.machines) {
+            (Some(_), Some(_)) => {
+                return Err(ctx
+                    .err(&p.index(i).key("machines"), format!("dock \"{}\" cannot have machines", d.id))
+                    .with_hint("a dock is where lots enter or leave; remove `machines` or `dock`"))
+            }
+            (Some(DockSpec::Receiving), None) => (DepartmentRole::Receiving, 0),
+            (Some(DockSpec::Shipping), None) => (DepartmentRole::Shipping, 0),
+            (None, m) => (DepartmentRole::Work, m.unwrap_or(1)),
+        };
+        if role == DepartmentRole::Work && machines == 0 {
+            return Err(ctx.err(
+                &p.index(i).key("machines"),
+                format!("department \"{}\" needs at least 1 machine", d.id),
+            ));
+        }
+        out.push(Department { id: d.id.clone(), role, machines });
+    }
+    for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {
+        if !out.iter().any(|d| d.role == role) {
+            return Err(ctx
+                .err(&p, format!("the plant has no {word} dock"))
+                .with_hint(format!("add a department such as `- {{ id: {word}, dock: {word} }}`")));
+        }
+    }
+    Ok(out)
+}
+
+fn layouts(
+    s: &Scenario,
+    departments: &[Department],
+    locations: &[Location],
+    ctx: &Ctx,
+) -> Result<Vec<Layout>, ScenarioError> {
+    let p = FieldPath::root().key("layouts");
+    if s.layouts.0.is_empty() {
+        return Err(ctx
+            .err(&p, "the scenario has no layout")
+            .with_hint("add a layout mapping every department to a location"));
+    }
+    let dept_ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
+    let loc_ids: Vec<&str> = locations.iter().map(|l| l.id.as_str()).collect();
+    let mut out: Vec<Layout> = Vec::with_capacity(s.layouts.0.len());
+    for (name, assignment) in &s.layouts.0 {
+        let lp = p.key(name);
+        if out.iter().any(|l| &l.name == name) {
+            return Err(ctx.err(&lp, format!("layout \"{name}\" is defined twice")));
+        }
+        let mut location_of: Vec<Option<usize>> = vec![None; departments.len()];
+        let mut holder: Vec<Option<usize>> = vec![None; locations.len()];
+        for (dept, loc) in &assignment.0 {
+            let dp = lp.key(dept);
+            let d = resolve(ctx, &dp, "department", dept, &dept_ids).map_err(|e| {
+                if loc_ids.contains(&dept.as_str()) {
+                    e.with_hint("a layout maps each department to a location: `department: location`")
+                } else {
+                    e
+                }
+            })?;
+            let l = resolve(ctx, &dp, "location", loc, &loc_ids)?;
+            if location_of[d].is_some() {
+                return Err(ctx.err(&dp, format!("layout \"{name}\" places department \"{dept}\" twice")));
+            }
+            if let Some(other) = holder[l] {
+                return Err(ctx
+                    .err(
+                        &dp,
+                        format!(
+                            "layout \"{name}\" puts \"{dept}\" in location \"{loc}\", which already holds \"{}\"",
+                            dept_ids[other]
+                        ),
+                    )
+                    .with_hint("each location holds at most one department"));
+            }
+            location_of[d] = Some(l);
+            holder[l] = Some(d);
+        }
+        let mut resolved = Vec::with_capacity(departments.len());
+        for (d, l) in location_of.iter().enumerate() {
+            match l {
+                Some(l) => resolved.push(*l),
+                None => {
+                    return Err(ctx
+                        .err(
+                            &lp,
+                            format!(
+                                "layout \"{name}\" leaves department \"{}\" without a location",
+                                dept_ids[d]
+                            ),
+                        )
+                        .with_hint(format!("add `{}: <location id>` to this layout", dept_ids[d])))
+                }
+            }
+        }
+        out.push(Layout { name: name.clone(), location_of: resolved });
+    }
+    Ok(out)
+}

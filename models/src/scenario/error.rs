@@ -1,0 +1,168 @@
+//! The error a scenario file can produce: where it is (file, field path, line) and how to fix it.
+
+use std::fmt;
+
+/// Longest message shown, so that an error always fits on one screen.
+const MAX_MESSAGE_CHARS: usize = 1200;
+
+/// What kind of rule the scenario broke.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ErrorKind {
+    /// The file could not be read.
+    Read,
+    /// The text is not valid YAML.
+    Syntax,
+    /// The YAML does not have the shape of a scenario (unknown field, wrong type, bad unit).
+    Schema,
+    /// The scenario has the right shape but says something impossible (unknown name, bad value).
+    Invalid,
+}
+
+/// An error in a scenario file.
+///
+/// Displays as `error in FILE, line N: FIELD.PATH: what is wrong`, followed
+/// where useful by a `hint:` line saying what to do.
+#[derive(Debug, Clone)]
+pub struct ScenarioError {
+    kind: ErrorKind,
+    file: String,
+    path: Option<String>,
+    line: Option<usize>,
+    column: Option<usize>,
+    message: String,
+    hint: Option<String>,
+}
+
+impl ScenarioError {
+    /// A new error in `file` with no location yet.
+    pub(crate) fn new(kind: ErrorKind, file: &str, message: impl Into<String>) -> Self {
+        let mut message: String = message.into();
+        if message.chars().count() > MAX_MESSAGE_CHARS {
+            message = message.chars().take(MAX_MESSAGE_CHARS).collect::<String>() + " …";
+        }
+        ScenarioError {
+            kind,
+            file: file.to_string(),
+            path: None,
+            line: None,
+            column: None,
+            message,
+            hint: None,
+        }
+    }
+
+    /// Sets the field path (`.` or empty means the whole file, and is dropped).
+    pub(crate) fn at_path(mut self, path: impl Into<String>) -> Self {
+        let p: String = path.into();
+        self.path = if p.is_empty() || p == "." { None } else { Some(p) };
+        self
+    }
+
+    /// Sets the line and column (1-based).
+    pub(crate) fn at_line(mut self, line: Option<usize>, column: Option<usize>) -> Self {
+        self.line = line;
+        self.column = column;
+        self
+    }
+
+    /// Adds a hint saying what to do.
+    pub(crate) fn with_hint(mut self, hint: impl Into<String>) -> Self {
+        self.hint = Some(hint.into());
+        self
+    }
+
+    /// What kind of rule was broken.
+    pub fn kind(&self) -> ErrorKind {
+        self.kind
+    }
+
+    /// The scenario file, as given.
+    pub fn file(&self) -> &str {
+        &self.file
+    }
+
+    /// The field path, e.g. `products[2].routing[0].at`, where known.
+    pub fn path(&self) -> Option<&str> {
+        self.path.as_deref()
+    }
+
+    /// The 1-based line in the scenario file, where known.
+    pub fn line(&self) -> Option<usize> {
+        self.line
+    }
+
+    /// The 1-based column in the scenario file, where known.
+    pub fn column(&self) -> Option<usize> {
+        self.column
+    }
+
+    /// What is wrong, without the location.
+    pub fn message(&self) -> &str {
+        &self.message
+    }
+
+    /// What to do about it, where the loader can say.
+    pub fn hint(&self) -> Option<&str> {
+        self.hint.as_deref()
+    }
+}
+
+impl fmt::Display for ScenarioError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "error in {}", self.file)?;
+        match (self.line, self.column, self.kind) {
+            (Some(l), Some(c), ErrorKind::Syntax) => write!(f, ", line {l}, column {c}")?,
+            (Some(l), _, _) => write!(f, ", line {l}")?,
+            _ => {}
+        }
+        f.write_str(": ")?;
+        if let Some(p) = &self.path {
+            write!(f, "{p}: ")?;
+        }
+        f.write_str(&self.message)?;
+        if let Some(h) = &self.hint {
+            write!(f, "\nhint: {h}")?;
+        }
+        Ok(())
+    }
+}
+
+impl std::error::Error for ScenarioError {}
+
+/// The candidate closest to `given`, if it is close enough to be a likely typo.
+pub(crate) fn closest<'a, I>(given: &str, candidates: I) -> Option<&'a str>
+where
+    I: IntoIterator<Item = &'a str>,
+{
+    // Jaro–Winkler rewards a shared prefix, which is how names are usually
+    // misspelt or shortened ("paint" for "painting"); 0.8 keeps unrelated
+    // short names from being suggested.
+    let g = given.to_lowercase();
+    candidates
+        .into_iter()
+        .map(|c| (strsim::jaro_winkler(&g, &c.to_lowercase()), c))
+        .filter(|(s, _)| *s >= 0.8)
+        .max_by(|a, b| a.0.total_cmp(&b.0))
+        .map(|(_, c)| c)
+}
+
+/// ` (did you mean "x"?)` or nothing.
+pub(crate) fn did_you_mean<'a, I>(given: &str, candidates: I) -> String
+where
+    I: IntoIterator<Item = &'a str>,
+{
+    closest(given, candidates).map_or(String::new(), |c| format!(" (did you mean \"{c}\"?)"))
+}
+
+/// A short list of names for a hint: the first dozen, then a count.
+pub(crate) fn name_list<'a, I>(names: I) -> String
+where
+    I: IntoIterator<Item = &'a str>,
+{
+    let all: Vec<&str> = names.into_iter().collect();
+    let mut s = all.iter().take(12).copied().collect::<Vec<_>>().join(", ");
+    if all.len() > 12 {
+        s.push_str(&format!(" and {} more", all.len() - 12));
+    }
+    s
+}

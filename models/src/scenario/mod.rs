@@ -1,0 +1,169 @@
+//! Scenario files: YAML text in, a validated [`Plant`] out, or an error that says where and how to fix it.
+//!
+//! Three passes, as the style guide asks: parse the YAML (syntax errors with
+//! line and column), deserialize into structs mirroring the file (unknown
+//! fields, wrong types, missing units, with the field path from
+//! `serde_path_to_error`), then compile names into indices and check every
+//! rule (with a path built by hand and its line found in the text).
+
+mod compile;
+mod distance;
+mod error;
+mod fleet;
+mod locate;
+mod routing;
+mod schema;
+
+use std::path::Path;
+
+pub use error::{ErrorKind, ScenarioError};
+
+use crate::plant::Plant;
+use error::{closest, name_list};
+
+/// Reads, checks and compiles the scenario file at `path`.
+pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {
+    let file = path.display().to_string();
+    let text = std::fs::read_to_string(path).map_err(|e| {
+        ScenarioError::new(ErrorKind::Read, &file, format!("cannot read the scenario file: {e}"))
+    })?;
+    parse_scenario(&text, path)
+}
+
+/// Checks and compiles scenario `text`; `origin` is the file it came from,
+/// named in messages and used to resolve a relative distance-matrix path.
+pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError> {
+    let file = origin.display().to_string();
+    // Parsing to a generic value first separates syntax errors from schema errors.
+    match serde_norway::from_str::<serde_norway::Value>(text) {
+        Err(e) => return Err(syntax_error(&e, &file)),
+        Ok(serde_norway::Value::Null) => {
+            return Err(ScenarioError::new(ErrorKind::Schema, &file, "the scenario file is empty")
+                .with_hint("start with `plant: <name>`; see the example scenarios"))
+        }
+        Ok(_) => {}
+    }
+    let de = serde_norway::Deserializer::from_str(text);
+    let scenario: schema::Scenario =
+        serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
+    let ctx = compile::Ctx { text, origin, file };
+    compile::compile(scenario, &ctx)
+}
+
+fn syntax_error(e: &serde_norway::Error, file: &str) -> ScenarioError {
+    let loc = e.location();
+    let at =
+        |err: ScenarioError| err.at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()));
+    let full = e.to_string();
+    // A repeated key parses as YAML but would silently drop a value, so the
+    // generic pass refuses it; it is a scenario mistake, not a syntax one.
+    if let Some(i) = full.find("duplicate entry") {
+        let path = full[..i].trim_end_matches(": ").to_string();
+        return at(ScenarioError::new(ErrorKind::Invalid, file, bare_message(e)).at_path(path))
+            .with_hint("each key may appear only once in a mapping");
+    }
+    at(ScenarioError::new(ErrorKind::Syntax, file, format!("YAML syntax: {full}")))
+        .with_hint("check the indentation and that every `{`, `[` and quote is closed")
+}
+
+fn schema_error(e: &serde_path_to_error::Error<serde_norway::Error>, file: &str) -> ScenarioError {
+    let inner = e.inner();
+    let loc = inner.location();
+    let raw = bare_message(inner);
+    let mut path = e.path().to_string();
+    if raw.starts_with("unknown variant") {
+        // The path ends in the unknown name itself; the message already says it.
+        if let Some(given) = quoted(&raw).first() {
+            if let Some(p) = path.strip_suffix(&format!(".{given}")) {
+                path = p.to_string();
+            }
+        }
+    }
+    // serde calls every enum alternative a "variant"; under `time` they are
+    // distribution families, elsewhere plain accepted values.
+    let what = if path.ends_with("time") { "distribution" } else { "value" };
+    let (message, hint) = rephrase(&raw, what);
+    let err = ScenarioError::new(ErrorKind::Schema, file, message)
+        .at_path(path)
+        .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()));
+    match hint {
+        Some(h) => err.with_hint(h),
+        None => err,
+    }
+}
+
+/// The parser's message without its own path prefix and position suffix,
+/// which the error carries separately.
+fn bare_message(e: &serde_norway::Error) -> String {
+    let mut s = e.to_string();
+    if let Some(i) = s.rfind(" at line ") {
+        if s[i + 9..].split(" column ").all(|n| n.trim().parse::<usize>().is_ok()) {
+            s.truncate(i);
+        }
+    }
+    if let Some((prefix, rest)) = s.split_once(": ") {
+        let looks_like_path =
+            !prefix.is_empty() && prefix.chars().all(|c| c.is_alphanumeric() || "_-.[]".contains(c));
+        if looks_like_path && !rest.is_empty() {
+            return rest.to_string();
+        }
+    }
+    s
+}
+
+/// The names between backticks in a serde message, in order.
+fn quoted(msg: &str) -> Vec<&str> {
+    msg.split('`').skip(1).step_by(2).collect()
+}
+
+/// Turns serde's "unknown field/variant" and "missing field" messages into
+/// ours, with a suggestion and the list of what is allowed.
+fn rephrase(msg: &str, variant_word: &str) -> (String, Option<String>) {
+    for (prefix, what, allowed) in [
+        ("unknown field", "field", "allowed fields here"),
+        ("unknown variant", variant_word, "accepted here"),
+    ] {
+        if msg.starts_with(prefix) {
+            let q = quoted(msg);
+            if let Some((given, options)) = q.split_first() {
+                let mut m = format!("unknown {what} \"{given}\"");
+                if let Some(c) = closest(given, options.iter().copied()) {
+                    m.push_str(&format!(" (did you mean \"{c}\"?)"));
+                }
+                let hint = if options.is_empty() {
+                    None
+                } else {
+                    Some(format!("{allowed}: {}", name_list(options.iter().copied())))
+                };
+                return (m, hint);
+            }
+        }
+    }
+    if msg.starts_with("missing field") {
+        if let Some(f) = quoted(msg).first() {
+            return (format!("missing field \"{f}\""), Some(format!("add `{f}:` here")));
+        }
+    }
+    (msg.to_string(), None)
+}
+
+#[cfg(test)]
+mod tests;
+
+#[cfg(test)]
+mod message_tests {
+    use super::*;
+
+    #[test]
+    fn unknown_field_gets_a_suggestion() {
+        let (m, h) = rephrase("unknown field `machnes`, expected one of `id`, `machines`, `dock`", "value");
+        assert_eq!(m, "unknown field \"machnes\" (did you mean \"machines\"?)");
+        assert_eq!(h.as_deref(), Some("allowed fields here: id, machines, dock"));
+    }
+
+    #[test]
+    fn messages_lose_their_position_suffix() {
+        let e = serde_norway::from_str::<u32>("x").unwrap_err();
+        assert!(!bare_message(&e).contains(" at line "), "{}", bare_message(&e));
+    }
+}

@@ -1,0 +1,312 @@
+//! The serde structs that mirror the scenario YAML, before any name is resolved.
+//!
+//! Unknown fields are refused everywhere so that a misspelt optional field
+//! is an error rather than a silently ignored setting. Times and speeds are
+//! parsed here (see [`crate::units`]) so that a missing unit is reported at
+//! its line.
+
+use std::fmt;
+
+use serde::de::{self, Deserialize, Deserializer, MapAccess, SeqAccess, Visitor};
+use serde::Deserialize as DeriveDeserialize;
+
+use crate::units::{MetresPerSecond, Seconds};
+
+/// A whole scenario file.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct Scenario {
+    pub plant: String,
+    pub units: Option<UnitsSpec>,
+    pub run: RunSpec,
+    pub demand_factor: Option<f64>,
+    pub locations: Vec<LocationSpec>,
+    pub distance: Option<DistanceField>,
+    pub departments: Vec<DepartmentSpec>,
+    pub layouts: Ordered<Ordered<String>>,
+    pub products: Vec<ProductSpec>,
+    pub moves: Option<MovesSpec>,
+    pub fleets: Option<Vec<FleetSpec>>,
+    pub costs: Option<CostsSpec>,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct UnitsSpec {
+    pub length: String,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct RunSpec {
+    pub horizon: Seconds,
+    pub warmup: Option<Seconds>,
+    pub replications: Option<u32>,
+    pub seed: Option<u64>,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct LocationSpec {
+    pub id: String,
+    pub at: [f64; 2],
+}
+
+/// `rectilinear`, `euclidean` or `{ matrix: ... }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields, rename_all = "lowercase")]
+pub(crate) enum DistanceSpec {
+    Rectilinear,
+    Euclidean,
+    Matrix(MatrixSource),
+}
+
+/// The distance rule, read by hand because the YAML deserializer takes a
+/// mapping for an enum only through serde's generic map adapter.
+#[derive(Debug)]
+pub(crate) struct DistanceField(pub DistanceSpec);
+
+impl<'de> Deserialize<'de> for DistanceField {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = DistanceField;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("rectilinear, euclidean or { matrix: ... }")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<DistanceField, E> {
+                DistanceSpec::deserialize(de::value::StrDeserializer::<E>::new(v)).map(DistanceField)
+            }
+            fn visit_map<A: MapAccess<'de>>(self, m: A) -> Result<DistanceField, A::Error> {
+                DistanceSpec::deserialize(de::value::MapAccessDeserializer::new(m)).map(DistanceField)
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// `matrix: file.csv` or `matrix: [[...], ...]`.
+#[derive(Debug)]
+pub(crate) enum MatrixSource {
+    File(String),
+    Inline(Vec<Vec<f64>>),
+}
+
+impl<'de> Deserialize<'de> for MatrixSource {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = MatrixSource;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a CSV file name or a list of rows of distances in metres")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<MatrixSource, E> {
+                Ok(MatrixSource::File(v.to_string()))
+            }
+            fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<MatrixSource, A::Error> {
+                let mut rows = Vec::new();
+                while let Some(row) = s.next_element::<Vec<f64>>()? {
+                    rows.push(row);
+                }
+                Ok(MatrixSource::Inline(rows))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct DepartmentSpec {
+    pub id: String,
+    pub machines: Option<u32>,
+    pub dock: Option<DockSpec>,
+}
+
+#[derive(Debug, Clone, Copy, PartialEq, Eq, DeriveDeserialize)]
+#[serde(rename_all = "lowercase")]
+pub(crate) enum DockSpec {
+    Receiving,
+    Shipping,
+}
+
+/// A YAML mapping read as (key, value) pairs in file order, duplicates kept
+/// so that the checks can name them.
+#[derive(Debug)]
+pub(crate) struct Ordered<V>(pub Vec<(String, V)>);
+
+impl<'de, V: Deserialize<'de>> Deserialize<'de> for Ordered<V> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct Vis<V>(std::marker::PhantomData<V>);
+        impl<'de, V: Deserialize<'de>> Visitor<'de> for Vis<V> {
+            type Value = Ordered<V>;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a mapping of names")
+            }
+            fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Ordered<V>, A::Error> {
+                let mut pairs = Vec::new();
+                while let Some((k, v)) = m.next_entry::<String, V>()? {
+                    pairs.push((k, v));
+                }
+                Ok(Ordered(pairs))
+            }
+        }
+        d.deserialize_map(Vis(std::marker::PhantomData))
+    }
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ProductSpec {
+    pub id: String,
+    pub demand: DemandSpec,
+    pub enters_at: Option<String>,
+    pub routing: Vec<StepSpec>,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct DemandSpec {
+    pub per_hour: f64,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct StepSpec {
+    pub step: String,
+    pub at: String,
+    pub time: Option<TimeSpec>,
+    pub then: Option<Vec<BranchSpec>>,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct BranchSpec {
+    pub step: String,
+    pub p: f64,
+}
+
+/// A processing time: a bare duration (constant) or `{ family: { parameters } }`.
+#[derive(Debug)]
+pub(crate) struct TimeSpec(pub DistSpec);
+
+/// A distribution as written; times in seconds, other parameters plain numbers.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields, rename_all = "lowercase")]
+pub(crate) enum DistSpec {
+    Constant(Seconds),
+    Uniform { min: Seconds, max: Seconds },
+    Triangular { min: Seconds, mode: Seconds, max: Seconds },
+    Exponential { mean: Seconds },
+    Normal { mean: Seconds, sd: Seconds },
+    Lognormal { mean: Seconds, cv: Option<f64>, sd: Option<Seconds> },
+    Gamma { mean: Option<Seconds>, cv: Option<f64>, shape: Option<f64>, scale: Option<Seconds> },
+    Erlang { k: u32, mean: Seconds },
+    Weibull { scale: Seconds, shape: f64 },
+    Empirical(Vec<(Seconds, f64)>),
+}
+
+impl<'de> Deserialize<'de> for TimeSpec {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = TimeSpec;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str(
+                    "a duration such as \"5 min\" or a distribution such as { exponential: { mean: 5 min } }",
+                )
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<TimeSpec, E> {
+                crate::units::parse_duration(v)
+                    .map(|s| TimeSpec(DistSpec::Constant(Seconds(s))))
+                    .map_err(E::custom)
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<TimeSpec, E> {
+                Err(E::custom(format!("the time {v} has no unit: {}", crate::units::DURATION_EXAMPLE)))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<TimeSpec, E> {
+                self.visit_f64(v as f64)
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<TimeSpec, E> {
+                self.visit_f64(v as f64)
+            }
+            fn visit_map<A: MapAccess<'de>>(self, m: A) -> Result<TimeSpec, A::Error> {
+                DistSpec::deserialize(de::value::MapAccessDeserializer::new(m)).map(TimeSpec)
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(rename_all = "lowercase")]
+pub(crate) enum MovesSpec {
+    Instant,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct FleetSpec {
+    pub id: String,
+    pub kind: KindSpec,
+    pub count: u32,
+    pub speed: SpeedSpec,
+    pub handling: Option<HandlingSpec>,
+    pub cost: Option<CostSpec>,
+    pub home: String,
+    pub dispatch: Option<DispatchSpec>,
+    pub when_idle: Option<IdleSpec>,
+    pub carries: Option<Vec<String>>,
+}
+
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum KindSpec {
+    Forklift,
+    TowCart,
+    Walker,
+}
+
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum DispatchSpec {
+    NearestIdle,
+    FirstCome,
+}
+
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum IdleSpec {
+    Stay,
+    GoHome,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct SpeedSpec {
+    pub loaded: MetresPerSecond,
+    pub empty: MetresPerSecond,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct HandlingSpec {
+    pub load: Seconds,
+    pub unload: Seconds,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct CostSpec {
+    #[serde(default)]
+    pub per_hour: f64,
+    #[serde(default)]
+    pub per_km: f64,
+}
+
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct CostsSpec {
+    #[serde(default)]
+    pub per_load_metre: f64,
+}

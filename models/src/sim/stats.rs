@@ -1,0 +1,59 @@
+//! What one replication measured, over the window from the end of warm-up to the horizon.
+
+use layflow_engine::{Tally, TickHistogram};
+
+/// Histogram tick for flow times and move waits: one millisecond, integer ticks
+/// so that histograms of separate replications (or machines) merge exactly.
+pub const TICK_S: f64 = 0.001;
+
+/// Time a fleet's movers spent in each activity, and the distance they covered.
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct FleetStats {
+    /// Mover-seconds travelling with a load.
+    pub loaded_s: f64,
+    /// Mover-seconds travelling empty (to a pick-up, or home).
+    pub empty_s: f64,
+    /// Mover-seconds loading and unloading.
+    pub handling_s: f64,
+    /// Metres travelled with a load.
+    pub distance_loaded_m: f64,
+    /// Metres travelled empty.
+    pub distance_empty_m: f64,
+    /// Loads picked up in the window.
+    pub moves: u64,
+}
+
+/// Results of one replication of one layout.
+#[derive(Debug, Clone)]
+pub struct RepStats {
+    /// Length of the observation window (horizon − warm-up), s.
+    pub window_s: f64,
+    /// Events handled over the whole replication, warm-up included.
+    pub events: u64,
+    /// Lots shipped in the window, per product.
+    pub shipped: Vec<u64>,
+    /// Flow time (receiving to shipping) of lots shipped in the window, per product.
+    pub flow_time: Vec<Tally>,
+    /// Flow time of every lot shipped in the window.
+    pub flow_time_all: Tally,
+    /// Flow-time histogram (all products), for percentiles.
+    pub flow_hist: TickHistogram,
+    /// Time-average lots in the plant.
+    pub wip_total: f64,
+    /// Time-average lots at each department (queued, in process, or waiting for a mover).
+    pub wip_department: Vec<f64>,
+    /// Time-average lots on movers (loading, travelling, unloading).
+    pub wip_transit: f64,
+    /// Time-average busy machines ÷ machines, per department (0 for docks).
+    pub utilization: Vec<f64>,
+    /// Time-average lots waiting for a machine, per department.
+    pub queue: Vec<f64>,
+    /// Wait from move request to pick-up, per fleet.
+    pub move_wait: Vec<Tally>,
+    /// Wait from move request to pick-up, every fleet.
+    pub move_wait_all: Tally,
+    /// Move-wait histogram (every fleet), for percentiles.
+    pub move_wait_hist: TickHistogram,
+    /// Activity per fleet.
+    pub fleets: Vec<FleetStats>,
+}

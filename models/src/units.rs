@@ -1,0 +1,182 @@
+//! Values with units from scenario text: durations to seconds, speeds to metres per second.
+//!
+//! Every time and speed in a scenario carries its unit, because a bare `5`
+//! is as likely to mean minutes as seconds and a silent guess would make a
+//! plausible-looking but wrong plant. The serde wrappers [`Seconds`] and
+//! [`MetresPerSecond`] parse while deserializing, so a bad value is reported
+//! with the line it sits on.
+
+use std::fmt;
+
+use serde::de::{self, Deserialize, Deserializer, Visitor};
+
+/// Duration units accepted, with their length in seconds.
+const DURATION_UNITS: &[(&str, f64)] = &[("s", 1.0), ("min", 60.0), ("h", 3600.0), ("d", 86400.0)];
+
+/// Speed units accepted, with their value in metres per second.
+const SPEED_UNITS: &[(&str, f64)] = &[("m/s", 1.0), ("m/min", 1.0 / 60.0), ("km/h", 1000.0 / 3600.0)];
+
+/// The hint given when a duration has no unit.
+pub const DURATION_EXAMPLE: &str = "write \"5 min\" or \"300 s\"";
+
+/// The hint given when a speed has no unit.
+pub const SPEED_EXAMPLE: &str = "write \"1.5 m/s\" or \"90 m/min\"";
+
+/// Parses a duration such as `"30 s"`, `"5 min"`, `"2 h"`, `"1.5 d"` or `"5min"` into seconds.
+///
+/// Negative values parse (the caller decides whether they make sense, so it
+/// can say which field is wrong); NaN and infinities do not.
+pub fn parse_duration(text: &str) -> Result<f64, String> {
+    parse_with_units(text, DURATION_UNITS, "duration", DURATION_EXAMPLE)
+}
+
+/// Parses a speed such as `"2.0 m/s"`, `"8 km/h"` or `"90 m/min"` into metres per second.
+pub fn parse_speed(text: &str) -> Result<f64, String> {
+    parse_with_units(text, SPEED_UNITS, "speed", SPEED_EXAMPLE)
+}
+
+/// Formats seconds in the largest unit that keeps the number readable, for messages.
+pub fn format_duration(seconds: f64) -> String {
+    let a = seconds.abs();
+    let (value, unit) = if a >= 86400.0 {
+        (seconds / 86400.0, "d")
+    } else if a >= 3600.0 {
+        (seconds / 3600.0, "h")
+    } else if a >= 60.0 {
+        (seconds / 60.0, "min")
+    } else {
+        (seconds, "s")
+    };
+    format!("{} {unit}", trim_number(value))
+}
+
+fn trim_number(v: f64) -> String {
+    let s = format!("{v:.4}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    s.to_string()
+}
+
+fn unit_list(units: &[(&str, f64)]) -> String {
+    units.iter().map(|(u, _)| *u).collect::<Vec<_>>().join(", ")
+}
+
+fn parse_with_units(text: &str, units: &[(&str, f64)], what: &str, example: &str) -> Result<f64, String> {
+    let text = text.trim();
+    // The unit is the trailing run of letters and slashes; splitting there
+    // (rather than at the first letter) keeps exponents like `1e3 s` intact.
+    let split = text
+        .char_indices()
+        .rev()
+        .take_while(|(_, c)| c.is_ascii_alphabetic() || *c == '/')
+        .last()
+        .map_or(text.len(), |(i, _)| i);
+    let (number, unit) = (text[..split].trim(), &text[split..]);
+    if number.is_empty() {
+        return Err(format!("{what} \"{text}\" has no number; {example}"));
+    }
+    let value: f64 =
+        number.parse().map_err(|_| format!("{what} \"{text}\": \"{number}\" is not a number; {example}"))?;
+    if !value.is_finite() {
+        return Err(format!("{what} \"{text}\" is not finite"));
+    }
+    if unit.is_empty() {
+        return Err(format!("{what} \"{text}\" needs a unit: {example}"));
+    }
+    match units.iter().find(|(u, _)| *u == unit) {
+        Some((_, factor)) => Ok(value * factor),
+        None => Err(format!("unknown {what} unit \"{unit}\" in \"{text}\" (accepted: {})", unit_list(units))),
+    }
+}
+
+/// A duration in seconds, deserialized from text with a unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Seconds(pub f64);
+
+/// A speed in metres per second, deserialized from text with a unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MetresPerSecond(pub f64);
+
+struct UnitVisitor {
+    what: &'static str,
+    example: &'static str,
+    parse: fn(&str) -> Result<f64, String>,
+}
+
+impl<'de> Visitor<'de> for UnitVisitor {
+    type Value = f64;
+
+    fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+        write!(f, "a {} with a unit ({})", self.what, self.example)
+    }
+
+    fn visit_str<E: de::Error>(self, v: &str) -> Result<f64, E> {
+        (self.parse)(v).map_err(E::custom)
+    }
+
+    fn visit_f64<E: de::Error>(self, v: f64) -> Result<f64, E> {
+        Err(E::custom(format!("the {} {v} has no unit: {}", self.what, self.example)))
+    }
+
+    fn visit_i64<E: de::Error>(self, v: i64) -> Result<f64, E> {
+        self.visit_f64(v as f64)
+    }
+
+    fn visit_u64<E: de::Error>(self, v: u64) -> Result<f64, E> {
+        self.visit_f64(v as f64)
+    }
+}
+
+impl<'de> Deserialize<'de> for Seconds {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(UnitVisitor { what: "duration", example: DURATION_EXAMPLE, parse: parse_duration })
+            .map(Seconds)
+    }
+}
+
+impl<'de> Deserialize<'de> for MetresPerSecond {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(UnitVisitor { what: "speed", example: SPEED_EXAMPLE, parse: parse_speed })
+            .map(MetresPerSecond)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn durations_convert_to_seconds() {
+        assert_eq!(parse_duration("30 s"), Ok(30.0));
+        assert_eq!(parse_duration("5 min"), Ok(300.0));
+        assert_eq!(parse_duration("5min"), Ok(300.0));
+        assert_eq!(parse_duration("2 h"), Ok(7200.0));
+        assert_eq!(parse_duration("1.5 d"), Ok(129600.0));
+        assert_eq!(parse_duration("1e1 s"), Ok(10.0));
+        assert_eq!(parse_duration("-2 s"), Ok(-2.0));
+    }
+
+    #[test]
+    fn speeds_convert_to_metres_per_second() {
+        assert_eq!(parse_speed("2.0 m/s"), Ok(2.0));
+        assert_eq!(parse_speed("90 m/min"), Ok(1.5));
+        let kmh = parse_speed("9 km/h").unwrap();
+        assert!((kmh - 2.5).abs() < 1e-12);
+    }
+
+    #[test]
+    fn bad_values_say_what_to_write() {
+        assert!(parse_duration("300").unwrap_err().contains("write \"5 min\""));
+        let e = parse_duration("5 weeks").unwrap_err();
+        assert!(e.contains("accepted: s, min, h, d"), "{e}");
+        assert!(parse_duration("min").unwrap_err().contains("no number"));
+        assert!(parse_duration("inf s").is_err());
+        assert!(parse_speed("3 mph").unwrap_err().contains("m/s, m/min, km/h"));
+    }
+
+    #[test]
+    fn durations_format_readably() {
+        assert_eq!(format_duration(300.0), "5 min");
+        assert_eq!(format_duration(90.0), "1.5 min");
+        assert_eq!(format_duration(12.0), "12 s");
+    }
+}
