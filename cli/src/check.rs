@@ -1,14 +1,14 @@
 //! `layflow check`: validate a scenario and print its static picture.
 
 use std::fmt::Write as _;
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use clap::Args;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{DepartmentRole, Handling, Plant};
 use serde_json::json;
 
-use crate::table::{num, Table};
+use crate::table::{count, num, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow check`.
@@ -76,22 +76,22 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
     }
 }
 
-fn render(plant: &Plant, path: &PathBuf, pic: &StaticPicture) -> String {
+fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     let mut s = String::new();
     let docks = plant.departments.iter().filter(|d| d.role != DepartmentRole::Work).count();
     let _ = writeln!(s, "{}", plant.name);
     let _ = writeln!(
         s,
-        "scenario {} is valid: {} locations, {} departments ({} docks), {} products, {} layouts, {}",
+        "scenario {} is valid: {}, {} ({}), {}, {}, {}",
         path.display(),
-        plant.locations.len(),
-        plant.departments.len(),
-        docks,
-        plant.products.len(),
-        plant.layouts.len(),
+        count(plant.locations.len(), "location"),
+        count(plant.departments.len(), "department"),
+        count(docks, "dock"),
+        count(plant.products.len(), "product"),
+        count(plant.layouts.len(), "layout"),
         match &plant.handling {
             Handling::Instant => "instant moves (no fleet)".to_string(),
-            Handling::Fleets(f) => format!("{} fleet{}", f.len(), if f.len() == 1 { "" } else { "s" }),
+            Handling::Fleets(f) => count(f.len(), "fleet"),
         }
     );
     let _ = writeln!(s, "demand factor {}", num(pic.demand_factor));

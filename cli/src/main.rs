@@ -7,7 +7,7 @@ mod check;
 mod run;
 mod table;
 
-use std::path::PathBuf;
+use std::path::Path;
 use std::process::ExitCode;
 
 use clap::{Parser, Subcommand, ValueEnum};
@@ -58,7 +58,7 @@ impl Failure {
 }
 
 /// Load a scenario, turning its error into a bad-input failure.
-pub fn load(path: &PathBuf) -> Result<layflow_models::plant::Plant, Failure> {
+pub fn load(path: &Path) -> Result<layflow_models::plant::Plant, Failure> {
     layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
 }
 

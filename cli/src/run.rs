@@ -7,7 +7,7 @@ use std::time::Instant;
 use clap::Args;
 use indicatif::{ProgressBar, ProgressStyle};
 use layflow_models::analysis::StaticPicture;
-use layflow_models::plant::Plant;
+use layflow_models::plant::{DepartmentRole, Plant};
 use layflow_models::report::{replicate, summarize, LayoutSummary};
 use layflow_models::sim::{Plan, RunSpec};
 use layflow_models::units::parse_duration;
@@ -196,15 +196,20 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     for l in &out.layouts {
         let _ = writeln!(s, "\n== layout {} ==", l.layout);
         let (ft, ftp) = dur_pct(&l.flow_time_s);
-        let mut t = Table::new(&["plant", "value", ""]);
+        let mut t = Table::new(&["whole plant", "mean ± half-width", ""]);
         t.row(vec!["throughput".into(), format!("{} lots/h", pm(&l.throughput_per_h, 1.0)), String::new()]);
         t.row(vec!["flow time".into(), ft, ftp]);
+        let fleets = !plant.fleets().is_empty();
         t.row(vec![
             "work in process".into(),
             format!("{} lots", pm(&l.wip_mean, 1.0)),
-            format!("in transit {} lots", pm(&l.wip_in_transit_mean, 1.0)),
+            if fleets {
+                format!("on movers {} lots", pm(&l.wip_in_transit_mean, 1.0))
+            } else {
+                String::new()
+            },
         ]);
-        if !plant.fleets().is_empty() {
+        if fleets {
             let (mw, mwp) = dur_pct(&l.move_wait_s);
             t.row(vec!["wait for a mover".into(), mw, mwp]);
             t.row(vec![
@@ -235,6 +240,9 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         let mut t =
             Table::new(&["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"]);
         for (d, dep) in l.departments.iter().enumerate() {
+            if plant.departments[d].role == DepartmentRole::Shipping {
+                continue; // lots leave on arrival: nothing to show
+            }
             let machines = plant.departments[d].machines;
             let (u, up) = if machines == 0 {
                 ("dock".to_string(), String::new())
@@ -286,33 +294,26 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     }
     if out.layouts.len() > 1 {
         let _ = writeln!(s, "\n== layouts side by side ==");
-        let mut t = Table::new(&[
-            "layout",
-            "throughput (lots/h)",
-            "flow time",
-            "WIP (lots)",
-            "wait for a mover",
-            "handling cost (/h)",
-            "static load-distance",
-        ]);
+        let fleets = !plant.fleets().is_empty();
+        let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
+        if fleets {
+            header.extend(["wait for a mover", "handling cost (/h)"]);
+        }
+        header.push("static load-distance");
+        let mut t = Table::new(&header);
         for l in &out.layouts {
-            t.row(vec![
+            let mut row = vec![
                 l.layout.clone(),
                 pm(&l.throughput_per_h, 1.0),
-                dur(&layflow_models::report::Estimate {
-                    mean: l.flow_time_s.mean,
-                    half_width: l.flow_time_s.half_width,
-                    n: l.flow_time_s.n,
-                }),
+                dur(&l.flow_time_s.estimate()),
                 pm(&l.wip_mean, 1.0),
-                dur(&layflow_models::report::Estimate {
-                    mean: l.move_wait_s.mean,
-                    half_width: l.move_wait_s.half_width,
-                    n: l.move_wait_s.n,
-                }),
-                pm(&l.handling_cost_per_h, 1.0),
-                format!("{:.0} load-m/h", l.load_distance_static_m_per_h),
-            ]);
+            ];
+            if fleets {
+                row.push(dur(&l.move_wait_s.estimate()));
+                row.push(pm(&l.handling_cost_per_h, 1.0));
+            }
+            row.push(format!("{:.0} load-m/h", l.load_distance_static_m_per_h));
+            t.row(row);
         }
         s.push_str(&t.render(2));
     }

@@ -31,9 +31,9 @@ impl Table {
         let mut out = String::new();
         let line = |cells: &[String], out: &mut String| {
             out.push_str(&" ".repeat(indent));
-            for i in 0..n {
+            for (i, w) in width.iter().enumerate() {
                 let c = cells.get(i).map_or("", String::as_str);
-                let pad = width[i] - c.chars().count();
+                let pad = w - c.chars().count();
                 if i == 0 {
                     out.push_str(c);
                     out.push_str(&" ".repeat(pad));
@@ -60,7 +60,12 @@ pub fn num(x: f64) -> String {
     if !x.is_finite() {
         return "-".to_string();
     }
+    // Adding +0.0 turns -0.0 into 0.0, so a zero never prints as "-0.000".
+    let x = x + 0.0;
     let a = x.abs();
+    if a < 5e-4 {
+        return "0".to_string();
+    }
     if a >= 1000.0 {
         format!("{x:.0}")
     } else if a >= 100.0 {
@@ -110,6 +115,15 @@ pub fn time_unit(seconds: f64) -> (&'static str, f64) {
     }
 }
 
+/// `n thing` or `n things`.
+pub fn count(n: usize, thing: &str) -> String {
+    if n == 1 {
+        format!("1 {thing}")
+    } else {
+        format!("{n} {thing}s")
+    }
+}
+
 /// A duration estimate in a readable unit, e.g. `5.21 ± 0.10 h`.
 pub fn dur(e: &Estimate) -> String {
     let (u, s) = time_unit(e.mean);
@@ -132,6 +146,5 @@ pub fn dur_pct(e: &DurationEstimate) -> (String, String) {
 
 /// A plain duration in seconds, in a readable unit.
 pub fn dur_plain(seconds: f64) -> String {
-    let (u, s) = time_unit(seconds);
-    format!("{} {u}", num(seconds / s))
+    layflow_models::units::format_duration(seconds)
 }

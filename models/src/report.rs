@@ -47,6 +47,13 @@ pub struct DurationEstimate {
     pub count: u64,
 }
 
+impl DurationEstimate {
+    /// The mean and its interval without the percentiles.
+    pub fn estimate(&self) -> Estimate {
+        Estimate { mean: self.mean, half_width: self.half_width, n: self.n }
+    }
+}
+
 impl From<Interval> for Estimate {
     fn from(iv: Interval) -> Self {
         Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n }

@@ -30,7 +30,7 @@ impl Empirical {
             if !(v >= 0.0 && v.is_finite()) {
                 return Err(format!("empirical row {i}: value must be finite and >= 0, got {v}"));
             }
-            if !(p >= 0.0 && p <= 1.0) {
+            if !(0.0..=1.0).contains(&p) {
                 return Err(format!("empirical row {i}: probability must lie in [0, 1], got {p}"));
             }
             sum += p;

@@ -23,7 +23,11 @@ pub enum ErrorKind {
 /// Displays as `error in FILE, line N: FIELD.PATH: what is wrong`, followed
 /// where useful by a `hint:` line saying what to do.
 #[derive(Debug, Clone)]
-pub struct ScenarioError {
+pub struct ScenarioError(Box<Details>);
+
+/// Boxed so that `Result<_, ScenarioError>` stays one pointer wide on the happy path.
+#[derive(Debug, Clone)]
+struct Details {
     kind: ErrorKind,
     file: String,
     path: Option<String>,
@@ -40,7 +44,7 @@ impl ScenarioError {
         if message.chars().count() > MAX_MESSAGE_CHARS {
             message = message.chars().take(MAX_MESSAGE_CHARS).collect::<String>() + " …";
         }
-        ScenarioError {
+        ScenarioError(Box::new(Details {
             kind,
             file: file.to_string(),
             path: None,
@@ -48,79 +52,79 @@ impl ScenarioError {
             column: None,
             message,
             hint: None,
-        }
+        }))
     }
 
     /// Sets the field path (`.` or empty means the whole file, and is dropped).
     pub(crate) fn at_path(mut self, path: impl Into<String>) -> Self {
         let p: String = path.into();
-        self.path = if p.is_empty() || p == "." { None } else { Some(p) };
+        self.0.path = if p.is_empty() || p == "." { None } else { Some(p) };
         self
     }
 
     /// Sets the line and column (1-based).
     pub(crate) fn at_line(mut self, line: Option<usize>, column: Option<usize>) -> Self {
-        self.line = line;
-        self.column = column;
+        self.0.line = line;
+        self.0.column = column;
         self
     }
 
     /// Adds a hint saying what to do.
     pub(crate) fn with_hint(mut self, hint: impl Into<String>) -> Self {
-        self.hint = Some(hint.into());
+        self.0.hint = Some(hint.into());
         self
     }
 
     /// What kind of rule was broken.
     pub fn kind(&self) -> ErrorKind {
-        self.kind
+        self.0.kind
     }
 
     /// The scenario file, as given.
     pub fn file(&self) -> &str {
-        &self.file
+        &self.0.file
     }
 
     /// The field path, e.g. `products[2].routing[0].at`, where known.
     pub fn path(&self) -> Option<&str> {
-        self.path.as_deref()
+        self.0.path.as_deref()
     }
 
     /// The 1-based line in the scenario file, where known.
     pub fn line(&self) -> Option<usize> {
-        self.line
+        self.0.line
     }
 
     /// The 1-based column in the scenario file, where known.
     pub fn column(&self) -> Option<usize> {
-        self.column
+        self.0.column
     }
 
     /// What is wrong, without the location.
     pub fn message(&self) -> &str {
-        &self.message
+        &self.0.message
     }
 
     /// What to do about it, where the loader can say.
     pub fn hint(&self) -> Option<&str> {
-        self.hint.as_deref()
+        self.0.hint.as_deref()
     }
 }
 
 impl fmt::Display for ScenarioError {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        write!(f, "error in {}", self.file)?;
-        match (self.line, self.column, self.kind) {
+        write!(f, "error in {}", self.0.file)?;
+        match (self.0.line, self.0.column, self.0.kind) {
             (Some(l), Some(c), ErrorKind::Syntax) => write!(f, ", line {l}, column {c}")?,
             (Some(l), _, _) => write!(f, ", line {l}")?,
             _ => {}
         }
         f.write_str(": ")?;
-        if let Some(p) = &self.path {
+        if let Some(p) = &self.0.path {
             write!(f, "{p}: ")?;
         }
-        f.write_str(&self.message)?;
-        if let Some(h) = &self.hint {
+        f.write_str(&self.0.message)?;
+        if let Some(h) = &self.0.hint {
             write!(f, "\nhint: {h}")?;
         }
         Ok(())

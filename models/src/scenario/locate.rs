@@ -169,8 +169,8 @@ impl<'de> Visitor<'de> for Finder<'_> {
         let mut n = 0;
         loop {
             if Some(n) == want {
-                let found = seq.next_element_seed(Finder { rest: &self.rest[1..] })?;
-                return Ok(found.unwrap_or(()));
+                seq.next_element_seed(Finder { rest: &self.rest[1..] })?;
+                return Ok(());
             }
             if seq.next_element::<IgnoredAny>()?.is_none() {
                 return Ok(());

@@ -241,10 +241,19 @@ fn check_exits(product: &str, ops: &[Operation], rp: &FieldPath, ctx: &Ctx) -> R
     }
 }
 
-/// Builds the processing time, with the values shown back in the units of time.
+/// Builds the processing time. The distribution's own messages quote time
+/// parameters in seconds, so the hint says so unless the value was not a time.
 fn processing_time(spec: &DistSpec, tp: &FieldPath, ctx: &Ctx) -> Result<Dist, ScenarioError> {
     let in_seconds = |r: Result<Dist, String>, family: &str| {
-        r.map_err(|e| ctx.err(&tp.key(family), e).with_hint("times are shown in seconds"))
+        r.map_err(|e| {
+            let not_a_time = ["probabilit", " cv ", " shape ", "erlang k"].iter().any(|w| e.contains(w));
+            let err = ctx.err(&tp.key(family), e.clone());
+            if not_a_time {
+                err
+            } else {
+                err.with_hint("times in this message are in seconds")
+            }
+        })
     };
     let d = match spec {
         DistSpec::Constant(v) => {
