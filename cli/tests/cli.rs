@@ -1,0 +1,231 @@
+//! End-to-end tests of the `layflow` binary: exit codes, output formats, reproducibility.
+//!
+//! They live beside the binary because Cargo builds a package's executable
+//! for its own integration tests only (`CARGO_BIN_EXE_layflow`).
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).parent().expect("workspace root").to_path_buf()
+}
+
+fn layflow(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args(args)
+        .current_dir(root())
+        .output()
+        .expect("the layflow binary runs")
+}
+
+fn text(b: &[u8]) -> String {
+    String::from_utf8_lossy(b).into_owned()
+}
+
+/// Every scenario shipped in `scenarios/` and `scenarios/validation/` (SimPy's
+/// rule: every example is run by the tests).
+fn example_scenarios() -> Vec<PathBuf> {
+    let mut v = Vec::new();
+    for dir in ["scenarios", "scenarios/validation"] {
+        for e in std::fs::read_dir(root().join(dir)).expect("scenario folder") {
+            let p = e.expect("entry").path();
+            if p.extension().is_some_and(|x| x == "yaml") {
+                v.push(p);
+            }
+        }
+    }
+    v.sort();
+    assert!(v.len() >= 3, "expected the demo and validation scenarios, found {v:?}");
+    v
+}
+
+#[test]
+fn every_example_scenario_checks_and_runs() {
+    for p in example_scenarios() {
+        let p = p.to_str().expect("utf-8 path");
+        let out = layflow(&["check", p]);
+        assert!(out.status.success(), "check {p} failed:\n{}", text(&out.stderr));
+        assert!(text(&out.stdout).contains("From-to chart"), "check {p} printed no from-to chart");
+        // A short run of every example: it must finish and report every layout.
+        let out = layflow(&[
+            "run",
+            p,
+            "--replications",
+            "2",
+            "--horizon",
+            "3 d",
+            "--warmup",
+            "1 d",
+            "--format",
+            "json",
+        ]);
+        assert!(out.status.success(), "run {p} failed:\n{}", text(&out.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("run prints JSON");
+        assert!(!v["layouts"].as_array().expect("layouts").is_empty());
+        assert!(v["events"].as_u64().expect("events") > 0);
+    }
+}
+
+#[test]
+fn bad_scenarios_exit_with_code_2_and_name_the_file() {
+    let dir = root().join("scenarios/bad");
+    let mut n = 0;
+    for e in std::fs::read_dir(&dir).expect("bad corpus") {
+        let p = e.expect("entry").path();
+        if p.extension().is_none_or(|x| x != "yaml") {
+            continue;
+        }
+        n += 1;
+        let name = p.file_name().unwrap().to_str().unwrap().to_string();
+        for verb in ["check", "run"] {
+            let out = layflow(&[verb, p.to_str().unwrap()]);
+            let err = text(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{verb} {name}: expected exit 2, stderr:\n{err}");
+            assert!(err.contains(&name), "{verb} {name}: message does not name the file:\n{err}");
+            assert!(!err.contains("panicked"), "{verb} {name} panicked:\n{err}");
+            assert!(err.lines().count() <= 25, "{verb} {name}: message longer than a screen:\n{err}");
+        }
+    }
+    assert!(n >= 20, "the bad-input corpus has only {n} files");
+}
+
+#[test]
+fn bad_arguments_exit_with_code_2() {
+    let demo = "scenarios/demo.yaml";
+    for (args, fragment) in [
+        (vec!["run", demo, "--layout", "nowhere"], "no such layout"),
+        (vec!["run", demo, "--horizon", "10"], "unit"),
+        (vec!["run", demo, "--horizon", "1 d", "--warmup", "2 d"], "longer than the warm-up"),
+        (vec!["run", demo, "--replications", "0"], "at least 1"),
+        (vec!["run", demo, "--threads", "0"], "at least 1"),
+        (vec!["run", demo, "--demand", "0"], "positive"),
+        (vec!["check", "scenarios/no-such-file.yaml"], "no-such-file.yaml"),
+        (vec!["run", demo, "--no-such-flag"], "unexpected argument"),
+    ] {
+        let out = layflow(&args);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: stderr:\n{err}");
+        assert!(err.contains(fragment), "{args:?}: expected {fragment:?} in:\n{err}");
+    }
+}
+
+#[test]
+fn same_seed_gives_byte_identical_json_whatever_the_thread_count() {
+    let run = |threads: &str| {
+        let out = layflow(&[
+            "run",
+            "scenarios/demo.yaml",
+            "--replications",
+            "6",
+            "--horizon",
+            "4 d",
+            "--warmup",
+            "1 d",
+            "--threads",
+            threads,
+            "--format",
+            "json",
+            "--no-wall-clock",
+        ]);
+        assert!(out.status.success(), "{}", text(&out.stderr));
+        out.stdout
+    };
+    let one = run("1");
+    assert_eq!(one, run("2"), "--threads 2 changed the JSON");
+    assert_eq!(one, run("3"), "--threads 3 changed the JSON");
+    // And a different seed does change it (so the comparison can fail).
+    let out = layflow(&[
+        "run",
+        "scenarios/demo.yaml",
+        "--replications",
+        "6",
+        "--horizon",
+        "4 d",
+        "--warmup",
+        "1 d",
+        "--seed",
+        "7",
+        "--format",
+        "json",
+        "--no-wall-clock",
+    ]);
+    assert_ne!(one, out.stdout, "the seed has no effect");
+}
+
+#[test]
+fn json_has_the_documented_keys_and_units() {
+    let out = layflow(&[
+        "run",
+        "scenarios/demo.yaml",
+        "--replications",
+        "3",
+        "--horizon",
+        "3 d",
+        "--format",
+        "json",
+    ]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert!(v["wall_s"].as_f64().unwrap() > 0.0);
+    assert_eq!(v["replications"], 3);
+    let l = &v["layouts"][0];
+    for key in [
+        "throughput_per_h",
+        "wip_mean",
+        "wip_in_transit_mean",
+        "distance_loaded_m_per_h",
+        "handling_cost_per_h",
+    ] {
+        let m = &l[key];
+        assert!(m["mean"].is_number() && m["half_width"].is_number(), "{key}: {m}");
+        assert_eq!(m["n"], 3, "{key}");
+    }
+    for key in ["flow_time_s", "move_wait_s"] {
+        for q in ["mean", "half_width", "n", "p50", "p90", "p95", "p99"] {
+            assert!(l[key][q].is_number(), "{key}.{q} missing: {}", l[key]);
+        }
+        let (p50, p99) = (l[key]["p50"].as_f64().unwrap(), l[key]["p99"].as_f64().unwrap());
+        assert!(p50 <= p99, "{key}: p50 {p50} above p99 {p99}");
+    }
+    let f = &l["fleets"][0];
+    let shares: f64 = ["loaded_travel_share", "empty_travel_share", "handling_share", "idle_share"]
+        .iter()
+        .map(|k| f[k]["mean"].as_f64().unwrap())
+        .sum();
+    assert!((shares - 1.0).abs() < 1e-9, "fleet time shares sum to {shares}");
+    assert!(l["departments"][1]["utilization"]["mean"].as_f64().unwrap() > 0.0);
+}
+
+#[test]
+fn table_output_is_readable() {
+    let out = layflow(&["run", "scenarios/demo.yaml", "--replications", "3", "--horizon", "3 d"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let t = text(&out.stdout);
+    for fragment in [
+        "== layout current ==",
+        "== layout proposed ==",
+        "throughput",
+        "lots/h",
+        "flow time",
+        "p95",
+        "wait for a mover",
+        "static load-distance",
+        "utilisation",
+        "forklifts",
+        "runners",
+        "layouts side by side",
+    ] {
+        assert!(t.contains(fragment), "table lacks {fragment:?}:\n{t}");
+    }
+    assert!(!t.contains("NaN") && !t.contains("-0.0"), "odd numbers in the table:\n{t}");
+}
+
+#[test]
+fn overloaded_plant_warns_loudly() {
+    let out = layflow(&["check", "scenarios/demo.yaml", "--demand", "1.5"]);
+    assert!(out.status.success());
+    let err = text(&out.stderr);
+    assert!(err.contains("WARNING") && err.contains("inspection") && err.contains("cannot keep up"), "{err}");
+    let out = layflow(&["check", "scenarios/demo.yaml"]);
+    assert!(!text(&out.stderr).contains("WARNING"), "the demo plant itself should not be overloaded");
+}
