@@ -223,9 +223,9 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 String::new(),
             ]);
             t.row(vec![
-                "handling cost".into(),
+                "fleet cost".into(),
                 format!("{} /h", pm(&l.handling_cost_per_h, 1.0)),
-                format!("static {} /h", num(l.handling_cost_static_per_h)),
+                format!("static load-distance cost {} /h", num(l.handling_cost_static_per_h)),
             ]);
         }
         s.push_str(&t.render(2));
@@ -297,7 +297,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         let fleets = !plant.fleets().is_empty();
         let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
         if fleets {
-            header.extend(["wait for a mover", "handling cost (/h)"]);
+            header.extend(["wait for a mover", "fleet cost (/h)"]);
         }
         header.push("static load-distance");
         let mut t = Table::new(&header);

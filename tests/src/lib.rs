@@ -13,7 +13,7 @@ use std::path::{Path, PathBuf};
 use layflow_engine::interval;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::Plant;
-use layflow_models::report::{replicate, summarize, Estimate, LayoutSummary};
+use layflow_models::report::{replicate, summarize, DurationEstimate, Estimate, LayoutSummary};
 use layflow_models::sim::{Plan, RepStats, RunSpec};
 
 /// Seconds per hour, for converting the model's seconds to the hours of the references.
@@ -136,6 +136,28 @@ pub fn run_layout(plant: &Plant, layout: usize) -> Run {
     let picture = StaticPicture::new(plant, spec.demand_factor);
     let summary = summarize(plant, &spec, &picture, &reps);
     Run { spec, reps, summary, picture }
+}
+
+/// An estimate multiplied by a constant (a unit change): the mean and the
+/// half-width scale alike.
+pub fn scaled(e: &Estimate, factor: f64) -> Estimate {
+    Estimate { mean: e.mean * factor, half_width: e.half_width.map(|h| h * factor), n: e.n }
+}
+
+/// A duration estimate in seconds as a plain estimate in hours.
+pub fn hours(d: &DurationEstimate) -> Estimate {
+    scaled(&Estimate { mean: d.mean, half_width: d.half_width, n: d.n }, 1.0 / HOUR)
+}
+
+/// An estimate shifted by a known constant (e.g. flow time minus a known
+/// mean processing time gives the wait in queue); the half-width is unchanged.
+pub fn shifted(e: &Estimate, by: f64) -> Estimate {
+    Estimate { mean: e.mean + by, ..*e }
+}
+
+/// Index of the department with this id.
+pub fn department(plant: &Plant, id: &str) -> usize {
+    plant.departments.iter().position(|d| d.id == id).unwrap_or_else(|| panic!("no department {id:?}"))
 }
 
 /// Half-width of an estimate, which every check needs (so at least two replications).
