@@ -8,7 +8,7 @@ use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{DepartmentRole, Handling, Plant};
 use serde_json::json;
 
-use crate::table::{count, num, Table};
+use crate::table::{count, num, share, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow check`.
@@ -53,10 +53,10 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
     for d in pic.overloaded() {
         let dep = &plant.departments[d];
         eprintln!(
-            "WARNING: department \"{}\" is predicted at {:.0}% utilisation ({} machine{}): the plant cannot keep up \
+            "WARNING: department \"{}\" is predicted at {} utilisation ({} machine{}): the plant cannot keep up \
              with this demand; queues there grow without bound and simulated results will not settle.",
             dep.id,
-            pic.utilization[d] * 100.0,
+            share(pic.utilization[d]),
             dep.machines,
             if dep.machines == 1 { "" } else { "s" }
         );
@@ -65,10 +65,10 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
         for (f, &u) in lp.fleet_utilization_lower_bound.iter().enumerate() {
             if u >= 1.0 {
                 eprintln!(
-                    "WARNING: fleet \"{}\" needs at least {:.0}% of its time for loaded moves under layout \"{}\": \
+                    "WARNING: fleet \"{}\" needs at least {} of its time for loaded moves under layout \"{}\": \
                      it cannot keep up; add movers.",
                     plant.fleets()[f].id,
-                    u * 100.0,
+                    share(u),
                     plant.layouts[l].name
                 );
             }
@@ -131,7 +131,7 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             dep.id.clone(),
             dep.machines.to_string(),
             format!("{:.2}", pic.arrivals_per_h[d]),
-            format!("{:.1}%", u * 100.0),
+            share(u),
             if u >= 1.0 {
                 "OVERLOADED".into()
             } else if u >= 0.85 {
@@ -158,10 +158,10 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     for (l, lp) in pic.layouts.iter().enumerate() {
         let mut row = vec![
             plant.layouts[l].name.clone(),
-            format!("{:.0}", lp.load_distance_m_per_h),
+            num(lp.load_distance_m_per_h),
             format!("{:.2}", lp.handling_cost_per_h),
         ];
-        row.extend(lp.fleet_utilization_lower_bound.iter().map(|u| format!("{:.1}%", u * 100.0)));
+        row.extend(lp.fleet_utilization_lower_bound.iter().map(|&u| share(u)));
         t.row(row);
     }
     s.push_str(&t.render(2));

@@ -14,7 +14,7 @@ use layflow_models::units::parse_duration;
 use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
-use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, Table};
+use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, share, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow run`.
@@ -215,7 +215,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             t.row(vec![
                 "distance loaded".into(),
                 format!("{} m/h", pm(&l.distance_loaded_m_per_h, 1.0)),
-                format!("static load-distance {:.0} load-m/h", l.load_distance_static_m_per_h),
+                format!("static load-distance {} load-m/h", num(l.load_distance_static_m_per_h)),
             ]);
             t.row(vec![
                 "distance empty".into(),
@@ -247,7 +247,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             let (u, up) = if machines == 0 {
                 ("dock".to_string(), String::new())
             } else {
-                (pct(&dep.utilization), format!("{:.1}%", dep.utilization_predicted * 100.0))
+                (pct(&dep.utilization), share(dep.utilization_predicted))
             };
             t.row(vec![
                 dep.department.clone(),
@@ -279,10 +279,10 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     f.fleet.clone(),
                     f.movers.to_string(),
                     pct(&f.utilization),
-                    format!("{:.1}%", f.loaded_travel_share.mean * 100.0),
-                    format!("{:.1}%", f.empty_travel_share.mean * 100.0),
-                    format!("{:.1}%", f.handling_share.mean * 100.0),
-                    format!("{:.1}%", f.idle_share.mean * 100.0),
+                    share(f.loaded_travel_share.mean),
+                    share(f.empty_travel_share.mean),
+                    share(f.handling_share.mean),
+                    share(f.idle_share.mean),
                     pm(&f.moves_per_h, 1.0),
                     dur(&f.move_wait_s),
                     pm(&f.handling_cost_per_h, 1.0),
@@ -312,7 +312,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 row.push(dur(&l.move_wait_s.estimate()));
                 row.push(pm(&l.handling_cost_per_h, 1.0));
             }
-            row.push(format!("{:.0} load-m/h", l.load_distance_static_m_per_h));
+            row.push(format!("{} load-m/h", num(l.load_distance_static_m_per_h)));
             t.row(row);
         }
         s.push_str(&t.render(2));

@@ -66,6 +66,9 @@ pub fn num(x: f64) -> String {
     if a < 5e-4 {
         return "0".to_string();
     }
+    if a >= 1e9 {
+        return format!("{x:.3e}");
+    }
     if a >= 1000.0 {
         format!("{x:.0}")
     } else if a >= 100.0 {
@@ -90,6 +93,15 @@ fn pm_parts(mean: f64, hw: Option<f64>, scale: f64) -> String {
             format!("{m} ± {:.*}", decimals, h * scale)
         }
         None => m,
+    }
+}
+
+/// A share as a percentage, e.g. `73.3%`.
+pub fn share(x: f64) -> String {
+    if x.abs() >= 1e4 {
+        format!("{}%", num(x * 100.0))
+    } else {
+        format!("{:.1}%", x * 100.0)
     }
 }
 

@@ -16,6 +16,19 @@ const LOT: u64 = 2;
 
 const NONE: u32 = u32::MAX;
 
+/// `now + delay`, or the far future if that overflows: a validated but extreme
+/// parameter (a speed of 1e-300 m/s) must not crash the run; the event simply
+/// never comes before the horizon.
+#[inline]
+fn later(now: f64, delay: f64) -> f64 {
+    let t = now + delay;
+    if t.is_finite() {
+        t
+    } else {
+        f64::MAX
+    }
+}
+
 #[derive(Debug, Clone, Copy)]
 enum Event {
     /// The next lot of a product arrives at its receiving dock.
@@ -101,7 +114,9 @@ pub fn simulate(plan: &Plan, spec: &RunSpec, replication: u64) -> RepStats {
     for (p, prod) in plan.products.iter().enumerate() {
         let rate = prod.rate_per_s * spec.demand_factor;
         let gap: f64 = m.arrival_rng[p].sample::<f64, _>(Exp1) / rate;
-        cal.schedule(gap, Event::Arrival { product: p as u32 });
+        if gap <= spec.horizon_s {
+            cal.schedule(gap, Event::Arrival { product: p as u32 });
+        }
     }
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
@@ -201,7 +216,11 @@ impl<'a> PlantModel<'a> {
         let prod = &self.plan.products[p];
         let rate = prod.rate_per_s * self.demand_factor;
         let gap: f64 = self.arrival_rng[p].sample::<f64, _>(Exp1) / rate;
-        cal.schedule(now + gap, Event::Arrival { product });
+        // An arrival after the horizon can never matter; not scheduling it
+        // also keeps an absurdly small rate (an infinite gap) harmless.
+        if now + gap <= self.window.1 {
+            cal.schedule(now + gap, Event::Arrival { product });
+        }
 
         let n = self.lots_made[p];
         self.lots_made[p] += 1;
@@ -291,7 +310,7 @@ impl<'a> PlantModel<'a> {
         let d = self.plan.dist(m.location as usize, pickup);
         let t = d / self.plan.fleets[f].speed_empty;
         self.record_empty(f, now, now + t, d);
-        cal.schedule(now + t, Event::Pickup { mover });
+        cal.schedule(later(now, t), Event::Pickup { mover });
     }
 
     fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
@@ -338,7 +357,7 @@ impl<'a> PlantModel<'a> {
         }
         self.departments[from].wip.add(now, -1.0);
         self.transit.add(now, 1.0);
-        cal.schedule(t_end, Event::Deliver { mover });
+        cal.schedule(later(t_end, 0.0), Event::Deliver { mover });
     }
 
     fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
@@ -369,7 +388,7 @@ impl<'a> PlantModel<'a> {
             let t = d / fl.speed_empty;
             self.record_empty(f, now, now + t, d);
             self.movers[mover as usize].location = fl.home_location as u32;
-            cal.schedule(now + t, Event::Home { mover });
+            cal.schedule(later(now, t), Event::Home { mover });
             return;
         }
         self.movers[mover as usize].idle_since = now;
@@ -418,7 +437,7 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
         let t = op.time.as_ref().map_or(0.0, |d| d.sample(&mut lot.rng));
-        cal.schedule(cal.now() + t, Event::EndOperation { lot: id });
+        cal.schedule(later(cal.now(), t), Event::EndOperation { lot: id });
     }
 
     fn end_operation(&mut self, id: u32, cal: &mut Calendar<Event>) {
