@@ -4,13 +4,16 @@
 //! run in the order they were scheduled and a run repeats exactly. A key packs
 //! the time's bit pattern (non-negative `f64`s order like their bits as `u64`)
 //! with the sequence number and the payload's slab slot into one `u128`, so a
-//! comparison is a single integer compare. The heap is four-ary: half the
-//! levels of a binary heap, and the four children of a node share a cache
-//! line, which is what matters once the calendar outgrows the cache.
+//! comparison is a single integer compare. The heap ([`QuadHeap`]) is
+//! four-ary with each family of siblings in one cache line: half the levels of
+//! a binary heap, and one line per level, which is what matters once the
+//! calendar outgrows the cache.
 //!
 //! The classic "hold" (take the next event, schedule one) costs one sift: the
 //! event returned by [`Calendar::take_next`] stays at the top of the heap until the
 //! handler schedules its first follow-up, which then replaces it in place.
+
+use crate::heap::QuadHeap;
 
 /// Simulated time in seconds.
 pub type Time = f64;
@@ -24,7 +27,7 @@ pub const MAX_PENDING: usize = 1 << SLOT_BITS;
 /// A pending-event calendar owning its clock.
 #[derive(Debug)]
 pub struct Calendar<E> {
-    heap: Vec<u128>,
+    heap: QuadHeap,
     slab: Vec<Option<E>>,
     free: Vec<u32>,
     now: Time,
@@ -48,7 +51,7 @@ impl<E> Calendar<E> {
     /// An empty calendar with room for `n` pending events before it reallocates.
     pub fn with_capacity(n: usize) -> Self {
         Calendar {
-            heap: Vec::with_capacity(n),
+            heap: QuadHeap::with_capacity(n),
             slab: Vec::with_capacity(n),
             free: Vec::with_capacity(n),
             now: 0.0,
@@ -105,11 +108,11 @@ impl<E> Calendar<E> {
         self.seq += 1;
         if self.top_taken {
             self.top_taken = false;
-            // Replace-top: one sift down instead of a pop and a push.
-            self.sift_root(key);
+            // Replace-top: one sift instead of a pop and a push.
+            self.prefetch_runner_up();
+            self.heap.replace_top(key);
         } else {
             self.heap.push(key);
-            self.sift_up(self.heap.len() - 1, key);
         }
     }
 
@@ -123,14 +126,14 @@ impl<E> Calendar<E> {
     #[inline]
     pub fn peek_time(&mut self) -> Option<Time> {
         self.settle();
-        self.heap.first().map(|k| f64::from_bits((k >> 64) as u64))
+        self.heap.peek().map(|k| f64::from_bits((k >> 64) as u64))
     }
 
     /// Take the next event and advance the clock to its time.
     #[inline]
     pub fn take_next(&mut self) -> Option<(Time, E)> {
         self.settle();
-        let key = *self.heap.first()?;
+        let key = self.heap.peek()?;
         self.top_taken = true;
         let t = f64::from_bits((key >> 64) as u64);
         let slot = (key as u64 & SLOT_MASK) as u32;
@@ -162,91 +165,22 @@ impl<E> Calendar<E> {
     fn settle(&mut self) {
         if self.top_taken {
             self.top_taken = false;
-            if let Some(last) = self.heap.pop() {
-                if !self.heap.is_empty() {
-                    self.sift_root(last);
-                }
-            }
+            self.prefetch_runner_up();
+            self.heap.pop();
         }
     }
 
-    /// Put `key` in place of the root.
-    ///
-    /// Bottom-up (Floyd's method): walk the hole down along the smaller
-    /// children to a leaf without comparing against `key`, then move `key` up
-    /// from there. A hold's new event usually belongs near the bottom, so this
-    /// saves a hard-to-predict comparison per level.
+    /// Start loading the payload of the event that is about to become the top,
+    /// so that the next `take_next` does not wait for it: in a large calendar
+    /// the payload's slot is a random place in memory. The sift that follows
+    /// overlaps with the load.
     #[inline]
-    fn sift_root(&mut self, key: u128) {
-        let h = &mut self.heap;
-        let n = h.len();
-        let mut i = 0usize;
-        loop {
-            let first = 4 * i + 1;
-            if first + 4 > n {
-                break;
-            }
-            prefetch_family(h, 4 * first + 1);
-            // Branch-free minimum of the four children.
-            let a = first + usize::from(h[first + 1] < h[first]);
-            let b = first + 2 + usize::from(h[first + 3] < h[first + 2]);
-            let best = if h[b] < h[a] { b } else { a };
-            h[i] = h[best];
-            i = best;
-        }
-        let first = 4 * i + 1;
-        if first < n {
-            // A last, partial family.
-            let mut best = first;
-            for c in first + 1..n {
-                if h[c] < h[best] {
-                    best = c;
-                }
-            }
-            h[i] = h[best];
-            i = best;
-        }
-        self.sift_up(i, key);
-    }
-
-    /// Place `key` at or above position `i`, moving larger parents down.
-    #[inline]
-    fn sift_up(&mut self, mut i: usize, key: u128) {
-        let h = &mut self.heap;
-        while i > 0 {
-            let parent = (i - 1) / 4;
-            if h[parent] <= key {
-                break;
-            }
-            h[i] = h[parent];
-            i = parent;
-        }
-        h[i] = key;
-    }
-}
-
-/// Ask the processor to start loading the 16 grandchildren that begin at
-/// `from` (four cache lines), so that the next level's loads overlap this
-/// level's work. It matters once the heap outgrows the cache: the hold of a
-/// million pending events is about twice as fast with it.
-#[inline(always)]
-#[allow(unsafe_code)]
-fn prefetch_family(heap: &[u128], from: usize) {
-    #[cfg(target_arch = "x86_64")]
-    if from < heap.len() {
-        let p = heap.as_ptr().wrapping_add(from).cast::<i8>();
-        for k in 0..4 {
-            // SAFETY: a prefetch is only a hint; it never faults and reads
-            // nothing into the program, whatever the address.
-            unsafe {
-                core::arch::x86_64::_mm_prefetch::<{ core::arch::x86_64::_MM_HINT_T0 }>(
-                    p.wrapping_add(64 * k),
-                );
-            }
+    fn prefetch_runner_up(&self) {
+        if let Some(k) = self.heap.runner_up() {
+            let slot = (k as u64 & SLOT_MASK) as usize;
+            crate::heap::prefetch(self.slab.as_ptr().wrapping_add(slot));
         }
     }
-    #[cfg(not(target_arch = "x86_64"))]
-    let _ = (heap, from);
 }
 
 #[cfg(test)]

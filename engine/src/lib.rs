@@ -2,6 +2,7 @@
 //! streams, statistics and output analysis. It knows nothing of plants.
 
 pub mod calendar;
+pub mod heap;
 pub mod model;
 pub mod output;
 pub mod stats;
