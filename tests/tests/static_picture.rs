@@ -1,0 +1,224 @@
+//! The static picture of a hand-checked plant: from-to chart, visit ratios with a rework loop, load-distance per layout (rectilinear and Euclidean) and the fleet's static figures.
+//!
+//! Everything here is arithmetic, so every check is exact up to floating
+//! point: relative 1e-9 (REFERENCES asks for 1e-6 on formula code; the sums
+//! here have a handful of terms, so 1e-9 is ample and still catches any
+//! wrong flow or distance). The plant is `scenarios/validation/hand-checked-static.yaml`
+//! and its Euclidean copy; its comment gives the routings.
+
+use layflow_models::analysis::{load_distance, visit_ratios, StaticPicture};
+use layflow_models::plant::Plant;
+use layflow_tests::{department, load, Checks};
+
+const REL: f64 = 1e-9;
+const RECT: &str = "validation/hand-checked-static.yaml";
+const EUCL: &str = "validation/hand-checked-static-euclidean.yaml";
+
+/// Department indices (receiving, A, B, C, shipping) by id.
+fn depts(plant: &Plant) -> [usize; 5] {
+    ["receiving", "punching", "bending", "plating", "shipping"].map(|d| department(plant, d))
+}
+
+/// The from-to chart worked out by hand from the routings (loads/h, demand factor 1):
+/// hinge (10/h) gives R→A 10, A→B 10, B→C 10·0.8 = 8, B→S 10·0.2 = 2, C→B 8·3/8 = 3,
+/// C→S 8·5/8 = 5, and b2 at B → S 3; latch (4/h) gives R→A 4, A→C 4, C→S 4·(10/9)·0.9 = 4.
+fn from_to_by_hand() -> Vec<(usize, usize, f64)> {
+    // (from, to, loads/h) in the order receiving 0, A 1, B 2, C 3, shipping 4.
+    vec![(0, 1, 14.0), (1, 2, 10.0), (1, 3, 4.0), (2, 3, 8.0), (3, 2, 3.0), (2, 4, 5.0), (3, 4, 9.0)]
+}
+
+#[test]
+fn from_to_chart_matches_the_hand_calculation() {
+    let mut c = Checks::new("from-to chart (REFERENCES §9 flows A→B 10, B→C 8, A→C 4, C→B 3)");
+    for file in [RECT, EUCL] {
+        let plant = load(file);
+        let ix = depts(&plant);
+        let nd = plant.departments.len();
+        let pic = StaticPicture::new(&plant, 1.0);
+        let mut want = vec![0.0; nd * nd];
+        for (i, j, f) in from_to_by_hand() {
+            want[ix[i] * nd + ix[j]] = f;
+        }
+        // Every entry, the zeros included (no flow may appear where none is routed).
+        for i in 0..nd {
+            for j in 0..nd {
+                let (w, g) = (want[i * nd + j], pic.from_to[i * nd + j]);
+                let what =
+                    format!("{file}: from-to {} → {}", plant.departments[i].id, plant.departments[j].id);
+                c.exact(&what, w, g, REL * w.max(1.0));
+            }
+        }
+        // Per product: latch carries R→A 4, A→C 4, C→S 4 and nothing else.
+        let latch = &pic.from_to_by_product[1];
+        let total: f64 = latch.iter().sum();
+        c.relative(&format!("{file}: latch loads/h over the chart = 12"), 12.0, total, REL);
+        c.relative(&format!("{file}: latch A → C"), 4.0, latch[ix[1] * nd + ix[3]], REL);
+        c.relative(&format!("{file}: latch C → shipping"), 4.0, latch[ix[3] * nd + ix[4]], REL);
+        // The demand factor scales the chart linearly.
+        let twice = StaticPicture::new(&plant, 2.0);
+        c.relative(
+            &format!("{file}: from-to A → B at demand factor 2"),
+            20.0,
+            twice.from_to[ix[1] * nd + ix[2]],
+            REL,
+        );
+    }
+    c.finish();
+}
+
+#[test]
+fn visit_ratios_and_department_loads_by_hand() {
+    let mut c = Checks::new("visit ratios with a rework loop, arrivals and utilisation (by hand)");
+    let plant = load(RECT);
+    let ix = depts(&plant);
+    // hinge: a 1, b 1, c 0.8, b2 0.8·3/8 = 0.3, ship 1.
+    let hinge = visit_ratios(&plant, 0).expect("hinge solves");
+    for (k, want) in [1.0, 1.0, 0.8, 0.3, 1.0].into_iter().enumerate() {
+        c.relative(&format!("hinge visit ratio of step {k}"), want, hinge[k], REL);
+    }
+    // latch: a 1; c is re-entered after redo, which follows c w.p. 0.1:
+    // v_c = 1 + v_redo, v_redo = 0.1·v_c, so v_c = 1/0.9 = 10/9 and v_redo = 1/9
+    // (the geometric number of passes through a loop left w.p. 0.9).
+    let latch = visit_ratios(&plant, 1).expect("latch solves");
+    for (k, want) in [1.0, 1.0 / 0.9, 0.1 / 0.9, 1.0].into_iter().enumerate() {
+        c.relative(&format!("latch visit ratio of step {k}"), want, latch[k], REL);
+    }
+    let pic = StaticPicture::new(&plant, 1.0);
+    c.relative("StaticPicture.visits agrees for latch's looped step", 10.0 / 9.0, pic.visits[1][1], REL);
+    // Arrivals for processing: A 10 + 4 = 14; B 10 + 3 = 13;
+    // C 8 (hinge) + 4·10/9 (latch c) + 4·1/9 (redo) = 116/9 lots/h.
+    for (d, want) in [(1, 14.0), (2, 13.0), (3, 116.0 / 9.0)] {
+        c.relative(
+            &format!("arrivals/h at {}", plant.departments[ix[d]].id),
+            want,
+            pic.arrivals_per_h[ix[d]],
+            REL,
+        );
+    }
+    c.exact("arrivals/h at the receiving dock (not a work department)", 0.0, pic.arrivals_per_h[ix[0]], 0.0);
+    // Utilisation λE[S]/c: A 14·2 min/60 = 0.466667 (1 machine); B 13·3 min/60 = 0.65;
+    // C (8·3 + (40/9)·3 + (4/9)·1.5) min/h / (60·2) = 38/120.
+    for (d, want) in [(1, 14.0 * 2.0 / 60.0), (2, 13.0 * 3.0 / 60.0), (3, 38.0 / 120.0)] {
+        c.relative(
+            &format!("predicted utilisation of {}", plant.departments[ix[d]].id),
+            want,
+            pic.utilization[ix[d]],
+            REL,
+        );
+    }
+    c.finish();
+}
+
+/// The A, B, C part of a chart: the flows REFERENCES §9 tabulates.
+fn abc_only(plant: &Plant, from_to: &[f64]) -> Vec<f64> {
+    let ix = depts(plant);
+    let nd = plant.departments.len();
+    let mut out = vec![0.0; nd * nd];
+    for &i in &ix[1..4] {
+        for &j in &ix[1..4] {
+            out[i * nd + j] = from_to[i * nd + j];
+        }
+    }
+    out
+}
+
+/// Checks every layout's load-distance against the REFERENCES §9 table (A, B, C
+/// flows) and, with the dock moves added by hand, against the picture's total.
+///
+/// `d_in[k]` is the distance from dock-in (−10, 0) to L(k+1), `d_out[k]` from
+/// L(k+1) to dock-out (50, 30); `table` is the §9 row in the order of the
+/// layouts (1,2,3) (1,3,2) (2,1,3) (2,3,1) (3,1,2) (3,2,1).
+fn check_layouts(c: &mut Checks, file: &str, table: [f64; 6], d_in: [f64; 3], d_out: [f64; 3]) {
+    let plant = load(file);
+    let pic = StaticPicture::new(&plant, 1.0);
+    let abc = abc_only(&plant, &pic.from_to);
+    let perms = [[0, 1, 2], [0, 2, 1], [1, 0, 2], [1, 2, 0], [2, 0, 1], [2, 1, 0]];
+    for (l, (perm, z)) in perms.iter().zip(table).enumerate() {
+        let name = &plant.layouts[l].name;
+        c.relative(
+            &format!("{file} {name}: Σ f·d over A, B, C (REFERENCES §9)"),
+            z,
+            load_distance(&plant, l, &abc),
+            REL,
+        );
+        // Dock moves: 14 loads/h dock-in → A, 5 B → dock-out, 9 C → dock-out.
+        let [a, b, cc] = *perm;
+        let total = z + 14.0 * d_in[a] + 5.0 * d_out[b] + 9.0 * d_out[cc];
+        let lp = &pic.layouts[l];
+        c.relative(
+            &format!("{file} {name}: load-distance with the dock moves"),
+            total,
+            lp.load_distance_m_per_h,
+            REL,
+        );
+        c.relative(
+            &format!("{file} {name}: static handling cost = 0.012/load-m × load-distance"),
+            0.012 * total,
+            lp.handling_cost_per_h,
+            REL,
+        );
+    }
+}
+
+#[test]
+fn load_distance_per_layout_matches_the_reference_table() {
+    let mut c = Checks::new("load-distance per layout (REFERENCES §9, Koopmans–Beckmann with c = 0)");
+    // Distances: L1(0,0)–L3(40,30) is 70 rectilinear and 50 Euclidean (REFERENCES §9).
+    let (rect, eucl) = (load(RECT), load(EUCL));
+    c.relative("rectilinear L1–L3 = 70 m", 70.0, rect.distance(0, 2), REL);
+    c.relative("Euclidean L1–L3 = 50 m", 50.0, eucl.distance(0, 2), REL);
+    // REFERENCES §9 rows; the dock distances by hand: rectilinear dock-in to
+    // L1, L2, L3 = 10, 50, 50 + 30; L1, L2, L3 to dock-out = 50 + 30, 10 + 30, 10.
+    check_layouts(
+        &mut c,
+        RECT,
+        [1010.0, 1190.0, 1290.0, 1230.0, 1260.0, 1020.0],
+        [10.0, 50.0, 80.0],
+        [80.0, 40.0, 10.0],
+    );
+    // Euclidean: dock-in to L1, L2, L3 = 10, 50, √(50² + 30²); L1, L2, L3 to dock-out = √(50² + 30²), √(10² + 30²), 10.
+    let (s3400, s1000) = (3400f64.sqrt(), 1000f64.sqrt());
+    check_layouts(
+        &mut c,
+        EUCL,
+        [930.0, 990.0, 1070.0, 1010.0, 1060.0, 940.0],
+        [10.0, 50.0, s3400],
+        [s3400, s1000, 10.0],
+    );
+    c.finish();
+}
+
+#[test]
+fn fleet_static_figures_at_double_demand() {
+    // REFERENCES §7 (from-to chart form, [M] Tompkins et al.): at twice the
+    // §9 flows — A→B 20, B→C 16, A→C 8, C→B 6, 50 trips — layout (1,2,3) has
+    // 2020 m/h loaded, i.e. 2020/2.0 m/s = 16.8333 min/h of loaded travel, and
+    // 50 trips × 1 min of handling.
+    let mut c = Checks::new("fleet static figures (REFERENCES §7)");
+    let plant = load(RECT);
+    let pic = StaticPicture::new(&plant, 2.0);
+    let abc = abc_only(&plant, &pic.from_to);
+    let fl = &plant.fleets()[0];
+    c.relative("§7 chart: loaded metres/h over A, B, C = 2020", 2020.0, load_distance(&plant, 0, &abc), REL);
+    c.exact(
+        "§7 chart: loaded travel 16.8333 min/h",
+        16.8333,
+        load_distance(&plant, 0, &abc) / fl.speed_loaded / 60.0,
+        5e-5,
+    );
+    c.relative("§7 chart: 50 trips/h over A, B, C", 50.0, abc.iter().sum::<f64>(), REL);
+    c.relative("handling h = load + unload = 1 min", 60.0, fl.load_s + fl.unload_s, REL);
+    // The model's fleet figures include the dock moves: 2 × 53 = 106 trips/h
+    // and 2 × 1440 = 2880 m/h loaded, so the lower bound on utilisation of
+    // 3 trucks is (2880/2.0 + 106 × 60) s/h / (3600 s × 3) = 7800/10800.
+    let lp = &pic.layouts[0];
+    c.relative("trips/h the fleet must make = 106", 106.0, lp.fleet_trips_per_h[0], REL);
+    c.relative("load-distance at double demand = 2880 m/h", 2880.0, lp.load_distance_m_per_h, REL);
+    c.relative(
+        "utilisation lower bound = 7800/10800",
+        7800.0 / 10800.0,
+        lp.fleet_utilization_lower_bound[0],
+        REL,
+    );
+    c.finish();
+}
