@@ -34,6 +34,8 @@ pub struct Calendar<E> {
     seq: u64,
     /// The top of the heap was handed out by `take_next` and is not removed yet.
     top_taken: bool,
+    /// The slab slot of that event, free for its first follow-up to reuse.
+    taken_slot: u32,
 }
 
 impl<E> Default for Calendar<E> {
@@ -57,6 +59,7 @@ impl<E> Calendar<E> {
             now: 0.0,
             seq: 0,
             top_taken: false,
+            taken_slot: 0,
         }
     }
 
@@ -91,7 +94,8 @@ impl<E> Calendar<E> {
             "event scheduled at {at} s, before now ({} s) or not finite",
             self.now
         );
-        let slot = match self.free.pop() {
+        let reuse = if self.top_taken { Some(self.taken_slot) } else { self.free.pop() };
+        let slot = match reuse {
             Some(s) => {
                 self.slab[s as usize] = Some(event);
                 s
@@ -104,6 +108,8 @@ impl<E> Calendar<E> {
         };
         // +0.0 and -0.0 must not differ: at >= now >= 0, so `at + 0.0` is +0.0 or positive.
         let bits = (at + 0.0).to_bits();
+        // 40 bits of sequence: 10¹² events in one run before ties could misorder.
+        assert!(self.seq < 1 << (64 - SLOT_BITS), "event sequence exhausted");
         let key = (u128::from(bits) << 64) | u128::from((self.seq << SLOT_BITS) | u64::from(slot));
         self.seq += 1;
         if self.top_taken {
@@ -138,7 +144,7 @@ impl<E> Calendar<E> {
         let t = f64::from_bits((key >> 64) as u64);
         let slot = (key as u64 & SLOT_MASK) as u32;
         let event = self.slab[slot as usize].take().expect("calendar slot holds its event");
-        self.free.push(slot);
+        self.taken_slot = slot;
         self.now = t;
         Some((t, event))
     }
@@ -165,6 +171,7 @@ impl<E> Calendar<E> {
     fn settle(&mut self) {
         if self.top_taken {
             self.top_taken = false;
+            self.free.push(self.taken_slot);
             self.prefetch_runner_up();
             self.heap.pop();
         }

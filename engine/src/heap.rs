@@ -10,6 +10,10 @@
 
 const EMPTY: u128 = u128::MAX;
 
+/// Heaps larger than this (16 bytes a key: 1 MiB) no longer fit a typical
+/// second-level cache; from here on a sift also prefetches two levels down.
+const DEEP_PREFETCH_FROM: usize = 1 << 16;
+
 /// Four keys sharing one cache line.
 #[derive(Debug, Clone, Copy)]
 #[repr(C, align(64))]
@@ -86,9 +90,14 @@ impl QuadHeap {
     #[inline]
     pub fn replace_top(&mut self, key: u128) {
         assert!(self.len > 0, "replace_top on an empty heap");
+        // Beyond the second-level cache, look two levels ahead as well.
+        let deep = self.len > DEEP_PREFETCH_FROM;
         let mut i = 0usize;
         while 4 * i + 1 < self.len {
             self.prefetch_grandchildren(i);
+            if deep {
+                self.prefetch_great_grandchildren(i);
+            }
             let f = &self.families[i + 1].0;
             // Branch-free minimum of the four children (empty places are MAX).
             let (a, ka) = if f[1] < f[0] { (1, f[1]) } else { (0, f[0]) };
@@ -154,6 +163,21 @@ impl QuadHeap {
         if first < self.families.len() {
             let p = self.families.as_ptr().wrapping_add(first);
             for k in 0..4 {
+                prefetch(p.wrapping_add(k));
+            }
+        }
+    }
+}
+
+impl QuadHeap {
+    /// The sixteen families of node `i`'s great-grandchildren: sixteen
+    /// consecutive cache lines, fetched while the two levels above are compared.
+    #[inline(always)]
+    fn prefetch_great_grandchildren(&self, i: usize) {
+        let first = 16 * i + 6;
+        if first < self.families.len() {
+            let p = self.families.as_ptr().wrapping_add(first);
+            for k in 0..16 {
                 prefetch(p.wrapping_add(k));
             }
         }
