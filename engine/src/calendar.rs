@@ -26,9 +26,9 @@ pub const MAX_PENDING: usize = 1 << SLOT_BITS;
 
 /// A pending-event calendar owning its clock.
 #[derive(Debug)]
-pub struct Calendar<E> {
+pub struct Calendar<E: Copy> {
     heap: QuadHeap,
-    slab: Vec<Option<E>>,
+    slab: Vec<E>,
     free: Vec<u32>,
     now: Time,
     seq: u64,
@@ -38,13 +38,13 @@ pub struct Calendar<E> {
     taken_slot: u32,
 }
 
-impl<E> Default for Calendar<E> {
+impl<E: Copy> Default for Calendar<E> {
     fn default() -> Self {
         Self::new()
     }
 }
 
-impl<E> Calendar<E> {
+impl<E: Copy> Calendar<E> {
     /// An empty calendar at time 0.
     pub fn new() -> Self {
         Self::with_capacity(64)
@@ -83,26 +83,25 @@ impl<E> Calendar<E> {
 
     /// Schedule `event` at absolute time `at`.
     ///
+    /// An infinite `at` is accepted and never comes before any finite time.
+    ///
     /// # Panics
-    /// If `at` is before now or not finite (a model bug, never an input
-    /// error: models validate their inputs), or if more than
-    /// [`MAX_PENDING`] events would be pending.
+    /// If `at` is before now or NaN (a model bug, never an input error:
+    /// models validate their inputs), or if more than [`MAX_PENDING`] events
+    /// would be pending.
     #[inline]
     pub fn schedule(&mut self, at: Time, event: E) {
-        assert!(
-            at >= self.now && at.is_finite(),
-            "event scheduled at {at} s, before now ({} s) or not finite",
-            self.now
-        );
+        // One comparison rejects both: NaN compares false.
+        assert!(at >= self.now, "event scheduled at {at} s, before now ({} s)", self.now);
         let reuse = if self.top_taken { Some(self.taken_slot) } else { self.free.pop() };
         let slot = match reuse {
             Some(s) => {
-                self.slab[s as usize] = Some(event);
+                self.slab[s as usize] = event;
                 s
             }
             None => {
                 assert!(self.slab.len() < MAX_PENDING, "event calendar full");
-                self.slab.push(Some(event));
+                self.slab.push(event);
                 (self.slab.len() - 1) as u32
             }
         };
@@ -143,7 +142,9 @@ impl<E> Calendar<E> {
         self.top_taken = true;
         let t = f64::from_bits((key >> 64) as u64);
         let slot = (key as u64 & SLOT_MASK) as u32;
-        let event = self.slab[slot as usize].take().expect("calendar slot holds its event");
+        // A slot's old payload stays behind once taken; the free list, not the
+        // slab, says which slots are in use.
+        let event = self.slab[slot as usize];
         self.taken_slot = slot;
         self.now = t;
         Some((t, event))

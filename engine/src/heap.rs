@@ -10,8 +10,12 @@
 
 const EMPTY: u128 = u128::MAX;
 
-/// Heaps larger than this (16 bytes a key: 1 MiB) no longer fit a typical
-/// second-level cache; from here on a sift also prefetches two levels down.
+/// Heaps larger than this (16 bytes a key: 64 KiB) outgrow a first-level
+/// cache; from here on a sift prefetches the next level. Below it a prefetch
+/// is pure overhead.
+const PREFETCH_FROM: usize = 1 << 12;
+/// Heaps larger than this (1 MiB) outgrow a typical second-level cache; from
+/// here on a sift also prefetches two levels down.
 const DEEP_PREFETCH_FROM: usize = 1 << 16;
 
 /// Four keys sharing one cache line.
@@ -90,11 +94,13 @@ impl QuadHeap {
     #[inline]
     pub fn replace_top(&mut self, key: u128) {
         assert!(self.len > 0, "replace_top on an empty heap");
-        // Beyond the second-level cache, look two levels ahead as well.
+        let near = self.len > PREFETCH_FROM;
         let deep = self.len > DEEP_PREFETCH_FROM;
         let mut i = 0usize;
         while 4 * i + 1 < self.len {
-            self.prefetch_grandchildren(i);
+            if near {
+                self.prefetch_grandchildren(i);
+            }
             if deep {
                 self.prefetch_great_grandchildren(i);
             }
@@ -110,10 +116,11 @@ impl QuadHeap {
     }
 
     /// The smallest child of the top: the key that becomes the top when the top
-    /// is removed or replaced by a larger key.
+    /// is removed or replaced by a larger key. `None` for heaps small enough
+    /// to live in the first-level cache, where nothing is worth prefetching.
     #[inline]
     pub fn runner_up(&self) -> Option<u128> {
-        if self.len < 2 {
+        if self.len <= PREFETCH_FROM {
             return None;
         }
         let f = &self.families[1].0;

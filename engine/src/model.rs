@@ -4,8 +4,8 @@ use crate::calendar::{Calendar, Time};
 
 /// A simulation model: a state that handles one event at a time and may schedule more.
 pub trait Model {
-    /// The model's own event type (small and `Copy` keeps the calendar fast).
-    type Event;
+    /// The model's own event type: small and `Copy`, which keeps the calendar fast.
+    type Event: Copy;
 
     /// Handle `event` at the calendar's current time.
     fn handle(&mut self, event: Self::Event, calendar: &mut Calendar<Self::Event>);
