@@ -8,7 +8,7 @@ use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{DepartmentRole, Handling, Plant};
 use serde_json::json;
 
-use crate::table::{count, num, share, Table};
+use crate::table::{count, num, share, whole, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow check`.
@@ -158,7 +158,7 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     for (l, lp) in pic.layouts.iter().enumerate() {
         let mut row = vec![
             plant.layouts[l].name.clone(),
-            num(lp.load_distance_m_per_h),
+            whole(lp.load_distance_m_per_h),
             format!("{:.2}", lp.handling_cost_per_h),
         ];
         row.extend(lp.fleet_utilization_lower_bound.iter().map(|&u| share(u)));

@@ -15,7 +15,15 @@ use clap::{Parser, Subcommand, ValueEnum};
 /// Simulate work in process moving through a plant laid out by departments,
 /// and compare layouts on throughput, WIP, flow time and handling cost.
 #[derive(Parser, Debug)]
-#[command(name = "layflow", version, about, long_about = None)]
+#[command(
+    name = "layflow",
+    version,
+    about,
+    long_about = None,
+    after_help = "Examples:\n  layflow check scenarios/demo.yaml\n  layflow run scenarios/demo.yaml\n  \
+                  layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n\n\
+                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed."
+)]
 struct Cli {
     #[command(subcommand)]
     command: Command,

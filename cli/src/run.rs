@@ -14,7 +14,7 @@ use layflow_models::units::parse_duration;
 use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
-use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, share, Table};
+use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow run`.
@@ -215,7 +215,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             t.row(vec![
                 "distance loaded".into(),
                 format!("{} m/h", pm(&l.distance_loaded_m_per_h, 1.0)),
-                format!("static load-distance {} load-m/h", num(l.load_distance_static_m_per_h)),
+                format!("static load-distance {} load-m/h", whole(l.load_distance_static_m_per_h)),
             ]);
             t.row(vec![
                 "distance empty".into(),
@@ -312,7 +312,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 row.push(dur(&l.move_wait_s.estimate()));
                 row.push(pm(&l.handling_cost_per_h, 1.0));
             }
-            row.push(format!("{} load-m/h", num(l.load_distance_static_m_per_h)));
+            row.push(format!("{} load-m/h", whole(l.load_distance_static_m_per_h)));
             t.row(row);
         }
         s.push_str(&t.render(2));

@@ -80,6 +80,15 @@ pub fn num(x: f64) -> String {
     }
 }
 
+/// A whole number (for load-metres and the like), or scientific when huge.
+pub fn whole(x: f64) -> String {
+    if x.is_finite() && x.abs() < 1e9 {
+        format!("{:.0}", x + 0.0)
+    } else {
+        num(x)
+    }
+}
+
 /// `mean ± half-width` scaled by `scale`, with the half-width to the same decimals.
 pub fn pm(e: &Estimate, scale: f64) -> String {
     pm_parts(e.mean, e.half_width, scale)
