@@ -14,7 +14,7 @@ use layflow_models::units::parse_duration;
 use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
-use crate::table::{dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
+use crate::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow run`.
@@ -195,7 +195,8 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     );
     for l in &out.layouts {
         let _ = writeln!(s, "\n== layout {} ==", l.layout);
-        let (ft, ftp) = dur_pct(&l.flow_time_s);
+        let (mut ft, ftp) = dur_pct(&l.flow_time_s);
+        ft.push_str(&coverage(l.flow_time_s.n, out.replications));
         let mut t = Table::new(&["whole plant", "mean ± half-width", ""]);
         t.row(vec!["throughput".into(), format!("{} lots/h", pm(&l.throughput_per_h, 1.0)), String::new()]);
         t.row(vec!["flow time".into(), ft, ftp]);
@@ -232,7 +233,11 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
 
         let mut t = Table::new(&["product", "throughput (lots/h)", "flow time"]);
         for p in &l.products {
-            t.row(vec![p.product.clone(), pm(&p.throughput_per_h, 1.0), dur(&p.flow_time_s)]);
+            t.row(vec![
+                p.product.clone(),
+                pm(&p.throughput_per_h, 1.0),
+                dur(&p.flow_time_s) + &coverage(p.flow_time_s.n, out.replications),
+            ]);
         }
         s.push('\n');
         s.push_str(&t.render(2));

@@ -147,6 +147,9 @@ pub fn count(n: usize, thing: &str) -> String {
 
 /// A duration estimate in a readable unit, e.g. `5.21 ± 0.10 h`.
 pub fn dur(e: &Estimate) -> String {
+    if !e.mean.is_finite() {
+        return "-".to_string();
+    }
     let (u, s) = time_unit(e.mean);
     format!("{} {u}", pm(e, 1.0 / s))
 }
@@ -163,6 +166,16 @@ pub fn dur_pct(e: &DurationEstimate) -> (String, String) {
         num(e.p99 / s)
     );
     (head, tail)
+}
+
+/// ` (k of n replications)` when fewer replications than run observed the
+/// metric (e.g. a product that shipped nothing in some), else nothing.
+pub fn coverage(n: usize, replications: u32) -> String {
+    if n < replications as usize {
+        format!(" ({n} of {replications} replications)")
+    } else {
+        String::new()
+    }
 }
 
 /// A plain duration in seconds, in a readable unit.

@@ -4,7 +4,7 @@
 //! Percentiles come from the histograms of every replication merged (counts
 //! added exactly), so they describe the pooled lots, not a mean of percentiles.
 
-use layflow_engine::{interval, Interval, TickHistogram};
+use layflow_engine::{interval, Interval, Tally, TickHistogram};
 use rayon::prelude::*;
 use serde::Serialize;
 
@@ -60,9 +60,21 @@ impl From<Interval> for Estimate {
     }
 }
 
+/// Mean and interval over the replications that observed the metric: a
+/// replication that shipped no lot has no flow time, which is not a flow
+/// time of 0. `n` says how many replications counted.
 fn est(xs: impl Iterator<Item = f64>) -> Estimate {
-    let v: Vec<f64> = xs.collect();
+    let v: Vec<f64> = xs.filter(|x| x.is_finite()).collect();
     interval(&v, CONFIDENCE).into()
+}
+
+/// A tally's mean, or NaN (left out by [`est`]) when it saw nothing.
+fn observed(t: &Tally) -> f64 {
+    if t.count() == 0 {
+        f64::NAN
+    } else {
+        t.mean()
+    }
 }
 
 fn dur(means: impl Iterator<Item = f64>, hist: &TickHistogram) -> DurationEstimate {
@@ -205,7 +217,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
             + per_h((s.distance_loaded_m + s.distance_empty_m) / 1000.0 * fl.cost_per_km, r)
     };
     let throughput = est(reps.iter().map(|r| per_h(r.shipped.iter().sum::<u64>() as f64, r)));
-    let flow = dur(reps.iter().map(|r| r.flow_time_all.mean()), &flow_hist);
+    let flow = dur(reps.iter().map(|r| observed(&r.flow_time_all)), &flow_hist);
     let wip = est(reps.iter().map(|r| r.wip_total));
     let little_relative_gap =
         if wip.mean > 0.0 { (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean } else { 0.0 };
@@ -215,7 +227,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
         flow_time_s: flow,
         wip_mean: wip,
         wip_in_transit_mean: est(reps.iter().map(|r| r.wip_transit)),
-        move_wait_s: dur(reps.iter().map(|r| r.move_wait_all.mean()), &wait_hist),
+        move_wait_s: dur(reps.iter().map(|r| observed(&r.move_wait_all)), &wait_hist),
         distance_loaded_m_per_h: est(reps
             .iter()
             .map(|r| per_h(r.fleets.iter().map(|f| f.distance_loaded_m).sum(), r))),
@@ -233,7 +245,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
             .map(|(p, prod)| ProductSummary {
                 product: prod.id.clone(),
                 throughput_per_h: est(reps.iter().map(|r| per_h(r.shipped[p] as f64, r))),
-                flow_time_s: est(reps.iter().map(|r| r.flow_time[p].mean())),
+                flow_time_s: est(reps.iter().map(|r| observed(&r.flow_time[p]))),
             })
             .collect(),
         departments: plant
@@ -268,7 +280,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                         1.0 - (s.loaded_s + s.empty_s + s.handling_s) / cap(r)
                     })),
                     moves_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].moves as f64, r))),
-                    move_wait_s: est(reps.iter().map(|r| r.move_wait[f].mean())),
+                    move_wait_s: est(reps.iter().map(|r| observed(&r.move_wait[f]))),
                     distance_loaded_m_per_h: est(reps
                         .iter()
                         .map(|r| per_h(r.fleets[f].distance_loaded_m, r))),
@@ -279,5 +291,22 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
             })
             .collect(),
         events: reps.iter().map(|r| r.events).sum(),
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn replications_without_observations_are_left_out_not_counted_as_zero() {
+        let mut seen = Tally::new();
+        seen.add(10.0);
+        seen.add(14.0);
+        let empty = Tally::new();
+        let e = est([observed(&seen), observed(&empty), observed(&seen)].into_iter());
+        // Two replications of mean 12, the empty one skipped: a zero would give 8.
+        assert_eq!((e.mean, e.n), (12.0, 2));
+        assert_eq!(e.half_width, Some(0.0));
     }
 }
