@@ -277,7 +277,8 @@ impl<'a> PlantModel<'a> {
                     .min_by(|&a, &b| {
                         let da = plan.dist(movers[fleet.idle[a] as usize].location as usize, pickup);
                         let db = plan.dist(movers[fleet.idle[b] as usize].location as usize, pickup);
-                        da.total_cmp(&db)
+                        // Equally near: the lower-numbered mover, whatever the idle list's order.
+                        da.total_cmp(&db).then(fleet.idle[a].cmp(&fleet.idle[b]))
                     })
                     .expect("idle list is not empty");
                 Some(fleet.idle.swap_remove(best))
