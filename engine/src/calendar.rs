@@ -1,24 +1,27 @@
-//! The event calendar: a four-ary heap of 16-byte keys with payloads in a slab beside it.
+//! The event calendar: an eight-ary heap of times with payloads in a slab beside it, and ties put in sequence.
 //!
 //! Events are ordered by (time, insertion sequence), so simultaneous events
-//! run in the order they were scheduled and a run repeats exactly. A key packs
-//! the time's bit pattern (non-negative `f64`s order like their bits as `u64`)
-//! with the sequence number and the payload's slab slot into one `u128`, so a
-//! comparison is a single integer compare. The heap ([`QuadHeap`]) is
-//! four-ary with each family of siblings in one cache line: half the levels of
-//! a binary heap, and one line per level, which is what matters once the
-//! calendar outgrows the cache.
+//! run in the order they were scheduled and a run repeats exactly. The heap
+//! ([`TimeHeap`]) compares times only, 8 bytes each, which is what keeps it
+//! fast. Each heap entry's tag carries the sequence number and the payload's
+//! slab slot. When the next time is shared by several events, which is rare
+//! in continuous time but common with zero delays and constant durations,
+//! the calendar takes all of them out at once and hands them out in sequence
+//! order. Any event scheduled at that same time later has a later sequence,
+//! so it correctly comes after them.
 //!
 //! The classic "hold" (take the next event, schedule one) costs one sift: the
-//! event returned by [`Calendar::take_next`] stays at the top of the heap until the
-//! handler schedules its first follow-up, which then replaces it in place.
+//! event returned by [`Calendar::take_next`] stays at the top of the heap until
+//! the handler schedules its first follow-up, which then replaces it in place.
 
-use crate::heap::QuadHeap;
+use std::collections::VecDeque;
+
+use crate::heap::{prefetch, TimeHeap};
 
 /// Simulated time in seconds.
 pub type Time = f64;
 
-/// Bits of the key's low word that hold the slab slot.
+/// Bits of a tag that hold the slab slot; the rest hold the sequence number.
 const SLOT_BITS: u32 = 24;
 const SLOT_MASK: u64 = (1 << SLOT_BITS) - 1;
 /// The most events that may be pending at once (slots are 24 bits).
@@ -27,7 +30,7 @@ pub const MAX_PENDING: usize = 1 << SLOT_BITS;
 /// A pending-event calendar owning its clock.
 #[derive(Debug)]
 pub struct Calendar<E: Copy> {
-    heap: QuadHeap,
+    heap: TimeHeap,
     slab: Vec<E>,
     free: Vec<u32>,
     now: Time,
@@ -36,6 +39,9 @@ pub struct Calendar<E: Copy> {
     top_taken: bool,
     /// The slab slot of that event, free for its first follow-up to reuse.
     taken_slot: u32,
+    /// Tags of events that share the current time, in sequence order, taken
+    /// out of the heap together and handed out first.
+    ties: VecDeque<u64>,
 }
 
 impl<E: Copy> Default for Calendar<E> {
@@ -53,13 +59,14 @@ impl<E: Copy> Calendar<E> {
     /// An empty calendar with room for `n` pending events before it reallocates.
     pub fn with_capacity(n: usize) -> Self {
         Calendar {
-            heap: QuadHeap::with_capacity(n),
+            heap: TimeHeap::with_capacity(n),
             slab: Vec::with_capacity(n),
             free: Vec::with_capacity(n),
             now: 0.0,
             seq: 0,
             top_taken: false,
             taken_slot: 0,
+            ties: VecDeque::new(),
         }
     }
 
@@ -72,7 +79,7 @@ impl<E: Copy> Calendar<E> {
     /// Pending events.
     #[inline]
     pub fn len(&self) -> usize {
-        self.heap.len() - usize::from(self.top_taken)
+        self.heap.len() - usize::from(self.top_taken) + self.ties.len()
     }
 
     /// Whether no event is pending.
@@ -105,19 +112,19 @@ impl<E: Copy> Calendar<E> {
                 (self.slab.len() - 1) as u32
             }
         };
-        // +0.0 and -0.0 must not differ: at >= now >= 0, so `at + 0.0` is +0.0 or positive.
-        let bits = (at + 0.0).to_bits();
         // 40 bits of sequence: 10¹² events in one run before ties could misorder.
         assert!(self.seq < 1 << (64 - SLOT_BITS), "event sequence exhausted");
-        let key = (u128::from(bits) << 64) | u128::from((self.seq << SLOT_BITS) | u64::from(slot));
+        let tag = (self.seq << SLOT_BITS) | u64::from(slot);
         self.seq += 1;
+        // +0.0 and -0.0 must not differ: at >= now >= 0, so `at + 0.0` is +0.0 or positive.
+        let time = (at + 0.0).to_bits();
         if self.top_taken {
             self.top_taken = false;
             // Replace-top: one sift instead of a pop and a push.
             self.prefetch_runner_up();
-            self.heap.replace_top(key);
+            self.heap.replace_top(time, tag);
         } else {
-            self.heap.push(key);
+            self.heap.push(time, tag);
         }
     }
 
@@ -131,23 +138,32 @@ impl<E: Copy> Calendar<E> {
     #[inline]
     pub fn peek_time(&mut self) -> Option<Time> {
         self.settle();
-        self.heap.peek().map(|k| f64::from_bits((k >> 64) as u64))
+        if !self.ties.is_empty() {
+            return Some(self.now);
+        }
+        self.heap.peek().map(|(t, _)| f64::from_bits(t))
     }
 
     /// Take the next event and advance the clock to its time.
     #[inline]
     pub fn take_next(&mut self) -> Option<(Time, E)> {
         self.settle();
-        let key = self.heap.peek()?;
+        if let Some(tag) = self.ties.pop_front() {
+            return Some((self.now, self.release(tag)));
+        }
+        let (time, tag) = self.heap.peek()?;
+        self.now = f64::from_bits(time);
+        if self.heap.next_time() == Some(time) {
+            self.gather_ties(time);
+            let tag = self.ties.pop_front().expect("a tie has at least two events");
+            return Some((self.now, self.release(tag)));
+        }
         self.top_taken = true;
-        let t = f64::from_bits((key >> 64) as u64);
-        let slot = (key as u64 & SLOT_MASK) as u32;
+        let slot = (tag & SLOT_MASK) as u32;
+        self.taken_slot = slot;
         // A slot's old payload stays behind once taken; the free list, not the
         // slab, says which slots are in use.
-        let event = self.slab[slot as usize];
-        self.taken_slot = slot;
-        self.now = t;
-        Some((t, event))
+        Some((self.now, self.slab[slot as usize]))
     }
 
     /// Move the clock forward to `t` without taking an event (for a horizon).
@@ -162,9 +178,32 @@ impl<E: Copy> Calendar<E> {
         self.heap.clear();
         self.slab.clear();
         self.free.clear();
+        self.ties.clear();
         self.now = 0.0;
         self.seq = 0;
         self.top_taken = false;
+    }
+
+    /// Take every event at `time` out of the heap, in sequence order.
+    #[cold]
+    fn gather_ties(&mut self, time: u64) {
+        while let Some((t, tag)) = self.heap.peek() {
+            if t != time {
+                break;
+            }
+            self.heap.pop();
+            self.ties.push_back(tag);
+        }
+        // The sequence number is the tag's high part, so tags sort by it.
+        self.ties.make_contiguous().sort_unstable();
+    }
+
+    /// The payload of a tied event, its slot freed.
+    #[inline]
+    fn release(&mut self, tag: u64) -> E {
+        let slot = (tag & SLOT_MASK) as u32;
+        self.free.push(slot);
+        self.slab[slot as usize]
     }
 
     /// Drop the event handed out by the last `take_next` if nothing replaced it.
@@ -184,9 +223,9 @@ impl<E: Copy> Calendar<E> {
     /// overlaps with the load.
     #[inline]
     fn prefetch_runner_up(&self) {
-        if let Some(k) = self.heap.runner_up() {
-            let slot = (k as u64 & SLOT_MASK) as usize;
-            crate::heap::prefetch(self.slab.as_ptr().wrapping_add(slot));
+        if let Some(tag) = self.heap.runner_up_tag() {
+            let slot = (tag & SLOT_MASK) as usize;
+            prefetch(self.slab.as_ptr().wrapping_add(slot));
         }
     }
 }
