@@ -1,14 +1,14 @@
-//! An eight-ary min-heap ordered by time, laid out so that the eight times of a family of siblings fill one cache line.
+//! A four-ary min-heap ordered by time, laid out so that each family of four siblings fills one cache line.
 //!
 //! Each entry is a time (the bit pattern of a non-negative `f64`, which
 //! orders like the time) and a tag that the heap carries but never compares.
 //! Equal times come out in no particular order; the calendar puts ties in
 //! sequence itself. Comparing 8-byte times instead of 16-byte keys is what
-//! makes the heap fast: a family's eight times are one 64-byte line, and its
-//! tags the line beside it.
+//! makes the heap fast: a family's four times and four tags are one 64-byte
+//! line, so a sift reads one line per level.
 //!
-//! Logical node `k` lives at physical position `k + 7`, so the eight children
-//! of node `k` (logical `8k+1 … 8k+8`) are exactly the aligned family `k + 1`.
+//! Logical node `k` lives at physical position `k + 3`, so the four children
+//! of node `k` (logical `4k+1 … 4k+4`) are exactly the aligned family `k + 1`.
 //! Unused places hold the time pattern `u64::MAX`, a NaN and never a real
 //! time, so a partial last family needs no bounds test.
 
@@ -18,7 +18,7 @@ const ARITY: usize = 4;
 /// Physical position of logical node 0: makes node `k`'s children family `k + 1`.
 const OFFSET: usize = ARITY - 1;
 
-/// Heaps with more entries than this (16 bytes each: 128 KiB) outgrow a
+/// Heaps with more entries than this (16 bytes each: 128 KiB) outgrow the
 /// first-level cache; from here on a sift prefetches the next level. Below
 /// it a prefetch is pure overhead.
 const PREFETCH_FROM: usize = 1 << 13;
