@@ -1,4 +1,4 @@
-//! The event calendar: an eight-ary heap of times with payloads in a slab beside it, and ties put in sequence.
+//! The event calendar: a four-ary heap of times with payloads in a slab beside it, and ties put in sequence.
 //!
 //! Events are ordered by (time, insertion sequence), so simultaneous events
 //! run in the order they were scheduled and a run repeats exactly. The heap

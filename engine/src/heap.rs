@@ -185,7 +185,7 @@ impl TimeHeap {
     }
 
     /// Ask the processor to start loading the families of node `i`'s
-    /// grandchildren (eight consecutive families: times and tags), so that
+    /// grandchildren (four consecutive cache lines: times and tags), so that
     /// the next level's loads overlap this level's comparisons.
     #[inline(always)]
     fn prefetch_grandchildren(&self, i: usize) {
