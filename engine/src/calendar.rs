@@ -324,4 +324,43 @@ mod tests {
             assert_eq!(c.len(), r.len());
         }
     }
+
+    #[test]
+    fn a_large_calendar_with_ties_keeps_exact_order() {
+        use std::collections::BTreeMap;
+        // Past the heap's prefetch thresholds (2^13 and 2^16 entries), with
+        // times on a coarse grid so that many events tie.
+        let mut x: u64 = 42;
+        let mut rnd = move || {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x
+        };
+        let mut c = Calendar::with_capacity(0);
+        let mut r = BTreeMap::new();
+        let mut seq = 0u64;
+        for i in 0..100_000u32 {
+            let t = (rnd() % 5000) as f64 * 0.5;
+            c.schedule(t, i);
+            r.insert((t.to_bits(), seq), i);
+            seq += 1;
+        }
+        for step in 0..200_000u32 {
+            let (t, e) = c.take_next().unwrap();
+            let ((rt, _), re) = r.pop_first().unwrap();
+            assert_eq!((t.to_bits(), e), (rt, re), "step {step}");
+            // A hold, sometimes at the same instant, sometimes two events.
+            let at = t + (rnd() % 4) as f64 * 0.5;
+            c.schedule(at, e);
+            r.insert((at.to_bits(), seq), e);
+            seq += 1;
+            if step % 7 == 0 {
+                c.schedule(at, e + 1);
+                r.insert((at.to_bits(), seq), e + 1);
+                seq += 1;
+            }
+        }
+        assert_eq!(c.len(), r.len());
+    }
 }
