@@ -13,6 +13,14 @@
 //! The classic "hold" (take the next event, schedule one) costs one sift: the
 //! event returned by [`Calendar::take_next`] stays at the top of the heap until
 //! the handler schedules its first follow-up, which then replaces it in place.
+//!
+//! A very large calendar splits in two at a threshold time. The heap holds
+//! only the events before it, about 128 Ki of them, which keeps the heap near
+//! the cache. Later events wait in an unsorted list, where scheduling one is
+//! an append. When the heap runs dry, the next slice of the list moves in, at
+//! a new threshold chosen from a sample. Every event in the heap is earlier
+//! than every event in the list, and equal times always fall on the same side,
+//! so the order stays exact.
 
 use std::collections::VecDeque;
 
@@ -26,6 +34,12 @@ const SLOT_BITS: u32 = 24;
 const SLOT_MASK: u64 = (1 << SLOT_BITS) - 1;
 /// The most events that may be pending at once (slots are 24 bits).
 pub const MAX_PENDING: usize = 1 << SLOT_BITS;
+
+/// About how many events the heap takes in when it refills from the later
+/// list; it is split again when it holds twice this many.
+const NEAR: usize = 1 << 17;
+/// Times sampled to choose a new threshold.
+const SAMPLE: usize = 256;
 
 /// A pending-event calendar owning its clock.
 #[derive(Debug)]
@@ -42,6 +56,12 @@ pub struct Calendar<E: Copy> {
     /// Tags of events that share the current time, in sequence order, taken
     /// out of the heap together and handed out first.
     ties: VecDeque<u64>,
+    /// Events at or after `threshold` (time bits), unsorted.
+    later: Vec<(u64, u64)>,
+    /// Time bits from which events go to `later`; `u64::MAX` while all fit the heap.
+    threshold: u64,
+    /// Events the heap takes in at a refill ([`NEAR`], smaller in tests).
+    near: usize,
 }
 
 impl<E: Copy> Default for Calendar<E> {
@@ -67,6 +87,9 @@ impl<E: Copy> Calendar<E> {
             top_taken: false,
             taken_slot: 0,
             ties: VecDeque::new(),
+            later: Vec::new(),
+            threshold: u64::MAX,
+            near: NEAR,
         }
     }
 
@@ -79,7 +102,7 @@ impl<E: Copy> Calendar<E> {
     /// Pending events.
     #[inline]
     pub fn len(&self) -> usize {
-        self.heap.len() - usize::from(self.top_taken) + self.ties.len()
+        self.heap.len() - usize::from(self.top_taken) + self.ties.len() + self.later.len()
     }
 
     /// Whether no event is pending.
@@ -118,13 +141,24 @@ impl<E: Copy> Calendar<E> {
         self.seq += 1;
         // +0.0 and -0.0 must not differ: at >= now >= 0, so `at + 0.0` is +0.0 or positive.
         let time = (at + 0.0).to_bits();
-        if self.top_taken {
+        if time >= self.threshold {
+            if self.top_taken {
+                // The taken event leaves the heap; its slot is reused above.
+                self.top_taken = false;
+                self.prefetch_runner_up();
+                self.heap.pop();
+            }
+            self.later.push((time, tag));
+        } else if self.top_taken {
             self.top_taken = false;
             // Replace-top: one sift instead of a pop and a push.
             self.prefetch_runner_up();
             self.heap.replace_top(time, tag);
         } else {
             self.heap.push(time, tag);
+            if self.heap.len() > 2 * self.near {
+                self.split();
+            }
         }
     }
 
@@ -141,6 +175,9 @@ impl<E: Copy> Calendar<E> {
         if !self.ties.is_empty() {
             return Some(self.now);
         }
+        if self.heap.is_empty() {
+            self.refill();
+        }
         self.heap.peek().map(|(t, _)| f64::from_bits(t))
     }
 
@@ -150,6 +187,9 @@ impl<E: Copy> Calendar<E> {
         self.settle();
         if let Some(tag) = self.ties.pop_front() {
             return Some((self.now, self.release(tag)));
+        }
+        if self.heap.is_empty() {
+            self.refill();
         }
         let (time, tag) = self.heap.peek()?;
         self.now = f64::from_bits(time);
@@ -179,9 +219,54 @@ impl<E: Copy> Calendar<E> {
         self.slab.clear();
         self.free.clear();
         self.ties.clear();
+        self.later.clear();
+        self.threshold = u64::MAX;
         self.now = 0.0;
         self.seq = 0;
         self.top_taken = false;
+    }
+
+    /// The heap has grown past twice its size: move everything to the later
+    /// list and take back the earliest slice.
+    #[cold]
+    fn split(&mut self) {
+        self.heap.drain_into(&mut self.later);
+        self.refill();
+    }
+
+    /// Move the earliest slice of the later list (about `near` events) into
+    /// the empty heap, and raise the threshold to where the slice ends.
+    #[cold]
+    fn refill(&mut self) {
+        let n = self.later.len();
+        if n == 0 {
+            return;
+        }
+        let threshold = if n <= self.near {
+            u64::MAX
+        } else {
+            // The time below which about `near` events lie, from an evenly
+            // spaced sample (deterministic: the list's order is).
+            let count = SAMPLE.min(n);
+            let step = n / count;
+            let mut sample: Vec<u64> = (0..count).map(|k| self.later[k * step].0).collect();
+            sample.sort_unstable();
+            sample[(self.near * count / n).min(count - 1)]
+        };
+        // Take at least the earliest time, so that every refill makes progress.
+        let earliest = self.later.iter().map(|e| e.0).min().unwrap_or(u64::MAX);
+        self.threshold = threshold.max(earliest.saturating_add(1));
+        let mut kept = 0;
+        for r in 0..n {
+            let (time, tag) = self.later[r];
+            if time < self.threshold {
+                self.heap.push(time, tag);
+            } else {
+                self.later[kept] = (time, tag);
+                kept += 1;
+            }
+        }
+        self.later.truncate(kept);
     }
 
     /// Take every event at `time` out of the heap, in sequence order.
@@ -233,6 +318,12 @@ impl<E: Copy> Calendar<E> {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    /// A calendar whose heap refills `near` events at a time, so that small
+    /// tests exercise the split into heap and later list.
+    fn small_split<E: Copy>(near: usize) -> Calendar<E> {
+        Calendar { near, ..Calendar::with_capacity(0) }
+    }
 
     #[test]
     fn ties_run_in_scheduling_order() {
@@ -362,5 +453,52 @@ mod tests {
             }
         }
         assert_eq!(c.len(), r.len());
+    }
+
+    #[test]
+    fn a_split_calendar_keeps_exact_order() {
+        use std::collections::BTreeMap;
+        // A heap of at most 2 × 16 events, so nearly everything passes
+        // through the later list, the refills and the splits; coarse times
+        // make ties common, and some events are infinitely far away.
+        for near in [1usize, 4, 16] {
+            let mut x: u64 = 7 + near as u64;
+            let mut rnd = move || {
+                x ^= x << 13;
+                x ^= x >> 7;
+                x ^= x << 17;
+                x
+            };
+            let mut c = small_split(near);
+            let mut r = BTreeMap::new();
+            let mut seq = 0u64;
+            for step in 0..30_000u32 {
+                let op = rnd() % 3;
+                if op < 2 || r.is_empty() {
+                    let t = if rnd() % 50 == 0 { f64::INFINITY } else { c.now() + (rnd() % 6) as f64 };
+                    c.schedule(t, step);
+                    r.insert((t.to_bits(), seq), step);
+                    seq += 1;
+                } else {
+                    let (t, e) = c.take_next().unwrap();
+                    let ((rt, _), re) = r.pop_first().unwrap();
+                    assert_eq!((t.to_bits(), e), (rt, re), "near {near}, step {step}");
+                    if rnd() % 2 == 0 {
+                        // A hold, often landing beyond the threshold.
+                        let at = t + (rnd() % 6) as f64;
+                        c.schedule(at, e);
+                        r.insert((at.to_bits(), seq), e);
+                        seq += 1;
+                    }
+                }
+                assert_eq!(c.len(), r.len(), "near {near}, step {step}");
+            }
+            // Drain: the rest, infinities last, still in order.
+            while let Some((t, e)) = c.take_next() {
+                let ((rt, _), re) = r.pop_first().unwrap();
+                assert_eq!((t.to_bits(), e), (rt, re), "near {near}, draining");
+            }
+            assert!(r.is_empty());
+        }
     }
 }

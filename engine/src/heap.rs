@@ -148,6 +148,14 @@ impl TimeHeap {
         self.sift_up(i, time, tag);
     }
 
+    /// Move every entry out, in no particular order, leaving the heap empty.
+    pub fn drain_into(&mut self, out: &mut Vec<(u64, u64)>) {
+        for k in 0..self.len {
+            out.push(self.get(k));
+        }
+        self.clear();
+    }
+
     /// Remove every entry.
     pub fn clear(&mut self) {
         self.families.clear();
