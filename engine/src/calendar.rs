@@ -62,6 +62,9 @@ pub struct Calendar<E: Copy> {
     threshold: u64,
     /// Events the heap takes in at a refill ([`NEAR`], smaller in tests).
     near: usize,
+    /// The heap is split when it holds more than this: twice `near`, or more
+    /// when one instant alone holds more events than that.
+    limit: usize,
 }
 
 impl<E: Copy> Default for Calendar<E> {
@@ -90,6 +93,7 @@ impl<E: Copy> Calendar<E> {
             later: Vec::new(),
             threshold: u64::MAX,
             near: NEAR,
+            limit: 2 * NEAR,
         }
     }
 
@@ -156,7 +160,7 @@ impl<E: Copy> Calendar<E> {
             self.heap.replace_top(time, tag);
         } else {
             self.heap.push(time, tag);
-            if self.heap.len() > 2 * self.near {
+            if self.heap.len() > self.limit {
                 self.split();
             }
         }
@@ -249,8 +253,11 @@ impl<E: Copy> Calendar<E> {
             // spaced sample (deterministic: the list's order is).
             let count = SAMPLE.min(n);
             let step = n / count;
-            let mut sample: Vec<u64> = (0..count).map(|k| self.later[k * step].0).collect();
-            sample.sort_unstable();
+            let mut sample = [0u64; SAMPLE];
+            for (k, s) in sample[..count].iter_mut().enumerate() {
+                *s = self.later[k * step].0;
+            }
+            sample[..count].sort_unstable();
             sample[(self.near * count / n).min(count - 1)]
         };
         // Take at least the earliest time, so that every refill makes progress.
@@ -267,6 +274,9 @@ impl<E: Copy> Calendar<E> {
             }
         }
         self.later.truncate(kept);
+        // Thousands of events at one instant can overfill the heap; splitting
+        // again at once would only move them back and forth.
+        self.limit = (2 * self.near).max(2 * self.heap.len());
     }
 
     /// Take every event at `time` out of the heap, in sequence order.
@@ -322,7 +332,7 @@ mod tests {
     /// A calendar whose heap refills `near` events at a time, so that small
     /// tests exercise the split into heap and later list.
     fn small_split<E: Copy>(near: usize) -> Calendar<E> {
-        Calendar { near, ..Calendar::with_capacity(0) }
+        Calendar { near, limit: 2 * near, ..Calendar::with_capacity(0) }
     }
 
     #[test]
@@ -500,5 +510,34 @@ mod tests {
             }
             assert!(r.is_empty());
         }
+    }
+
+    #[test]
+    fn many_events_at_one_instant_do_not_thrash_the_split() {
+        // 50 events at one time in a calendar whose heap slice is 4: the
+        // refill must take all of them (they cannot be split), and further
+        // events at that instant must not split again and again.
+        let mut c = small_split(4);
+        for i in 0..50u32 {
+            c.schedule(10.0, i);
+        }
+        for i in 50..60u32 {
+            c.schedule(20.0 + f64::from(i), i);
+        }
+        // The limit grew with the instant's crowd instead of splitting on every push.
+        assert!(c.limit >= 50, "limit {}", c.limit);
+        let (t, e) = c.take_next().unwrap();
+        assert_eq!((t, e), (10.0, 0));
+        for i in 60..100u32 {
+            c.schedule(10.0, i);
+        }
+        let mut order = vec![e];
+        while let Some((t, e)) = c.take_next() {
+            if t == 10.0 {
+                order.push(e);
+            }
+        }
+        let want: Vec<u32> = (0..50).chain(60..100).collect();
+        assert_eq!(order, want);
     }
 }

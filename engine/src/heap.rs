@@ -86,7 +86,7 @@ impl TimeHeap {
             return None;
         }
         let f = &self.families[1];
-        Some(f.tags[earliest(&f.times)])
+        Some(f.tags[earliest(&f.times).0])
     }
 
     /// Add an entry.
@@ -140,8 +140,8 @@ impl TimeHeap {
                 self.prefetch_great_grandchildren(i);
             }
             let f = &self.families[i + 1];
-            let lane = earliest(&f.times);
-            let (t, g) = (f.times[lane], f.tags[lane]);
+            let (lane, t) = earliest(&f.times);
+            let g = f.tags[lane];
             self.set(i, t, g);
             i = ARITY * i + 1 + lane;
         }
@@ -224,7 +224,7 @@ impl TimeHeap {
 
 /// The lane of the earliest of a family's times, without branches.
 #[inline(always)]
-fn earliest(times: &[u64; ARITY]) -> usize {
+fn earliest(times: &[u64; ARITY]) -> (usize, u64) {
     let mut lane = 0;
     let mut best = times[0];
     for (l, &t) in times.iter().enumerate().skip(1) {
@@ -232,7 +232,8 @@ fn earliest(times: &[u64; ARITY]) -> usize {
         lane = if earlier { l } else { lane };
         best = if earlier { t } else { best };
     }
-    lane
+    // The mask tells the compiler the lane is in range (no bounds check).
+    (lane & (ARITY - 1), best)
 }
 
 /// Hint the processor to bring the cache line at `p` closer; no effect elsewhere
