@@ -329,6 +329,17 @@ impl<E: Copy> Calendar<E> {
 mod tests {
     use super::*;
 
+    /// Marsaglia's xorshift64: a tiny deterministic stand-in for random times.
+    fn xorshift(seed: u64) -> impl FnMut() -> u64 {
+        let mut x = seed;
+        move || {
+            x ^= x << 13;
+            x ^= x >> 7;
+            x ^= x << 17;
+            x
+        }
+    }
+
     /// A calendar whose heap refills `near` events at a time, so that small
     /// tests exercise the split into heap and later list.
     fn small_split<E: Copy>(near: usize) -> Calendar<E> {
@@ -398,13 +409,7 @@ mod tests {
     fn interleaved_holds_match_an_ordered_map() {
         use std::collections::BTreeMap;
         // Reference: a BTreeMap keyed by (time bits, sequence) gives the exact order.
-        let mut x: u64 = 987654321;
-        let mut rnd = move || {
-            x ^= x << 13;
-            x ^= x >> 7;
-            x ^= x << 17;
-            x
-        };
+        let mut rnd = xorshift(987654321);
         let mut c = Calendar::new();
         let mut r = BTreeMap::new();
         let mut seq = 0u64;
@@ -431,13 +436,7 @@ mod tests {
         use std::collections::BTreeMap;
         // Past the heap's prefetch thresholds (2^13 and 2^16 entries), with
         // times on a coarse grid so that many events tie.
-        let mut x: u64 = 42;
-        let mut rnd = move || {
-            x ^= x << 13;
-            x ^= x >> 7;
-            x ^= x << 17;
-            x
-        };
+        let mut rnd = xorshift(42);
         let mut c = Calendar::with_capacity(0);
         let mut r = BTreeMap::new();
         let mut seq = 0u64;
@@ -472,13 +471,7 @@ mod tests {
         // through the later list, the refills and the splits; coarse times
         // make ties common, and some events are infinitely far away.
         for near in [1usize, 4, 16] {
-            let mut x: u64 = 7 + near as u64;
-            let mut rnd = move || {
-                x ^= x << 13;
-                x ^= x >> 7;
-                x ^= x << 17;
-                x
-            };
+            let mut rnd = xorshift(7 + near as u64);
             let mut c = small_split(near);
             let mut r = BTreeMap::new();
             let mut seq = 0u64;
