@@ -478,7 +478,8 @@ mod tests {
             for step in 0..30_000u32 {
                 let op = rnd() % 3;
                 if op < 2 || r.is_empty() {
-                    let t = if rnd() % 50 == 0 { f64::INFINITY } else { c.now() + (rnd() % 6) as f64 };
+                    let t =
+                        if rnd().is_multiple_of(50) { f64::INFINITY } else { c.now() + (rnd() % 6) as f64 };
                     c.schedule(t, step);
                     r.insert((t.to_bits(), seq), step);
                     seq += 1;
@@ -486,7 +487,7 @@ mod tests {
                     let (t, e) = c.take_next().unwrap();
                     let ((rt, _), re) = r.pop_first().unwrap();
                     assert_eq!((t.to_bits(), e), (rt, re), "near {near}, step {step}");
-                    if rnd() % 2 == 0 {
+                    if rnd().is_multiple_of(2) {
                         // A hold, often landing beyond the threshold.
                         let at = t + (rnd() % 6) as f64;
                         c.schedule(at, e);
