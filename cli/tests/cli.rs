@@ -214,3 +214,47 @@ fn overloaded_plant_warns_loudly() {
     let out = layflow(&["check", "scenarios/demo.yaml"]);
     assert!(!text(&out.stderr).contains("WARNING"), "the demo plant itself should not be overloaded");
 }
+
+#[test]
+fn extreme_but_valid_parameters_run_without_panicking() {
+    // Valid values at the edges of f64: travel times that overflow to
+    // infinity, a near-zero demand rate, a huge distance. The run must finish
+    // (exit 0) and warn, not panic on an infinite event time.
+    let dir = tempfile::tempdir().unwrap();
+    let path = dir.path().join("extreme.yaml");
+    std::fs::write(
+        &path,
+        r#"plant: extreme values (invented)
+run: { horizon: 2 h, replications: 2 }
+locations:
+  - { id: a, at: [0, 0] }
+  - { id: b, at: [1e300, 0] }
+  - { id: c, at: [5, 5] }
+departments:
+  - { id: in, dock: receiving }
+  - { id: work, machines: 1 }
+  - { id: out, dock: shipping }
+layouts:
+  l: { in: a, work: b, out: c }
+products:
+  - id: rare
+    demand: { per_hour: 1e-300 }
+    routing:
+      - { step: w, at: work, time: { lognormal: { mean: 1e300 s, cv: 1e10 } } }
+      - { step: s, at: out }
+  - id: busy
+    demand: { per_hour: 100 }
+    routing:
+      - { step: w, at: work, time: { weibull: { scale: 1 s, shape: 0.01 } } }
+      - { step: s, at: out }
+fleets:
+  - { id: f, kind: walker, count: 1, speed: { loaded: 1e-300 m/s, empty: 1e300 m/s }, home: a }
+"#,
+    )
+    .unwrap();
+    let out = layflow(&["run", path.to_str().unwrap(), "--format", "json"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(0), "stderr:\n{err}");
+    assert!(!err.contains("panicked"), "{err}");
+    assert!(err.contains("WARNING"), "expected an overload warning:\n{err}");
+}

@@ -132,11 +132,6 @@ impl Plan {
         }
     }
 
-    /// Change the number of movers in fleet `fleet` (for sizing studies).
-    pub fn set_fleet_count(&mut self, fleet: usize, count: u32) {
-        self.fleets[fleet].count = count;
-    }
-
     #[inline]
     pub(crate) fn dist(&self, a: usize, b: usize) -> f64 {
         self.distance[a * self.n_locations + b]

@@ -16,19 +16,6 @@ const LOT: u64 = 2;
 
 const NONE: u32 = u32::MAX;
 
-/// `now + delay`, or the far future if that overflows: a validated but extreme
-/// parameter (a speed of 1e-300 m/s) must not crash the run; the event simply
-/// never comes before the horizon.
-#[inline]
-fn later(now: f64, delay: f64) -> f64 {
-    let t = now + delay;
-    if t.is_finite() {
-        t
-    } else {
-        f64::MAX
-    }
-}
-
 #[derive(Debug, Clone, Copy)]
 enum Event {
     /// The next lot of a product arrives at its receiving dock.
@@ -311,7 +298,9 @@ impl<'a> PlantModel<'a> {
         let d = self.plan.dist(m.location as usize, pickup);
         let t = d / self.plan.fleets[f].speed_empty;
         self.record_empty(f, now, now + t, d);
-        cal.schedule(later(now, t), Event::Pickup { mover });
+        // A delay that overflows to infinity (a validated but extreme speed of
+        // 1e-300 m/s) is fine: the calendar puts it after every finite time.
+        cal.schedule(now + t, Event::Pickup { mover });
     }
 
     fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
@@ -358,7 +347,7 @@ impl<'a> PlantModel<'a> {
         }
         self.departments[from].wip.add(now, -1.0);
         self.transit.add(now, 1.0);
-        cal.schedule(later(t_end, 0.0), Event::Deliver { mover });
+        cal.schedule(t_end, Event::Deliver { mover });
     }
 
     fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
@@ -389,7 +378,7 @@ impl<'a> PlantModel<'a> {
             let t = d / fl.speed_empty;
             self.record_empty(f, now, now + t, d);
             self.movers[mover as usize].location = fl.home_location as u32;
-            cal.schedule(later(now, t), Event::Home { mover });
+            cal.schedule(now + t, Event::Home { mover });
             return;
         }
         self.movers[mover as usize].idle_since = now;
@@ -438,7 +427,7 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
         let t = op.time.as_ref().map_or(0.0, |d| d.sample(&mut lot.rng));
-        cal.schedule(later(cal.now(), t), Event::EndOperation { lot: id });
+        cal.schedule(cal.now() + t, Event::EndOperation { lot: id });
     }
 
     fn end_operation(&mut self, id: u32, cal: &mut Calendar<Event>) {
