@@ -98,4 +98,23 @@ mod tests {
         assert_eq!(d.mean, 1.0);
         assert_eq!(d.half_width, Some(0.0));
     }
+
+    #[test]
+    fn paired_difference_of_a_hand_worked_example() {
+        // By hand: differences a − b = 2, 4, 3, 5, 1; mean 15/5 = 3;
+        // deviations −1, 1, 0, 2, −2, squares sum 10; s² = 10/4 = 2.5,
+        // s = 1.581139; s/√5 = √0.5 = 0.7071068. Half-width
+        // t(0.975, 4)·s/√5 = 2.77645 × 0.7071068 = 1.963247, with t from
+        // NIST/SEMATECH e-Handbook §1.3.6.7.2 (REFERENCES §6).
+        let a = [12.5, 10.0, 14.25, 9.5, 11.0];
+        let b = [10.5, 6.0, 11.25, 4.5, 10.0];
+        let d = paired_difference(&a, &b, 0.95);
+        assert_eq!(d.n, 5);
+        assert!((d.mean - 3.0).abs() < 1e-12);
+        let hw = d.half_width.unwrap();
+        // s/√5 is exact arithmetic above, so the ratio is held to 1e-12.
+        assert!((hw / t_quantile(0.95, 4) - 0.5f64.sqrt()).abs() < 1e-12);
+        // 2.77645 is rounded to 6 s.f. (±5e-6); × 0.7071 that is ±3.6e-6.
+        assert!((hw - 1.963247).abs() < 4e-6, "{hw}");
+    }
 }

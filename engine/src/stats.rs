@@ -102,6 +102,11 @@ impl TimeWeighted {
         }
     }
 
+    /// Integral of the level over time from the last reset until `t`.
+    pub fn area(&self, t: f64) -> f64 {
+        self.area + self.level * (t - self.last)
+    }
+
     /// Highest level seen since the last reset.
     pub fn max(&self) -> f64 {
         self.max
