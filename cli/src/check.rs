@@ -5,7 +5,8 @@ use std::path::{Path, PathBuf};
 
 use clap::Args;
 use layflow_models::analysis::StaticPicture;
-use layflow_models::plant::{DepartmentRole, Handling, Plant};
+use layflow_models::plant::{Demand, DepartmentRole, Handling, Plant};
+use layflow_models::units::format_duration;
 use serde_json::json;
 
 use crate::table::{count, num, share, whole, Table};
@@ -96,6 +97,18 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     );
     let _ = writeln!(s, "demand factor {}", num(pic.demand_factor));
     let _ = writeln!(s);
+    let _ = writeln!(s, "Demand: long-run mean lots per hour (demand factor applied)");
+    let w = plant.products.iter().map(|p| p.id.chars().count()).max().unwrap_or(0);
+    for (p, prod) in plant.products.iter().enumerate() {
+        let _ = writeln!(
+            s,
+            "  {:<w$}  {:>7.2}  {}",
+            prod.id,
+            pic.product_rate_per_h[p],
+            demand_pattern(plant, p, pic.demand_factor)
+        );
+    }
+    let _ = writeln!(s);
 
     let nd = plant.departments.len();
     let used: Vec<usize> = (0..nd)
@@ -170,6 +183,25 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             writeln!(s, "  (fleet bound: loaded travel + loading + unloading only; empty travel adds to it)");
     }
     s
+}
+
+/// How a product's demand varies, in a few words.
+fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
+    match &plant.products[p].demand {
+        Demand::Rate { profile: None, .. } => "constant rate".into(),
+        Demand::Rate { per_s, profile: Some(pr) } => format!(
+            "profile: {} × {}, peak {:.2} lots/h",
+            pr.factors.len(),
+            format_duration(pr.every_s),
+            per_s * 3600.0 * pr.peak_factor() * factor
+        ),
+        Demand::Orders => {
+            let t = plant.orders.as_ref().expect("a product fed by orders has a trace");
+            let repeat =
+                t.repeat_s.map_or("plays once".into(), |r| format!("repeats every {}", format_duration(r)));
+            format!("orders: {} lots in {}, {repeat}", t.lots(p), t.file)
+        }
+    }
 }
 
 fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {

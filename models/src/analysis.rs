@@ -1,6 +1,10 @@
 //! The static picture of a plant: visit ratios, from-to chart, load-distance and predicted utilisations.
 //!
-//! Expected flows come from demand × routing probabilities. Rework loops mean
+//! Expected flows come from demand × routing probabilities. Demand is each
+//! product's long-run mean rate ([`Plant::mean_rate_per_s`]): a profile's
+//! mean factor, or an order trace's lots per repeat period (or per run
+//! horizon when it plays once), so a plant whose demand varies is judged by
+//! its average load; its peaks show only in the simulation. Rework loops mean
 //! an operation can be visited more than once per lot, so visit ratios solve
 //! the visit (traffic) equations v = e₁ + Pᵀv of the product's routing, an
 //! absorbing Markov chain whose absorbing state is the shipping step
@@ -70,6 +74,8 @@ fn solve(a: &mut [f64], b: &mut [f64], n: usize) -> bool {
 pub struct StaticPicture {
     /// Demand factor applied.
     pub demand_factor: f64,
+    /// Long-run mean arrivals per hour of each product, demand factor applied.
+    pub product_rate_per_h: Vec<f64>,
     /// Visit ratios per product, per operation.
     pub visits: Vec<Vec<f64>>,
     /// Loads per hour from department i to department j (row-major, departments²),
@@ -108,9 +114,11 @@ impl StaticPicture {
         let mut by_product = Vec::with_capacity(plant.products.len());
         let mut arrivals = vec![0.0; nd];
         let mut work_s_per_h = vec![0.0; nd];
+        let mut rates = Vec::with_capacity(plant.products.len());
         for (p, prod) in plant.products.iter().enumerate() {
             let v = visit_ratios(plant, p).unwrap_or_else(|| vec![0.0; prod.routing.len()]);
-            let rate_h = prod.rate_per_s * 3600.0 * demand_factor;
+            let rate_h = plant.mean_rate_per_s(p) * 3600.0 * demand_factor;
+            rates.push(rate_h);
             let mut ft = vec![0.0; nd * nd];
             let first = prod.routing[0].department;
             if first != prod.enters_at {
@@ -153,6 +161,7 @@ impl StaticPicture {
             (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
         StaticPicture {
             demand_factor,
+            product_rate_per_h: rates,
             visits,
             from_to,
             from_to_by_product: by_product,

@@ -28,7 +28,9 @@ pub struct Plant {
     pub handling: Handling,
     /// Run settings (horizon, warm-up, replications, seed).
     pub run: RunSettings,
-    /// Scenario-level multiplier on every product's demand rate.
+    /// The order trace that feeds the products whose demand is [`Demand::Orders`].
+    pub orders: Option<OrderTrace>,
+    /// Scenario-level multiplier on every product's demand (rates and trace quantities alike).
     pub demand_factor: f64,
     /// Cost per load-metre for the static handling cost (currency per load per metre).
     pub cost_per_load_metre: f64,
@@ -96,12 +98,69 @@ pub struct Layout {
 pub struct Product {
     /// The scenario's name for it.
     pub id: String,
-    /// Mean lots released per second before the demand factor (Poisson arrivals).
-    pub rate_per_s: f64,
+    /// Where its lots come from: a Poisson rate (maybe varying by a profile) or the order trace.
+    pub demand: Demand,
     /// The receiving dock (department index) where lots of this product enter.
     pub enters_at: usize,
     /// Operations; `routing[0]` is the first one visited.
     pub routing: Vec<Operation>,
+}
+
+/// Where a product's lots come from.
+///
+/// A shift in the product mix over the day or the week is written as
+/// different profiles on different products: each product has its own.
+#[derive(Debug, Clone, PartialEq)]
+pub enum Demand {
+    /// Poisson arrivals at `per_s` lots per second, times the profile's factor
+    /// at that moment when there is a profile.
+    Rate {
+        /// Base rate, lots per second, before the demand factor.
+        per_s: f64,
+        /// A repeating pattern of multipliers on the base rate.
+        profile: Option<Profile>,
+    },
+    /// Lots are released by the scenario's order trace ([`Plant::orders`]).
+    Orders,
+}
+
+/// A repeating rate pattern: `factors[k]` applies from `k·every_s` to
+/// `(k+1)·every_s` after the start of each period of `factors.len()·every_s`,
+/// counted from the start of the run. A day in hours is `every: 1 h` with 24
+/// factors; a week is `every: 1 d` with 7, or `every: 8 h` with 21 (shifts).
+///
+/// The loader guarantees `every_s > 0`, a non-empty list, every factor finite
+/// and `>= 0`, and at least one `> 0`.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Profile {
+    /// How long each factor lasts, s.
+    pub every_s: f64,
+    /// Multipliers on the base rate, in time order.
+    pub factors: Vec<f64>,
+}
+
+/// Orders read from a CSV file, each releasing a number of lots at a time.
+#[derive(Debug, Clone, PartialEq)]
+pub struct OrderTrace {
+    /// The CSV file as the scenario names it (for reports).
+    pub file: String,
+    /// Orders in non-decreasing time order; at least one.
+    pub orders: Vec<Order>,
+    /// Play the trace again every this many seconds; `None` plays it once.
+    /// Longer than the last order's time when given.
+    pub repeat_s: Option<f64>,
+}
+
+/// One line of an order trace.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Order {
+    /// Seconds from the start of the run (of each play of the trace, with `repeat`).
+    pub time_s: f64,
+    /// Product index.
+    pub product: usize,
+    /// Lots released at once at the product's receiving dock (at least 1),
+    /// before the demand factor.
+    pub quantity: u32,
 }
 
 /// One step of a routing.
@@ -238,6 +297,85 @@ impl Plant {
         match &self.handling {
             Handling::Instant => &[],
             Handling::Fleets(f) => f,
+        }
+    }
+}
+
+impl Plant {
+    /// The long-run mean arrival rate of `product`, lots per second, before the
+    /// demand factor: what the static picture uses.
+    ///
+    /// For a profile it is the base rate × the mean factor (the profile
+    /// repeats, so every full period brings the same expected number of lots).
+    /// For the order trace with `repeat` it is the product's lots in the trace
+    /// ÷ the repeat period; without `repeat` it is the lots ordered up to the
+    /// scenario's run horizon (`run.horizon`) ÷ that horizon, the average over
+    /// the run the scenario describes. A run with another `--horizon` sees
+    /// the trace as it is and may average more or less.
+    pub fn mean_rate_per_s(&self, product: usize) -> f64 {
+        match &self.products[product].demand {
+            Demand::Rate { per_s, profile: None } => *per_s,
+            Demand::Rate { per_s, profile: Some(pr) } => per_s * pr.mean_factor(),
+            Demand::Orders => {
+                self.orders.as_ref().map_or(0.0, |t| t.mean_rate_per_s(product, self.run.horizon_s))
+            }
+        }
+    }
+}
+
+impl Profile {
+    /// Length of one repetition, s.
+    pub fn period_s(&self) -> f64 {
+        self.every_s * self.factors.len() as f64
+    }
+
+    /// Mean of the factors: the long-run rate is the base rate times this.
+    pub fn mean_factor(&self) -> f64 {
+        self.factors.iter().sum::<f64>() / self.factors.len() as f64
+    }
+
+    /// Largest factor: the thinning sampler draws candidates at base × this.
+    pub fn peak_factor(&self) -> f64 {
+        self.factors.iter().copied().fold(0.0, f64::max)
+    }
+
+    /// The factor in force at time `t` s (>= 0) since the start of the run.
+    #[inline]
+    pub fn factor_at(&self, t: f64) -> f64 {
+        self.factors[profile_index(t, self.every_s, self.factors.len())]
+    }
+}
+
+/// Which of `n` segments of length `every_s` covers time `t` (>= 0), the
+/// pattern repeating: an index computation, so the hot loop needs no search.
+#[inline]
+pub(crate) fn profile_index(t: f64, every_s: f64, n: usize) -> usize {
+    // `as u64` saturates, so a huge t stays in range; t/every is exact enough
+    // that only a time within rounding of a boundary could fall either side.
+    ((t / every_s) as u64 % n as u64) as usize
+}
+
+impl OrderTrace {
+    /// Lots of `product` in one play of the trace, before the demand factor.
+    pub fn lots(&self, product: usize) -> u64 {
+        self.orders.iter().filter(|o| o.product == product).map(|o| u64::from(o.quantity)).sum()
+    }
+
+    /// Mean lots per second of `product` over a run of `horizon_s` (see
+    /// [`Plant::mean_rate_per_s`] for the rule).
+    pub fn mean_rate_per_s(&self, product: usize, horizon_s: f64) -> f64 {
+        match self.repeat_s {
+            Some(r) => self.lots(product) as f64 / r,
+            None => {
+                // The simulation releases an order falling exactly on the horizon, so it counts.
+                let n: u64 = self
+                    .orders
+                    .iter()
+                    .filter(|o| o.product == product && o.time_s <= horizon_s)
+                    .map(|o| u64::from(o.quantity))
+                    .sum();
+                n as f64 / horizon_s
+            }
         }
     }
 }

@@ -1,7 +1,7 @@
 //! Resolves the names of a deserialized scenario into the index-based [`Plant`], checking every rule.
 //!
 //! Checks run in file order (run settings, locations, distance, departments,
-//! layouts, products, fleets) and stop at the first error, so a message can
+//! layouts, products, the order trace, fleets) and stop at the first error, so a message can
 //! rely on everything above it being valid.
 
 use std::path::Path;
@@ -9,7 +9,7 @@ use std::path::Path;
 use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
 use super::schema::{DockSpec, Scenario};
-use super::{distance, fleet, routing};
+use super::{demand, distance, fleet, routing};
 use crate::plant::{Department, DepartmentRole, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
 
@@ -94,6 +94,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let departments = departments(&s, ctx)?;
     let layouts = layouts(&s, &departments, &locations, ctx)?;
     let products = routing::products(&s, &departments, ctx)?;
+    let orders = demand::order_trace(&s, &products, ctx)?;
     let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
     let cost_per_load_metre = s.costs.as_ref().map_or(0.0, |c| c.per_load_metre);
     if !(cost_per_load_metre >= 0.0 && cost_per_load_metre.is_finite()) {
@@ -112,6 +113,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         products,
         handling,
         run,
+        orders,
         demand_factor,
         cost_per_load_metre,
     })

@@ -7,6 +7,7 @@
 //! rule (with a path built by hand and its line found in the text).
 
 mod compile;
+mod demand;
 mod distance;
 mod error;
 mod fleet;
@@ -31,7 +32,8 @@ pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {
 }
 
 /// Checks and compiles scenario `text`; `origin` is the file it came from,
-/// named in messages and used to resolve a relative distance-matrix path.
+/// named in messages and used to resolve relative paths (a distance matrix,
+/// an order trace).
 pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError> {
     let file = origin.display().to_string();
     // Parsing to a generic value first separates syntax errors from schema errors.

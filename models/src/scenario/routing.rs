@@ -1,6 +1,7 @@
-//! Products: demand, entry dock, and the routing of steps with branches, rework loops and processing times.
+//! Products: demand (see `demand.rs`), entry dock, and the routing of steps with branches, rework loops and processing times.
 
 use super::compile::{check_unique, resolve, Ctx};
+use super::demand;
 use super::error::{did_you_mean, name_list, ScenarioError};
 use super::locate::FieldPath;
 use super::schema::{DistSpec, Scenario, StepSpec};
@@ -32,16 +33,7 @@ pub(crate) fn products(
     let mut out = Vec::with_capacity(s.products.len());
     for (i, spec) in s.products.iter().enumerate() {
         let pp = p.index(i);
-        let per_hour = spec.demand.per_hour;
-        if !(per_hour > 0.0 && per_hour.is_finite()) {
-            return Err(ctx.err(
-                &pp.key("demand").key("per_hour"),
-                format!(
-                    "demand of product \"{}\" must be a number > 0 lots per hour, got {per_hour}",
-                    spec.id
-                ),
-            ));
-        }
+        let demand = demand::product_demand(spec, &pp, ctx)?;
         let enters_at = match &spec.enters_at {
             Some(name) => {
                 let ep = pp.key("enters_at");
@@ -70,7 +62,7 @@ pub(crate) fn products(
             }
         };
         let routing = routing(&spec.id, &spec.routing, &pp.key("routing"), departments, ctx)?;
-        out.push(Product { id: spec.id.clone(), rate_per_s: per_hour / 3600.0, enters_at, routing });
+        out.push(Product { id: spec.id.clone(), demand, enters_at, routing });
     }
     Ok(out)
 }

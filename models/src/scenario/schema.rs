@@ -25,6 +25,7 @@ pub(crate) struct Scenario {
     pub departments: Vec<DepartmentSpec>,
     pub layouts: Ordered<Ordered<String>>,
     pub products: Vec<ProductSpec>,
+    pub orders: Option<OrdersSpec>,
     pub moves: Option<MovesSpec>,
     pub fleets: Option<Vec<FleetSpec>>,
     pub costs: Option<CostsSpec>,
@@ -159,7 +160,8 @@ impl<'de, V: Deserialize<'de>> Deserialize<'de> for Ordered<V> {
 #[serde(deny_unknown_fields)]
 pub(crate) struct ProductSpec {
     pub id: String,
-    pub demand: DemandSpec,
+    /// Absent exactly when the product's lots come from the order trace.
+    pub demand: Option<DemandSpec>,
     pub enters_at: Option<String>,
     pub routing: Vec<StepSpec>,
 }
@@ -168,6 +170,23 @@ pub(crate) struct ProductSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct DemandSpec {
     pub per_hour: f64,
+    pub profile: Option<ProfileSpec>,
+}
+
+/// `profile: { every: 1 h, factors: [0.5, 1.5] }`: multipliers on `per_hour`, repeating.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ProfileSpec {
+    pub every: Seconds,
+    pub factors: Vec<f64>,
+}
+
+/// `orders: { file: orders.csv, repeat: 7 d }`: an order trace read from CSV.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct OrdersSpec {
+    pub file: String,
+    pub repeat: Option<Seconds>,
 }
 
 #[derive(Debug, DeriveDeserialize)]

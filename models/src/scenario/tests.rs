@@ -3,7 +3,7 @@
 use std::path::{Path, PathBuf};
 
 use super::{load_scenario, parse_scenario};
-use crate::plant::{DepartmentRole, DispatchRule, DistanceRule, Handling, Home, IdleRule, MoverKind};
+use crate::plant::{Demand, DepartmentRole, DispatchRule, DistanceRule, Handling, Home, IdleRule, MoverKind};
 
 fn validation(name: &str) -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/validation").join(name)
@@ -27,7 +27,7 @@ fn tiny_hand_checked_compiles_as_worked_out() {
     assert_eq!(p.departments[3].machines, 1, "machines defaults to 1");
     assert_eq!(p.departments[0].role, DepartmentRole::Receiving);
     let product = &p.products[0];
-    assert_eq!(product.rate_per_s, 3.0 / 3600.0);
+    assert_eq!(product.demand, Demand::Rate { per_s: 3.0 / 3600.0, profile: None });
     assert_eq!(product.enters_at, 0, "the only receiving dock");
     let r = &product.routing;
     assert_eq!(r.len(), 5);

@@ -5,13 +5,14 @@
 //! state is index-based: lots live in a slab, queues hold lot indices, and no
 //! event allocates once the queues have grown to their working size.
 
+mod arrivals;
 mod model;
 mod stats;
 
-pub use model::simulate;
+pub use model::{simulate, simulate_releases, simulate_wip_series};
 pub use stats::{FleetStats, RepStats, TICK_S};
 
-use crate::plant::{DepartmentRole, DispatchRule, Handling, IdleRule, Plant};
+use crate::plant::{Demand, DepartmentRole, DispatchRule, Handling, IdleRule, Plant};
 
 /// What a replication needs beyond the plant: which layout, how long, which seed.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -22,7 +23,9 @@ pub struct RunSpec {
     pub horizon_s: f64,
     /// Statistics are cleared at this time, s.
     pub warmup_s: f64,
-    /// Multiplier on every product's demand rate.
+    /// Multiplier on every product's demand: on its rate, or on each trace
+    /// order's quantity (q·f lots: the whole part, plus one more with
+    /// probability equal to the fraction).
     pub demand_factor: f64,
     /// Base seed of every stream.
     pub seed: u64,
@@ -39,11 +42,36 @@ pub struct Plan {
     pub(crate) products: Vec<PlanProduct>,
     pub(crate) fleets: Vec<PlanFleet>,
     pub(crate) instant: bool,
+    /// The order trace (empty without one), in time order.
+    pub(crate) orders: Vec<PlanOrder>,
+    /// Play the trace again every this many seconds; `None`: once.
+    pub(crate) order_repeat_s: Option<f64>,
+}
+
+/// How a product's lots are released.
+#[derive(Debug, Clone)]
+pub(crate) enum PlanArrivals {
+    /// Exponential gaps at this rate (before the demand factor).
+    Constant { rate_per_s: f64 },
+    /// Lewis–Shedler thinning: candidates at `peak_per_s` (before the demand
+    /// factor), each kept with probability `accept[k]` (factor ÷ peak factor)
+    /// of the profile segment `k` it falls in.
+    Thinned { peak_per_s: f64, every_s: f64, accept: Vec<f64> },
+    /// Only by the order trace.
+    Orders,
+}
+
+/// One order of the trace, as the event handler reads it.
+#[derive(Debug, Clone, Copy)]
+pub(crate) struct PlanOrder {
+    pub(crate) time_s: f64,
+    pub(crate) product: u32,
+    pub(crate) quantity: u32,
 }
 
 #[derive(Debug, Clone)]
 pub(crate) struct PlanProduct {
-    pub(crate) rate_per_s: f64,
+    pub(crate) arrivals: PlanArrivals,
     pub(crate) enters_at: usize,
     pub(crate) fleet: usize,
     pub(crate) ops: Vec<PlanOp>,
@@ -81,7 +109,7 @@ impl Plan {
             .iter()
             .enumerate()
             .map(|(p, prod)| PlanProduct {
-                rate_per_s: prod.rate_per_s,
+                arrivals: plan_arrivals(&prod.demand),
                 enters_at: prod.enters_at,
                 fleet: plant.fleet_for(p).unwrap_or(0),
                 ops: prod
@@ -129,11 +157,40 @@ impl Plan {
             products,
             fleets,
             instant: matches!(plant.handling, Handling::Instant),
+            orders: plant.orders.as_ref().map_or_else(Vec::new, |t| {
+                t.orders
+                    .iter()
+                    .map(|o| PlanOrder { time_s: o.time_s, product: o.product as u32, quantity: o.quantity })
+                    .collect()
+            }),
+            order_repeat_s: plant.orders.as_ref().and_then(|t| t.repeat_s),
         }
     }
 
     #[inline]
     pub(crate) fn dist(&self, a: usize, b: usize) -> f64 {
         self.distance[a * self.n_locations + b]
+    }
+}
+
+/// The arrival process of a product's demand.
+fn plan_arrivals(demand: &Demand) -> PlanArrivals {
+    match demand {
+        Demand::Rate { per_s, profile: None } => PlanArrivals::Constant { rate_per_s: *per_s },
+        Demand::Rate { per_s, profile: Some(pr) } => {
+            let peak = pr.peak_factor();
+            if pr.factors.iter().all(|&f| f == peak) {
+                // A flat profile is a constant rate: the plain exponential gaps
+                // give the same process with half the draws.
+                PlanArrivals::Constant { rate_per_s: per_s * peak }
+            } else {
+                PlanArrivals::Thinned {
+                    peak_per_s: per_s * peak,
+                    every_s: pr.every_s,
+                    accept: pr.factors.iter().map(|&f| f / peak).collect(),
+                }
+            }
+        }
+        Demand::Orders => PlanArrivals::Orders,
     }
 }

@@ -1,4 +1,4 @@
-//! Event handlers of the plant: arrivals, operations, and moves by fleets of movers.
+//! Event handlers of the plant: arrivals and trace orders, operations, and moves by fleets of movers.
 
 use std::collections::VecDeque;
 
@@ -6,11 +6,15 @@ use layflow_engine::{run_until, stream, Calendar, Model, Stream, Tally, TickHist
 use rand::RngExt;
 use rand_distr::Exp1;
 
+use super::arrivals::next_thinned;
 use super::stats::{FleetStats, RepStats, TICK_S};
-use super::{Plan, RunSpec};
+use super::{Plan, PlanArrivals, RunSpec};
 use crate::plant::{DepartmentRole, DispatchRule, IdleRule};
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
+/// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
+/// and the extra lot of a trace order scaled by the demand factor: all of
+/// them belong to the product's demand, which no layout may change.
 const ARRIVALS: u64 = 1;
 const LOT: u64 = 2;
 
@@ -20,6 +24,8 @@ const NONE: u32 = u32::MAX;
 enum Event {
     /// The next lot of a product arrives at its receiving dock.
     Arrival { product: u32 },
+    /// Order `index` of the trace (in its current play) releases its lots.
+    Order { index: u32 },
     /// A lot finishes its current operation.
     EndOperation { lot: u32 },
     /// A mover reaches a lot's pick-up point and starts loading.
@@ -28,6 +34,8 @@ enum Event {
     Deliver { mover: u32 },
     /// A mover returning home arrives.
     Home { mover: u32 },
+    /// Record the plant's WIP for a warm-up series (pilot runs only).
+    Sample,
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -89,6 +97,14 @@ struct PlantModel<'a> {
     flow_hist: TickHistogram,
     wait_all: Tally,
     wait_hist: TickHistogram,
+    /// Interval and cumulative WIP areas of a warm-up series (pilot runs only).
+    series_step: f64,
+    series_area: Vec<f64>,
+    /// Which play of the order trace is running (0: the first).
+    order_play: u64,
+    /// (time, product) of every lot released, when logging (tests of common random numbers).
+    log_releases: bool,
+    releases: Vec<(f64, u32)>,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -96,19 +112,67 @@ struct PlantModel<'a> {
 /// Replication `r` with seed `s` gives the same result on every platform and
 /// whatever else runs beside it.
 pub fn simulate(plan: &Plan, spec: &RunSpec, replication: u64) -> RepStats {
+    let (stats, _, _) = simulate_inner(plan, spec, replication, None, false);
+    stats
+}
+
+/// Run one replication and return every lot released into the plant as
+/// (time, product index), in release order: what common random numbers must
+/// keep the same under every layout and fleet.
+pub fn simulate_releases(plan: &Plan, spec: &RunSpec, replication: u64) -> Vec<(f64, u32)> {
+    let (_, _, releases) = simulate_inner(plan, spec, replication, None, true);
+    releases
+}
+
+/// Run one replication and also return the plant's time-average WIP over each
+/// successive interval of `step_s` from time 0 (a partial last interval is left
+/// out): the series a warm-up rule such as MSER-5 reads. Pass `spec.warmup_s = 0`
+/// so that the series covers the start-up transient.
+///
+/// # Panics
+/// If `step_s` is not positive and finite (a programming error).
+pub fn simulate_wip_series(plan: &Plan, spec: &RunSpec, replication: u64, step_s: f64) -> Vec<f64> {
+    assert!(step_s > 0.0 && step_s.is_finite(), "the series step must be positive");
+    let (_, areas, _) = simulate_inner(plan, spec, replication, Some(step_s), false);
+    let mut prev = 0.0;
+    areas
+        .iter()
+        .map(|&a| {
+            let m = (a - prev) / step_s;
+            prev = a;
+            m
+        })
+        .collect()
+}
+
+/// One replication's statistics, WIP series areas and release log (the last two empty unless asked for).
+type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>);
+
+fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f64>, log: bool) -> Run {
     let mut m = PlantModel::new(plan, spec, replication);
+    m.log_releases = log;
     let mut cal = Calendar::with_capacity(256);
-    for (p, prod) in plan.products.iter().enumerate() {
-        let rate = prod.rate_per_s * spec.demand_factor;
-        let gap: f64 = m.arrival_rng[p].sample::<f64, _>(Exp1) / rate;
-        if gap <= spec.horizon_s {
-            cal.schedule(gap, Event::Arrival { product: p as u32 });
+    if let Some(step) = step {
+        m.series_step = step;
+        m.series_area.reserve((spec.horizon_s / step) as usize + 1);
+        if step <= spec.horizon_s {
+            cal.schedule(step, Event::Sample);
+        }
+    }
+    for p in 0..plan.products.len() {
+        m.schedule_arrival(p, 0.0, &mut cal);
+    }
+    if let Some(first) = plan.orders.first() {
+        if first.time_s <= spec.horizon_s {
+            cal.schedule(first.time_s, Event::Order { index: 0 });
         }
     }
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
     events += run_until(&mut m, &mut cal, spec.horizon_s);
-    m.finish(spec.horizon_s, events)
+    let areas = std::mem::take(&mut m.series_area);
+    let releases = std::mem::take(&mut m.releases);
+    (m.finish(spec.horizon_s, events), areas, releases)
 }
 
 impl<'a> PlantModel<'a> {
@@ -168,6 +232,11 @@ impl<'a> PlantModel<'a> {
             flow_hist: TickHistogram::new(TICK_S),
             wait_all: Tally::new(),
             wait_hist: TickHistogram::new(TICK_S),
+            series_step: 0.0,
+            series_area: Vec::new(),
+            order_play: 0,
+            log_releases: false,
+            releases: Vec::new(),
         }
     }
 
@@ -197,18 +266,84 @@ impl<'a> PlantModel<'a> {
         self.wait_hist.reset();
     }
 
+    /// Schedule the next arrival of product `p` after `now`, if it comes by the horizon.
+    fn schedule_arrival(&mut self, p: usize, now: f64, cal: &mut Calendar<Event>) {
+        let horizon = self.window.1;
+        let at = match &self.plan.products[p].arrivals {
+            PlanArrivals::Constant { rate_per_s } => {
+                // Exactly the draws of a constant rate before profiles existed,
+                // so seeded results of constant-rate plants do not change.
+                let gap: f64 = self.arrival_rng[p].sample::<f64, _>(Exp1) / (rate_per_s * self.demand_factor);
+                now + gap
+            }
+            PlanArrivals::Thinned { peak_per_s, every_s, accept } => {
+                let rate = peak_per_s * self.demand_factor;
+                match next_thinned(&mut self.arrival_rng[p], now, horizon, rate, *every_s, accept) {
+                    Some(t) => t,
+                    None => return,
+                }
+            }
+            PlanArrivals::Orders => return,
+        };
+        // An arrival after the horizon can never matter; not scheduling it
+        // also keeps an absurdly small rate (an infinite gap) harmless.
+        if at <= horizon {
+            cal.schedule(at, Event::Arrival { product: p as u32 });
+        }
+    }
+
     fn arrival(&mut self, product: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let p = product as usize;
-        let prod = &self.plan.products[p];
-        let rate = prod.rate_per_s * self.demand_factor;
-        let gap: f64 = self.arrival_rng[p].sample::<f64, _>(Exp1) / rate;
-        // An arrival after the horizon can never matter; not scheduling it
-        // also keeps an absurdly small rate (an infinite gap) harmless.
-        if now + gap <= self.window.1 {
-            cal.schedule(now + gap, Event::Arrival { product });
-        }
+        self.schedule_arrival(p, now, cal);
+        self.release_lot(p, cal);
+    }
 
+    /// Order `index` of the current play of the trace: schedule the next
+    /// order, then release this one's lots. With demand factor f an order of
+    /// q lots releases ⌊q·f⌋ lots and one more with probability frac(q·f),
+    /// so the expected volume is q·f; the uniform comes from the product's
+    /// arrival stream (one per order, whatever f is).
+    fn order(&mut self, index: u32, cal: &mut Calendar<Event>) {
+        let orders = &self.plan.orders;
+        let o = orders[index as usize];
+        let mut next = index as usize + 1;
+        if next == orders.len() {
+            match self.plan.order_repeat_s {
+                Some(_) => {
+                    self.order_play += 1;
+                    next = 0;
+                }
+                None => next = usize::MAX,
+            }
+        }
+        if next != usize::MAX {
+            let start = self.plan.order_repeat_s.map_or(0.0, |r| self.order_play as f64 * r);
+            let at = start + orders[next].time_s;
+            if at <= self.window.1 {
+                cal.schedule(at, Event::Order { index: next as u32 });
+            }
+        }
+        let p = o.product as usize;
+        let x = f64::from(o.quantity) * self.demand_factor;
+        let whole = x.floor();
+        let u: f64 = self.arrival_rng[p].random();
+        let lots = whole as u64 + u64::from(u < x - whole);
+        for _ in 0..lots {
+            self.release_lot(p, cal);
+        }
+    }
+
+    /// A new lot of product `p` enters at its receiving dock now. Lots are
+    /// numbered per product in release order, whatever released them, and
+    /// the number keys the lot's own stream.
+    fn release_lot(&mut self, p: usize, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let product = p as u32;
+        let prod = &self.plan.products[p];
+        if self.log_releases {
+            self.releases.push((now, product));
+        }
         let n = self.lots_made[p];
         self.lots_made[p] += 1;
         let lot = Lot {
@@ -487,11 +622,19 @@ impl Model for PlantModel<'_> {
     fn handle(&mut self, event: Event, cal: &mut Calendar<Event>) {
         match event {
             Event::Arrival { product } => self.arrival(product, cal),
+            Event::Order { index } => self.order(index, cal),
             Event::EndOperation { lot } => self.end_operation(lot, cal),
             Event::Pickup { mover } => self.pickup(mover, cal),
             Event::Deliver { mover } => self.deliver(mover, cal),
             // The mover is at home now, so mover_free will not send it home again.
             Event::Home { mover } => self.mover_free(mover, cal),
+            Event::Sample => {
+                let now = cal.now();
+                self.series_area.push(self.wip.area(now));
+                if now + self.series_step <= self.window.1 {
+                    cal.schedule(now + self.series_step, Event::Sample);
+                }
+            }
         }
     }
 }

@@ -1,0 +1,330 @@
+//! Demand: each product's rate and repeating profile, and the order trace read from a CSV file.
+//!
+//! A product gets its lots either from `demand` (Poisson arrivals at
+//! `per_hour`, times a repeating `profile` of factors when given) or from the
+//! scenario's `orders` trace, never both. The trace is a CSV file, its path
+//! relative to the scenario file, with the header `time,product,quantity` (in
+//! any column order). Lines starting with `#` are comments and blank lines are
+//! skipped. `time` is a duration with its unit since the start of the run (of
+//! each play, with `repeat`), in non-decreasing order; `quantity` is a whole
+//! number of lots, at least 1. Errors in the file name the file and its line.
+
+use std::path::Path;
+
+use super::compile::Ctx;
+use super::error::{did_you_mean, name_list, ScenarioError};
+use super::locate::FieldPath;
+use super::schema::{ProductSpec, Scenario};
+use crate::plant::{Demand, Order, OrderTrace, Product, Profile};
+use crate::units::{format_duration, parse_duration};
+
+/// The columns of an order trace, in the order the messages list them.
+const COLUMNS: [&str; 3] = ["time", "product", "quantity"];
+
+/// The product's `demand`, or [`Demand::Orders`] when it has none (checked
+/// against the trace by [`order_trace`]).
+pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> Result<Demand, ScenarioError> {
+    let Some(d) = &spec.demand else {
+        return Ok(Demand::Orders);
+    };
+    let dp = pp.key("demand");
+    let per_hour = d.per_hour;
+    if !(per_hour > 0.0 && per_hour.is_finite()) {
+        return Err(ctx.err(
+            &dp.key("per_hour"),
+            format!("demand of product \"{}\" must be a number > 0 lots per hour, got {per_hour}", spec.id),
+        ));
+    }
+    let profile = match &d.profile {
+        None => None,
+        Some(pr) => {
+            let prp = dp.key("profile");
+            let every = pr.every.0;
+            if !(every > 0.0) {
+                return Err(ctx
+                    .err(
+                        &prp.key("every"),
+                        format!("every must be longer than 0, got {}", format_duration(every)),
+                    )
+                    .with_hint("`every` is how long each factor lasts, e.g. `every: 1 h`"));
+            }
+            let fp = prp.key("factors");
+            if pr.factors.is_empty() {
+                return Err(ctx
+                    .err(&fp, format!("the profile of product \"{}\" has no factors", spec.id))
+                    .with_hint("list one multiplier of `per_hour` per period, e.g. `factors: [0.5, 1.5]`"));
+            }
+            for (k, &f) in pr.factors.iter().enumerate() {
+                if !(f >= 0.0 && f.is_finite()) {
+                    return Err(ctx
+                        .err(&fp.index(k), format!("profile factor {f} must be a number >= 0"))
+                        .with_hint("a factor multiplies `per_hour`; 0 means no arrivals in that period"));
+                }
+            }
+            if !pr.factors.iter().any(|&f| f > 0.0) {
+                return Err(ctx
+                    .err(
+                        &fp,
+                        format!(
+                            "every factor of the profile of product \"{}\" is 0: no lot would arrive",
+                            spec.id
+                        ),
+                    )
+                    .with_hint("give at least one factor > 0"));
+            }
+            Some(Profile { every_s: every, factors: pr.factors.clone() })
+        }
+    };
+    Ok(Demand::Rate { per_s: per_hour / 3600.0, profile })
+}
+
+/// Reads the order trace, if any, and checks that every product has exactly
+/// one source of lots: `demand` or orders in the trace.
+pub(crate) fn order_trace(
+    s: &Scenario,
+    products: &[Product],
+    ctx: &Ctx,
+) -> Result<Option<OrderTrace>, ScenarioError> {
+    let pp = FieldPath::root().key("products");
+    let Some(spec) = &s.orders else {
+        if let Some(i) = products.iter().position(|p| p.demand == Demand::Orders) {
+            return Err(ctx
+                .err(&pp.index(i), format!("product \"{}\" has no `demand`", products[i].id))
+                .with_hint(
+                    "give it `demand: { per_hour: 2 }`, or feed it from an order trace: \
+                     add `orders: { file: orders.csv }` and list its orders there",
+                ));
+        }
+        return Ok(None);
+    };
+    let op = FieldPath::root().key("orders");
+    let fp = op.key("file");
+    let dir = ctx.origin.parent().unwrap_or_else(|| Path::new(""));
+    let resolved = dir.join(&spec.file);
+    let shown = resolved.display().to_string();
+    let text = std::fs::read_to_string(&resolved).map_err(|e| {
+        ctx.err(&fp, format!("cannot read order trace {shown}: {e}"))
+            .with_hint("the CSV path is relative to the scenario file")
+    })?;
+    let in_file = |line: Option<u64>, msg: String| {
+        let at = line.map_or(String::new(), |l| format!(", line {l}"));
+        ctx.err(&fp, format!("in {shown}{at}: {msg}"))
+    };
+    let ids: Vec<&str> = products.iter().map(|p| p.id.as_str()).collect();
+    let (orders, lines) = read_orders(&text, &ids).map_err(|(line, msg, hint)| {
+        let e = in_file(line, msg);
+        match hint {
+            Some(h) => e.with_hint(h),
+            None => e,
+        }
+    })?;
+    // Each product has one source of lots.
+    for (o, &line) in orders.iter().zip(&lines) {
+        let p = &products[o.product];
+        if p.demand != Demand::Orders {
+            return Err(ctx
+                .err(
+                    &pp.index(o.product).key("demand"),
+                    format!("product \"{}\" has `demand` but also orders in {shown} (line {line})", p.id),
+                )
+                .with_hint(
+                    "a product's lots come from `demand` or from the order trace, not both: remove one",
+                ));
+        }
+    }
+    let fed = |i: usize| orders.iter().any(|o| o.product == i);
+    if let Some(i) = (0..products.len()).find(|&i| products[i].demand == Demand::Orders && !fed(i)) {
+        return Err(ctx
+            .err(
+                &pp.index(i),
+                format!("product \"{}\" has no `demand` and no orders in {shown}", products[i].id),
+            )
+            .with_hint(
+                "give it `demand: { per_hour: 2 }`, or add lines `time,product,quantity` for it to the trace",
+            ));
+    }
+    let last = orders.last().expect("read_orders refuses an empty trace");
+    let repeat_s = match spec.repeat {
+        None => None,
+        Some(r) if r.0 > last.time_s => Some(r.0),
+        Some(r) => {
+            return Err(ctx
+                .err(
+                    &op.key("repeat"),
+                    format!(
+                        "repeat ({}) must be longer than the time of the last order ({}, line {} of {shown})",
+                        format_duration(r.0),
+                        format_duration(last.time_s),
+                        lines[lines.len() - 1]
+                    ),
+                )
+                .with_hint(
+                    "the trace plays again `repeat` after each start; make it longer than the trace, \
+                     or leave it out to play the trace once",
+                ))
+        }
+    };
+    Ok(Some(OrderTrace { file: spec.file.clone(), orders, repeat_s }))
+}
+
+/// An error in the file: its line (where known), what is wrong, and what to do.
+type FileError = (Option<u64>, String, Option<String>);
+
+/// Parses the CSV text into orders, with the file line of each.
+fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileError> {
+    let header_hint = || Some(format!("the first line must be the header {}", COLUMNS.join(",")));
+    let mut reader = csv::ReaderBuilder::new()
+        .has_headers(true)
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .comment(Some(b'#'))
+        .from_reader(text.as_bytes());
+    // A record's own position is where the reader started looking for it,
+    // before any blank or comment lines, so a record's line is taken from
+    // where it ends: the line of the byte before the reader's position.
+    // Counting moves forward only: one pass over the text.
+    let mut counted = (0usize, 1u64);
+    let mut line_before = |end: u64| {
+        let end = (end as usize).min(text.len()).max(1) - 1;
+        let newlines =
+            text.as_bytes()[counted.0.min(end)..end].iter().filter(|&&b| b == b'\n').count() as u64;
+        counted = (end, counted.1 + newlines);
+        counted.1
+    };
+    let header = reader.headers().map_err(|e| (None, format!("{e}"), None))?.clone();
+    let header_line = Some(line_before(reader.position().byte()));
+    if header.is_empty() || header.iter().all(str::is_empty) {
+        return Err((None, "the file is empty".into(), header_hint()));
+    }
+    let mut col = [usize::MAX; 3];
+    for (c, name) in header.iter().enumerate() {
+        let Some(k) = COLUMNS.iter().position(|n| n.eq_ignore_ascii_case(name)) else {
+            return Err((
+                header_line,
+                format!("unknown column \"{name}\"{}", did_you_mean(name, COLUMNS.iter().copied())),
+                header_hint(),
+            ));
+        };
+        if col[k] != usize::MAX {
+            return Err((header_line, format!("column \"{name}\" appears twice"), header_hint()));
+        }
+        col[k] = c;
+    }
+    if let Some(k) = col.iter().position(|&c| c == usize::MAX) {
+        return Err((header_line, format!("the header has no \"{}\" column", COLUMNS[k]), header_hint()));
+    }
+    let mut orders = Vec::new();
+    let mut lines = Vec::new();
+    let mut previous: Option<(f64, u64)> = None;
+    let mut rec = csv::StringRecord::new();
+    loop {
+        let more = reader.read_record(&mut rec);
+        let line = line_before(reader.position().byte());
+        if !more.map_err(|e| (Some(line), format!("{e}"), None))? {
+            break;
+        }
+        let at = Some(line);
+        if rec.len() != COLUMNS.len() {
+            return Err((
+                at,
+                format!("{} cells; expected 3 ({})", rec.len(), header.iter().collect::<Vec<_>>().join(",")),
+                None,
+            ));
+        }
+        let (t, p, q) = (&rec[col[0]], &rec[col[1]], &rec[col[2]]);
+        let time_s = parse_duration(t).map_err(|e| (at, format!("time: {e}"), None))?;
+        if time_s < 0.0 {
+            return Err((at, format!("time {t} is before the start of the run"), None));
+        }
+        if let Some((before, before_line)) = previous {
+            if time_s < before {
+                return Err((
+                    at,
+                    format!(
+                        "time {t} is earlier than the order before it ({} on line {before_line})",
+                        format_duration(before)
+                    ),
+                    Some("list the orders in time order".into()),
+                ));
+            }
+        }
+        previous = Some((time_s, line));
+        let product = ids.iter().position(|i| *i == p).ok_or_else(|| {
+            (
+                at,
+                format!("unknown product \"{p}\"{}", did_you_mean(p, ids.iter().copied())),
+                Some(format!("the products are: {}", name_list(ids.iter().copied()))),
+            )
+        })?;
+        let quantity = quantity(q).map_err(|m| (at, m, None))?;
+        orders.push(Order { time_s, product, quantity });
+        lines.push(line);
+    }
+    if orders.is_empty() {
+        return Err((
+            None,
+            "the order trace has no orders".into(),
+            Some("add lines such as `6.5 h,<product>,2` under the header time,product,quantity".into()),
+        ));
+    }
+    Ok((orders, lines))
+}
+
+/// A quantity cell: a whole number of lots, at least 1.
+fn quantity(cell: &str) -> Result<u32, String> {
+    match cell.parse::<i64>() {
+        Ok(q) if q >= 1 => u32::try_from(q)
+            .map_err(|_| format!("quantity {q} is too large (at most {} lots an order)", u32::MAX)),
+        Ok(q) => Err(format!("quantity {q}: an order releases at least 1 lot")),
+        Err(_) => match cell.parse::<f64>() {
+            Ok(x) if x.is_finite() => Err(format!("quantity {cell} is not a whole number of lots")),
+            _ => Err(format!("quantity \"{cell}\" is not a number")),
+        },
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    const IDS: &[&str] = &["bracket", "hinge"];
+
+    fn err(text: &str) -> (Option<u64>, String) {
+        let (l, m, _) = read_orders(text, IDS).unwrap_err();
+        (l, m)
+    }
+
+    #[test]
+    fn reads_columns_in_any_order_with_comments_and_blank_lines() {
+        let text = "# invented\nproduct, quantity, time\n\nbracket,2,90 min\n# a comment\nhinge,1,2 h\n";
+        let (orders, lines) = read_orders(text, IDS).unwrap();
+        assert_eq!(
+            orders,
+            [
+                Order { time_s: 5400.0, product: 0, quantity: 2 },
+                Order { time_s: 7200.0, product: 1, quantity: 1 }
+            ]
+        );
+        assert_eq!(lines, [4, 6], "file lines, comments and blank lines counted");
+    }
+
+    #[test]
+    fn bad_cells_are_named_with_their_line() {
+        let h = "time,product,quantity\n";
+        assert_eq!(err(&format!("{h}1 h,bracket,1\n2 h,brackett,1\n")).0, Some(3));
+        assert!(err(&format!("{h}1 h,brackett,1\n")).1.contains("did you mean \"bracket\""));
+        assert!(err(&format!("{h}1 h,bracket,-2\n")).1.contains("quantity -2"));
+        assert!(err(&format!("{h}1 h,bracket,0\n")).1.contains("quantity 0"));
+        assert!(err(&format!("{h}1 h,bracket,1.5\n")).1.contains("not a whole number"));
+        assert!(err(&format!("{h}90,bracket,1\n")).1.contains("needs a unit"));
+        assert!(err(&format!("{h}2 h,bracket,1\n1 h,bracket,1\n"))
+            .1
+            .contains("earlier than the order before it"));
+        assert!(err(&format!("{h}1 h,bracket\n")).1.contains("2 cells"));
+        assert!(err("time,product\n1 h,bracket\n").1.contains("no \"quantity\" column"));
+        assert!(err("time,product,quantities\n").1.contains("did you mean \"quantity\""));
+        assert!(err("time,product,qty\n").1.contains("unknown column \"qty\""));
+        assert!(err(h).1.contains("no orders"));
+        assert!(err("").1.contains("empty"));
+    }
+}
