@@ -4,8 +4,13 @@
 //! 0 success, 2 bad input (scenario or arguments), 1 the run itself failed.
 
 mod check;
+mod compare;
+mod output;
+mod progress;
 mod run;
+mod select;
 mod table;
+mod warmup;
 
 use std::path::Path;
 use std::process::ExitCode;
@@ -37,6 +42,10 @@ enum Command {
     /// Simulate every layout (or those named) over replications and report
     /// means with 95% confidence intervals.
     Run(run::RunArgs),
+    /// Compare layouts under common random numbers: paired differences against
+    /// a baseline, static against simulated rank, demand sweeps, and selection
+    /// of the best layout with a stated confidence (--select).
+    Compare(compare::CompareArgs),
 }
 
 /// Output format shared by the commands.
@@ -63,6 +72,10 @@ impl Failure {
     pub fn run(message: impl Into<String>) -> Failure {
         Failure { code: 1, message: message.into() }
     }
+    /// The message shown to the user.
+    pub fn message(&self) -> &str {
+        &self.message
+    }
 }
 
 /// Load a scenario, turning its error into a bad-input failure.
@@ -75,6 +88,7 @@ fn main() -> ExitCode {
     let result = match cli.command {
         Command::Check(a) => check::check(&a),
         Command::Run(a) => run::run(&a),
+        Command::Compare(a) => compare::compare(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

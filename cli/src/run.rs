@@ -5,7 +5,6 @@ use std::path::PathBuf;
 use std::time::Instant;
 
 use clap::Args;
-use indicatif::{ProgressBar, ProgressStyle};
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{DepartmentRole, Plant};
 use layflow_models::report::{replicate, summarize, LayoutSummary};
@@ -14,7 +13,9 @@ use layflow_models::units::parse_duration;
 use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
+use crate::progress::Progress;
 use crate::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
+use crate::warmup::{self, WarmupChoice};
 use crate::{load, Failure, Format};
 
 /// Arguments of `layflow run`.
@@ -34,8 +35,9 @@ pub struct RunArgs {
     /// Simulated time per replication, warm-up included, e.g. "30 d" (overrides run.horizon).
     #[arg(long, value_name = "DURATION")]
     pub horizon: Option<String>,
-    /// Statistics are cleared at this time, e.g. "2 d" (overrides run.warmup).
-    #[arg(long, value_name = "DURATION")]
+    /// Statistics are cleared at this time, e.g. "2 d", or "auto" to choose it with MSER-5
+    /// from pilot runs (overrides run.warmup).
+    #[arg(long, value_name = "DURATION|auto")]
     pub warmup: Option<String>,
     /// Scale every product's demand by this factor (overrides demand_factor).
     #[arg(long, value_name = "FACTOR")]
@@ -49,6 +51,9 @@ pub struct RunArgs {
     /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
     #[arg(long)]
     pub no_wall_clock: bool,
+    /// No progress bar.
+    #[arg(long, short)]
+    pub quiet: bool,
 }
 
 #[derive(Serialize)]
@@ -57,6 +62,9 @@ struct RunOutput<'a> {
     scenario: String,
     horizon_s: f64,
     warmup_s: f64,
+    /// Present when `--warmup auto` chose the warm-up.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    warmup_auto: Option<WarmupChoice>,
     replications: u32,
     seed: u64,
     demand_factor: f64,
@@ -67,7 +75,8 @@ struct RunOutput<'a> {
     wall_s: Option<f64>,
 }
 
-fn duration_arg(flag: &str, v: &Option<String>, default: f64) -> Result<f64, Failure> {
+/// A duration flag's value in seconds (never negative), or `default` when absent.
+pub fn duration_arg(flag: &str, v: &Option<String>, default: f64) -> Result<f64, Failure> {
     match v {
         None => Ok(default),
         Some(text) => {
@@ -101,18 +110,19 @@ pub fn layouts(plant: &Plant, names: &[String]) -> Result<Vec<usize>, Failure> {
         .collect()
 }
 
+/// Worker threads: the flag's, else one per core.
+pub fn threads(arg: Option<usize>) -> Result<usize, Failure> {
+    match arg {
+        Some(0) => Err(Failure::input("--threads must be at least 1")),
+        Some(k) => Ok(k),
+        None => Ok(std::thread::available_parallelism().map_or(1, usize::from)),
+    }
+}
+
 /// Simulate and report.
 pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let plant = load(&args.scenario)?;
     let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
-    let warmup_s = duration_arg("--warmup", &args.warmup, plant.run.warmup_s)?;
-    if !(horizon_s > warmup_s) {
-        return Err(Failure::input(format!(
-            "the horizon ({}) must be longer than the warm-up ({})",
-            dur_plain(horizon_s),
-            dur_plain(warmup_s)
-        )));
-    }
     let replications = args.replications.unwrap_or(plant.run.replications);
     if replications == 0 {
         return Err(Failure::input("--replications must be at least 1"));
@@ -120,37 +130,36 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let seed = args.seed.unwrap_or(plant.run.seed);
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;
-    let threads = match args.threads {
-        Some(0) => return Err(Failure::input("--threads must be at least 1")),
-        Some(k) => k,
-        None => std::thread::available_parallelism().map_or(1, usize::from),
-    };
+    let threads = threads(args.threads)?;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
         .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let (warmup_s, warmup_auto) =
+        warmup::resolve(&args.warmup, &plant, &which, horizon_s, factor, seed, &pool, args.quiet)?;
+    if !(horizon_s > warmup_s) {
+        return Err(Failure::input(format!(
+            "the horizon ({}) must be longer than the warm-up ({})",
+            dur_plain(horizon_s),
+            dur_plain(warmup_s)
+        )));
+    }
 
     let pic = StaticPicture::new(&plant, factor);
     warn_overload(&plant, &pic);
 
     let total = which.len() as u64 * u64::from(replications);
-    let bar = ProgressBar::new(total).with_style(
-        ProgressStyle::with_template(
-            "{spinner} {msg} [{bar:30}] {pos}/{len} replications, {elapsed} elapsed, ~{eta} left",
-        )
-        .expect("valid progress template")
-        .progress_chars("=> "),
-    );
+    let progress = Progress::new(total, args.quiet);
     let started = Instant::now();
     let mut summaries = Vec::with_capacity(which.len());
     for &l in &which {
-        bar.set_message(format!("layout {}", plant.layouts[l].name));
+        progress.stage(format!("layout {}", plant.layouts[l].name));
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
         let plan = Plan::new(&plant, l);
-        let reps = pool.install(|| replicate(&plan, &spec, replications, || bar.inc(1)));
+        let reps = pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
         summaries.push(summarize(&plant, &spec, &pic, &reps));
     }
-    bar.finish_and_clear();
+    progress.finish();
     let wall_s = started.elapsed().as_secs_f64();
     let events = summaries.iter().map(|s| s.events).sum();
 
@@ -159,6 +168,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         scenario: args.scenario.display().to_string(),
         horizon_s,
         warmup_s,
+        warmup_auto,
         replications,
         seed,
         demand_factor: factor,
@@ -186,6 +196,9 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         out.seed,
         num(out.demand_factor)
     );
+    if let Some(w) = &out.warmup_auto {
+        let _ = writeln!(s, "{}", w.describe());
+    }
     let _ = writeln!(
         s,
         "{} events in {:.2} s ({:.1} million events/s)",

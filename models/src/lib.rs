@@ -1,6 +1,7 @@
 //! layflow-models: the plant — scenario format, layouts, routings, fleets, static analysis and the simulation model.
 
 pub mod analysis;
+pub mod compare;
 pub mod dist;
 pub mod plant;
 pub mod report;

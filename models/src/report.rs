@@ -186,17 +186,43 @@ pub struct LayoutSummary {
 }
 
 /// Run `replications` replications of one layout, in parallel on the current
-/// rayon pool, calling `done` after each; results come back in replication
-/// order, so the summary is the same whatever the thread count.
-pub fn replicate(plan: &Plan, spec: &RunSpec, replications: u32, done: impl Fn() + Sync) -> Vec<RepStats> {
-    (0..u64::from(replications))
+/// rayon pool, calling `done` with each as it finishes (for progress);
+/// results come back in replication order, so the summary is the same
+/// whatever the thread count.
+pub fn replicate(
+    plan: &Plan,
+    spec: &RunSpec,
+    replications: u32,
+    done: impl Fn(&RepStats) + Sync,
+) -> Vec<RepStats> {
+    replicate_range(plan, spec, 0..u64::from(replications), done)
+}
+
+/// As [`replicate`], for replications `range` (replication numbers pick the
+/// streams, so replications 10..20 are the same whether run alone or after 0..10).
+pub fn replicate_range(
+    plan: &Plan,
+    spec: &RunSpec,
+    range: std::ops::Range<u64>,
+    done: impl Fn(&RepStats) + Sync,
+) -> Vec<RepStats> {
+    range
         .into_par_iter()
         .map(|r| {
             let s = simulate(plan, spec, r);
-            done();
+            done(&s);
             s
         })
         .collect()
+}
+
+/// Handling cost per hour of fleet `f` in one replication: the movers' hourly
+/// cost, busy or idle, plus the cost of every kilometre they travelled.
+pub fn fleet_cost_per_h(plant: &Plant, r: &RepStats, f: usize) -> f64 {
+    let fl = &plant.fleets()[f];
+    let s = &r.fleets[f];
+    f64::from(fl.count) * fl.cost_per_h
+        + (s.distance_loaded_m + s.distance_empty_m) / 1000.0 * fl.cost_per_km / r.window_s * 3600.0
 }
 
 /// Summarise the replications of layout `spec.layout`.
@@ -210,12 +236,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
     }
     let lp = &picture.layouts[spec.layout];
     let fleets = plant.fleets();
-    let fleet_cost = |r: &RepStats, f: usize| {
-        let fl = &fleets[f];
-        let s = &r.fleets[f];
-        f64::from(fl.count) * fl.cost_per_h
-            + per_h((s.distance_loaded_m + s.distance_empty_m) / 1000.0 * fl.cost_per_km, r)
-    };
+    let fleet_cost = |r: &RepStats, f: usize| fleet_cost_per_h(plant, r, f);
     let throughput = est(reps.iter().map(|r| per_h(r.shipped.iter().sum::<u64>() as f64, r)));
     let flow = dur(reps.iter().map(|r| observed(&r.flow_time_all)), &flow_hist);
     let wip = est(reps.iter().map(|r| r.wip_total));

@@ -143,7 +143,7 @@ pub fn run_layout_reps(plant: &Plant, layout: usize, replications: u32) -> Run {
 pub fn run_spec(plant: &Plant, spec: RunSpec, replications: u32) -> Run {
     let layout = spec.layout;
     let plan = Plan::new(plant, layout);
-    let reps = replicate(&plan, &spec, replications, || {});
+    let reps = replicate(&plan, &spec, replications, |_| {});
     let picture = StaticPicture::new(plant, spec.demand_factor);
     let summary = summarize(plant, &spec, &picture, &reps);
     Run { spec, reps, summary, picture }

@@ -1,0 +1,55 @@
+//! The progress bar on stderr: replications done, events per second, time left.
+
+use std::sync::atomic::{AtomicU64, Ordering};
+use std::time::Instant;
+
+use indicatif::{ProgressBar, ProgressStyle};
+use layflow_models::sim::RepStats;
+
+/// A progress bar over replications that also shows the simulation speed.
+///
+/// It draws only when stderr is a terminal (indicatif's default) and never
+/// with `quiet`, so piped or logged output stays clean.
+pub struct Progress {
+    bar: ProgressBar,
+    events: AtomicU64,
+    started: Instant,
+}
+
+impl Progress {
+    /// A bar for `total` replications.
+    pub fn new(total: u64, quiet: bool) -> Progress {
+        let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new(total) };
+        bar.set_style(
+            ProgressStyle::with_template(
+                "{spinner} {prefix} [{bar:30}] {pos}/{len} replications, {msg}, {elapsed} elapsed, ~{eta} left",
+            )
+            .expect("valid progress template")
+            .progress_chars("=> "),
+        );
+        Progress { bar, events: AtomicU64::new(0), started: Instant::now() }
+    }
+
+    /// What is running now, e.g. `layout proposed, demand ×1.2`.
+    pub fn stage(&self, what: String) {
+        self.bar.set_prefix(what);
+    }
+
+    /// Grow the total (sequential selection adds replications as it goes).
+    pub fn add_total(&self, n: u64) {
+        self.bar.inc_length(n);
+    }
+
+    /// One replication finished.
+    pub fn done(&self, rep: &RepStats) {
+        let events = self.events.fetch_add(rep.events, Ordering::Relaxed) + rep.events;
+        let rate = events as f64 / self.started.elapsed().as_secs_f64().max(1e-9);
+        self.bar.set_message(format!("{:.1} M events/s", rate / 1e6));
+        self.bar.inc(1);
+    }
+
+    /// Remove the bar.
+    pub fn finish(&self) {
+        self.bar.finish_and_clear();
+    }
+}

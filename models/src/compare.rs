@@ -1,0 +1,267 @@
+//! Comparing layouts: every metric of every replication as one tidy list, and paired differences.
+//!
+//! Replication `r` of every layout sees the same lots, processing times and
+//! routing choices (common random numbers, see `sim`), so results are compared
+//! replication by replication: the paired difference `Y_l,r − Y_base,r` has a
+//! much smaller variance than two independent means whenever the two layouts'
+//! results move together (Law, *Simulation Modeling and Analysis*, chapter on
+//! comparing alternative systems; from memory).
+
+use layflow_engine::{paired_difference, Interval};
+use serde::Serialize;
+
+use crate::plant::Plant;
+use crate::report::{fleet_cost_per_h, CONFIDENCE};
+use crate::sim::RepStats;
+
+/// Which part of the plant a metric describes.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Scope {
+    /// The whole plant.
+    Plant,
+    /// One product.
+    Product,
+    /// One department.
+    Department,
+    /// One fleet.
+    Fleet,
+}
+
+impl Scope {
+    /// The lowercase word used in CSV and JSON.
+    pub fn as_str(self) -> &'static str {
+        match self {
+            Scope::Plant => "plant",
+            Scope::Product => "product",
+            Scope::Department => "department",
+            Scope::Fleet => "fleet",
+        }
+    }
+}
+
+/// Which direction of a metric is better, for ranking and selection.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Better {
+    /// Smaller is better (flow time, WIP, waits, cost, distance).
+    Lower,
+    /// Larger is better (throughput).
+    Higher,
+    /// Neither: a description of the plant, not a goal (utilisation, shares).
+    Neither,
+}
+
+/// What a metric's number is, for formatting and for reading an indifference zone.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "lowercase")]
+pub enum Kind {
+    /// Seconds.
+    Duration,
+    /// Anything else: lots, lots per hour, metres per hour, money per hour, a share.
+    Number,
+}
+
+/// One metric: what it measures and where.
+#[derive(Debug, Clone, Serialize)]
+pub struct Metric {
+    /// Plant, product, department or fleet.
+    pub scope: Scope,
+    /// The product, department or fleet id; empty for the plant.
+    pub subject: String,
+    /// The JSON key of `run`'s summary, e.g. `flow_time_s`.
+    pub name: &'static str,
+    /// Duration or plain number.
+    pub kind: Kind,
+    /// Which direction is better.
+    pub better: Better,
+}
+
+impl Metric {
+    /// `flow_time_s` for the plant, `pump-housing/flow_time_s` for a product's.
+    pub fn label(&self) -> String {
+        if self.subject.is_empty() {
+            self.name.to_string()
+        } else {
+            format!("{}/{}", self.subject, self.name)
+        }
+    }
+}
+
+/// The plant-level metrics, in report order: (name, kind, better).
+pub const PLANT_METRICS: &[(&str, Kind, Better)] = &[
+    ("throughput_per_h", Kind::Number, Better::Higher),
+    ("flow_time_s", Kind::Duration, Better::Lower),
+    ("wip_mean", Kind::Number, Better::Lower),
+    ("wip_in_transit_mean", Kind::Number, Better::Lower),
+    ("move_wait_s", Kind::Duration, Better::Lower),
+    ("distance_loaded_m_per_h", Kind::Number, Better::Lower),
+    ("distance_empty_m_per_h", Kind::Number, Better::Lower),
+    ("handling_cost_per_h", Kind::Number, Better::Lower),
+];
+
+const PRODUCT_METRICS: &[(&str, Kind, Better)] =
+    &[("throughput_per_h", Kind::Number, Better::Higher), ("flow_time_s", Kind::Duration, Better::Lower)];
+
+const DEPARTMENT_METRICS: &[(&str, Kind, Better)] = &[
+    ("wip_mean", Kind::Number, Better::Lower),
+    ("utilization", Kind::Number, Better::Neither),
+    ("queue_mean", Kind::Number, Better::Lower),
+];
+
+const FLEET_METRICS: &[(&str, Kind, Better)] = &[
+    ("utilization", Kind::Number, Better::Neither),
+    ("loaded_travel_share", Kind::Number, Better::Neither),
+    ("empty_travel_share", Kind::Number, Better::Lower),
+    ("handling_share", Kind::Number, Better::Neither),
+    ("idle_share", Kind::Number, Better::Neither),
+    ("moves_per_h", Kind::Number, Better::Neither),
+    ("move_wait_s", Kind::Duration, Better::Lower),
+    ("distance_loaded_m_per_h", Kind::Number, Better::Lower),
+    ("distance_empty_m_per_h", Kind::Number, Better::Lower),
+    ("handling_cost_per_h", Kind::Number, Better::Lower),
+];
+
+/// Every metric of `plant`, in the order [`values`] returns them.
+pub fn metrics(plant: &Plant) -> Vec<Metric> {
+    let mut out = Vec::new();
+    let mut add = |scope, subject: &str, table: &[(&'static str, Kind, Better)]| {
+        for &(name, kind, better) in table {
+            out.push(Metric { scope, subject: subject.to_string(), name, kind, better });
+        }
+    };
+    add(Scope::Plant, "", PLANT_METRICS);
+    for p in &plant.products {
+        add(Scope::Product, &p.id, PRODUCT_METRICS);
+    }
+    for d in &plant.departments {
+        add(Scope::Department, &d.id, DEPARTMENT_METRICS);
+    }
+    for f in plant.fleets() {
+        add(Scope::Fleet, &f.id, FLEET_METRICS);
+    }
+    out
+}
+
+/// Index of a metric by its label (`flow_time_s`, `pump-housing/flow_time_s`).
+pub fn find_metric(list: &[Metric], label: &str) -> Option<usize> {
+    list.iter().position(|m| m.label() == label)
+}
+
+/// A tally's mean, or NaN when it saw nothing: a replication that shipped no
+/// lot has no flow time, which is not a flow time of 0.
+fn observed(t: &layflow_engine::Tally) -> f64 {
+    if t.count() == 0 {
+        f64::NAN
+    } else {
+        t.mean()
+    }
+}
+
+/// Every metric's value in one replication, in the order of [`metrics`]; NaN
+/// where the replication observed nothing (no lot shipped, no move made).
+/// The values are those `report::summarize` averages.
+pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
+    let per_h = |x: f64| x / r.window_s * 3600.0;
+    let fleets = plant.fleets();
+    let mut v = Vec::with_capacity(metrics_len(plant));
+    v.extend([
+        per_h(r.shipped.iter().sum::<u64>() as f64),
+        observed(&r.flow_time_all),
+        r.wip_total,
+        r.wip_transit,
+        observed(&r.move_wait_all),
+        per_h(r.fleets.iter().map(|f| f.distance_loaded_m).sum()),
+        per_h(r.fleets.iter().map(|f| f.distance_empty_m).sum()),
+        (0..fleets.len()).map(|f| fleet_cost_per_h(plant, r, f)).sum(),
+    ]);
+    for p in 0..plant.products.len() {
+        v.extend([per_h(r.shipped[p] as f64), observed(&r.flow_time[p])]);
+    }
+    for d in 0..plant.departments.len() {
+        v.extend([r.wip_department[d], r.utilization[d], r.queue[d]]);
+    }
+    for (f, fl) in fleets.iter().enumerate() {
+        let s = &r.fleets[f];
+        let cap = f64::from(fl.count) * r.window_s;
+        let busy = s.loaded_s + s.empty_s + s.handling_s;
+        v.extend([
+            busy / cap,
+            s.loaded_s / cap,
+            s.empty_s / cap,
+            s.handling_s / cap,
+            1.0 - busy / cap,
+            per_h(s.moves as f64),
+            observed(&r.move_wait[f]),
+            per_h(s.distance_loaded_m),
+            per_h(s.distance_empty_m),
+            fleet_cost_per_h(plant, r, f),
+        ]);
+    }
+    debug_assert_eq!(v.len(), metrics_len(plant));
+    v
+}
+
+fn metrics_len(plant: &Plant) -> usize {
+    PLANT_METRICS.len()
+        + plant.products.len() * PRODUCT_METRICS.len()
+        + plant.departments.len() * DEPARTMENT_METRICS.len()
+        + plant.fleets().len() * FLEET_METRICS.len()
+}
+
+/// Mean of metric `m` over the replications that observed it; `None` if none did.
+pub fn values_mean(rows: &[Vec<f64>], m: usize) -> Option<f64> {
+    let (sum, n) =
+        rows.iter().map(|v| v[m]).filter(|x| x.is_finite()).fold((0.0, 0usize), |(s, n), x| (s + x, n + 1));
+    (n > 0).then(|| sum / n as f64)
+}
+
+/// Paired-t interval of `layout − baseline` for one metric, over the
+/// replications where both observed it (a replication with no observation
+/// on either side is left out of the pair). `n` says how many pairs counted.
+pub fn paired(layout: &[f64], baseline: &[f64]) -> Interval {
+    let (a, b): (Vec<f64>, Vec<f64>) = layout
+        .iter()
+        .zip(baseline)
+        .filter(|(x, y)| x.is_finite() && y.is_finite())
+        .map(|(&x, &y)| (x, y))
+        .unzip();
+    paired_difference(&a, &b, CONFIDENCE)
+}
+
+/// Ranks 1, 2, … of `scores` (best first); equal scores share the better rank.
+/// NaN scores (nothing observed) rank last.
+pub fn ranks(scores: &[f64], better: Better) -> Vec<usize> {
+    let key = |x: f64| match better {
+        Better::Higher => -x,
+        _ => x,
+    };
+    scores
+        .iter()
+        .map(|&s| {
+            if !s.is_finite() {
+                return scores.iter().filter(|x| x.is_finite()).count() + 1;
+            }
+            1 + scores.iter().filter(|&&o| o.is_finite() && key(o) < key(s)).count()
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn pairs_with_a_missing_side_are_left_out() {
+        // Differences of the complete pairs: 1, 3 → mean 2 (hand-computed).
+        let iv = paired(&[5.0, f64::NAN, 7.0, 9.0], &[4.0, 3.0, 4.0, f64::NAN]);
+        assert_eq!((iv.mean, iv.n), (2.0, 2));
+    }
+
+    #[test]
+    fn ranks_follow_the_better_direction_and_share_ties() {
+        assert_eq!(ranks(&[3.0, 1.0, 2.0, 1.0], Better::Lower), vec![4, 1, 3, 1]);
+        assert_eq!(ranks(&[3.0, 1.0, 2.0], Better::Higher), vec![1, 3, 2]);
+        assert_eq!(ranks(&[f64::NAN, 1.0], Better::Lower), vec![2, 1]);
+    }
+}
