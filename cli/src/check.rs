@@ -219,6 +219,15 @@ fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
     json!({
         "plant": plant.name,
         "demand_factor": pic.demand_factor,
+        "products": plant.products.iter().enumerate().map(|(p, prod)| json!({
+            "product": prod.id,
+            "demand": match &prod.demand {
+                Demand::Rate { profile: None, .. } => "constant",
+                Demand::Rate { profile: Some(_), .. } => "profile",
+                Demand::Orders => "orders",
+            },
+            "mean_lots_per_h": pic.product_rate_per_h[p],
+        })).collect::<Vec<_>>(),
         "from_to": pairs,
         "departments": plant.departments.iter().enumerate().map(|(d, dep)| json!({
             "department": dep.id,

@@ -26,7 +26,9 @@ use clap::{Parser, Subcommand, ValueEnum};
     about,
     long_about = None,
     after_help = "Examples:\n  layflow check scenarios/demo.yaml\n  layflow run scenarios/demo.yaml\n  \
-                  layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n\n\
+                  layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n  \
+                  layflow compare scenarios/demo.yaml --demand 0.8,1.0,1.2\n  \
+                  layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed."
 )]
 struct Cli {

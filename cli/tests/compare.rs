@@ -183,3 +183,16 @@ fn bad_arguments_exit_2_with_a_reason() {
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("--max-replications"));
 }
+
+#[test]
+fn check_json_names_each_products_demand() {
+    let out = layflow(&["check", "scenarios/orders-demo.yaml", "--format", "json"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let kinds: Vec<&str> =
+        v["products"].as_array().unwrap().iter().map(|p| p["demand"].as_str().unwrap()).collect();
+    assert_eq!(kinds, ["profile", "orders", "constant"]);
+    // The trace holds 302 lots a week (the file's header says so): 302 / 168 h.
+    let shaft = v["products"][1]["mean_lots_per_h"].as_f64().unwrap();
+    assert!((shaft - 302.0 / 168.0).abs() < 1e-9, "{shaft}");
+}
