@@ -7,6 +7,8 @@ pub mod plant;
 pub mod report;
 pub mod scenario;
 pub mod sim;
+pub mod sizing;
+pub mod travel;
 pub mod units;
 
 pub use scenario::{load_scenario, parse_scenario, ScenarioError};
