@@ -9,8 +9,15 @@
 //! the visit (traffic) equations v = e₁ + Pᵀv of the product's routing, an
 //! absorbing Markov chain whose absorbing state is the shipping step
 //! (Jackson 1957 for the open-network form of these equations).
+//!
+//! Each move's flow goes to the fleets allowed to serve it
+//! ([`move_shares`]): all of it to the first listed under
+//! `fleet_choice: first-listed`; under `nearest-idle`, shared in proportion
+//! to the fleets' movers, as if every mover were equally likely to be the
+//! nearest idle one (an approximation: the simulation decides by position).
 
-use crate::plant::{DepartmentRole, Plant};
+use crate::plant::{DepartmentRole, FleetChoice, Plant};
+use crate::travel::travel_time;
 
 /// Expected visits per lot to each operation of a product's routing.
 ///
@@ -87,6 +94,9 @@ pub struct StaticPicture {
     pub arrivals_per_h: Vec<f64>,
     /// Predicted utilisation λ·E[S]/c per department (0 for docks).
     pub utilization: Vec<f64>,
+    /// Per fleet, per department: loads per hour the fleet picks up there
+    /// (its share of the from-to chart, by [`move_shares`]).
+    pub fleet_pickups_per_h: Vec<Vec<f64>>,
     /// Per layout, in scenario order.
     pub layouts: Vec<LayoutPicture>,
 }
@@ -99,7 +109,10 @@ pub struct LayoutPicture {
     /// load-distance × cost per load-metre, currency per hour.
     pub handling_cost_per_h: f64,
     /// Per fleet: a lower bound on utilisation (loaded travel, loading and
-    /// unloading only; any empty travel comes on top).
+    /// unloading only; any empty travel comes on top). Times follow the
+    /// fleet's speed, acceleration and efficiency; a fleet that carries k
+    /// loads at once is credited with loaded travel ÷ k, since one trip can
+    /// carry up to k loads. The share is of all hours, on duty or not.
     pub fleet_utilization_lower_bound: Vec<f64>,
     /// Per fleet: loaded trips per hour it must make.
     pub fleet_trips_per_h: Vec<f64>,
@@ -159,6 +172,7 @@ impl StaticPicture {
             .collect();
         let layouts =
             (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
+        let fleet_pickups_per_h = pickups(plant, &by_product);
         StaticPicture {
             demand_factor,
             product_rate_per_h: rates,
@@ -167,6 +181,7 @@ impl StaticPicture {
             from_to_by_product: by_product,
             arrivals_per_h: arrivals,
             utilization,
+            fleet_pickups_per_h,
             layouts,
         }
     }
@@ -193,19 +208,96 @@ pub fn load_distance(plant: &Plant, layout: usize, flow: &[f64]) -> f64 {
     z
 }
 
+/// How the flow of a move of a `product` lot from department `from` to `to`
+/// is shared among fleets, as (fleet, share) with shares summing to 1; empty
+/// for instant handling. `first-listed`: all to the first allowed fleet;
+/// `nearest-idle`: in proportion to the allowed fleets' movers.
+pub fn move_shares(plant: &Plant, product: usize, from: usize, to: usize) -> Vec<(usize, f64)> {
+    let allowed = plant.fleets_for_move(product, from, to);
+    match plant.fleet_choice {
+        FleetChoice::FirstListed => allowed.first().map(|&f| (f, 1.0)).into_iter().collect(),
+        FleetChoice::NearestIdle => {
+            let fleets = plant.fleets();
+            let movers: f64 = allowed.iter().map(|&f| f64::from(fleets[f].count)).sum();
+            allowed.iter().map(|&f| (f, f64::from(fleets[f].count) / movers)).collect()
+        }
+    }
+}
+
+/// Each product's from-to chart split by fleet: `[fleet][from·n + to]`, loads per hour.
+fn by_fleet(plant: &Plant, product: usize, ft: &[f64]) -> Vec<Vec<f64>> {
+    let nd = plant.departments.len();
+    let mut out = vec![vec![0.0; nd * nd]; plant.fleets().len()];
+    for i in 0..nd {
+        for j in 0..nd {
+            let flow = ft[i * nd + j];
+            if flow != 0.0 {
+                for (f, w) in move_shares(plant, product, i, j) {
+                    out[f][i * nd + j] += w * flow;
+                }
+            }
+        }
+    }
+    out
+}
+
+/// Loads per hour each fleet picks up at each department.
+fn pickups(plant: &Plant, by_product: &[Vec<f64>]) -> Vec<Vec<f64>> {
+    let nd = plant.departments.len();
+    let mut out = vec![vec![0.0; nd]; plant.fleets().len()];
+    for (p, ft) in by_product.iter().enumerate() {
+        for (f, chart) in by_fleet(plant, p, ft).iter().enumerate() {
+            for i in 0..nd {
+                out[f][i] += chart[i * nd..(i + 1) * nd].iter().sum::<f64>();
+            }
+        }
+    }
+    out
+}
+
+/// Loads per hour each fleet picks up at each department at the scenario's
+/// own demand factor (`[fleet][department]`): where a reserve with no `at` waits.
+pub fn fleet_pickups_per_h(plant: &Plant) -> Vec<Vec<f64>> {
+    StaticPicture::new(plant, plant.demand_factor).fleet_pickups_per_h
+}
+
+/// Σ_ij flow_ij × travel time(d_ij) in seconds per hour at top speed `v` and
+/// acceleration `accel`: load-distance ÷ v when there is no acceleration.
+fn travel_s_per_h(plant: &Plant, layout: usize, flow: &[f64], v: f64, accel: Option<f64>) -> f64 {
+    let Some(a) = accel else {
+        return load_distance(plant, layout, flow) / v;
+    };
+    let nd = plant.departments.len();
+    let loc = &plant.layouts[layout].location_of;
+    let mut t = 0.0;
+    for i in 0..nd {
+        for j in 0..nd {
+            let f = flow[i * nd + j];
+            if f != 0.0 {
+                t += f * travel_time(plant.distance(loc[i], loc[j]), v, Some(a));
+            }
+        }
+    }
+    t
+}
+
 fn layout_picture(plant: &Plant, layout: usize, from_to: &[f64], by_product: &[Vec<f64>]) -> LayoutPicture {
     let load_distance_m_per_h = load_distance(plant, layout, from_to);
     let fleets = plant.fleets();
     let mut trips = vec![0.0; fleets.len()];
     let mut busy_s_per_h = vec![0.0; fleets.len()];
     for (p, ft) in by_product.iter().enumerate() {
-        let Some(f) = plant.fleet_for(p) else {
-            continue;
-        };
-        let fl = &fleets[f];
-        let n: f64 = ft.iter().sum();
-        trips[f] += n;
-        busy_s_per_h[f] += load_distance(plant, layout, ft) / fl.speed_loaded + n * (fl.load_s + fl.unload_s);
+        for (f, chart) in by_fleet(plant, p, ft).iter().enumerate() {
+            let n: f64 = chart.iter().sum();
+            if n == 0.0 {
+                continue;
+            }
+            let fl = &fleets[f];
+            let travel =
+                travel_s_per_h(plant, layout, chart, fl.speed_loaded, fl.accel) / f64::from(fl.capacity);
+            trips[f] += n;
+            busy_s_per_h[f] += (travel + n * (fl.load_s + fl.unload_s)) / fl.operators.efficiency;
+        }
     }
     let bound = fleets.iter().zip(&busy_s_per_h).map(|(fl, &s)| s / 3600.0 / f64::from(fl.count)).collect();
     LayoutPicture {

@@ -34,6 +34,8 @@ pub struct Plant {
     pub demand_factor: f64,
     /// Cost per load-metre for the static handling cost (currency per load per metre).
     pub cost_per_load_metre: f64,
+    /// Which of the fleets allowed to serve a move takes it.
+    pub fleet_choice: FleetChoice,
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
@@ -104,6 +106,8 @@ pub struct Product {
     pub enters_at: usize,
     /// Operations; `routing[0]` is the first one visited.
     pub routing: Vec<Operation>,
+    /// Weight of one lot, kg; `None`: any fleet may lift it.
+    pub weight_kg: Option<f64>,
 }
 
 /// Where a product's lots come from.
@@ -205,9 +209,24 @@ pub enum DispatchRule {
     /// A new request goes to the idle mover closest to the pick-up point; a
     /// mover that becomes free takes the oldest waiting request.
     NearestIdle,
-    /// Requests are served strictly in the order they were made, each by the
-    /// mover that has been idle longest.
+    /// Oldest request first: requests are served strictly in the order they
+    /// were made, each by the mover that has been idle longest.
     FirstCome,
+    /// A new request goes to the idle mover closest to the pick-up point; a
+    /// mover that becomes free takes the waiting request whose pick-up is
+    /// nearest to where it is (equally near: the older request).
+    NearestRequest,
+    /// As [`DispatchRule::NearestIdle`], and a mover that comes free with no
+    /// waiting request drives to the reserve department while fewer than
+    /// `movers` idle movers are there or on their way; it takes no request
+    /// until it arrives.
+    Reserve {
+        /// Movers to keep at the reserve (1 to the fleet's count).
+        movers: u32,
+        /// The reserve department; `None`: the department where this fleet
+        /// picks up the most loads per hour (from the static from-to chart).
+        at: Option<usize>,
+    },
 }
 
 /// What a mover does when it has no request to serve.
@@ -217,6 +236,54 @@ pub enum IdleRule {
     Stay,
     /// Drive empty back to its home; it takes no request until it arrives.
     GoHome,
+    /// Drive empty to the nearest of the fleet's parking locations (equally
+    /// near: the first listed); it takes no request until it arrives.
+    Park,
+}
+
+/// Which of the fleets allowed to serve a move takes it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FleetChoice {
+    /// The first listed fleet allowed to serve the move takes it, always.
+    FirstListed,
+    /// The nearest idle mover of any allowed fleet; with none idle, the
+    /// request waits for the first freed mover of any allowed fleet.
+    NearestIdle,
+}
+
+/// One entry of a fleet's `serves` list: a move matches when its departments
+/// equal the ones given (a missing side matches any department).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct MoveFilter {
+    /// Department the load is picked up from; `None`: any.
+    pub from: Option<usize>,
+    /// Department the load is taken to; `None`: any.
+    pub to: Option<usize>,
+}
+
+/// When a fleet's operators work and how much of their time is lost.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Operators {
+    /// Share of time that is productive (0 < e <= 1). Travel and handling
+    /// times are divided by it: it stands for traffic, operator delays and
+    /// other lost time, as the efficiency factor of the fleet-size planning
+    /// formula does (REFERENCES §7).
+    pub efficiency: f64,
+    /// Working windows (shifts less breaks); `None`: on duty all the time.
+    pub duty: Option<DutyCalendar>,
+}
+
+/// On-duty windows repeating every `period_s` seconds from the start of the run.
+///
+/// The loader guarantees `period_s > 0` and `on` sorted, disjoint and not
+/// touching, each window `0 <= start < end <= period_s`, at least one, and
+/// not the whole period (that is `None` in [`Operators::duty`]).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DutyCalendar {
+    /// Length of one repetition, s.
+    pub period_s: f64,
+    /// (start, end) offsets in the period of each on-duty window, s.
+    pub on: Vec<(f64, f64)>,
 }
 
 /// Where a fleet's movers start and, with [`IdleRule::GoHome`], return.
@@ -257,6 +324,18 @@ pub struct Fleet {
     pub idle: IdleRule,
     /// `carries[product]`: whether this fleet moves that product's lots.
     pub carries: Vec<bool>,
+    /// Acceleration and braking, m/s² (> 0); `None`: speed changes are instantaneous.
+    pub accel: Option<f64>,
+    /// The moves it may serve (any entry matching); empty: every move.
+    pub serves: Vec<MoveFilter>,
+    /// Heaviest lot it may carry, kg; `None`: no limit.
+    pub max_load_kg: Option<f64>,
+    /// Loads a mover can have on board at once (at least 1).
+    pub capacity: u32,
+    /// Parking locations (location indices) for [`IdleRule::Park`]; empty otherwise.
+    pub parking: Vec<usize>,
+    /// Efficiency and working hours of the operators.
+    pub operators: Operators,
 }
 
 /// Run settings from the scenario (the command line may override them).
@@ -283,13 +362,30 @@ impl Plant {
         self.layouts.iter().position(|l| l.name == name)
     }
 
-    /// The fleet that carries lots of `product`: the first listed that may.
-    /// `None` for instant handling.
+    /// The first listed fleet that may carry lots of `product` (by `carries`
+    /// and load weight), whatever the move; `None` for instant handling or
+    /// when none may. Which fleets may serve a given move: [`Plant::fleets_for_move`].
     pub fn fleet_for(&self, product: usize) -> Option<usize> {
-        match &self.handling {
-            Handling::Instant => None,
-            Handling::Fleets(fleets) => fleets.iter().position(|f| f.carries[product]),
-        }
+        (0..self.fleets().len()).find(|&f| self.fleet_may_carry(f, product))
+    }
+
+    /// Whether fleet `f` may carry lots of `product` at all: the product is
+    /// in the fleet's `carries` and no heavier than its `max_load`.
+    pub fn fleet_may_carry(&self, f: usize, product: usize) -> bool {
+        self.fleets()[f].may_carry(product, self.products[product].weight_kg)
+    }
+
+    /// Whether fleet `f` may serve the move of a `product` lot from
+    /// department `from` to department `to`.
+    pub fn fleet_may_serve(&self, f: usize, product: usize, from: usize, to: usize) -> bool {
+        self.fleets()[f].may_serve(product, self.products[product].weight_kg, from, to)
+    }
+
+    /// The fleets allowed to serve a move, in listed order (empty for instant
+    /// handling). With [`FleetChoice::FirstListed`] the first one takes it.
+    /// Builds a list: for compiling and the static picture, not the hot loop.
+    pub fn fleets_for_move(&self, product: usize, from: usize, to: usize) -> Vec<usize> {
+        (0..self.fleets().len()).filter(|&f| self.fleet_may_serve(f, product, from, to)).collect()
     }
 
     /// The fleets (empty for instant handling).
@@ -380,6 +476,27 @@ impl OrderTrace {
     }
 }
 
+impl Fleet {
+    /// Whether this fleet may carry lots of product `product` weighing
+    /// `weight_kg`: it is in `carries` and, where both are given, no heavier
+    /// than `max_load`.
+    pub fn may_carry(&self, product: usize, weight_kg: Option<f64>) -> bool {
+        let light_enough = match (weight_kg, self.max_load_kg) {
+            (Some(w), Some(max)) => w <= max,
+            _ => true,
+        };
+        self.carries[product] && light_enough
+    }
+
+    /// Whether this fleet may serve the move of such a lot from department
+    /// `from` to department `to`: it may carry it, and `serves` is absent or
+    /// has an entry matching the move.
+    pub fn may_serve(&self, product: usize, weight_kg: Option<f64>, from: usize, to: usize) -> bool {
+        let matches = |m: &MoveFilter| m.from.is_none_or(|d| d == from) && m.to.is_none_or(|d| d == to);
+        self.may_carry(product, weight_kg) && (self.serves.is_empty() || self.serves.iter().any(matches))
+    }
+}
+
 impl Home {
     /// The home's location index under a layout.
     pub fn location(self, layout: &Layout) -> usize {
@@ -387,5 +504,86 @@ impl Home {
             Home::Location(l) => l,
             Home::Department(d) => layout.location_of[d],
         }
+    }
+}
+
+impl DutyCalendar {
+    /// Whether the operators are on duty at offset `x` (`0 <= x < period_s`) of a period.
+    fn on_at_offset(&self, x: f64) -> bool {
+        self.on.iter().any(|&(a, b)| a <= x && x < b)
+    }
+
+    /// Whether the operators are on duty at time `t` (>= 0) of the run.
+    pub fn on_at(&self, t: f64) -> bool {
+        self.on_at_offset(t.rem_euclid(self.period_s))
+    }
+
+    /// Offsets in the period (`0 <= x < period_s`, increasing) where the duty
+    /// state changes, a change across the end of one period into the next
+    /// counting at offset 0. On and off alternate from one to the next.
+    pub fn changes(&self) -> Vec<f64> {
+        let p = self.period_s;
+        let mut out = Vec::with_capacity(2 * self.on.len());
+        // Just before the start of a period is the end of the previous one.
+        let on_before_start = self.on.last().is_some_and(|&(_, b)| b == p);
+        if on_before_start != self.on_at_offset(0.0) {
+            out.push(0.0);
+        }
+        for &(a, b) in &self.on {
+            if a > 0.0 {
+                out.push(a);
+            }
+            if b < p {
+                out.push(b);
+            }
+        }
+        out
+    }
+
+    /// On-duty seconds between times `a` and `b` of the run (`0 <= a <= b`).
+    pub fn on_duty_s(&self, a: f64, b: f64) -> f64 {
+        let p = self.period_s;
+        let per_period: f64 = self.on.iter().map(|&(s, e)| e - s).sum();
+        // Whole periods, then what has passed of the windows in the partial one.
+        let up_to = |t: f64| {
+            let n = (t / p).floor();
+            let x = t - n * p;
+            n * per_period + self.on.iter().map(|&(s, e)| (x.min(e) - s).max(0.0)).sum::<f64>()
+        };
+        up_to(b) - up_to(a)
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::DutyCalendar;
+
+    const H: f64 = 3600.0;
+
+    #[test]
+    fn duty_changes_alternate_across_the_end_of_the_period() {
+        // Common practice: a night shift 22–6 h is written as two windows; the
+        // day boundary is no change, so it flips only at 6 h and 22 h.
+        let night = DutyCalendar { period_s: 24.0 * H, on: vec![(0.0, 6.0 * H), (22.0 * H, 24.0 * H)] };
+        assert_eq!(night.changes(), [6.0 * H, 22.0 * H]);
+        assert!(night.on_at(0.0) && night.on_at(23.0 * H) && !night.on_at(12.0 * H));
+        // A window from 0 that ends before the period: a change at offset 0
+        // (coming back each period) and one at 8 h.
+        let early = DutyCalendar { period_s: 24.0 * H, on: vec![(0.0, 8.0 * H)] };
+        assert_eq!(early.changes(), [0.0, 8.0 * H]);
+        // A window inside the period: no change at 0.
+        let day = DutyCalendar { period_s: 24.0 * H, on: vec![(6.0 * H, 22.0 * H)] };
+        assert_eq!(day.changes(), [6.0 * H, 22.0 * H]);
+        assert!(!day.on_at(0.0));
+    }
+
+    #[test]
+    fn on_duty_seconds_count_whole_and_partial_periods() {
+        // 6–22 h, 16 h a day. From 3 h to 60 h, by hand: day 1 16 h, day 2
+        // 16 h, day 3 up to 12 h 6 h; 38 h in all (common practice).
+        let day = DutyCalendar { period_s: 24.0 * H, on: vec![(6.0 * H, 22.0 * H)] };
+        assert!((day.on_duty_s(3.0 * H, 60.0 * H) - 38.0 * H).abs() < 1e-6);
+        assert!((day.on_duty_s(0.0, 24.0 * H) - 16.0 * H).abs() < 1e-6);
+        assert!((day.on_duty_s(10.0 * H, 10.0 * H)).abs() < 1e-9);
     }
 }

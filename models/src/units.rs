@@ -1,4 +1,5 @@
-//! Values with units from scenario text: durations to seconds, speeds to metres per second.
+//! Values with units from scenario text: durations to seconds, speeds to metres per second,
+//! accelerations to m/s², weights to kilograms.
 //!
 //! Every time and speed in a scenario carries its unit, because a bare `5`
 //! is as likely to mean minutes as seconds and a silent guess would make a
@@ -15,6 +16,18 @@ const DURATION_UNITS: &[(&str, f64)] = &[("s", 1.0), ("min", 60.0), ("h", 3600.0
 
 /// Speed units accepted, with their value in metres per second.
 const SPEED_UNITS: &[(&str, f64)] = &[("m/s", 1.0), ("m/min", 1.0 / 60.0), ("km/h", 1000.0 / 3600.0)];
+
+/// Acceleration units accepted (both spellings of m/s²), with their value in m/s².
+const ACCELERATION_UNITS: &[(&str, f64)] = &[("m/s2", 1.0), ("m/s²", 1.0)];
+
+/// Weight units accepted, with their value in kilograms.
+const WEIGHT_UNITS: &[(&str, f64)] = &[("kg", 1.0), ("t", 1000.0)];
+
+/// The hint given when an acceleration has no unit.
+pub const ACCELERATION_EXAMPLE: &str = "write \"0.5 m/s2\" or \"0.5 m/s²\"";
+
+/// The hint given when a weight has no unit.
+pub const WEIGHT_EXAMPLE: &str = "write \"800 kg\" or \"1.2 t\"";
 
 /// The hint given when a duration has no unit.
 pub const DURATION_EXAMPLE: &str = "write \"5 min\" or \"300 s\"";
@@ -33,6 +46,49 @@ pub fn parse_duration(text: &str) -> Result<f64, String> {
 /// Parses a speed such as `"2.0 m/s"`, `"8 km/h"` or `"90 m/min"` into metres per second.
 pub fn parse_speed(text: &str) -> Result<f64, String> {
     parse_with_units(text, SPEED_UNITS, "speed", SPEED_EXAMPLE)
+}
+
+/// Parses an acceleration such as `"0.5 m/s2"` or `"0.5 m/s²"` into m/s².
+pub fn parse_acceleration(text: &str) -> Result<f64, String> {
+    // The unit ends in a digit or a superscript, which the letter-run split
+    // of the other quantities would cut off, so match the known endings.
+    let t = text.trim();
+    match ACCELERATION_UNITS.iter().find(|(u, _)| t.ends_with(u)) {
+        Some((u, factor)) => {
+            let number = t[..t.len() - u.len()].trim();
+            if number.is_empty() {
+                return Err(format!("acceleration \"{t}\" has no number; {ACCELERATION_EXAMPLE}"));
+            }
+            let value: f64 = number.parse().map_err(|_| {
+                format!("acceleration \"{t}\": \"{number}\" is not a number; {ACCELERATION_EXAMPLE}")
+            })?;
+            if !value.is_finite() {
+                return Err(format!("acceleration \"{t}\" is not finite"));
+            }
+            Ok(value * factor)
+        }
+        None if t.parse::<f64>().is_ok() => {
+            Err(format!("acceleration \"{t}\" needs a unit: {ACCELERATION_EXAMPLE}"))
+        }
+        None => Err(format!(
+            "acceleration \"{t}\": unknown or missing unit (accepted: {}); {ACCELERATION_EXAMPLE}",
+            unit_list(ACCELERATION_UNITS)
+        )),
+    }
+}
+
+/// Parses a weight such as `"800 kg"` or `"1.2 t"` into kilograms.
+pub fn parse_weight(text: &str) -> Result<f64, String> {
+    parse_with_units(text, WEIGHT_UNITS, "weight", WEIGHT_EXAMPLE)
+}
+
+/// Formats kilograms for messages: tonnes from 1000 kg up.
+pub fn format_weight(kg: f64) -> String {
+    if kg.abs() >= 1000.0 {
+        format!("{} t", trim_number(kg / 1000.0))
+    } else {
+        format!("{} kg", trim_number(kg))
+    }
 }
 
 /// Formats seconds in the largest unit that keeps the number readable, for messages.
@@ -96,6 +152,14 @@ pub struct Seconds(pub f64);
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MetresPerSecond(pub f64);
 
+/// An acceleration in m/s², deserialized from text with a unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct MetresPerSecondSquared(pub f64);
+
+/// A weight in kilograms, deserialized from text with a unit.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Kilograms(pub f64);
+
 struct UnitVisitor {
     what: &'static str,
     example: &'static str,
@@ -140,6 +204,24 @@ impl<'de> Deserialize<'de> for MetresPerSecond {
     }
 }
 
+impl<'de> Deserialize<'de> for MetresPerSecondSquared {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(UnitVisitor {
+            what: "acceleration",
+            example: ACCELERATION_EXAMPLE,
+            parse: parse_acceleration,
+        })
+        .map(MetresPerSecondSquared)
+    }
+}
+
+impl<'de> Deserialize<'de> for Kilograms {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        d.deserialize_any(UnitVisitor { what: "weight", example: WEIGHT_EXAMPLE, parse: parse_weight })
+            .map(Kilograms)
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -171,6 +253,22 @@ mod tests {
         assert!(parse_duration("min").unwrap_err().contains("no number"));
         assert!(parse_duration("inf s").is_err());
         assert!(parse_speed("3 mph").unwrap_err().contains("m/s, m/min, km/h"));
+    }
+
+    #[test]
+    fn accelerations_and_weights_convert() {
+        assert_eq!(parse_acceleration("0.5 m/s2"), Ok(0.5));
+        assert_eq!(parse_acceleration("0.5 m/s²"), Ok(0.5));
+        assert_eq!(parse_acceleration(" 1e-1m/s2 "), Ok(0.1));
+        assert!(parse_acceleration("0.5").unwrap_err().contains("needs a unit"));
+        assert!(parse_acceleration("0.5 g").unwrap_err().contains("m/s2, m/s²"));
+        assert!(parse_acceleration("x m/s2").unwrap_err().contains("\"x\" is not a number"));
+        assert_eq!(parse_weight("800 kg"), Ok(800.0));
+        assert_eq!(parse_weight("1.2 t"), Ok(1200.0));
+        assert!(parse_weight("800").unwrap_err().contains("needs a unit"));
+        assert!(parse_weight("2 lb").unwrap_err().contains("accepted: kg, t"));
+        assert_eq!(format_weight(800.0), "800 kg");
+        assert_eq!(format_weight(1200.0), "1.2 t");
     }
 
     #[test]

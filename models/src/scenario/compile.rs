@@ -8,9 +8,9 @@ use std::path::Path;
 
 use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
-use super::schema::{DockSpec, Scenario};
+use super::schema::{DockSpec, FleetChoiceSpec, Scenario};
 use super::{demand, distance, fleet, routing};
-use crate::plant::{Department, DepartmentRole, Layout, Location, Plant, RunSettings};
+use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
 
 /// Default number of replications when the scenario gives none.
@@ -116,6 +116,10 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         orders,
         demand_factor,
         cost_per_load_metre,
+        fleet_choice: match s.fleet_choice {
+            None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,
+            Some(FleetChoiceSpec::NearestIdle) => FleetChoice::NearestIdle,
+        },
     })
 }
 

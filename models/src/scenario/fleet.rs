@@ -1,10 +1,21 @@
-//! How loads move: instant moves, or fleets of forklifts, tow carts and walkers.
+//! How loads move: instant moves, or fleets of forklifts, tow carts and walkers, and which fleet may serve which move.
 
 use super::compile::{check_unique, resolve, Ctx};
 use super::error::{did_you_mean, name_list, ScenarioError};
 use super::locate::FieldPath;
+use super::operators::operators;
 use super::schema::{DispatchSpec, FleetSpec, IdleSpec, KindSpec, Scenario};
-use crate::plant::{Department, DispatchRule, Fleet, Handling, Home, IdleRule, Location, MoverKind, Product};
+use crate::plant::{
+    Department, DispatchRule, Fleet, Handling, Home, IdleRule, Location, MoveFilter, MoverKind, Product,
+};
+use crate::units::format_weight;
+
+/// A walker's speed, loaded and empty, when the scenario gives none, m/s:
+/// free walking is about 1.2–1.4 m/s (REFERENCES §10, common practice); the
+/// low end, since the walker carries something.
+const WALKER_SPEED: f64 = 1.2;
+/// A walker's time to pick up or set down a tote when the scenario gives none, s (common practice).
+const WALKER_HANDLING_S: f64 = 10.0;
 
 /// Compiles `moves` and `fleets`.
 pub(crate) fn handling(
@@ -55,6 +66,7 @@ pub(crate) fn handling(
                 )));
         }
     }
+    every_move_served(s, &out, departments, products, ctx)?;
     Ok(Handling::Fleets(out))
 }
 
@@ -69,7 +81,16 @@ fn fleet(
     if f.count == 0 {
         return Err(ctx.err(&fp.key("count"), format!("fleet \"{}\" needs at least 1 mover", f.id)));
     }
-    for (v, field) in [(f.speed.loaded.0, "loaded"), (f.speed.empty.0, "empty")] {
+    let (speed_loaded, speed_empty) = match (&f.speed, f.kind) {
+        (Some(sp), _) => (sp.loaded.0, sp.empty.0),
+        (None, KindSpec::Walker) => (WALKER_SPEED, WALKER_SPEED),
+        (None, _) => {
+            return Err(ctx.err(&fp.key("speed"), format!("fleet \"{}\" needs `speed`", f.id)).with_hint(
+                "give `speed: { loaded: 7 km/h, empty: 9 km/h }`; only walkers have a default speed",
+            ))
+        }
+    };
+    for (v, field) in [(speed_loaded, "loaded"), (speed_empty, "empty")] {
         if !(v > 0.0) {
             return Err(ctx.err(
                 &fp.key("speed").key(field),
@@ -77,7 +98,18 @@ fn fleet(
             ));
         }
     }
-    let (load_s, unload_s) = f.handling.as_ref().map_or((0.0, 0.0), |h| (h.load.0, h.unload.0));
+    let accel = f.acceleration.map(|a| a.0);
+    if let Some(a) = accel {
+        if !(a > 0.0) {
+            return Err(ctx.err(
+                &fp.key("acceleration"),
+                format!("acceleration of fleet \"{}\" must be greater than 0, got {a} m/s²", f.id),
+            ));
+        }
+    }
+    let default_handling = if matches!(f.kind, KindSpec::Walker) { WALKER_HANDLING_S } else { 0.0 };
+    let (load_s, unload_s) =
+        f.handling.as_ref().map_or((default_handling, default_handling), |h| (h.load.0, h.unload.0));
     for (v, field) in [(load_s, "load"), (unload_s, "unload")] {
         if !(v >= 0.0) {
             return Err(ctx.err(
@@ -107,6 +139,21 @@ fn fleet(
             c
         }
     };
+    let max_load_kg = f.max_load.map(|w| w.0);
+    if let Some(w) = max_load_kg {
+        if !(w > 0.0) {
+            return Err(ctx.err(
+                &fp.key("max_load"),
+                format!("max_load of fleet \"{}\" must be more than 0, got {w} kg", f.id),
+            ));
+        }
+    }
+    let capacity = f.capacity.unwrap_or(1);
+    if capacity == 0 {
+        return Err(ctx
+            .err(&fp.key("capacity"), format!("capacity of fleet \"{}\" must be at least 1 load", f.id))
+            .with_hint("a forklift carries 1 load; a tow train carries as many as it has carts"));
+    }
     Ok(Fleet {
         id: f.id.clone(),
         kind: match f.kind {
@@ -115,23 +162,230 @@ fn fleet(
             KindSpec::Walker => MoverKind::Walker,
         },
         count: f.count,
-        speed_loaded: f.speed.loaded.0,
-        speed_empty: f.speed.empty.0,
+        speed_loaded,
+        speed_empty,
         load_s,
         unload_s,
         cost_per_h: per_h,
         cost_per_km: per_km,
         home,
-        dispatch: match f.dispatch {
-            None | Some(DispatchSpec::NearestIdle) => DispatchRule::NearestIdle,
-            Some(DispatchSpec::FirstCome) => DispatchRule::FirstCome,
-        },
-        idle: match f.when_idle {
-            None | Some(IdleSpec::Stay) => IdleRule::Stay,
-            Some(IdleSpec::GoHome) => IdleRule::GoHome,
-        },
+        dispatch: dispatch(f, fp, departments, ctx)?,
+        idle: idle(f, fp, ctx)?,
         carries,
+        accel,
+        serves: serves(f, fp, departments, ctx)?,
+        max_load_kg,
+        capacity,
+        parking: parking(f, fp, locations, ctx)?,
+        operators: operators(f.operators.as_ref(), &f.id, &fp.key("operators"), ctx)?,
     })
+}
+
+/// `dispatch`, with `reserve: { movers, at }` exactly when it is `reserve`.
+fn dispatch(
+    f: &FleetSpec,
+    fp: &FieldPath,
+    departments: &[Department],
+    ctx: &Ctx,
+) -> Result<DispatchRule, ScenarioError> {
+    match (f.dispatch, &f.reserve) {
+        (Some(DispatchSpec::Reserve), None) => Err(ctx
+            .err(&fp.key("dispatch"), format!("`dispatch: reserve` of fleet \"{}\" needs `reserve`", f.id))
+            .with_hint("add `reserve: { movers: 1 }` (and `at: <department>` to choose where)")),
+        (Some(DispatchSpec::Reserve), Some(r)) => {
+            let rp = fp.key("reserve");
+            if r.movers == 0 || r.movers > f.count {
+                return Err(ctx.err(
+                    &rp.key("movers"),
+                    format!(
+                        "reserve movers of fleet \"{}\" must be from 1 to its count ({}), got {}",
+                        f.id, f.count, r.movers
+                    ),
+                ));
+            }
+            let at = match &r.at {
+                None => None,
+                Some(name) => {
+                    let ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
+                    Some(resolve(ctx, &rp.key("at"), "department", name, &ids)?)
+                }
+            };
+            Ok(DispatchRule::Reserve { movers: r.movers, at })
+        }
+        (_, Some(_)) => Err(ctx
+            .err(&fp.key("reserve"), format!("fleet \"{}\" has `reserve` but not `dispatch: reserve`", f.id))
+            .with_hint("set `dispatch: reserve`, or remove `reserve`")),
+        (None | Some(DispatchSpec::NearestIdle), None) => Ok(DispatchRule::NearestIdle),
+        (Some(DispatchSpec::FirstCome), None) => Ok(DispatchRule::FirstCome),
+        (Some(DispatchSpec::NearestRequest), None) => Ok(DispatchRule::NearestRequest),
+    }
+}
+
+/// `when_idle`; `park` needs `parking`, and `parking` needs `park`.
+fn idle(f: &FleetSpec, fp: &FieldPath, ctx: &Ctx) -> Result<IdleRule, ScenarioError> {
+    match (f.when_idle, &f.parking) {
+        (Some(IdleSpec::Park), None) => Err(ctx
+            .err(&fp.key("when_idle"), format!("`when_idle: park` of fleet \"{}\" needs `parking`", f.id))
+            .with_hint("add `parking: [<location id>, ...]`")),
+        (Some(IdleSpec::Park), Some(_)) => Ok(IdleRule::Park),
+        (_, Some(_)) => Err(ctx
+            .err(&fp.key("parking"), format!("fleet \"{}\" has `parking` but not `when_idle: park`", f.id))
+            .with_hint("set `when_idle: park`, or remove `parking`")),
+        (None | Some(IdleSpec::Stay), None) => Ok(IdleRule::Stay),
+        (Some(IdleSpec::GoHome), None) => Ok(IdleRule::GoHome),
+    }
+}
+
+/// The parking locations, in listed order.
+fn parking(
+    f: &FleetSpec,
+    fp: &FieldPath,
+    locations: &[Location],
+    ctx: &Ctx,
+) -> Result<Vec<usize>, ScenarioError> {
+    let Some(names) = &f.parking else {
+        return Ok(Vec::new());
+    };
+    let pp = fp.key("parking");
+    if names.is_empty() {
+        return Err(ctx
+            .err(&pp, format!("`parking` of fleet \"{}\" is empty", f.id))
+            .with_hint("list one or more location ids"));
+    }
+    let ids: Vec<&str> = locations.iter().map(|l| l.id.as_str()).collect();
+    names.iter().enumerate().map(|(k, n)| resolve(ctx, &pp.index(k), "location", n, &ids)).collect()
+}
+
+/// The `serves` entries (absent: every move).
+fn serves(
+    f: &FleetSpec,
+    fp: &FieldPath,
+    departments: &[Department],
+    ctx: &Ctx,
+) -> Result<Vec<MoveFilter>, ScenarioError> {
+    let Some(list) = &f.serves else {
+        return Ok(Vec::new());
+    };
+    let sp = fp.key("serves");
+    if list.is_empty() {
+        return Err(ctx
+            .err(&sp, format!("`serves` of fleet \"{}\" is empty: it could serve no move", f.id))
+            .with_hint("leave `serves` out to serve every move, or list entries such as `{ from: saw }`"));
+    }
+    let ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
+    let mut out = Vec::with_capacity(list.len());
+    for (k, e) in list.iter().enumerate() {
+        let ep = sp.index(k);
+        if e.from.is_none() && e.to.is_none() {
+            return Err(ctx.err(&ep, "a `serves` entry needs `from`, `to` or both").with_hint(
+                "e.g. `{ from: receiving }`, `{ to: shipping }` or `{ from: saw, to: turning }`",
+            ));
+        }
+        let side = |name: &Option<String>, key: &str| {
+            name.as_ref().map(|n| resolve(ctx, &ep.key(key), "department", n, &ids)).transpose()
+        };
+        out.push(MoveFilter { from: side(&e.from, "from")?, to: side(&e.to, "to")? });
+    }
+    Ok(out)
+}
+
+/// Every move a lot can make (from its receiving dock to its first step, and
+/// along every branch from a step it can reach) must have a fleet allowed to serve it.
+fn every_move_served(
+    s: &Scenario,
+    fleets: &[Fleet],
+    departments: &[Department],
+    products: &[Product],
+    ctx: &Ctx,
+) -> Result<(), ScenarioError> {
+    for (p, prod) in products.iter().enumerate() {
+        let pp = FieldPath::root().key("products").index(p);
+        let ops = &prod.routing;
+        let first = ops[0].department;
+        if first != prod.enters_at && !served(fleets, p, prod, prod.enters_at, first) {
+            let what = format!(
+                "from its receiving dock \"{}\" to step \"{}\" (at \"{}\")",
+                departments[prod.enters_at].id, ops[0].name, departments[first].id
+            );
+            let at = pp.key("routing").index(0);
+            return Err(unserved(ctx, &at, fleets, departments, (p, prod), (prod.enters_at, first), &what));
+        }
+        for j in reachable(prod) {
+            let from = ops[j].department;
+            for (k, &(t, _)) in ops[j].next.iter().enumerate() {
+                let to = ops[t].department;
+                if to == from || served(fleets, p, prod, from, to) {
+                    continue;
+                }
+                let sp = pp.key("routing").index(j);
+                let has_then = s.products[p].routing[j].then.is_some();
+                let at = if has_then { sp.key("then").index(k) } else { sp };
+                let what = format!(
+                    "from step \"{}\" (at \"{}\") to step \"{}\" (at \"{}\")",
+                    ops[j].name, departments[from].id, ops[t].name, departments[to].id
+                );
+                return Err(unserved(ctx, &at, fleets, departments, (p, prod), (from, to), &what));
+            }
+        }
+    }
+    Ok(())
+}
+
+fn served(fleets: &[Fleet], p: usize, prod: &Product, from: usize, to: usize) -> bool {
+    fleets.iter().any(|f| f.may_serve(p, prod.weight_kg, from, to))
+}
+
+/// The error for a move no fleet may serve, saying why each fleet may not.
+fn unserved(
+    ctx: &Ctx,
+    at: &FieldPath,
+    fleets: &[Fleet],
+    departments: &[Department],
+    (p, prod): (usize, &Product),
+    (from, to): (usize, usize),
+    what: &str,
+) -> ScenarioError {
+    let reasons: Vec<String> = fleets
+        .iter()
+        .map(|f| {
+            if !f.carries[p] {
+                format!("\"{}\" does not carry it", f.id)
+            } else if !f.may_carry(p, prod.weight_kg) {
+                format!(
+                    "\"{}\" lifts at most {} and a lot weighs {}",
+                    f.id,
+                    format_weight(f.max_load_kg.unwrap_or(0.0)),
+                    format_weight(prod.weight_kg.unwrap_or(0.0))
+                )
+            } else {
+                format!(
+                    "\"{}\" serves no move from \"{}\" to \"{}\"",
+                    f.id, departments[from].id, departments[to].id
+                )
+            }
+        })
+        .collect();
+    ctx.err(at, format!("no fleet may serve the move of product \"{}\" {what}", prod.id))
+        .with_hint(format!("{}; widen a fleet's `serves`, `carries` or `max_load`", reasons.join("; ")))
+}
+
+/// Steps a lot of `prod` can reach from its first step.
+fn reachable(prod: &Product) -> Vec<usize> {
+    let mut seen = vec![false; prod.routing.len()];
+    let mut stack = vec![0];
+    seen[0] = true;
+    let mut out = Vec::new();
+    while let Some(j) = stack.pop() {
+        out.push(j);
+        for &(t, _) in &prod.routing[j].next {
+            if !seen[t] {
+                seen[t] = true;
+                stack.push(t);
+            }
+        }
+    }
+    out.sort_unstable();
+    out
 }
 
 /// A location id is a fixed home; a department id is a home that moves with the layout.

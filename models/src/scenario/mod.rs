@@ -12,6 +12,7 @@ mod distance;
 mod error;
 mod fleet;
 mod locate;
+mod operators;
 mod routing;
 mod schema;
 

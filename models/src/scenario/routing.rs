@@ -1,4 +1,4 @@
-//! Products: demand (see `demand.rs`), entry dock, and the routing of steps with branches, rework loops and processing times.
+//! Products: demand (see `demand.rs`), entry dock, lot weight, and the routing of steps with branches, rework loops and processing times.
 
 use super::compile::{check_unique, resolve, Ctx};
 use super::demand;
@@ -62,7 +62,20 @@ pub(crate) fn products(
             }
         };
         let routing = routing(&spec.id, &spec.routing, &pp.key("routing"), departments, ctx)?;
-        out.push(Product { id: spec.id.clone(), demand, enters_at, routing });
+        let weight_kg = match &spec.load {
+            None => None,
+            Some(l) if l.weight.0 > 0.0 => Some(l.weight.0),
+            Some(l) => {
+                return Err(ctx.err(
+                    &pp.key("load").key("weight"),
+                    format!(
+                        "the weight of a lot of product \"{}\" must be more than 0, got {} kg",
+                        spec.id, l.weight.0
+                    ),
+                ))
+            }
+        };
+        out.push(Product { id: spec.id.clone(), demand, enters_at, routing, weight_kg });
     }
     Ok(out)
 }

@@ -10,7 +10,7 @@ use std::fmt;
 use serde::de::{self, Deserialize, Deserializer, MapAccess, SeqAccess, Visitor};
 use serde::Deserialize as DeriveDeserialize;
 
-use crate::units::{MetresPerSecond, Seconds};
+use crate::units::{Kilograms, MetresPerSecond, MetresPerSecondSquared, Seconds};
 
 /// A whole scenario file.
 #[derive(Debug, DeriveDeserialize)]
@@ -28,7 +28,16 @@ pub(crate) struct Scenario {
     pub orders: Option<OrdersSpec>,
     pub moves: Option<MovesSpec>,
     pub fleets: Option<Vec<FleetSpec>>,
+    pub fleet_choice: Option<FleetChoiceSpec>,
     pub costs: Option<CostsSpec>,
+}
+
+/// `fleet_choice: first-listed | nearest-idle`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum FleetChoiceSpec {
+    FirstListed,
+    NearestIdle,
 }
 
 #[derive(Debug, DeriveDeserialize)]
@@ -164,6 +173,14 @@ pub(crate) struct ProductSpec {
     pub demand: Option<DemandSpec>,
     pub enters_at: Option<String>,
     pub routing: Vec<StepSpec>,
+    pub load: Option<LoadSpec>,
+}
+
+/// `load: { weight: 800 kg }`: what one lot weighs, for fleets' `max_load`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct LoadSpec {
+    pub weight: Kilograms,
 }
 
 #[derive(Debug, DeriveDeserialize)]
@@ -269,13 +286,54 @@ pub(crate) struct FleetSpec {
     pub id: String,
     pub kind: KindSpec,
     pub count: u32,
-    pub speed: SpeedSpec,
+    /// Required except for walkers, which have defaults.
+    pub speed: Option<SpeedSpec>,
+    pub acceleration: Option<MetresPerSecondSquared>,
     pub handling: Option<HandlingSpec>,
     pub cost: Option<CostSpec>,
     pub home: String,
     pub dispatch: Option<DispatchSpec>,
+    pub reserve: Option<ReserveSpec>,
     pub when_idle: Option<IdleSpec>,
+    pub parking: Option<Vec<String>>,
     pub carries: Option<Vec<String>>,
+    pub serves: Option<Vec<ServesSpec>>,
+    pub max_load: Option<Kilograms>,
+    pub capacity: Option<u32>,
+    pub operators: Option<OperatorsSpec>,
+}
+
+/// One entry of `serves: [{ from: saw, to: turning }, { to: shipping }]`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ServesSpec {
+    pub from: Option<String>,
+    pub to: Option<String>,
+}
+
+/// `reserve: { movers: 1, at: DEPARTMENT }` for `dispatch: reserve`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ReserveSpec {
+    pub movers: u32,
+    pub at: Option<String>,
+}
+
+/// `operators: { efficiency: 0.85, shifts: { ... }, breaks: [[10 h, 10.5 h]] }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct OperatorsSpec {
+    pub efficiency: Option<f64>,
+    pub shifts: Option<ShiftsSpec>,
+    pub breaks: Option<Vec<[Seconds; 2]>>,
+}
+
+/// `shifts: { every: 1 d, on: [[6 h, 14 h], [14 h, 22 h]] }`: working windows in a repeating period.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ShiftsSpec {
+    pub every: Seconds,
+    pub on: Vec<[Seconds; 2]>,
 }
 
 #[derive(Debug, Clone, Copy, DeriveDeserialize)]
@@ -291,6 +349,8 @@ pub(crate) enum KindSpec {
 pub(crate) enum DispatchSpec {
     NearestIdle,
     FirstCome,
+    NearestRequest,
+    Reserve,
 }
 
 #[derive(Debug, Clone, Copy, DeriveDeserialize)]
@@ -298,6 +358,7 @@ pub(crate) enum DispatchSpec {
 pub(crate) enum IdleSpec {
     Stay,
     GoHome,
+    Park,
 }
 
 #[derive(Debug, DeriveDeserialize)]

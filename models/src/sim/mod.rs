@@ -12,7 +12,8 @@ mod stats;
 pub use model::{simulate, simulate_releases, simulate_wip_series};
 pub use stats::{FleetStats, RepStats, TICK_S};
 
-use crate::plant::{Demand, DepartmentRole, DispatchRule, Handling, IdleRule, Plant};
+use crate::plant::{Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, Plant};
+use crate::travel::travel_time;
 
 /// What a replication needs beyond the plant: which layout, how long, which seed.
 #[derive(Debug, Clone, Copy, PartialEq)]
@@ -46,6 +47,19 @@ pub struct Plan {
     pub(crate) orders: Vec<PlanOrder>,
     /// Play the trace again every this many seconds; `None`: once.
     pub(crate) order_repeat_s: Option<f64>,
+    /// The fleets allowed to serve each move, in listed order, one run after
+    /// another; a [`FleetSet`] names a run.
+    pub(crate) fleet_sets: Vec<u32>,
+    /// `fleet_choice: nearest-idle`: a request goes to the nearest idle mover
+    /// of any allowed fleet, and waits in every allowed fleet's list.
+    pub(crate) nearest_fleet: bool,
+}
+
+/// The fleets allowed to serve one move: `Plan::fleet_sets[start..start + len]`.
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct FleetSet {
+    pub(crate) start: u32,
+    pub(crate) len: u32,
 }
 
 /// How a product's lots are released.
@@ -73,7 +87,8 @@ pub(crate) struct PlanOrder {
 pub(crate) struct PlanProduct {
     pub(crate) arrivals: PlanArrivals,
     pub(crate) enters_at: usize,
-    pub(crate) fleet: usize,
+    /// Fleets allowed to serve the move from the receiving dock to the first step.
+    pub(crate) entry: FleetSet,
     pub(crate) ops: Vec<PlanOp>,
 }
 
@@ -81,8 +96,11 @@ pub(crate) struct PlanProduct {
 pub(crate) struct PlanOp {
     pub(crate) department: usize,
     pub(crate) time: Option<crate::dist::Dist>,
-    /// (next operation, cumulative probability); empty at shipping.
-    pub(crate) next: Vec<(usize, f64)>,
+    /// (next operation, cumulative probability, fleets allowed to serve the
+    /// move there: an empty set when it is in the same department); empty at
+    /// shipping. The fleets sit beside the branch so that choosing one reads
+    /// one cache line.
+    pub(crate) next: Vec<(usize, f64, FleetSet)>,
 }
 
 #[derive(Debug, Clone)]
@@ -90,11 +108,54 @@ pub(crate) struct PlanFleet {
     pub(crate) count: u32,
     pub(crate) speed_loaded: f64,
     pub(crate) speed_empty: f64,
+    pub(crate) accel: Option<f64>,
+    pub(crate) efficiency: f64,
+    /// Speeds × efficiency: constant-speed travel is one division, d ÷ this.
+    pub(crate) pace_loaded: f64,
+    pub(crate) pace_empty: f64,
+    /// Loading time, s, divided by the efficiency.
     pub(crate) load_s: f64,
+    /// Unloading time, s, divided by the efficiency.
     pub(crate) unload_s: f64,
     pub(crate) home_location: usize,
     pub(crate) dispatch: DispatchRule,
     pub(crate) idle: IdleRule,
+    pub(crate) capacity: u32,
+    /// Parking locations, in listed order ([`IdleRule::Park`]).
+    pub(crate) parking: Vec<usize>,
+    /// Location of the reserve ([`DispatchRule::Reserve`]; the home otherwise).
+    pub(crate) reserve_location: usize,
+    /// Movers to keep at the reserve (0 without [`DispatchRule::Reserve`]).
+    pub(crate) reserve_movers: u32,
+    /// The operators' working hours; `None`: always on duty.
+    pub(crate) duty: Option<PlanDuty>,
+}
+
+/// A duty calendar as the event handlers read it.
+#[derive(Debug, Clone)]
+pub(crate) struct PlanDuty {
+    pub(crate) period_s: f64,
+    /// Offsets in the period where the duty state flips, increasing.
+    pub(crate) changes: Vec<f64>,
+    /// On duty at time 0.
+    pub(crate) on_at_start: bool,
+}
+
+impl PlanFleet {
+    /// Seconds to drive `d` metres, loaded or empty: the trapezoidal profile
+    /// with an acceleration (REFERENCES §8), constant speed without, divided
+    /// by the operators' efficiency. Exactly d/v for the defaults.
+    #[inline]
+    pub(crate) fn travel_s(&self, d: f64, loaded: bool) -> f64 {
+        match self.accel {
+            // v × 1 = v, so without an efficiency this is exactly d/v.
+            None => d / if loaded { self.pace_loaded } else { self.pace_empty },
+            Some(_) => {
+                let v = if loaded { self.speed_loaded } else { self.speed_empty };
+                travel_time(d, v, self.accel) / self.efficiency
+            }
+        }
+    }
 }
 
 impl Plan {
@@ -104,48 +165,94 @@ impl Plan {
     /// If `layout` is out of range (callers resolve names first).
     pub fn new(plant: &Plant, layout: usize) -> Plan {
         let lay = &plant.layouts[layout];
-        let products = plant
-            .products
-            .iter()
-            .enumerate()
-            .map(|(p, prod)| PlanProduct {
+        let mut fleet_sets: Vec<u32> = Vec::new();
+        // The allowed fleets of the move of a `p` lot from department `a` to
+        // `b`, appended to `fleet_sets`; the empty set when it stays.
+        let mut set = |p: usize, a: usize, b: usize| {
+            if a == b {
+                return FleetSet::default();
+            }
+            let start = fleet_sets.len() as u32;
+            fleet_sets.extend(plant.fleets_for_move(p, a, b).iter().map(|&f| f as u32));
+            FleetSet { start, len: fleet_sets.len() as u32 - start }
+        };
+        let mut products = Vec::with_capacity(plant.products.len());
+        for (p, prod) in plant.products.iter().enumerate() {
+            let entry = set(p, prod.enters_at, prod.routing[0].department);
+            let mut ops = Vec::with_capacity(prod.routing.len());
+            for op in &prod.routing {
+                let mut acc = 0.0;
+                let mut next: Vec<(usize, f64, FleetSet)> = op
+                    .next
+                    .iter()
+                    .map(|&(j, pr)| {
+                        acc += pr;
+                        (j, acc, set(p, op.department, prod.routing[j].department))
+                    })
+                    .collect();
+                // Guard against rounding: the last branch catches every draw.
+                if let Some(last) = next.last_mut() {
+                    last.1 = f64::INFINITY;
+                }
+                ops.push(PlanOp { department: op.department, time: op.time.clone(), next });
+            }
+            products.push(PlanProduct {
                 arrivals: plan_arrivals(&prod.demand),
                 enters_at: prod.enters_at,
-                fleet: plant.fleet_for(p).unwrap_or(0),
-                ops: prod
-                    .routing
-                    .iter()
-                    .map(|op| {
-                        let mut acc = 0.0;
-                        let mut next: Vec<(usize, f64)> = op
-                            .next
-                            .iter()
-                            .map(|&(j, p)| {
-                                acc += p;
-                                (j, acc)
-                            })
-                            .collect();
-                        // Guard against rounding: the last branch catches every draw.
-                        if let Some(last) = next.last_mut() {
-                            last.1 = f64::INFINITY;
-                        }
-                        PlanOp { department: op.department, time: op.time.clone(), next }
-                    })
-                    .collect(),
-            })
-            .collect();
+                entry,
+                ops,
+            });
+        }
+        // The busiest pick-up department of each fleet, for a reserve with no `at`.
+        let needs_busiest =
+            plant.fleets().iter().any(|f| matches!(f.dispatch, DispatchRule::Reserve { at: None, .. }));
+        let pickups = if needs_busiest { crate::analysis::fleet_pickups_per_h(plant) } else { Vec::new() };
         let fleets = plant
             .fleets()
             .iter()
-            .map(|f| PlanFleet {
-                count: f.count,
-                speed_loaded: f.speed_loaded,
-                speed_empty: f.speed_empty,
-                load_s: f.load_s,
-                unload_s: f.unload_s,
-                home_location: f.home.location(lay),
-                dispatch: f.dispatch,
-                idle: f.idle,
+            .enumerate()
+            .map(|(f, fl)| {
+                let e = fl.operators.efficiency;
+                let home_location = fl.home.location(lay);
+                let (reserve_movers, reserve_location) = match fl.dispatch {
+                    DispatchRule::Reserve { movers, at: Some(d) } => (movers, lay.location_of[d]),
+                    DispatchRule::Reserve { movers, at: None } => {
+                        // The first department with the most pick-ups; the home
+                        // if the fleet is expected to pick up nothing.
+                        let row = &pickups[f];
+                        let mut best: Option<usize> = None;
+                        for (d, &n) in row.iter().enumerate() {
+                            if n > 0.0 && best.is_none_or(|k| n > row[k]) {
+                                best = Some(d);
+                            }
+                        }
+                        (movers, best.map_or(home_location, |d| lay.location_of[d]))
+                    }
+                    _ => (0, home_location),
+                };
+                PlanFleet {
+                    count: fl.count,
+                    speed_loaded: fl.speed_loaded,
+                    speed_empty: fl.speed_empty,
+                    accel: fl.accel,
+                    efficiency: e,
+                    pace_loaded: fl.speed_loaded * e,
+                    pace_empty: fl.speed_empty * e,
+                    load_s: fl.load_s / e,
+                    unload_s: fl.unload_s / e,
+                    home_location,
+                    dispatch: fl.dispatch,
+                    idle: fl.idle,
+                    capacity: fl.capacity,
+                    parking: fl.parking.clone(),
+                    reserve_location,
+                    reserve_movers,
+                    duty: fl.operators.duty.as_ref().map(|d| PlanDuty {
+                        period_s: d.period_s,
+                        changes: d.changes(),
+                        on_at_start: d.on_at(0.0),
+                    }),
+                }
             })
             .collect();
         Plan {
@@ -164,7 +271,15 @@ impl Plan {
                     .collect()
             }),
             order_repeat_s: plant.orders.as_ref().and_then(|t| t.repeat_s),
+            fleet_sets,
+            nearest_fleet: plant.fleet_choice == FleetChoice::NearestIdle,
         }
+    }
+
+    /// The fleets in a set.
+    #[inline]
+    pub(crate) fn fleets_in(&self, s: FleetSet) -> &[u32] {
+        &self.fleet_sets[s.start as usize..(s.start + s.len) as usize]
     }
 
     #[inline]

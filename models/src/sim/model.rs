@@ -1,4 +1,4 @@
-//! Event handlers of the plant: arrivals and trace orders, operations, and moves by fleets of movers.
+//! Event handlers of the plant: arrivals and trace orders, operations, and the state moves work on (see `movers.rs`).
 
 use std::collections::VecDeque;
 
@@ -9,7 +9,9 @@ use rand_distr::Exp1;
 use super::arrivals::next_thinned;
 use super::stats::{FleetStats, RepStats, TICK_S};
 use super::{Plan, PlanArrivals, RunSpec};
-use crate::plant::{DepartmentRole, DispatchRule, IdleRule};
+use crate::plant::DepartmentRole;
+
+mod movers;
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
@@ -30,10 +32,16 @@ enum Event {
     EndOperation { lot: u32 },
     /// A mover reaches a lot's pick-up point and starts loading.
     Pickup { mover: u32 },
-    /// A mover has set its load down at the destination.
+    /// A mover has set a load down at its destination.
     Deliver { mover: u32 },
-    /// A mover returning home arrives.
+    /// A train (capacity above one) has finished loading a lot.
+    Loaded { mover: u32 },
+    /// A mover driving home or to parking arrives.
     Home { mover: u32 },
+    /// A mover driving to its fleet's reserve arrives.
+    Reserve { mover: u32 },
+    /// A fleet's operators go off duty or come back.
+    Duty { fleet: u32 },
     /// Record the plant's WIP for a warm-up series (pilot runs only).
     Sample,
 }
@@ -49,16 +57,34 @@ struct Lot {
     department: u32,
     born: f64,
     requested: f64,
+    /// Ticket of its waiting move request; 0 once a mover has taken it.
+    /// 32 bits keep the lot in one 64-byte cache line.
+    ticket: u32,
     rng: Stream,
+}
+
+/// A waiting move request as a fleet lists it. It is still waiting while the
+/// lot holds the same ticket: under nearest-idle fleet choice one request is
+/// listed by several fleets, and the first to take it clears the ticket.
+#[derive(Debug, Clone, Copy)]
+struct Request {
+    lot: u32,
+    ticket: u32,
 }
 
 #[derive(Debug, Clone, Copy)]
 struct Mover {
     fleet: u32,
     location: u32,
-    /// Lot on board or being fetched; NONE when idle or going home.
+    /// Lot on board or being fetched; NONE when idle or going home. A train
+    /// keeps its loads in `PlantModel::onboard` and here only the lot it is
+    /// fetching or setting down.
     lot: u32,
     idle_since: f64,
+    /// First of this mover's `capacity` slots in `PlantModel::onboard`.
+    slots: u32,
+    /// Loads on board a train (always 0 for a single-load mover).
+    loads: u32,
 }
 
 struct Department {
@@ -71,9 +97,19 @@ struct Department {
 
 struct FleetState {
     idle: Vec<u32>,
-    requests: VecDeque<u32>,
+    requests: VecDeque<Request>,
     wait: Tally,
+    wait_hist: TickHistogram,
     acc: FleetStats,
+    /// The operators are on duty now.
+    on_duty: bool,
+    /// Movers off duty where they stopped, until the operators come back.
+    off: Vec<u32>,
+    /// The next duty change: period number and index into the plan's changes.
+    duty_period: u64,
+    duty_index: usize,
+    /// Movers driving to the reserve.
+    to_reserve: u32,
 }
 
 struct PlantModel<'a> {
@@ -89,6 +125,12 @@ struct PlantModel<'a> {
     departments: Vec<Department>,
     movers: Vec<Mover>,
     fleets: Vec<FleetState>,
+    /// Loads on board trains, `capacity` slots per mover.
+    onboard: Vec<u32>,
+    /// Last move-request ticket handed out. It wraps after 2³² requests; a
+    /// stale list entry could only be mistaken for a live one if it waited
+    /// in its list through all of them.
+    next_ticket: u32,
     wip: TimeWeighted,
     transit: TimeWeighted,
     shipped: Vec<u64>,
@@ -167,6 +209,9 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
             cal.schedule(first.time_s, Event::Order { index: 0 });
         }
     }
+    for f in 0..plan.fleets.len() {
+        m.start_duty(f, &mut cal);
+    }
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
     events += run_until(&mut m, &mut cal, spec.horizon_s);
@@ -191,6 +236,7 @@ impl<'a> PlantModel<'a> {
             .collect();
         let mut movers = Vec::new();
         let mut fleets = Vec::new();
+        let mut slots = 0;
         for (f, fleet) in plan.fleets.iter().enumerate() {
             let mut idle = Vec::with_capacity(fleet.count as usize);
             for _ in 0..fleet.count {
@@ -200,13 +246,22 @@ impl<'a> PlantModel<'a> {
                     location: fleet.home_location as u32,
                     lot: NONE,
                     idle_since: 0.0,
+                    slots,
+                    loads: 0,
                 });
+                slots += fleet.capacity;
             }
             fleets.push(FleetState {
                 idle,
                 requests: VecDeque::with_capacity(16),
                 wait: Tally::new(),
+                wait_hist: TickHistogram::new(TICK_S),
                 acc: FleetStats::default(),
+                on_duty: true,
+                off: Vec::with_capacity(fleet.count as usize),
+                duty_period: 0,
+                duty_index: 0,
+                to_reserve: 0,
             });
         }
         PlantModel {
@@ -224,6 +279,8 @@ impl<'a> PlantModel<'a> {
             departments,
             movers,
             fleets,
+            onboard: vec![NONE; slots as usize],
+            next_ticket: 0,
             wip: TimeWeighted::new(0.0),
             transit: TimeWeighted::new(0.0),
             shipped: vec![0; n_products],
@@ -256,6 +313,7 @@ impl<'a> PlantModel<'a> {
         }
         for f in &mut self.fleets {
             f.wait.reset();
+            f.wait_hist.reset();
             // Fleet activity is clipped to the window when recorded, so it is not reset.
         }
         self.shipped.iter_mut().for_each(|s| *s = 0);
@@ -352,6 +410,7 @@ impl<'a> PlantModel<'a> {
             department: prod.enters_at as u32,
             born: now,
             requested: now,
+            ticket: 0,
             rng: stream(self.seed, self.replication, &[LOT, p as u64, n]),
         };
         let id = match self.free_lots.pop() {
@@ -366,158 +425,7 @@ impl<'a> PlantModel<'a> {
         };
         self.wip.add(now, 1.0);
         self.departments[prod.enters_at].wip.add(now, 1.0);
-        self.route(id, 0, cal);
-    }
-
-    /// Send a lot from the department it is at to operation `op`.
-    fn route(&mut self, id: u32, op: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
-        let lot = &mut self.lots[id as usize];
-        lot.op = op;
-        let prod = &self.plan.products[lot.product as usize];
-        let to = prod.ops[op as usize].department;
-        let from = lot.department as usize;
-        if to == from {
-            self.start_or_queue(id, cal);
-            return;
-        }
-        if self.plan.instant {
-            self.departments[from].wip.add(now, -1.0);
-            self.arrive(id, cal);
-            return;
-        }
-        lot.requested = now;
-        let f = prod.fleet;
-        let pickup = self.plan.dept_location[from];
-        let fleet = &mut self.fleets[f];
-        let chosen = match self.plan.fleets[f].dispatch {
-            _ if fleet.idle.is_empty() => None,
-            DispatchRule::NearestIdle => {
-                let movers = &self.movers;
-                let plan = self.plan;
-                let best = (0..fleet.idle.len())
-                    .min_by(|&a, &b| {
-                        let da = plan.dist(movers[fleet.idle[a] as usize].location as usize, pickup);
-                        let db = plan.dist(movers[fleet.idle[b] as usize].location as usize, pickup);
-                        // Equally near: the lower-numbered mover, whatever the idle list's order.
-                        da.total_cmp(&db).then(fleet.idle[a].cmp(&fleet.idle[b]))
-                    })
-                    .expect("idle list is not empty");
-                Some(fleet.idle.swap_remove(best))
-            }
-            DispatchRule::FirstCome => {
-                let movers = &self.movers;
-                let best = (0..fleet.idle.len())
-                    .min_by(|&a, &b| {
-                        let ta = movers[fleet.idle[a] as usize].idle_since;
-                        let tb = movers[fleet.idle[b] as usize].idle_since;
-                        ta.total_cmp(&tb).then(fleet.idle[a].cmp(&fleet.idle[b]))
-                    })
-                    .expect("idle list is not empty");
-                Some(fleet.idle.swap_remove(best))
-            }
-        };
-        match chosen {
-            Some(mover) => self.dispatch(mover, id, cal),
-            None => fleet.requests.push_back(id),
-        }
-    }
-
-    /// Send `mover` empty to the lot's pick-up point.
-    fn dispatch(&mut self, mover: u32, lot: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
-        let m = &mut self.movers[mover as usize];
-        m.lot = lot;
-        let f = m.fleet as usize;
-        let pickup = self.plan.dept_location[self.lots[lot as usize].department as usize];
-        let d = self.plan.dist(m.location as usize, pickup);
-        let t = d / self.plan.fleets[f].speed_empty;
-        self.record_empty(f, now, now + t, d);
-        // A delay that overflows to infinity (a validated but extreme speed of
-        // 1e-300 m/s) is fine: the calendar puts it after every finite time.
-        cal.schedule(now + t, Event::Pickup { mover });
-    }
-
-    fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
-        let w = self.in_window(a, b);
-        let acc = &mut self.fleets[f].acc;
-        acc.empty_s += w;
-        if b > a {
-            acc.distance_empty_m += d * w / (b - a);
-        } else if a >= self.window.0 && a < self.window.1 {
-            acc.distance_empty_m += d;
-        }
-    }
-
-    fn pickup(&mut self, mover: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
-        let m = self.movers[mover as usize];
-        let f = m.fleet as usize;
-        let fl = &self.plan.fleets[f];
-        let lot = &self.lots[m.lot as usize];
-        let from = lot.department as usize;
-        let to = self.plan.products[lot.product as usize].ops[lot.op as usize].department;
-        let wait = now - lot.requested;
-        let d = self.plan.dist(self.plan.dept_location[from], self.plan.dept_location[to]);
-        let t_load_end = now + fl.load_s;
-        let t_travel_end = t_load_end + d / fl.speed_loaded;
-        let t_end = t_travel_end + fl.unload_s;
-
-        let handling = self.in_window(now, t_load_end) + self.in_window(t_travel_end, t_end);
-        let loaded = self.in_window(t_load_end, t_travel_end);
-        let counted = now >= self.window.0 && now < self.window.1;
-        let fs = &mut self.fleets[f];
-        fs.acc.handling_s += handling;
-        fs.acc.loaded_s += loaded;
-        if t_travel_end > t_load_end {
-            fs.acc.distance_loaded_m += d * loaded / (t_travel_end - t_load_end);
-        } else if counted {
-            fs.acc.distance_loaded_m += d;
-        }
-        if counted {
-            fs.acc.moves += 1;
-            fs.wait.add(wait);
-            self.wait_all.add(wait);
-            self.wait_hist.record(wait);
-        }
-        self.departments[from].wip.add(now, -1.0);
-        self.transit.add(now, 1.0);
-        cal.schedule(t_end, Event::Deliver { mover });
-    }
-
-    fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
-        let m = &mut self.movers[mover as usize];
-        let lot = m.lot;
-        m.lot = NONE;
-        let l = &self.lots[lot as usize];
-        let to = self.plan.products[l.product as usize].ops[l.op as usize].department;
-        m.location = self.plan.dept_location[to] as u32;
-        self.transit.add(now, -1.0);
-        self.arrive(lot, cal);
-        self.mover_free(mover, cal);
-    }
-
-    /// A mover has finished a delivery or reached home: serve, go home, or wait.
-    fn mover_free(&mut self, mover: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
-        let f = self.movers[mover as usize].fleet as usize;
-        if let Some(lot) = self.fleets[f].requests.pop_front() {
-            self.dispatch(mover, lot, cal);
-            return;
-        }
-        let fl = &self.plan.fleets[f];
-        let here = self.movers[mover as usize].location as usize;
-        if fl.idle == IdleRule::GoHome && here != fl.home_location {
-            let d = self.plan.dist(here, fl.home_location);
-            let t = d / fl.speed_empty;
-            self.record_empty(f, now, now + t, d);
-            self.movers[mover as usize].location = fl.home_location as u32;
-            cal.schedule(now + t, Event::Home { mover });
-            return;
-        }
-        self.movers[mover as usize].idle_since = now;
-        self.fleets[f].idle.push(mover);
+        self.route(id, 0, prod.entry, cal);
     }
 
     /// A lot reaches the department of its current operation.
@@ -570,12 +478,13 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         let dept = lot.department as usize;
         let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
-        let next = if op.next.len() == 1 {
-            op.next[0].0
+        let branch = if op.next.len() == 1 {
+            0
         } else {
             let u: f64 = lot.rng.random();
-            op.next.iter().find(|&&(_, cum)| u < cum).map_or(op.next[op.next.len() - 1].0, |b| b.0)
+            op.next.iter().position(|&(_, cum, _)| u < cum).unwrap_or(op.next.len() - 1)
         };
+        let (next, _, fleets) = op.next[branch];
         // Free the machine first: a rework loop back to this department queues behind others.
         let d = &mut self.departments[dept];
         if let Some(waiting) = d.queue.pop_front() {
@@ -585,7 +494,7 @@ impl<'a> PlantModel<'a> {
             d.busy -= 1;
             d.busy_level.add(now, -1.0);
         }
-        self.route(id, next as u32, cal);
+        self.route(id, next as u32, fleets, cal);
     }
 
     fn finish(self, t: f64, events: u64) -> RepStats {
@@ -608,6 +517,7 @@ impl<'a> PlantModel<'a> {
                 .collect(),
             queue: self.departments.iter().map(|d| d.queue_level.mean(t)).collect(),
             move_wait: self.fleets.iter().map(|f| f.wait).collect(),
+            move_wait_hist_fleet: self.fleets.iter().map(|f| f.wait_hist.clone()).collect(),
             move_wait_all: self.wait_all,
             move_wait_hist: self.wait_hist,
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
@@ -626,8 +536,11 @@ impl Model for PlantModel<'_> {
             Event::EndOperation { lot } => self.end_operation(lot, cal),
             Event::Pickup { mover } => self.pickup(mover, cal),
             Event::Deliver { mover } => self.deliver(mover, cal),
-            // The mover is at home now, so mover_free will not send it home again.
+            Event::Loaded { mover } => self.loaded(mover, cal),
+            // The mover is at home (or parked) now, so mover_free will not send it there again.
             Event::Home { mover } => self.mover_free(mover, cal),
+            Event::Reserve { mover } => self.reserve_reached(mover, cal),
+            Event::Duty { fleet } => self.duty_change(fleet as usize, cal),
             Event::Sample => {
                 let now = cal.now();
                 self.series_area.push(self.wip.area(now));

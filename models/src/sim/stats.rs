@@ -21,6 +21,11 @@ pub struct FleetStats {
     pub distance_empty_m: f64,
     /// Loads picked up in the window.
     pub moves: u64,
+    /// Mover-seconds off duty by the operators' shift calendar (every mover
+    /// of the fleet, busy or not), clipped to the window: the window × movers
+    /// less this is the scheduled working time. A mover that finishes a
+    /// delivery after its shift has ended works into this time.
+    pub off_s: f64,
 }
 
 /// Results of one replication of one layout.
@@ -54,6 +59,8 @@ pub struct RepStats {
     pub move_wait_all: Tally,
     /// Move-wait histogram (every fleet), for percentiles.
     pub move_wait_hist: TickHistogram,
+    /// Move-wait histogram per fleet, for a fleet's percentiles.
+    pub move_wait_hist_fleet: Vec<TickHistogram>,
     /// Activity per fleet.
     pub fleets: Vec<FleetStats>,
 }
