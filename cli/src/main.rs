@@ -5,11 +5,14 @@
 
 mod check;
 mod compare;
+mod fleet;
 mod output;
+mod plot;
 mod progress;
 mod run;
 mod select;
 mod table;
+mod target;
 mod warmup;
 
 use std::path::Path;
@@ -48,6 +51,9 @@ enum Command {
     /// a baseline, static against simulated rank, demand sweeps, and selection
     /// of the best layout with a stated confidence (--select).
     Compare(compare::CompareArgs),
+    /// Size one handling fleet: simulate every size with common random numbers,
+    /// judge each against targets, and show the analytic estimate beside it.
+    Fleet(fleet::FleetArgs),
 }
 
 /// Output format shared by the commands.
@@ -91,6 +97,7 @@ fn main() -> ExitCode {
         Command::Check(a) => check::check(&a),
         Command::Run(a) => run::run(&a),
         Command::Compare(a) => compare::compare(&a),
+        Command::Fleet(a) => fleet::fleet(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,0 +1,109 @@
+//! End-to-end tests of `layflow fleet`: the sweep, the named size, the picture and bad arguments.
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+fn root() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).parent().expect("workspace root").to_path_buf()
+}
+
+fn layflow(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args(args)
+        .current_dir(root())
+        .output()
+        .expect("the layflow binary runs")
+}
+
+fn text(b: &[u8]) -> String {
+    String::from_utf8_lossy(b).into_owned()
+}
+
+const SHORT: &[&str] = &["--replications", "5", "--horizon", "5 d", "--warmup", "1 d", "--quiet"];
+
+fn fleet(extra: &[&str]) -> Output {
+    let mut a = vec!["fleet", "scenarios/demo.yaml", "--fleet", "forklifts"];
+    a.extend_from_slice(SHORT);
+    a.extend_from_slice(extra);
+    layflow(&a)
+}
+
+#[test]
+fn names_the_smallest_size_that_meets_every_target() {
+    let out = fleet(&[
+        "--sizes",
+        "1..4",
+        "--target",
+        "move_wait_p95 <= 2.5 min",
+        "--format",
+        "json",
+        "--no-wall-clock",
+    ]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let sizes = v["sizes"].as_array().unwrap();
+    assert_eq!(sizes.len(), 4);
+    // One forklift leaves loads waiting tens of minutes; two keep the p95 near 2 min.
+    assert_eq!(sizes[0]["meets_every_target"], false);
+    let named = v["smallest_meeting_targets"].as_u64().unwrap();
+    assert!(named >= 2, "{named}");
+    let first_met = sizes.iter().position(|s| s["meets_every_target"] == true).unwrap();
+    assert_eq!(sizes[first_met]["movers"].as_u64().unwrap(), named);
+    assert!(v["analytic"]["minimum_empty_flow"]["vehicles"].as_f64().unwrap() > 0.0);
+    // Utilisation falls as movers are added.
+    let u: Vec<f64> = sizes.iter().map(|s| s["utilization"]["mean"].as_f64().unwrap()).collect();
+    assert!(u.windows(2).all(|w| w[1] < w[0]), "{u:?}");
+}
+
+#[test]
+fn says_plainly_when_no_size_in_the_range_will_do() {
+    let out = fleet(&["--sizes", "1", "--target", "move_wait <= 1 s"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("No size from 1 to 1 meets every target"), "{s}");
+    assert!(s.contains("Analytic estimate"), "the analytic estimate comes first:\n{s}");
+}
+
+#[test]
+fn draws_the_picture_as_svg() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("sizes.svg");
+    let out = fleet(&["--sizes", "2,3", "--target", "utilization <= 85%", "--plot", p.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let svg = std::fs::read_to_string(&p).unwrap();
+    assert!(
+        svg.starts_with("<svg")
+            && svg.contains("movers in the fleet")
+            && svg.contains("utilization &lt;= 85%")
+    );
+}
+
+#[test]
+fn bad_arguments_exit_2_with_a_reason() {
+    for (args, needle) in [
+        (vec!["--sizes", "4..2"], "backwards"),
+        (vec!["--sizes", "3,2"], "increasing order"),
+        (vec!["--sizes", "0..2"], "at least one mover"),
+        (vec!["--sizes", "two"], "not a whole number"),
+        (vec!["--sizes", "2", "--target", "wait_time <= 5 min"], "unknown metric"),
+        (vec!["--sizes", "2", "--target", "move_wait_p95 <= 5"], "needs a unit"),
+        (vec!["--sizes", "2", "--target", "utilization <= 5 min"], "is a share"),
+        (vec!["--sizes", "2", "--plot", "out.png"], "SVG"),
+        (vec!["--sizes", "2", "--layout", "nowhere"], "no such layout"),
+    ] {
+        let out = fleet(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", text(&out.stderr));
+        assert!(text(&out.stderr).contains(needle), "{args:?}: expected {needle:?} in {}", text(&out.stderr));
+    }
+    let out = layflow(&["fleet", "scenarios/demo.yaml", "--fleet", "tuggers", "--sizes", "2"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("no such fleet"));
+    // Two fleets and no --fleet: ask which.
+    let out = layflow(&["fleet", "scenarios/demo.yaml", "--sizes", "2"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--fleet is needed"));
+    // Instant moves: nothing to size.
+    let out = layflow(&["fleet", "scenarios/validation/mm1.yaml", "--sizes", "1..2"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("moves: instant"));
+}
