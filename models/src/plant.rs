@@ -36,6 +36,8 @@ pub struct Plant {
     pub cost_per_load_metre: f64,
     /// Which of the fleets allowed to serve a move takes it.
     pub fleet_choice: FleetChoice,
+    /// Rules for `layflow search` (pinned departments, empty locations, adjacency, floor costs).
+    pub search: SearchRules,
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
@@ -586,4 +588,23 @@ mod tests {
         assert!((day.on_duty_s(0.0, 24.0 * H) - 16.0 * H).abs() < 1e-6);
         assert!((day.on_duty_s(10.0 * H, 10.0 * H)).abs() < 1e-9);
     }
+}
+
+/// What a layout search must respect, from the scenario's `search:` section.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct SearchRules {
+    /// `pinned[department]`: the location it must keep. Docks are pinned
+    /// where the first layout puts them unless the scenario pins them elsewhere.
+    pub pinned: Vec<Option<usize>>,
+    /// `keep_empty[location]`: no department may take it.
+    pub keep_empty: Vec<bool>,
+    /// Department pairs that must sit in neighbouring locations.
+    pub adjacent: Vec<(usize, usize)>,
+    /// Department pairs that must not sit in neighbouring locations.
+    pub apart: Vec<(usize, usize)>,
+    /// Two locations at most this far apart (m, by the scenario's distances)
+    /// are neighbours; needed when there are adjacency rules.
+    pub neighbour_distance_m: Option<f64>,
+    /// (department, location, cost per hour) of putting that department there.
+    pub floor_costs: Vec<(usize, usize, f64)>,
 }

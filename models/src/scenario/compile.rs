@@ -8,7 +8,7 @@ use std::path::Path;
 
 use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
-use super::schema::{DockSpec, FleetChoiceSpec, Scenario};
+use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario};
 use super::{demand, distance, fleet, routing};
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
@@ -92,7 +92,24 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let locations = locations(&s, ctx)?;
     let (distance_rule, distance) = distance::compile(&s, &locations, ctx)?;
     let departments = departments(&s, ctx)?;
-    let layouts = layouts(&s, &departments, &locations, ctx)?;
+    let mut layouts = Vec::new();
+    if s.layouts.0.is_empty() {
+        return Err(ctx
+            .err(&FieldPath::root().key("layouts"), "the scenario has no layout")
+            .with_hint("add a layout mapping every department to a location"));
+    }
+    add_layouts(&s.layouts, &departments, &locations, ctx, &mut layouts)?;
+    for (i, f) in s.layout_files.iter().flatten().enumerate() {
+        layout_file(
+            f,
+            &FieldPath::root().key("layout_files").index(i),
+            &departments,
+            &locations,
+            ctx,
+            &mut layouts,
+        )?;
+    }
+    let search = super::search::rules(&s, &departments, &locations, &layouts, ctx)?;
     let products = routing::products(&s, &departments, ctx)?;
     let orders = demand::order_trace(&s, &products, ctx)?;
     let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
@@ -116,6 +133,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         orders,
         demand_factor,
         cost_per_load_metre,
+        search,
         fleet_choice: match s.fleet_choice {
             None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,
             Some(FleetChoiceSpec::NearestIdle) => FleetChoice::NearestIdle,
@@ -217,25 +235,52 @@ fn departments(s: &Scenario, ctx: &Ctx) -> Result<Vec<Department>, ScenarioError
     Ok(out)
 }
 
-fn layouts(
-    s: &Scenario,
+/// Reads a file of extra layouts (relative to the scenario) and adds them;
+/// errors name that file and its line.
+fn layout_file(
+    name: &str,
+    at: &FieldPath,
     departments: &[Department],
     locations: &[Location],
     ctx: &Ctx,
-) -> Result<Vec<Layout>, ScenarioError> {
+    out: &mut Vec<Layout>,
+) -> Result<(), ScenarioError> {
+    let dir = ctx.origin.parent().unwrap_or_else(|| Path::new(""));
+    let path = dir.join(name);
+    let text = std::fs::read_to_string(&path).map_err(|e| {
+        ctx.err(at, format!("cannot read the layout file {}: {e}", path.display()))
+            .with_hint("layout files are named relative to the scenario file")
+    })?;
+    // Name both files: the one at fault and the scenario that includes it.
+    let file = format!("{} (named in {} at {at})", path.display(), ctx.file);
+    let de = serde_norway::Deserializer::from_str(&text);
+    let spec: super::schema::LayoutFileSpec = serde_path_to_error::deserialize(de).map_err(|e| {
+        let loc = e.inner().location();
+        ScenarioError::new(ErrorKind::Schema, &file, format!("{}", e.inner()))
+            .at_path(e.path().to_string())
+            .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()))
+            .with_hint("a layout file holds `layouts:` with one mapping per layout, as `layflow search --out` writes")
+    })?;
+    let sub = Ctx { text: &text, origin: &path, file };
+    add_layouts(&spec.layouts, departments, locations, &sub, out)
+}
+
+fn add_layouts(
+    map: &Ordered<Ordered<String>>,
+    departments: &[Department],
+    locations: &[Location],
+    ctx: &Ctx,
+    out: &mut Vec<Layout>,
+) -> Result<(), ScenarioError> {
     let p = FieldPath::root().key("layouts");
-    if s.layouts.0.is_empty() {
-        return Err(ctx
-            .err(&p, "the scenario has no layout")
-            .with_hint("add a layout mapping every department to a location"));
-    }
     let dept_ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
     let loc_ids: Vec<&str> = locations.iter().map(|l| l.id.as_str()).collect();
-    let mut out: Vec<Layout> = Vec::with_capacity(s.layouts.0.len());
-    for (name, assignment) in &s.layouts.0 {
+    for (name, assignment) in &map.0 {
         let lp = p.key(name);
         if out.iter().any(|l| &l.name == name) {
-            return Err(ctx.err(&lp, format!("layout \"{name}\" is defined twice")));
+            return Err(ctx.err(&lp, format!("layout \"{name}\" is defined twice")).with_hint(
+                "every layout needs its own name, in the scenario and in its layout files together",
+            ));
         }
         let mut location_of: Vec<Option<usize>> = vec![None; departments.len()];
         let mut holder: Vec<Option<usize>> = vec![None; locations.len()];
@@ -285,5 +330,5 @@ fn layouts(
         }
         out.push(Layout { name: name.clone(), location_of: resolved });
     }
-    Ok(out)
+    Ok(())
 }

@@ -15,6 +15,7 @@ mod locate;
 mod operators;
 mod routing;
 mod schema;
+mod search;
 
 use std::path::Path;
 

@@ -24,6 +24,8 @@ pub(crate) struct Scenario {
     pub distance: Option<DistanceField>,
     pub departments: Vec<DepartmentSpec>,
     pub layouts: Ordered<Ordered<String>>,
+    pub layout_files: Option<Vec<String>>,
+    pub search: Option<SearchSpec>,
     pub products: Vec<ProductSpec>,
     pub orders: Option<OrdersSpec>,
     pub moves: Option<MovesSpec>,
@@ -389,4 +391,32 @@ pub(crate) struct CostSpec {
 pub(crate) struct CostsSpec {
     #[serde(default)]
     pub per_load_metre: f64,
+}
+
+/// A file of extra layouts (what `layflow search --out` writes).
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct LayoutFileSpec {
+    pub layouts: Ordered<Ordered<String>>,
+}
+
+/// Rules `layflow search` must respect.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct SearchSpec {
+    pub pinned: Option<Ordered<String>>,
+    pub keep_empty: Option<Vec<String>>,
+    pub adjacent: Option<Vec<[String; 2]>>,
+    pub apart: Option<Vec<[String; 2]>>,
+    pub neighbour_distance: Option<f64>,
+    pub floor_costs: Option<Vec<FloorCostSpec>>,
+}
+
+/// A fixed cost of putting a department in a location (a reinforced floor, a vent).
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct FloorCostSpec {
+    pub department: String,
+    pub location: String,
+    pub per_hour: f64,
 }
