@@ -146,13 +146,19 @@ struct Rank {
 /// Run the comparison and report it.
 pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
     let plant = load(&args.scenario)?;
+    compare_plant(&plant, args)
+}
+
+/// Run the comparison on an already loaded plant (`search --validate` adds
+/// its layouts to the plant in memory first).
+pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
     let replications = args.replications.unwrap_or(plant.run.replications);
     if replications == 0 {
         return Err(Failure::input("--replications must be at least 1"));
     }
     let seed = args.seed.unwrap_or(plant.run.seed);
-    let which = compared_layouts(&plant, &args.layouts)?;
+    let which = compared_layouts(plant, &args.layouts)?;
     let baseline = match &args.baseline {
         None => 0,
         Some(b) => which.iter().position(|&l| plant.layouts[l].name == *b).ok_or_else(|| {
@@ -164,8 +170,8 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
             ))
         })?,
     };
-    let levels = demand_levels(&plant, &args.demand)?;
-    let metric_list = metrics(&plant);
+    let levels = demand_levels(plant, &args.demand)?;
+    let metric_list = metrics(plant);
     let ranked_on =
         find_metric(&metric_list, &args.metric).ok_or_else(|| unknown_metric(&args.metric, &metric_list))?;
     let selection = select::settings(&args.select, &metric_list[ranked_on], args.replications)?;
@@ -181,7 +187,7 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
     let started = Instant::now();
     let top = levels.iter().copied().fold(f64::MIN, f64::max);
     let (warmup_s, warmup_auto) =
-        warmup::resolve(&args.warmup, &plant, &which, horizon_s, top, seed, &pool, args.quiet)?;
+        warmup::resolve(&args.warmup, plant, &which, horizon_s, top, seed, &pool, args.quiet)?;
     if !(horizon_s > warmup_s) {
         return Err(Failure::input(format!(
             "the horizon ({}) must be longer than the warm-up ({})",
@@ -194,14 +200,14 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
     let progress = Progress::new(per_level * levels.len() as u64, args.quiet);
     let mut out_levels = Vec::with_capacity(levels.len());
     for &factor in &levels {
-        let pic = StaticPicture::new(&plant, factor);
-        warn_overload(&plant, &pic);
+        let pic = StaticPicture::new(plant, factor);
+        warn_overload(plant, &pic);
         let spec = |l: usize| RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
-        let plans: Vec<Plan> = which.iter().map(|&l| Plan::new(&plant, l)).collect();
+        let plans: Vec<Plan> = which.iter().map(|&l| Plan::new(plant, l)).collect();
         let (reps, chosen): (Vec<Vec<RepStats>>, Option<Selection>) = match &selection {
             Some(sel) => {
                 let (reps, s) = pool.install(|| {
-                    select::run(&plant, &which, &plans, &spec, ranked_on, sel, factor, &progress)
+                    select::run(plant, &which, &plans, &spec, ranked_on, sel, factor, &progress)
                 })?;
                 (reps, Some(s))
             }
@@ -218,7 +224,7 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
             }
         };
         out_levels.push(level(
-            &plant,
+            plant,
             &which,
             baseline,
             &pic,
@@ -259,7 +265,7 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
     match args.format {
         CompareFormat::Json => print!("{json}"),
         CompareFormat::Csv => print!("{}", String::from_utf8_lossy(&summary_csv)),
-        CompareFormat::Table => print!("{}", render(&plant, &out, &metric_list, wall_s)),
+        CompareFormat::Table => print!("{}", render(plant, &out, &metric_list, wall_s)),
     }
     if let Some(dir) = &args.out {
         if !args.quiet {

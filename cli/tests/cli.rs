@@ -3,24 +3,11 @@
 //! They live beside the binary because Cargo builds a package's executable
 //! for its own integration tests only (`CARGO_BIN_EXE_layflow`).
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+mod common;
 
-fn root() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).parent().expect("workspace root").to_path_buf()
-}
+use std::path::PathBuf;
 
-fn layflow(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_layflow"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the layflow binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+use common::{layflow, root, text};
 
 /// Every scenario shipped in `scenarios/` and `scenarios/validation/` (SimPy's
 /// rule: every example is run by the tests).

@@ -1,23 +1,10 @@
 //! End-to-end tests of `layflow fleet`: the sweep, the named size, the picture and bad arguments.
 
-use std::path::{Path, PathBuf};
-use std::process::{Command, Output};
+mod common;
 
-fn root() -> PathBuf {
-    Path::new(env!("CARGO_MANIFEST_DIR")).parent().expect("workspace root").to_path_buf()
-}
+use std::process::Output;
 
-fn layflow(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_layflow"))
-        .args(args)
-        .current_dir(root())
-        .output()
-        .expect("the layflow binary runs")
-}
-
-fn text(b: &[u8]) -> String {
-    String::from_utf8_lossy(b).into_owned()
-}
+use common::{layflow, text};
 
 const SHORT: &[&str] = &["--replications", "5", "--horizon", "5 d", "--warmup", "1 d", "--quiet"];
 

@@ -11,7 +11,7 @@ use layflow_engine::{paired_difference, Interval};
 use serde::Serialize;
 
 use crate::plant::Plant;
-use crate::report::{fleet_cost_per_h, CONFIDENCE};
+use crate::report::{fleet_cost_per_h, observed, CONFIDENCE};
 use crate::sim::RepStats;
 
 /// Which part of the plant a metric describes.
@@ -146,16 +146,6 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
 /// Index of a metric by its label (`flow_time_s`, `pump-housing/flow_time_s`).
 pub fn find_metric(list: &[Metric], label: &str) -> Option<usize> {
     list.iter().position(|m| m.label() == label)
-}
-
-/// A tally's mean, or NaN when it saw nothing: a replication that shipped no
-/// lot has no flow time, which is not a flow time of 0.
-fn observed(t: &layflow_engine::Tally) -> f64 {
-    if t.count() == 0 {
-        f64::NAN
-    } else {
-        t.mean()
-    }
 }
 
 /// Every metric's value in one replication, in the order of [`metrics`]; NaN

@@ -69,7 +69,7 @@ fn est(xs: impl Iterator<Item = f64>) -> Estimate {
 }
 
 /// A tally's mean, or NaN (left out by [`est`]) when it saw nothing.
-fn observed(t: &Tally) -> f64 {
+pub(crate) fn observed(t: &Tally) -> f64 {
     if t.count() == 0 {
         f64::NAN
     } else {
