@@ -14,7 +14,7 @@ use serde::Serialize;
 
 use crate::check::warn_overload;
 use crate::progress::Progress;
-use crate::run::{duration_arg, layouts};
+use crate::run::{duration_arg, layouts, SimOptions};
 use crate::select::{self, SelectArgs, Selection};
 use crate::table::{dur, dur_plain, num, pm, time_unit, whole, Table};
 use crate::warmup::{self, WarmupChoice};
@@ -31,19 +31,6 @@ pub struct CompareArgs {
     /// The layout every other is compared against; default: the first compared.
     #[arg(long, value_name = "NAME")]
     pub baseline: Option<String>,
-    /// Replications per layout (overrides run.replications; not with --select, which decides).
-    #[arg(long, value_name = "N")]
-    pub replications: Option<u32>,
-    /// Base seed of every random stream (overrides run.seed).
-    #[arg(long, value_name = "S")]
-    pub seed: Option<u64>,
-    /// Simulated time per replication, warm-up included, e.g. "30 d" (overrides run.horizon).
-    #[arg(long, value_name = "DURATION")]
-    pub horizon: Option<String>,
-    /// Statistics are cleared at this time, e.g. "2 d", or "auto" to choose it with MSER-5
-    /// from pilot runs (overrides run.warmup).
-    #[arg(long, value_name = "DURATION|auto")]
-    pub warmup: Option<String>,
     /// Demand factor, or several separated by commas for a sweep, e.g. 0.8,1.0,1.2
     /// (overrides demand_factor).
     #[arg(long, value_name = "F,...", value_delimiter = ',')]
@@ -54,9 +41,6 @@ pub struct CompareArgs {
     pub metric: String,
     #[command(flatten)]
     pub select: SelectArgs,
-    /// Worker threads for replications (default: every core). Results do not depend on it.
-    #[arg(long, value_name = "K")]
-    pub threads: Option<usize>,
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t = CompareFormat::Table)]
     pub format: CompareFormat,
@@ -64,12 +48,8 @@ pub struct CompareArgs {
     /// and summary.json into this directory (created if missing).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
-    /// No progress bar.
-    #[arg(long, short)]
-    pub quiet: bool,
-    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
-    #[arg(long)]
-    pub no_wall_clock: bool,
+    #[command(flatten)]
+    pub sim: SimOptions,
 }
 
 /// Output formats of `compare`.
@@ -152,12 +132,12 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
 /// Run the comparison on an already loaded plant (`search --validate` adds
 /// its layouts to the plant in memory first).
 pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
-    let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
-    let replications = args.replications.unwrap_or(plant.run.replications);
+    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
+    let replications = args.sim.replications.unwrap_or(plant.run.replications);
     if replications == 0 {
         return Err(Failure::input("--replications must be at least 1"));
     }
-    let seed = args.seed.unwrap_or(plant.run.seed);
+    let seed = args.sim.seed.unwrap_or(plant.run.seed);
     let which = compared_layouts(plant, &args.layouts)?;
     let baseline = match &args.baseline {
         None => 0,
@@ -174,8 +154,8 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let metric_list = metrics(plant);
     let ranked_on =
         find_metric(&metric_list, &args.metric).ok_or_else(|| unknown_metric(&args.metric, &metric_list))?;
-    let selection = select::settings(&args.select, &metric_list[ranked_on], args.replications)?;
-    let threads = crate::run::threads(args.threads)?;
+    let selection = select::settings(&args.select, &metric_list[ranked_on], args.sim.replications)?;
+    let threads = crate::run::threads(args.sim.threads)?;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
@@ -187,7 +167,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let started = Instant::now();
     let top = levels.iter().copied().fold(f64::MIN, f64::max);
     let (warmup_s, warmup_auto) =
-        warmup::resolve(&args.warmup, plant, &which, horizon_s, top, seed, &pool, args.quiet)?;
+        warmup::resolve(&args.sim.warmup, plant, &which, horizon_s, top, seed, &pool, args.sim.quiet)?;
     if !(horizon_s > warmup_s) {
         return Err(Failure::input(format!(
             "the horizon ({}) must be longer than the warm-up ({})",
@@ -197,7 +177,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     }
 
     let per_level = if selection.is_some() { 0 } else { which.len() as u64 * u64::from(replications) };
-    let progress = Progress::new(per_level * levels.len() as u64, args.quiet);
+    let progress = Progress::new(per_level * levels.len() as u64, args.sim.quiet);
     let mut out_levels = Vec::with_capacity(levels.len());
     for &factor in &levels {
         let pic = StaticPicture::new(plant, factor);
@@ -253,7 +233,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
         ranked_on: metric_list[ranked_on].label(),
         events: out_levels.iter().flat_map(|l| &l.layouts).map(|s| s.events).sum(),
         levels: out_levels,
-        wall_s: (!args.no_wall_clock).then_some(wall_s),
+        wall_s: (!args.sim.no_wall_clock).then_some(wall_s),
     };
     let json = serde_json::to_string_pretty(&out).expect("summaries serialise") + "\n";
     let summary_csv = summary_csv(&out, &metric_list)?;
@@ -268,7 +248,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
         CompareFormat::Table => print!("{}", render(plant, &out, &metric_list, wall_s)),
     }
     if let Some(dir) = &args.out {
-        if !args.quiet {
+        if !args.sim.quiet {
             eprintln!("wrote summary.json, summary.csv and replications.csv to {}", dir.display());
         }
     }

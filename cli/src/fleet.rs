@@ -15,7 +15,7 @@ use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
 use crate::progress::Progress;
-use crate::run::{duration_arg, layouts};
+use crate::run::{duration_arg, layouts, SimOptions};
 use crate::table::{dur, dur_plain, num, pct, pm, share, Table};
 use crate::target::{self, Target, Verdict, TARGET_METRICS};
 use crate::warmup::{self, WarmupChoice};
@@ -40,18 +40,6 @@ pub struct FleetArgs {
     /// utilization, empty_share, flow_time, throughput, wip, cost_per_h, cost_per_load.
     #[arg(long, value_name = "'METRIC OP VALUE'")]
     pub target: Vec<String>,
-    /// Replications per size (overrides run.replications).
-    #[arg(long, value_name = "N")]
-    pub replications: Option<u32>,
-    /// Base seed of every random stream (overrides run.seed).
-    #[arg(long, value_name = "S")]
-    pub seed: Option<u64>,
-    /// Simulated time per replication, warm-up included (overrides run.horizon).
-    #[arg(long, value_name = "DURATION")]
-    pub horizon: Option<String>,
-    /// Statistics are cleared at this time, or "auto" for MSER-5 (overrides run.warmup).
-    #[arg(long, value_name = "DURATION|auto")]
-    pub warmup: Option<String>,
     /// Scale every product's demand by this factor (overrides demand_factor).
     #[arg(long, value_name = "FACTOR")]
     pub demand: Option<f64>,
@@ -62,18 +50,11 @@ pub struct FleetArgs {
     /// Draw wait and utilisation against fleet size, with the target lines, into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
-    /// Worker threads (default: every core). Results do not depend on it.
-    #[arg(long, value_name = "K")]
-    pub threads: Option<usize>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = FleetFormat::Table)]
     pub format: FleetFormat,
-    /// No progress bar.
-    #[arg(long, short)]
-    pub quiet: bool,
-    /// Leave the wall-clock time out of the JSON.
-    #[arg(long)]
-    pub no_wall_clock: bool,
+    #[command(flatten)]
+    pub sim: SimOptions,
 }
 
 /// Output formats of `fleet`.
@@ -252,12 +233,12 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         None => 0,
         Some(n) => layouts(&plant, std::slice::from_ref(n))?[0],
     };
-    let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
-    let replications = args.replications.unwrap_or(plant.run.replications);
+    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
+    let replications = args.sim.replications.unwrap_or(plant.run.replications);
     if replications == 0 {
         return Err(Failure::input("--replications must be at least 1"));
     }
-    let seed = args.seed.unwrap_or(plant.run.seed);
+    let seed = args.sim.seed.unwrap_or(plant.run.seed);
     let factor = demand_factor(&plant, args.demand)?;
     let efficiency = args.efficiency.unwrap_or_else(|| fleet_efficiency(&plant, f));
     if !(efficiency > 0.0 && efficiency <= 1.0) {
@@ -273,7 +254,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
             )));
         }
     }
-    let threads = crate::run::threads(args.threads)?;
+    let threads = crate::run::threads(args.sim.threads)?;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
@@ -308,7 +289,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     };
     let (warmup_s, warmup_auto) = {
         let top = sized(*sizes.first().expect("at least one size"));
-        warmup::resolve(&args.warmup, &top, &[layout], horizon_s, factor, seed, &pool, args.quiet)?
+        warmup::resolve(&args.sim.warmup, &top, &[layout], horizon_s, factor, seed, &pool, args.sim.quiet)?
     };
     if !(horizon_s > warmup_s) {
         return Err(Failure::input(format!(
@@ -318,7 +299,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         )));
     }
     let started = Instant::now();
-    let progress = Progress::new(sizes.len() as u64 * u64::from(replications), args.quiet);
+    let progress = Progress::new(sizes.len() as u64 * u64::from(replications), args.sim.quiet);
     let spec = RunSpec { layout, horizon_s, warmup_s, demand_factor: factor, seed };
     let mut results = Vec::with_capacity(sizes.len());
     let mut events = 0;
@@ -350,7 +331,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         sizes: results,
         smallest_meeting_targets: smallest,
         events,
-        wall_s: (!args.no_wall_clock).then_some(wall_s),
+        wall_s: (!args.sim.no_wall_clock).then_some(wall_s),
     };
     if let Some(path) = &args.plot {
         let svg = crate::plot::fleet_svg(&out.fleet, &out.sizes, &out.targets)?;
@@ -367,7 +348,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         }
         FleetFormat::Table => print!("{}", render(&out, wall_s)),
     }
-    if let (Some(p), false) = (&args.plot, args.quiet) {
+    if let (Some(p), false) = (&args.plot, args.sim.quiet) {
         eprintln!("wrote {}", p.display());
     }
     Ok(())

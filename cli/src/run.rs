@@ -18,15 +18,10 @@ use crate::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole
 use crate::warmup::{self, WarmupChoice};
 use crate::{load, Failure, Format};
 
-/// Arguments of `layflow run`.
+/// Run settings shared by the commands that simulate; each overrides the scenario's `run:` value.
 #[derive(Args, Debug)]
-pub struct RunArgs {
-    /// The scenario file (YAML).
-    pub scenario: PathBuf,
-    /// Layout to simulate (repeat, or separate by commas); default: every layout.
-    #[arg(long, value_name = "NAME", value_delimiter = ',')]
-    pub layout: Vec<String>,
-    /// Replications per layout (overrides run.replications).
+pub struct SimOptions {
+    /// Replications (overrides run.replications).
     #[arg(long, value_name = "N")]
     pub replications: Option<u32>,
     /// Base seed of every random stream (overrides run.seed).
@@ -39,21 +34,33 @@ pub struct RunArgs {
     /// from pilot runs (overrides run.warmup).
     #[arg(long, value_name = "DURATION|auto")]
     pub warmup: Option<String>,
-    /// Scale every product's demand by this factor (overrides demand_factor).
-    #[arg(long, value_name = "FACTOR")]
-    pub demand: Option<f64>,
     /// Worker threads for replications (default: every core). Results do not depend on it.
     #[arg(long, value_name = "K")]
     pub threads: Option<usize>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Table)]
-    pub format: Format,
-    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
-    #[arg(long)]
-    pub no_wall_clock: bool,
     /// No progress bar.
     #[arg(long, short)]
     pub quiet: bool,
+    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
+    #[arg(long)]
+    pub no_wall_clock: bool,
+}
+
+/// Arguments of `layflow run`.
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Layout to simulate (repeat, or separate by commas); default: every layout.
+    #[arg(long, value_name = "NAME", value_delimiter = ',')]
+    pub layout: Vec<String>,
+    /// Scale every product's demand by this factor (overrides demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    #[command(flatten)]
+    pub sim: SimOptions,
 }
 
 #[derive(Serialize)]
@@ -122,21 +129,21 @@ pub fn threads(arg: Option<usize>) -> Result<usize, Failure> {
 /// Simulate and report.
 pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let plant = load(&args.scenario)?;
-    let horizon_s = duration_arg("--horizon", &args.horizon, plant.run.horizon_s)?;
-    let replications = args.replications.unwrap_or(plant.run.replications);
+    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
+    let replications = args.sim.replications.unwrap_or(plant.run.replications);
     if replications == 0 {
         return Err(Failure::input("--replications must be at least 1"));
     }
-    let seed = args.seed.unwrap_or(plant.run.seed);
+    let seed = args.sim.seed.unwrap_or(plant.run.seed);
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;
-    let threads = threads(args.threads)?;
+    let threads = threads(args.sim.threads)?;
     let pool = rayon::ThreadPoolBuilder::new()
         .num_threads(threads)
         .build()
         .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
     let (warmup_s, warmup_auto) =
-        warmup::resolve(&args.warmup, &plant, &which, horizon_s, factor, seed, &pool, args.quiet)?;
+        warmup::resolve(&args.sim.warmup, &plant, &which, horizon_s, factor, seed, &pool, args.sim.quiet)?;
     if !(horizon_s > warmup_s) {
         return Err(Failure::input(format!(
             "the horizon ({}) must be longer than the warm-up ({})",
@@ -149,7 +156,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     warn_overload(&plant, &pic);
 
     let total = which.len() as u64 * u64::from(replications);
-    let progress = Progress::new(total, args.quiet);
+    let progress = Progress::new(total, args.sim.quiet);
     let started = Instant::now();
     let mut summaries = Vec::with_capacity(which.len());
     for &l in &which {
@@ -175,7 +182,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         confidence: layflow_models::report::CONFIDENCE,
         layouts: summaries,
         events,
-        wall_s: (!args.no_wall_clock).then_some(wall_s),
+        wall_s: (!args.sim.no_wall_clock).then_some(wall_s),
     };
     match args.format {
         Format::Json => println!("{}", serde_json::to_string_pretty(&out).expect("summaries serialise")),
