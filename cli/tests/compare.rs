@@ -183,3 +183,32 @@ fn check_json_names_each_products_demand() {
     let shaft = v["products"][1]["mean_lots_per_h"].as_f64().unwrap();
     assert!((shaft - 302.0 / 168.0).abs() < 1e-9, "{shaft}");
 }
+
+#[test]
+fn layouts_from_a_layout_file_are_compared_too() {
+    let dir = tempfile::tempdir().unwrap();
+    let base =
+        std::fs::read_to_string(common::root().join("scenarios/validation/tiny-hand-checked.yaml")).unwrap();
+    let scenario = dir.path().join("plant.yaml");
+    std::fs::write(&scenario, format!("{base}\nlayout_files: [more/extra.yaml]\n")).unwrap();
+    std::fs::create_dir(dir.path().join("more")).unwrap();
+    std::fs::write(
+        dir.path().join("more/extra.yaml"),
+        "layouts:\n  mirrored: { receiving: dock-in, cutting: bay-c, drilling: bay-b, inspection: bay-a, shipping: dock-out }\n",
+    )
+    .unwrap();
+    let out = layflow(&[
+        "compare",
+        scenario.to_str().unwrap(),
+        "--replications",
+        "2",
+        "--quiet",
+        "--format",
+        "json",
+    ]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let names: Vec<&str> =
+        v["levels"][0]["layouts"].as_array().unwrap().iter().map(|l| l["layout"].as_str().unwrap()).collect();
+    assert_eq!(names, ["baseline", "swapped", "mirrored"]);
+}
