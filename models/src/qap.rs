@@ -85,17 +85,6 @@ impl Qap {
         }
         d
     }
-
-    /// Δ(p', r, s) from Δ(p, r, s) after facilities u and v swapped (`p` is
-    /// already the new permutation p'), for {r, s} ∩ {u, v} = ∅: Taillard's O(1) update.
-    #[inline]
-    fn delta_after_swap(&self, old: f64, p: &[usize], r: usize, s: usize, u: usize, v: usize) -> f64 {
-        let (pr, ps, pu, pv) = (p[r], p[s], p[u], p[v]);
-        old + (self.a(r, u) - self.a(r, v) + self.a(s, v) - self.a(s, u))
-            * (self.b(ps, pu) - self.b(ps, pv) + self.b(pr, pv) - self.b(pr, pu))
-            + (self.a(u, r) - self.a(v, r) + self.a(v, s) - self.a(u, s))
-                * (self.b(pu, ps) - self.b(pv, ps) + self.b(pv, pr) - self.b(pu, pr))
-    }
 }
 
 /// The swap deltas of every pair under the current permutation, kept up to date.
@@ -103,6 +92,11 @@ impl Qap {
 pub struct Deltas {
     n: usize,
     d: Vec<f64>,
+    /// Per-facility terms of the O(1) update for the last swap (reused, no allocation).
+    x: Vec<f64>,
+    y: Vec<f64>,
+    z: Vec<f64>,
+    w: Vec<f64>,
 }
 
 impl Deltas {
@@ -115,7 +109,7 @@ impl Deltas {
                 d[r * n + s] = q.delta(p, r, s);
             }
         }
-        Deltas { n, d }
+        Deltas { n, d, x: vec![0.0; n], y: vec![0.0; n], z: vec![0.0; n], w: vec![0.0; n] }
     }
 
     /// Δ(p, r, s) for r < s.
@@ -129,13 +123,31 @@ impl Deltas {
     pub fn swap(&mut self, q: &Qap, p: &mut [usize], u: usize, v: usize) {
         p.swap(u, v);
         let n = self.n;
+        let (pu, pv) = (p[u], p[v]);
+        // Taillard's update factors into per-facility terms: with
+        // x_r = a_ru − a_rv, y_r = b_{p(r)p(u)} − b_{p(r)p(v)}, z_r = a_ur − a_vr and
+        // w_r = b_{p(u)p(r)} − b_{p(v)p(r)}, the change of Δ(r, s) is
+        // (x_r − x_s)(y_s − y_r) + (z_r − z_s)(w_s − w_r). Four O(n) passes, then O(1) per pair.
+        for (r, &pr) in p.iter().enumerate() {
+            self.x[r] = q.a(r, u) - q.a(r, v);
+            self.y[r] = q.b(pr, pu) - q.b(pr, pv);
+            self.z[r] = q.a(u, r) - q.a(v, r);
+            self.w[r] = q.b(pu, pr) - q.b(pv, pr);
+        }
         for r in 0..n {
-            for s in r + 1..n {
-                let i = r * n + s;
-                self.d[i] = if r == u || r == v || s == u || s == v {
+            let (xr, yr, zr, wr) = (self.x[r], self.y[r], self.z[r], self.w[r]);
+            let row = &mut self.d[r * n..(r + 1) * n];
+            if r == u || r == v {
+                for (s, d) in row.iter_mut().enumerate().skip(r + 1) {
+                    *d = q.delta(p, r, s);
+                }
+                continue;
+            }
+            for (s, d) in row.iter_mut().enumerate().skip(r + 1) {
+                *d = if s == u || s == v {
                     q.delta(p, r, s)
                 } else {
-                    q.delta_after_swap(self.d[i], p, r, s, u, v)
+                    *d + (xr - self.x[s]) * (self.y[s] - yr) + (zr - self.z[s]) * (self.w[s] - wr)
                 };
             }
         }
