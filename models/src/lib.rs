@@ -7,6 +7,7 @@ pub mod plant;
 pub mod qap;
 pub mod report;
 pub mod scenario;
+pub mod search;
 pub mod sim;
 pub mod sizing;
 pub mod travel;

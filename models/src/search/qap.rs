@@ -115,6 +115,8 @@ pub struct Problem {
     pub(crate) restricted: bool,
     /// Facility may move (not pinned).
     pub(crate) movable: Vec<bool>,
+    /// No pins: every facility may move.
+    pub(crate) all_movable: bool,
     /// m×m location adjacency (empty without rules).
     pub(crate) neighbours: Vec<bool>,
     /// Rules of facility i: `rule_other[rule_start[i]..rule_start[i + 1]]`,
@@ -135,7 +137,12 @@ pub struct Problem {
 
 fn check_finite(what: &str, v: &[f64], cols: usize) -> Result<(), String> {
     match v.iter().position(|x| !x.is_finite()) {
-        Some(i) => Err(format!("{what}[{}][{}] is {}; {what} entries must be finite numbers", i / cols, i % cols, v[i])),
+        Some(i) => Err(format!(
+            "{what}[{}][{}] is {}; {what} entries must be finite numbers",
+            i / cols,
+            i % cols,
+            v[i]
+        )),
         None => Ok(()),
     }
 }
@@ -197,8 +204,18 @@ impl Problem {
     /// with itself, a pair both adjacent and apart, and rules that leave no
     /// layout at all (no way to give every department an allowed location).
     pub fn new(spec: Spec) -> Result<Problem, String> {
-        let Spec { departments: n, locations: m, flow, distance, fixed_cost, pinned, keep_empty, neighbours, adjacent, apart } =
-            spec;
+        let Spec {
+            departments: n,
+            locations: m,
+            flow,
+            distance,
+            fixed_cost,
+            pinned,
+            keep_empty,
+            neighbours,
+            adjacent,
+            apart,
+        } = spec;
         if n == 0 {
             return Err("a layout problem needs at least one department".into());
         }
@@ -209,7 +226,11 @@ impl Problem {
             return Err(format!("the flow matrix must be {n}×{n} ({} entries), got {}", n * n, flow.len()));
         }
         if distance.len() != m * m {
-            return Err(format!("the distance matrix must be {m}×{m} ({} entries), got {}", m * m, distance.len()));
+            return Err(format!(
+                "the distance matrix must be {m}×{m} ({} entries), got {}",
+                m * m,
+                distance.len()
+            ));
         }
         check_finite("flow", &flow, n)?;
         check_finite("distance", &distance, m)?;
@@ -218,7 +239,11 @@ impl Problem {
         let mut c = vec![0.0; m * m];
         if let Some(fc) = &fixed_cost {
             if fc.len() != n * m {
-                return Err(format!("the fixed-cost matrix must be {n}×{m} ({} entries), got {}", n * m, fc.len()));
+                return Err(format!(
+                    "the fixed-cost matrix must be {n}×{m} ({} entries), got {}",
+                    n * m,
+                    fc.len()
+                ));
             }
             for (idx, &x) in fc.iter().enumerate() {
                 let (i, k) = (idx / m, idx % m);
@@ -252,7 +277,9 @@ impl Problem {
                 return Err(format!("department {i} is pinned, but there are only {n} departments (0..{n})"));
             }
             if k >= m {
-                return Err(format!("department {i} is pinned to location {k}, but there are only {m} locations"));
+                return Err(format!(
+                    "department {i} is pinned to location {k}, but there are only {m} locations"
+                ));
             }
             match pin_of[i] {
                 Some(k0) if k0 != k => {
@@ -269,7 +296,9 @@ impl Problem {
                 return Err(format!("department {i} is pinned to location {k}, which is kept empty"));
             }
             if !allowed[i * m + k] {
-                return Err(format!("department {i} is pinned to location {k}, where its fixed cost is infinite"));
+                return Err(format!(
+                    "department {i} is pinned to location {k}, where its fixed cost is infinite"
+                ));
             }
             pin_of[i] = Some(k);
             pinned_at[k] = Some(i);
@@ -298,7 +327,8 @@ impl Problem {
                 ));
             }
         }
-        let order: Vec<Vec<usize>> = (0..n).map(|i| (0..m).filter(|&k| allowed[i * m + k]).collect()).collect();
+        let order: Vec<Vec<usize>> =
+            (0..n).map(|i| (0..m).filter(|&k| allowed[i * m + k]).collect()).collect();
         let mut at_loc = vec![usize::MAX; m];
         if let Err(i) = matching(n, &order, &mut at_loc) {
             return Err(format!(
@@ -316,7 +346,11 @@ impl Problem {
         let neighbours = match neighbours {
             Some(nb) => {
                 if nb.len() != m * m {
-                    return Err(format!("the neighbour relation must be {m}×{m} ({} entries), got {}", m * m, nb.len()));
+                    return Err(format!(
+                        "the neighbour relation must be {m}×{m} ({} entries), got {}",
+                        m * m,
+                        nb.len()
+                    ));
                 }
                 for k in 0..m {
                     for l in 0..k {
@@ -338,7 +372,9 @@ impl Problem {
         for (list, want, name) in [(&adjacent, true, "adjacent"), (&apart, false, "apart")] {
             for &(i, j) in list {
                 if i >= n || j >= n {
-                    return Err(format!("the {name} pair ({i}, {j}) names a department beyond the {n} there are"));
+                    return Err(format!(
+                        "the {name} pair ({i}, {j}) names a department beyond the {n} there are"
+                    ));
                 }
                 if i == j {
                     return Err(format!("the {name} pair ({i}, {j}) pairs a department with itself"));
@@ -400,7 +436,8 @@ impl Problem {
         // integer data stay integer.
         let fsum: f64 = flow.iter().map(|x| x.abs()).sum();
         let dmax = distance.iter().fold(0.0f64, |x, y| x.max(y.abs()));
-        let cmax: f64 = (0..n).map(|i| c[i * m..(i + 1) * m].iter().fold(0.0f64, |x, y| x.max(y.abs()))).sum();
+        let cmax: f64 =
+            (0..n).map(|i| c[i * m..(i + 1) * m].iter().fold(0.0f64, |x, y| x.max(y.abs()))).sum();
         let spread = fsum * dmax + cmax;
         let penalty = if has_rules { (1.0 + 2.0 * spread).ceil() } else { 0.0 };
         let scale = spread + penalty * pairs.len() as f64;
@@ -423,6 +460,7 @@ impl Problem {
             has_fixed,
             allowed,
             restricted,
+            all_movable: movable.iter().all(|&x| x),
             movable,
             neighbours,
             rule_start,
@@ -522,12 +560,19 @@ impl Problem {
 
     fn check_layout(&self, layout: &[usize]) -> Result<(), String> {
         if layout.len() != self.n {
-            return Err(format!("a layout gives a location for each of the {} departments, got {}", self.n, layout.len()));
+            return Err(format!(
+                "a layout gives a location for each of the {} departments, got {}",
+                self.n,
+                layout.len()
+            ));
         }
         let mut taken = vec![usize::MAX; self.m];
         for (i, &k) in layout.iter().enumerate() {
             if k >= self.m {
-                return Err(format!("department {i} is at location {k}, but there are only {} locations", self.m));
+                return Err(format!(
+                    "department {i} is at location {k}, but there are only {} locations",
+                    self.m
+                ));
             }
             if taken[k] != usize::MAX {
                 return Err(format!("departments {} and {i} are both at location {k}", taken[k]));
@@ -603,8 +648,8 @@ impl Problem {
                 s += ai[j] * row[p[j]];
             }
         }
-        for i in 0..n {
-            s += self.c[i * m + p[i]];
+        for (i, &k) in p.iter().enumerate().take(n) {
+            s += self.c[i * m + k];
         }
         s + self.penalty * self.violations(p) as f64
     }
@@ -665,7 +710,7 @@ impl Problem {
     /// Pairs of facilities a search may swap: both movable and not both placeholders.
     #[inline]
     pub(crate) fn pair_movable(&self, r: usize, s: usize) -> bool {
-        self.movable[r] && self.movable[s] && (r < self.n || s < self.n)
+        (self.all_movable || (self.movable[r] && self.movable[s])) && (r < self.n || s < self.n)
     }
 }
 
