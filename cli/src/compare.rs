@@ -560,10 +560,17 @@ fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s: f6
             t.row(row);
         }
         s.push_str(&t.render(2));
+        // A layout disagrees when some other layout is ordered the opposite
+        // way by the two ranks; a tie on either side is no contradiction.
         let disagree: Vec<&str> = lv
             .ranking
             .iter()
-            .filter(|r| r.static_rank != r.simulated_rank)
+            .filter(|a| {
+                lv.ranking.iter().any(|b| {
+                    (a.static_rank < b.static_rank && a.simulated_rank > b.simulated_rank)
+                        || (a.static_rank > b.static_rank && a.simulated_rank < b.simulated_rank)
+                })
+            })
             .map(|r| r.layout.as_str())
             .collect();
         let _ = if !fleets {

@@ -10,6 +10,7 @@ mod output;
 mod plot;
 mod progress;
 mod run;
+mod search;
 mod select;
 mod table;
 mod target;
@@ -31,7 +32,8 @@ use clap::{Parser, Subcommand, ValueEnum};
     after_help = "Examples:\n  layflow check scenarios/demo.yaml\n  layflow run scenarios/demo.yaml\n  \
                   layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n  \
                   layflow compare scenarios/demo.yaml --demand 0.8,1.0,1.2\n  \
-                  layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n\n\
+                  layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n  \
+                  layflow search scenarios/demo.yaml --out found.yaml --validate\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed."
 )]
 struct Cli {
@@ -54,6 +56,9 @@ enum Command {
     /// Size one handling fleet: simulate every size with common random numbers,
     /// judge each against targets, and show the analytic estimate beside it.
     Fleet(fleet::FleetArgs),
+    /// Search for layouts with a low load-distance cost (robust tabu search, simulated
+    /// annealing, pairwise exchange), write them for `compare`, and check them by simulation.
+    Search(search::SearchArgs),
 }
 
 /// Output format shared by the commands.
@@ -98,6 +103,7 @@ fn main() -> ExitCode {
         Command::Run(a) => run::run(&a),
         Command::Compare(a) => compare::compare(&a),
         Command::Fleet(a) => fleet::fleet(&a),
+        Command::Search(a) => search::search(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,4 +1,4 @@
-//! Pictures as SVG: fleet size against mover wait and utilisation, with the target lines.
+//! Pictures as SVG: fleet size against mover wait and utilisation, and layout-search cost over time.
 
 use layflow_models::report::Estimate;
 use plotters::prelude::*;
@@ -134,6 +134,107 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
                 .map_err(plot_error)?
                 .label(format!("target: {}", t.describe()))
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
+        }
+        c.configure_series_labels()
+            .background_style(WHITE.mix(0.9))
+            .border_style(RGBColor(200, 200, 200))
+            .position(SeriesLabelPosition::UpperRight)
+            .draw()
+            .map_err(plot_error)?;
+        root.present().map_err(plot_error)?;
+    }
+    Ok(svg)
+}
+
+/// One method's best-so-far, for [`search_svg`].
+pub struct SearchSeries<'a> {
+    /// The method, as the legend names it.
+    pub label: &'a str,
+    /// (seconds since it began, best cost so far) at each improvement.
+    pub points: Vec<(f64, f64)>,
+    /// When it stopped.
+    pub end_s: f64,
+}
+
+/// Best-so-far cost against time (log scale: searches improve most in their
+/// first milliseconds), one step line per method, with a reference level
+/// (the start layout, or a known optimum) as a dashed line.
+pub fn search_svg(
+    title: &str,
+    series: &[SearchSeries],
+    unit: &str,
+    reference: Option<(&str, f64)>,
+) -> Result<String, Failure> {
+    const EARLIEST_S: f64 = 1e-4;
+    let t_end = series.iter().map(|s| s.end_s).fold(EARLIEST_S * 10.0, f64::max) * 1.2;
+    let values = series.iter().flat_map(|s| s.points.iter().map(|p| p.1)).chain(reference.map(|r| r.1));
+    let (lo, hi) = values.fold((f64::INFINITY, f64::NEG_INFINITY), |(a, b), v| (a.min(v), b.max(v)));
+    if !lo.is_finite() {
+        return Err(Failure::run("cannot draw the picture: no method reported a cost"));
+    }
+    let pad = ((hi - lo) * 0.08).max(hi.abs() * 1e-3).max(1e-9);
+    let (y0, y1) = (lo - pad, hi + pad);
+    let colours = [TEAL, AMBER, SLATE];
+    let mut svg = String::new();
+    {
+        let root = SVGBackend::with_string(&mut svg, (900, 520)).into_drawing_area();
+        root.fill(&WHITE).map_err(plot_error)?;
+        let mut c = ChartBuilder::on(&root)
+            .caption(format!("Layout search: {title}"), ("sans-serif", 22))
+            .margin(14)
+            .x_label_area_size(44)
+            .y_label_area_size(80)
+            .build_cartesian_2d((EARLIEST_S..t_end).log_scale(), y0..y1)
+            .map_err(plot_error)?;
+        c.configure_mesh()
+            .x_desc("seconds since the search began (log scale)")
+            .y_desc(format!("best so far ({unit})"))
+            .y_label_formatter(&|y| crate::table::num(*y))
+            .x_label_formatter(&|x| {
+                if *x >= 1.0 {
+                    format!("{x:.0}")
+                } else {
+                    format!("{x}")
+                }
+            })
+            .light_line_style(RGBColor(235, 235, 235))
+            .draw()
+            .map_err(plot_error)?;
+        // Narrower lines on top of wider ones, so methods that end at the same
+        // cost still show as nested stripes rather than hiding each other.
+        let widths = [7u32, 4, 2];
+        for (i, s) in series.iter().enumerate() {
+            let colour = colours[i % colours.len()];
+            let width = widths[i % widths.len()];
+            // A step line: the best holds until the next improvement, then drops.
+            let mut pts: Vec<(f64, f64)> = Vec::with_capacity(2 * s.points.len() + 1);
+            for &(t, v) in &s.points {
+                let t = t.max(EARLIEST_S);
+                if let Some(&(_, prev)) = pts.last() {
+                    pts.push((t, prev));
+                }
+                pts.push((t, v));
+            }
+            if let Some(&(_, last)) = pts.last() {
+                pts.push((s.end_s.max(EARLIEST_S), last));
+            }
+            c.draw_series(LineSeries::new(pts, colour.stroke_width(width)))
+                .map_err(plot_error)?
+                .label(s.label)
+                .legend(move |(x, y)| {
+                    PathElement::new(vec![(x, y), (x + 24, y)], colour.stroke_width(width))
+                });
+        }
+        if let Some((name, v)) = reference {
+            c.draw_series(DashedLineSeries::new(
+                vec![(EARLIEST_S, v), (t_end, v)],
+                8,
+                6,
+                BRICK.stroke_width(2),
+            ))
+            .map_err(plot_error)?
+            .label(format!("{name}: {}", crate::table::num(v)))
+            .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
         }
         c.configure_series_labels()
             .background_style(WHITE.mix(0.9))

@@ -19,7 +19,7 @@ use crate::warmup::{self, WarmupChoice};
 use crate::{load, Failure, Format};
 
 /// Run settings shared by the commands that simulate; each overrides the scenario's `run:` value.
-#[derive(Args, Debug)]
+#[derive(Args, Debug, Clone)]
 pub struct SimOptions {
     /// Replications (overrides run.replications).
     #[arg(long, value_name = "N")]

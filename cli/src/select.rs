@@ -29,7 +29,7 @@ pub const SOURCE: &str =
      ACM TOMACS 11(3):251-273";
 
 /// The flags of `--select`.
-#[derive(Args, Debug)]
+#[derive(Args, Debug, Clone)]
 pub struct SelectArgs {
     /// Select the best layout on --metric with the Kim–Nelson fully sequential procedure:
     /// add replications, drop layouts clearly worse, stop when one is left.

@@ -4,7 +4,6 @@ pub mod analysis;
 pub mod compare;
 pub mod dist;
 pub mod plant;
-pub mod qap;
 pub mod report;
 pub mod scenario;
 pub mod search;

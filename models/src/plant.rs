@@ -65,6 +65,18 @@ pub enum DistanceRule {
     },
 }
 
+impl DistanceRule {
+    /// The rule in words, for reports.
+    pub fn describe(&self) -> String {
+        match self {
+            DistanceRule::Rectilinear => "rectilinear (|dx| + |dy|)".into(),
+            DistanceRule::Euclidean => "straight line".into(),
+            DistanceRule::Matrix { file: Some(f) } => format!("the distance matrix in {f}"),
+            DistanceRule::Matrix { file: None } => "the scenario's distance matrix".into(),
+        }
+    }
+}
+
 /// What a department does in the flow of lots.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum DepartmentRole {

@@ -92,6 +92,18 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let locations = locations(&s, ctx)?;
     let (distance_rule, distance) = distance::compile(&s, &locations, ctx)?;
     let departments = departments(&s, ctx)?;
+    if departments.len() > locations.len() {
+        return Err(ctx
+            .err(
+                &root.key("departments"),
+                format!(
+                    "{} departments but only {} locations: every department needs a location of its own",
+                    departments.len(),
+                    locations.len()
+                ),
+            )
+            .with_hint("add locations (empty ones are fine), or merge departments"));
+    }
     let mut layouts = Vec::new();
     if s.layouts.0.is_empty() {
         return Err(ctx
@@ -119,6 +131,14 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             &root.key("costs").key("per_load_metre"),
             format!("per_load_metre must be a number >= 0, got {cost_per_load_metre}"),
         ));
+    }
+    if !search.floor_costs.is_empty() && cost_per_load_metre == 0.0 {
+        return Err(ctx
+            .err(
+                &root.key("search").key("floor_costs"),
+                "floor costs are in currency per hour, but the load-distance has no price",
+            )
+            .with_hint("set `costs: { per_load_metre: ... }` so handling and floor costs share one scale"));
     }
     Ok(Plant {
         name: s.plant.clone(),

@@ -6,7 +6,8 @@
 //! - [`exchange`]: pairwise exchange, steepest descent, with restarts;
 //! - [`anneal`]: simulated annealing;
 //! - [`tabu`]: robust tabu search (Taillard 1991);
-//! - [`qaplib`]: the QAPLIB file formats, for checking against published optima.
+//! - [`qaplib`]: the QAPLIB file formats, for checking against published optima;
+//! - [`plant`]: a scenario's layout problem and its costs in the plant's terms.
 //!
 //! Every method takes the problem, [`Settings`] (start, seed, limits, how
 //! many distinct good layouts to keep) and a progress callback
@@ -17,6 +18,7 @@ pub mod anneal;
 pub mod delta;
 mod driver;
 pub mod exchange;
+pub mod plant;
 pub mod qap;
 pub mod qaplib;
 pub mod tabu;
@@ -28,6 +30,7 @@ pub use anneal::{anneal, AnnealParams};
 pub use delta::{Assignment, DeltaMatrix};
 pub use driver::{Limits, Outcome, Ranked, Settings, TopK, TracePoint};
 pub use exchange::steepest_descent;
+pub use plant::{LayoutCost, PlantProblem};
 pub use qap::{Evaluation, Problem, Spec};
 pub use tabu::{robust_tabu, TabuParams};
 

@@ -1,0 +1,184 @@
+//! End-to-end tests of `layflow search`: layouts written for `compare`, repeatable runs, validation, pictures, QAPLIB and bad input.
+
+mod common;
+
+use std::path::PathBuf;
+
+use common::{layflow, root, text};
+
+/// A fixed iteration budget: results do not depend on the machine's speed.
+const FIXED: &[&str] = &["--iterations", "3000", "--quiet"];
+
+fn search(extra: &[&str]) -> std::process::Output {
+    let mut args = vec!["search", "scenarios/demo.yaml"];
+    args.extend_from_slice(FIXED);
+    args.extend_from_slice(extra);
+    layflow(&args)
+}
+
+fn json(out: &std::process::Output) -> serde_json::Value {
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    serde_json::from_slice(&out.stdout).expect("JSON on stdout")
+}
+
+#[test]
+fn the_layouts_written_load_into_the_scenario_and_compare_runs_them() {
+    let dir = tempfile::tempdir().unwrap();
+    let found = dir.path().join("found.yaml");
+    let out =
+        search(&["--method", "all", "--top", "2", "--out", found.to_str().unwrap(), "--format", "json"]);
+    let v = json(&out);
+    let best = v["layouts"][0]["load_distance_m_per_h"].as_f64().unwrap();
+    // The demo's own layouts: the search must do at least as well as the best of them.
+    let start = v["start"]["load_distance_m_per_h"].as_f64().unwrap();
+    assert!(best < start, "search {best} vs current {start}");
+    assert_eq!(v["layouts"].as_array().unwrap().len(), 2);
+
+    // The demo with the written file included, as the README tells a user to do.
+    let demo = std::fs::read_to_string(root().join("scenarios/demo.yaml")).unwrap();
+    let plant = dir.path().join("plant.yaml");
+    std::fs::write(&plant, format!("{demo}\nlayout_files: [found.yaml]\n")).unwrap();
+    let out = layflow(&["check", plant.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let check = text(&out.stdout);
+    assert!(check.contains("search-1") && check.contains("search-2"), "{check}");
+    let out = layflow(&[
+        "compare",
+        plant.to_str().unwrap(),
+        "--layouts",
+        "current,search-1",
+        "--replications",
+        "3",
+        "--horizon",
+        "3 d",
+        "--warmup",
+        "1 d",
+        "--format",
+        "json",
+        "--quiet",
+    ]);
+    let cmp = json(&out);
+    // compare's static load-distance of search-1 is the search's cost: one
+    // from-to chart, one distance matrix, two code paths.
+    let l = cmp["levels"][0]["layouts"].as_array().unwrap();
+    let s1 = l.iter().find(|x| x["layout"] == "search-1").expect("search-1 compared");
+    let static_ld = s1["load_distance_static_m_per_h"].as_f64().unwrap();
+    assert!((static_ld - best).abs() <= 1e-9 * best, "compare {static_ld} vs search {best}");
+}
+
+#[test]
+fn the_same_seed_and_iterations_give_the_same_layouts() {
+    let a = search(&["--method", "all", "--format", "json", "--no-wall-clock", "--seed", "5"]);
+    let b = search(&["--method", "all", "--format", "json", "--no-wall-clock", "--seed", "5"]);
+    assert_eq!(json(&a), json(&b));
+    assert_eq!(a.stdout, b.stdout);
+}
+
+#[test]
+fn validate_simulates_the_start_and_the_layouts_found() {
+    let out =
+        search(&["--top", "2", "--validate", "--replications", "3", "--horizon", "3 d", "--warmup", "1 d"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    for needle in
+        ["Layout search:", "Validating by simulation", "search-1 − current", "static rank", "simulated rank"]
+    {
+        assert!(s.contains(needle), "missing {needle:?} in:\n{s}");
+    }
+}
+
+#[test]
+fn the_picture_has_a_line_per_method() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("search.svg");
+    let out = search(&["--method", "tabu,exchange", "--plot", svg.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = std::fs::read_to_string(&svg).unwrap();
+    assert!(s.starts_with("<svg") && s.contains("robust tabu search") && s.contains("pairwise exchange"));
+    assert!(!s.contains("simulated annealing"), "only the methods run are drawn");
+}
+
+#[test]
+fn rules_are_kept_and_reported() {
+    let out = layflow(&[
+        "search",
+        "scenarios/validation/search-rules.yaml",
+        "--format",
+        "json",
+        "--iterations",
+        "2000",
+        "-q",
+    ]);
+    let v = json(&out);
+    // The optimum, 8.00 per hour, is the brute-force value of tests/tests/search_plant.rs.
+    let best = &v["layouts"][0];
+    assert!((best["total_cost_per_h"].as_f64().unwrap() - 8.0).abs() < 1e-9, "{best}");
+    assert_eq!(best["rules_broken"], 0);
+    assert_eq!(v["start"]["rules_broken"], 1, "the current layout splits cut and weld");
+    let at = |dept: &str| {
+        best["assignment"].as_array().unwrap().iter().find(|p| p[0] == dept).map(|p| p[1].clone()).unwrap()
+    };
+    assert_eq!(at("paint"), "bay-b3");
+}
+
+fn qaplib() -> Option<PathBuf> {
+    let p = std::env::var_os("LAYFLOW_QAPLIB")
+        .map(PathBuf::from)
+        .unwrap_or_else(|| root().join("../shared/qaplib"));
+    if p.join("nug12.dat").is_file() {
+        Some(p)
+    } else {
+        eprintln!("NOTICE: QAPLIB data not found at {}; the --qaplib test was skipped", p.display());
+        None
+    }
+}
+
+#[test]
+fn qaplib_instances_report_the_gap_to_the_published_optimum() {
+    let Some(dir) = qaplib() else { return };
+    let file = dir.join("nug12.dat");
+    let out = layflow(&[
+        "search",
+        "--qaplib",
+        file.to_str().unwrap(),
+        "--iterations",
+        "50000",
+        "--format",
+        "json",
+        "-q",
+    ]);
+    let v = json(&out);
+    // nug12's proven optimum is 578 (QAPLIB, Burkard, Karisch & Rendl 1997).
+    assert_eq!(v["optimum"], 578.0);
+    assert_eq!(v["methods"][0]["best"], 578.0);
+    assert_eq!(v["methods"][0]["gap_percent"], 0.0);
+}
+
+#[test]
+fn bad_input_is_refused_with_exit_code_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let bad = dir.path().join("broken.dat");
+    std::fs::write(&bad, "3\n0 1 2\n1 0 x\n").unwrap();
+    let cases: Vec<(Vec<String>, &str)> = vec![
+        (vec!["--qaplib".into(), bad.display().to_string()], "broken.dat"),
+        (vec!["--qaplib".into(), dir.path().join("none.dat").display().to_string()], "none.dat"),
+        (vec!["scenarios/demo.yaml".into(), "--top".into(), "0".into()], "--top"),
+        (vec!["scenarios/demo.yaml".into(), "--time-limit".into(), "0 s".into()], "--time-limit"),
+        (vec!["scenarios/demo.yaml".into(), "--time-limit".into(), "10".into()], "--time-limit"),
+        (vec!["scenarios/demo.yaml".into(), "--from".into(), "nowhere".into()], "--from"),
+        (
+            vec!["scenarios/demo.yaml".into(), "--validate".into(), "--format".into(), "json".into()],
+            "--validate",
+        ),
+        (vec!["scenarios/bad/search-pinned-twice.yaml".into()], "search-pinned-twice.yaml"),
+    ];
+    for (args, needle) in cases {
+        let mut all = vec!["search".to_string(), "--iterations".into(), "10".into()];
+        all.extend(args.iter().cloned());
+        let refs: Vec<&str> = all.iter().map(String::as_str).collect();
+        let out = layflow(&refs);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", text(&out.stderr));
+        let err = text(&out.stderr);
+        assert!(err.contains(needle), "{args:?}: expected {needle:?} in {err}");
+    }
+}
