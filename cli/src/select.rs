@@ -150,6 +150,8 @@ pub struct Selection {
     layouts: Vec<SelectedLayout>,
     /// The selected layout; `None` when the cap was reached first.
     best: Option<String>,
+    /// The survivors gave identical results in every replication (a tie no replication can break).
+    identical: bool,
     /// The guarantee (or why there is none) in plain words.
     statement: String,
 }
@@ -186,7 +188,10 @@ pub fn run(
     let block = (2 * rayon::current_num_threads()).max(4);
     let mut stage = 0usize;
     progress.stage(format!("selecting on {label}, demand ×{}", num(demand_factor)));
-    while !kn.is_done() && stage < s.max {
+    // Survivors that gave exactly the same value in every replication (mirror
+    // images of one layout, say) can never be told apart: stop rather than run to the cap.
+    let mut identical = false;
+    while !kn.is_done() && stage < s.max && !identical {
         let upto = if stage < s.n0 { s.n0 } else { (stage + block).min(s.max) };
         let alive: Vec<usize> = kn.survivors().to_vec();
         progress.add_total((alive.len() * (upto - stage)) as u64);
@@ -221,6 +226,13 @@ pub fn run(
             kn.observe(&values).map_err(|e| Failure::run(format!("--select: {e}")))?;
             stage += 1;
         }
+        let alive = kn.survivors();
+        identical = stage >= s.n0
+            && alive.len() > 1
+            && (0..stage).all(|r| {
+                let v = |i: usize| compare::values(plant, &reps[i][r])[metric];
+                alive.iter().all(|&i| v(i) == v(alive[0]))
+            });
     }
     // Keep only the replications the procedure used.
     for (i, r) in reps.iter_mut().enumerate() {
@@ -229,7 +241,7 @@ pub fn run(
     let name = |i: usize| plant.layouts[which[i]].name.clone();
     let m = &compare::metrics(plant)[metric];
     let best = kn.winner().map(name);
-    let statement = statement(&kn, m, s, k, &best, &name);
+    let statement = statement(&kn, m, s, k, &best, &name, identical);
     let selection = Selection {
         procedure: "Kim–Nelson fully sequential",
         source: SOURCE,
@@ -254,6 +266,7 @@ pub fn run(
             })
             .collect(),
         best,
+        identical,
         statement,
     };
     Ok((reps, selection))
@@ -276,6 +289,7 @@ fn statement(
     k: usize,
     best: &Option<String>,
     name: &dyn Fn(usize) -> String,
+    identical: bool,
 ) -> String {
     let goal = match s.goal {
         Goal::Minimize => "lowest",
@@ -290,6 +304,16 @@ fn statement(
             s.confidence * 100.0,
             amount(m, s.delta)
         ),
+        None if identical => {
+            let left: Vec<String> = kn.survivors().iter().map(|&i| name(i)).collect();
+            format!(
+                "No single layout can be named: {} gave the same {what} in every one of {} replications (the \
+                 same simulated outcome, as mirror-image layouts give), so no number of replications can tell \
+                 them apart. Treat them as equally good.",
+                left.join(", "),
+                kn.stage()
+            )
+        }
         None => {
             let left: Vec<String> = kn.survivors().iter().map(|&i| name(i)).collect();
             format!(
@@ -329,6 +353,7 @@ pub fn render(sel: &Selection, metric: &Metric) -> String {
         let outcome = match (l.eliminated_after, &sel.best) {
             (Some(r), _) => format!("dropped after replication {r}"),
             (None, Some(b)) if *b == l.layout => "BEST".to_string(),
+            (None, _) if sel.identical => "tied: identical results".to_string(),
             (None, _) => "still in at the cap".to_string(),
         };
         t.row(vec![l.layout.clone(), l.replications.to_string(), amount(metric, l.mean), outcome]);
