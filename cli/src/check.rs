@@ -54,12 +54,17 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
     for d in pic.overloaded() {
         let dep = &plant.departments[d];
         eprintln!(
-            "WARNING: department \"{}\" is predicted at {} utilisation ({} machine{}): the plant cannot keep up \
+            "WARNING: department \"{}\" is predicted at {} utilisation ({} machine{}{}): the plant cannot keep up \
              with this demand; queues there grow without bound and simulated results will not settle.",
             dep.id,
-            share(pic.utilization[d]),
+            share(pic.utilization_available[d]),
             dep.machines,
-            if dep.machines == 1 { "" } else { "s" }
+            if dep.machines == 1 { "" } else { "s" },
+            if dep.breakdowns.is_some() {
+                format!(", up {} of the time", share(pic.availability[d]))
+            } else {
+                String::new()
+            }
         );
     }
     for (l, lp) in pic.layouts.iter().enumerate() {
@@ -134,27 +139,56 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     let _ = writeln!(s);
 
     let _ = writeln!(s, "Departments: predicted utilisation = arrivals × mean processing time ÷ machines");
-    let mut t = Table::new(&["department", "machines", "lots/h", "utilisation", ""]);
+    let breakdowns = plant.departments.iter().any(|d| d.breakdowns.is_some());
+    let staging = plant.departments.iter().any(|d| d.staging.is_limited());
+    let mut header = vec!["department", "machines", "lots/h", "utilisation"];
+    if breakdowns {
+        header.extend(["availability", "vs available"]);
+    }
+    if staging {
+        header.push("staging in/out");
+    }
+    header.push("");
+    let mut t = Table::new(&header);
     for (d, dep) in plant.departments.iter().enumerate() {
         if dep.role != DepartmentRole::Work {
             continue;
         }
-        let u = pic.utilization[d];
-        t.row(vec![
+        let u = pic.utilization_available[d];
+        let mut row = vec![
             dep.id.clone(),
             dep.machines.to_string(),
             format!("{:.2}", pic.arrivals_per_h[d]),
-            share(u),
-            if u >= 1.0 {
-                "OVERLOADED".into()
-            } else if u >= 0.85 {
-                "high".into()
-            } else {
-                String::new()
-            },
-        ]);
+            share(pic.utilization[d]),
+        ];
+        if breakdowns {
+            row.push(share(pic.availability[d]));
+            row.push(share(u));
+        }
+        if staging {
+            let cap = |c: Option<u32>| c.map_or("∞".to_string(), |c| c.to_string());
+            let mut st = format!("{}/{}", cap(dep.staging.inbound), cap(dep.staging.outbound));
+            if let Some(o) = dep.staging.overflow {
+                st.push_str(&format!(" + overflow {}", plant.locations[o].id));
+            }
+            row.push(st);
+        }
+        row.push(if u >= 1.0 {
+            "OVERLOADED".into()
+        } else if u >= 0.85 {
+            "high".into()
+        } else {
+            String::new()
+        });
+        t.row(row);
     }
     s.push_str(&t.render(2));
+    if breakdowns {
+        let _ = writeln!(
+            s,
+            "  (availability = MTBF ÷ (MTBF + MTTR); vs available = λ·E[S] ÷ (machines × availability))"
+        );
+    }
     let _ = writeln!(s);
 
     let _ = writeln!(
@@ -167,6 +201,7 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     for f in plant.fleets() {
         header.push(format!("{} util ≥", f.id));
     }
+    let fleet_service = plant.fleets().iter().any(|f| f.breakdowns.is_some() || f.charging.is_some());
     let mut t = Table::new(&header);
     for (l, lp) in pic.layouts.iter().enumerate() {
         let mut row = vec![
@@ -174,13 +209,29 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             whole(lp.load_distance_m_per_h),
             format!("{:.2}", lp.handling_cost_per_h),
         ];
-        row.extend(lp.fleet_utilization_lower_bound.iter().map(|&u| share(u)));
+        row.extend(lp.fleet_utilization_lower_bound.iter().zip(plant.fleets()).map(|(&u, f)| {
+            if f.breakdowns.is_some() || f.charging.is_some() {
+                format!("{} ({} of available)", share(u), share(u / f.availability()))
+            } else {
+                share(u)
+            }
+        }));
         t.row(row);
     }
     s.push_str(&t.render(2));
     if !plant.fleets().is_empty() {
         let _ =
             writeln!(s, "  (fleet bound: loaded travel + loading + unloading only; empty travel adds to it)");
+    }
+    if fleet_service {
+        for f in plant.fleets().iter().filter(|f| f.breakdowns.is_some() || f.charging.is_some()) {
+            let _ = writeln!(
+                s,
+                "  fleet {}: in service about {} of the time (breakdowns, and charging as if always operating)",
+                f.id,
+                share(f.availability())
+            );
+        }
     }
     s
 }
@@ -234,6 +285,10 @@ fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
             "machines": dep.machines,
             "arrivals_per_h": pic.arrivals_per_h[d],
             "utilization_predicted": pic.utilization[d],
+            "availability_predicted": pic.availability[d],
+            "utilization_against_availability": pic.utilization_available[d],
+            "staging_inbound": dep.staging.inbound,
+            "staging_outbound": dep.staging.outbound,
         })).collect::<Vec<_>>(),
         "layouts": pic.layouts.iter().enumerate().map(|(l, lp)| json!({
             "layout": plant.layouts[l].name,

@@ -203,6 +203,11 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
                 (reps, None)
             }
         };
+        for (&l, r) in which.iter().zip(&reps) {
+            if let Some(why) = layflow_models::report::deadlock_message(plant, r) {
+                return Err(Failure::run(format!("layout {}: {why}", plant.layouts[l].name)));
+            }
+        }
         out_levels.push(level(
             plant,
             &which,

@@ -308,6 +308,10 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         progress.stage(format!("{} × {n}", plant.fleets()[f].id));
         let plan = Plan::new(&p, layout);
         let reps = pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
+        if let Some(why) = layflow_models::report::deadlock_message(&p, &reps) {
+            progress.finish();
+            return Err(Failure::run(format!("with {n} movers in {}: {why}", plant.fleets()[f].id)));
+        }
         events += reps.iter().map(|r| r.events).sum::<u64>();
         results.push(size_result(&p, f, n, &reps, &targets, &analytic.minimum_empty_flow));
     }

@@ -164,6 +164,10 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
         let plan = Plan::new(&plant, l);
         let reps = pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
+        if let Some(why) = layflow_models::report::deadlock_message(&plant, &reps) {
+            progress.finish();
+            return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));
+        }
         summaries.push(summarize(&plant, &spec, &pic, &reps));
     }
     progress.finish();
@@ -249,6 +253,12 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 format!("static load-distance cost {} /h", num(l.handling_cost_static_per_h)),
             ]);
         }
+        if let Some(o) = &l.overflow_moves_per_h {
+            let _ = writeln!(s, "  loads taken to overflow areas: {} /h", pm(o, 1.0));
+        }
+        if let Some(o) = &l.turned_away_per_h {
+            let _ = writeln!(s, "  lots turned away at the dock: {} /h", pm(o, 1.0));
+        }
         s.push_str(&t.render(2));
 
         let mut t = Table::new(&["product", "throughput (lots/h)", "flow time"]);
@@ -262,8 +272,17 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         s.push('\n');
         s.push_str(&t.render(2));
 
-        let mut t =
-            Table::new(&["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"]);
+        let staging = l.departments.iter().any(|d| d.blocked_share.is_some());
+        let breakdowns = l.departments.iter().any(|d| d.availability.is_some());
+        let mut header =
+            vec!["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"];
+        if staging {
+            header.push("blocked");
+        }
+        if breakdowns {
+            header.extend(["availability", "MTBF/(MTBF+MTTR)"]);
+        }
+        let mut t = Table::new(&header);
         for (d, dep) in l.departments.iter().enumerate() {
             if plant.departments[d].role == DepartmentRole::Shipping {
                 continue; // lots leave on arrival: nothing to show
@@ -274,20 +293,30 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             } else {
                 (pct(&dep.utilization), share(dep.utilization_predicted))
             };
-            t.row(vec![
+            let mut row = vec![
                 dep.department.clone(),
                 machines.to_string(),
                 u,
                 up,
                 pm(&dep.queue_mean, 1.0),
                 pm(&dep.wip_mean, 1.0),
-            ]);
+            ];
+            if staging {
+                row.push(dep.blocked_share.as_ref().filter(|_| machines > 0).map_or(String::new(), pct));
+            }
+            if breakdowns {
+                row.push(dep.availability.as_ref().map_or(String::new(), pct));
+                row.push(dep.availability_predicted.map_or(String::new(), share));
+            }
+            t.row(row);
         }
         s.push('\n');
         s.push_str(&t.render(2));
 
         if !l.fleets.is_empty() {
-            let mut t = Table::new(&[
+            let blocked = l.fleets.iter().any(|f| f.blocked_share.is_some());
+            let service = l.fleets.iter().any(|f| f.availability.is_some());
+            let mut header = vec![
                 "fleet",
                 "movers",
                 "busy",
@@ -298,9 +327,16 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "moves/h",
                 "wait",
                 "cost/h",
-            ]);
+            ];
+            if blocked {
+                header.push("waiting full");
+            }
+            if service {
+                header.push("availability");
+            }
+            let mut t = Table::new(&header);
             for f in &l.fleets {
-                t.row(vec![
+                let mut row = vec![
                     f.fleet.clone(),
                     f.movers.to_string(),
                     pct(&f.utilization),
@@ -311,7 +347,14 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     pm(&f.moves_per_h, 1.0),
                     dur(&f.move_wait_s),
                     pm(&f.handling_cost_per_h, 1.0),
-                ]);
+                ];
+                if blocked {
+                    row.push(f.blocked_share.map_or(String::new(), |b| share(b.mean)));
+                }
+                if service {
+                    row.push(f.availability.as_ref().map_or(String::new(), pct));
+                }
+                t.row(row);
             }
             s.push('\n');
             s.push_str(&t.render(2));

@@ -94,6 +94,13 @@ pub struct StaticPicture {
     pub arrivals_per_h: Vec<f64>,
     /// Predicted utilisation λ·E[S]/c per department (0 for docks).
     pub utilization: Vec<f64>,
+    /// Share of time a machine is up, MTBF/(MTBF + MTTR), per department (1 without breakdowns).
+    pub availability: Vec<f64>,
+    /// Load against the capacity left by breakdowns, λ·E[S]/(c·A): at or
+    /// above 1 the department cannot keep up. Equal to `utilization` without
+    /// breakdowns. (With busy-time failures each busy hour brings MTTR/MTBF
+    /// hours of repair, which gives the same factor 1/A.)
+    pub utilization_available: Vec<f64>,
     /// Per fleet, per department: loads per hour the fleet picks up there
     /// (its share of the from-to chart, by [`move_shares`]).
     pub fleet_pickups_per_h: Vec<Vec<f64>>,
@@ -169,7 +176,10 @@ impl StaticPicture {
                     }
                 },
             )
-            .collect();
+            .collect::<Vec<f64>>();
+        let availability: Vec<f64> = plant.departments.iter().map(|d| d.availability()).collect();
+        let utilization_available =
+            utilization.iter().zip(&availability).map(|(&u, &a): (&f64, &f64)| u / a).collect();
         let layouts =
             (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
         let fleet_pickups_per_h = pickups(plant, &by_product);
@@ -181,14 +191,16 @@ impl StaticPicture {
             from_to_by_product: by_product,
             arrivals_per_h: arrivals,
             utilization,
+            availability,
+            utilization_available,
             fleet_pickups_per_h,
             layouts,
         }
     }
 
-    /// Departments predicted to be at or over capacity (utilisation ≥ 1).
+    /// Departments predicted to be at or over capacity (utilisation against availability ≥ 1).
     pub fn overloaded(&self) -> impl Iterator<Item = usize> + '_ {
-        self.utilization.iter().enumerate().filter(|(_, &u)| u >= 1.0).map(|(d, _)| d)
+        self.utilization_available.iter().enumerate().filter(|(_, &u)| u >= 1.0).map(|(d, _)| d)
     }
 }
 

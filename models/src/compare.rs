@@ -11,7 +11,7 @@ use layflow_engine::{paired_difference, Interval};
 use serde::Serialize;
 
 use crate::plant::Plant;
-use crate::report::{fleet_cost_per_h, observed, CONFIDENCE};
+use crate::report::{fleet_availability, fleet_cost_per_h, observed, Features, CONFIDENCE};
 use crate::sim::RepStats;
 
 /// Which part of the plant a metric describes.
@@ -122,8 +122,17 @@ const FLEET_METRICS: &[(&str, Kind, Better)] = &[
     ("handling_cost_per_h", Kind::Number, Better::Lower),
 ];
 
+/// Metrics a plant has only when it uses the matching feature (finite
+/// staging, overflow areas, turning lots away, breakdowns), so that plants
+/// without them keep exactly their old list.
+const OVERFLOW_METRIC: (&str, Kind, Better) = ("overflow_moves_per_h", Kind::Number, Better::Lower);
+const TURNED_AWAY_METRIC: (&str, Kind, Better) = ("turned_away_per_h", Kind::Number, Better::Lower);
+const BLOCKED_METRIC: (&str, Kind, Better) = ("blocked_share", Kind::Number, Better::Lower);
+const AVAILABILITY_METRIC: (&str, Kind, Better) = ("availability", Kind::Number, Better::Higher);
+
 /// Every metric of `plant`, in the order [`values`] returns them.
 pub fn metrics(plant: &Plant) -> Vec<Metric> {
+    let features = Features::of(plant);
     let mut out = Vec::new();
     let mut add = |scope, subject: &str, table: &[(&'static str, Kind, Better)]| {
         for &(name, kind, better) in table {
@@ -131,14 +140,32 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
         }
     };
     add(Scope::Plant, "", PLANT_METRICS);
+    if features.overflow {
+        add(Scope::Plant, "", &[OVERFLOW_METRIC]);
+    }
+    if features.turn_away {
+        add(Scope::Plant, "", &[TURNED_AWAY_METRIC]);
+    }
     for p in &plant.products {
         add(Scope::Product, &p.id, PRODUCT_METRICS);
     }
     for d in &plant.departments {
         add(Scope::Department, &d.id, DEPARTMENT_METRICS);
+        if features.staging {
+            add(Scope::Department, &d.id, &[BLOCKED_METRIC]);
+        }
+        if d.breakdowns.is_some() {
+            add(Scope::Department, &d.id, &[AVAILABILITY_METRIC]);
+        }
     }
     for f in plant.fleets() {
         add(Scope::Fleet, &f.id, FLEET_METRICS);
+        if features.staging {
+            add(Scope::Fleet, &f.id, &[BLOCKED_METRIC]);
+        }
+        if f.breakdowns.is_some() || f.charging.is_some() {
+            add(Scope::Fleet, &f.id, &[AVAILABILITY_METRIC]);
+        }
     }
     out
 }
@@ -154,7 +181,7 @@ pub fn find_metric(list: &[Metric], label: &str) -> Option<usize> {
 pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
     let per_h = |x: f64| x / r.window_s * 3600.0;
     let fleets = plant.fleets();
-    let mut v = Vec::with_capacity(metrics_len(plant));
+    let mut v = Vec::new();
     v.extend([
         per_h(r.shipped.iter().sum::<u64>() as f64),
         observed(&r.flow_time_all),
@@ -165,38 +192,50 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
         per_h(r.fleets.iter().map(|f| f.distance_empty_m).sum()),
         (0..fleets.len()).map(|f| fleet_cost_per_h(plant, r, f)).sum(),
     ]);
+    let features = Features::of(plant);
+    if features.overflow {
+        v.push(per_h(r.overflow_moves as f64));
+    }
+    if features.turn_away {
+        v.push(per_h(r.turned_away.iter().sum::<u64>() as f64));
+    }
     for p in 0..plant.products.len() {
         v.extend([per_h(r.shipped[p] as f64), observed(&r.flow_time[p])]);
     }
     for d in 0..plant.departments.len() {
         v.extend([r.wip_department[d], r.utilization[d], r.queue[d]]);
+        if features.staging {
+            v.push(r.blocked[d]);
+        }
+        if plant.departments[d].breakdowns.is_some() {
+            v.push(r.availability[d]);
+        }
     }
     for (f, fl) in fleets.iter().enumerate() {
         let s = &r.fleets[f];
         let cap = f64::from(fl.count) * r.window_s;
-        let busy = s.loaded_s + s.empty_s + s.handling_s;
+        let busy = s.loaded_s + s.empty_s + s.handling_s + s.blocked_s;
         v.extend([
             busy / cap,
             s.loaded_s / cap,
             s.empty_s / cap,
             s.handling_s / cap,
-            1.0 - busy / cap,
+            1.0 - (busy + s.down_s) / cap,
             per_h(s.moves as f64),
             observed(&r.move_wait[f]),
             per_h(s.distance_loaded_m),
             per_h(s.distance_empty_m),
             fleet_cost_per_h(plant, r, f),
         ]);
+        if features.staging {
+            v.push(s.blocked_s / cap);
+        }
+        if fl.breakdowns.is_some() || fl.charging.is_some() {
+            v.push(fleet_availability(plant, r, f));
+        }
     }
-    debug_assert_eq!(v.len(), metrics_len(plant));
+    debug_assert_eq!(v.len(), metrics(plant).len());
     v
-}
-
-fn metrics_len(plant: &Plant) -> usize {
-    PLANT_METRICS.len()
-        + plant.products.len() * PRODUCT_METRICS.len()
-        + plant.departments.len() * DEPARTMENT_METRICS.len()
-        + plant.fleets().len() * FLEET_METRICS.len()
 }
 
 /// Mean of metric `m` over the replications that observed it; `None` if none did.

@@ -97,6 +97,92 @@ pub struct Department {
     pub role: DepartmentRole,
     /// Parallel identical machines (1 or more for work departments; 0 for docks).
     pub machines: u32,
+    /// Finite inbound and outbound staging space; unlimited by default.
+    pub staging: Staging,
+    /// Machine breakdowns (each machine fails on its own); `None`: machines never fail.
+    pub breakdowns: Option<Breakdowns>,
+    /// Receiving docks only: turn a new lot away when the first department of
+    /// its routing has no room for it, instead of holding it at the dock.
+    pub turn_away: bool,
+}
+
+/// Staging space at a work department. `None` is unlimited (the default).
+///
+/// Inbound staging holds lots waiting for a machine (lots in process are on
+/// the machines, not in staging); outbound staging holds finished lots
+/// waiting to leave (for a mover, or for room downstream with instant moves).
+/// The loader guarantees capacities of at least 1.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct Staging {
+    /// Most lots waiting for a machine.
+    pub inbound: Option<u32>,
+    /// Most finished lots waiting to leave; with it full, a machine that
+    /// finishes holds its lot and stops (blocking after service).
+    pub outbound: Option<u32>,
+    /// Location index where a mover that finds the inbound area full drops
+    /// its load; `None`: the mover waits, holding the load, until there is room.
+    pub overflow: Option<usize>,
+}
+
+impl Staging {
+    /// Whether any staging space is finite.
+    pub fn is_limited(&self) -> bool {
+        self.inbound.is_some() || self.outbound.is_some()
+    }
+}
+
+/// What the time between failures is counted in.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum FailureClock {
+    /// Wall-clock time: a machine (or mover) can fail while idle.
+    ClockTime,
+    /// Working time only: a machine fails only while processing, a mover only while operating.
+    BusyTime,
+}
+
+/// What happens to an operation that a breakdown interrupts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Interrupted {
+    /// After repair the operation goes on with the time it had left.
+    Resume,
+    /// After repair the operation starts again from the beginning (same processing time).
+    Restart,
+}
+
+/// Failures and repairs of a machine or a mover. The loader guarantees that
+/// neither distribution has an appreciable chance of a negative value.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Breakdowns {
+    /// Time between a repair and the next failure, counted by `clock`.
+    pub between: Dist,
+    /// Time to repair.
+    pub repair: Dist,
+    /// Clock time or busy time.
+    pub clock: FailureClock,
+    /// Resume or restart an interrupted operation (machines only; movers
+    /// always finish the delivery they are on before going for repair).
+    pub interrupted: Interrupted,
+}
+
+impl Breakdowns {
+    /// MTBF ÷ (MTBF + MTTR): the long-run share of time up of an alternating
+    /// up/down process (REFERENCES §14; Barlow and Proschan 1975). With
+    /// failures counted in busy time it is the factor by which capacity
+    /// shrinks when fully loaded: each busy hour brings MTTR/MTBF hours of repair.
+    pub fn availability(&self) -> f64 {
+        let (up, down) = (self.between.mean(), self.repair.mean());
+        up / (up + down)
+    }
+}
+
+/// A battery truck's charge cycle: after `every_s` of operating time it is
+/// out of service for `for_s` (at the end of its current delivery).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Charging {
+    /// Operating time between charges, s (> 0).
+    pub every_s: f64,
+    /// Time on charge, s (> 0).
+    pub for_s: f64,
 }
 
 /// One candidate assignment of departments to locations.
@@ -350,6 +436,28 @@ pub struct Fleet {
     pub parking: Vec<usize>,
     /// Efficiency and working hours of the operators.
     pub operators: Operators,
+    /// Mover breakdowns; `None`: movers never fail.
+    pub breakdowns: Option<Breakdowns>,
+    /// Battery charge cycle; `None`: no charging.
+    pub charging: Option<Charging>,
+}
+
+impl Fleet {
+    /// Expected share of mover time in service: the breakdown availability
+    /// times, with charging, every ÷ (every + for), the share left by a
+    /// mover that operates all the time (an upper bound on the time lost to
+    /// charging, so this is a conservative figure).
+    pub fn availability(&self) -> f64 {
+        let a = self.breakdowns.as_ref().map_or(1.0, Breakdowns::availability);
+        a * self.charging.map_or(1.0, |c| c.every_s / (c.every_s + c.for_s))
+    }
+}
+
+impl Department {
+    /// Share of time a machine is up (1 without breakdowns).
+    pub fn availability(&self) -> f64 {
+        self.breakdowns.as_ref().map_or(1.0, Breakdowns::availability)
+    }
 }
 
 /// Run settings from the scenario (the command line may override them).

@@ -115,6 +115,16 @@ pub struct DepartmentSummary {
     pub queue_mean: Estimate,
     /// Predicted utilisation λ·E[S]/c from the static picture.
     pub utilization_predicted: f64,
+    /// Share of machine time holding a finished lot that cannot leave (blocking
+    /// after service); present when the plant has finite staging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blocked_share: Option<Estimate>,
+    /// Share of machine time up; present when the department has breakdowns.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability: Option<Estimate>,
+    /// MTBF ÷ (MTBF + MTTR), with breakdowns.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability_predicted: Option<f64>,
 }
 
 /// Per-fleet results.
@@ -146,6 +156,14 @@ pub struct FleetSummary {
     pub handling_cost_per_h: Estimate,
     /// Static lower bound on utilisation (no empty travel).
     pub utilization_lower_bound: f64,
+    /// Share of mover time waiting at a full inbound area holding a load
+    /// (counted in `utilization`); present when the plant has finite staging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blocked_share: Option<Estimate>,
+    /// Share of mover time in service (not under repair, not charging);
+    /// present when the fleet has breakdowns or charging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability: Option<Estimate>,
 }
 
 /// Everything `run` reports for one layout.
@@ -183,6 +201,63 @@ pub struct LayoutSummary {
     pub fleets: Vec<FleetSummary>,
     /// Events handled, all replications.
     pub events: u64,
+    /// Loads taken to overflow areas per hour; present when a department has an overflow location.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub overflow_moves_per_h: Option<Estimate>,
+    /// Lots turned away at receiving docks per hour; present when a dock may turn lots away.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub turned_away_per_h: Option<Estimate>,
+    /// Why replications stopped early, when the plant deadlocked through blocking.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub deadlock: Option<String>,
+}
+
+/// Which of the optional figures a plant reports.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct Features {
+    /// Some department has finite staging.
+    pub staging: bool,
+    /// Some department has an overflow location.
+    pub overflow: bool,
+    /// Some receiving dock may turn lots away.
+    pub turn_away: bool,
+}
+
+impl Features {
+    /// What `plant` has.
+    pub fn of(plant: &Plant) -> Features {
+        Features {
+            staging: plant.departments.iter().any(|d| d.staging.is_limited()),
+            overflow: plant.departments.iter().any(|d| d.staging.overflow.is_some()),
+            turn_away: plant.departments.iter().any(|d| d.turn_away),
+        }
+    }
+}
+
+/// Share of fleet `f`'s mover time in service in one replication.
+pub fn fleet_availability(plant: &Plant, r: &RepStats, f: usize) -> f64 {
+    1.0 - r.fleets[f].down_s / (f64::from(plant.fleets()[f].count) * r.window_s)
+}
+
+/// The message for the first replication that deadlocked, if any.
+pub fn deadlock_message(plant: &Plant, reps: &[RepStats]) -> Option<String> {
+    let (i, _) = reps.iter().enumerate().find(|(_, r)| r.deadlock.is_some())?;
+    replication_deadlock(plant, &reps[i], i as u64)
+}
+
+/// The deadlock message of one replication (number `replication`, 0-based), if it deadlocked.
+pub fn replication_deadlock(plant: &Plant, rep: &RepStats, replication: u64) -> Option<String> {
+    let (i, d) = (replication, rep.deadlock.as_ref()?);
+    let names: Vec<&str> = d.departments.iter().map(|&k| plant.departments[k].id.as_str()).collect();
+    Some(format!(
+        "the plant deadlocked in replication {} at {}: departments {} are full and every machine there holds a \
+         finished lot that can only go to a full department of the same group (or wait for a mover that is \
+         itself waiting there); no event can free them. Give one of them more inbound or outbound staging, an \
+         overflow location, or more movers",
+        i + 1,
+        crate::units::format_duration(d.time_s),
+        names.join(", ")
+    ))
 }
 
 /// Run `replications` replications of one layout, in parallel on the current
@@ -236,6 +311,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
     }
     let lp = &picture.layouts[spec.layout];
     let fleets = plant.fleets();
+    let features = Features::of(plant);
     let fleet_cost = |r: &RepStats, f: usize| fleet_cost_per_h(plant, r, f);
     let throughput = est(reps.iter().map(|r| per_h(r.shipped.iter().sum::<u64>() as f64, r)));
     let flow = dur(reps.iter().map(|r| observed(&r.flow_time_all)), &flow_hist);
@@ -279,6 +355,9 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                 utilization: est(reps.iter().map(|r| r.utilization[d])),
                 queue_mean: est(reps.iter().map(|r| r.queue[d])),
                 utilization_predicted: picture.utilization[d],
+                blocked_share: features.staging.then(|| est(reps.iter().map(|r| r.blocked[d]))),
+                availability: dep.breakdowns.as_ref().map(|_| est(reps.iter().map(|r| r.availability[d]))),
+                availability_predicted: dep.breakdowns.as_ref().map(|b| b.availability()),
             })
             .collect(),
         fleets: fleets
@@ -292,13 +371,13 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                 FleetSummary {
                     fleet: fl.id.clone(),
                     movers: fl.count,
-                    utilization: share(|s| s.loaded_s + s.empty_s + s.handling_s),
+                    utilization: share(|s| s.loaded_s + s.empty_s + s.handling_s + s.blocked_s),
                     loaded_travel_share: share(|s| s.loaded_s),
                     empty_travel_share: share(|s| s.empty_s),
                     handling_share: share(|s| s.handling_s),
                     idle_share: est(reps.iter().map(|r| {
                         let s = &r.fleets[f];
-                        1.0 - (s.loaded_s + s.empty_s + s.handling_s) / cap(r)
+                        1.0 - (s.loaded_s + s.empty_s + s.handling_s + s.blocked_s + s.down_s) / cap(r)
                     })),
                     moves_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].moves as f64, r))),
                     move_wait_s: est(reps.iter().map(|r| observed(&r.move_wait[f]))),
@@ -308,10 +387,20 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                     distance_empty_m_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].distance_empty_m, r))),
                     handling_cost_per_h: est(reps.iter().map(|r| fleet_cost(r, f))),
                     utilization_lower_bound: lp.fleet_utilization_lower_bound[f],
+                    blocked_share: features.staging.then(|| share(|s| s.blocked_s)),
+                    availability: (fl.breakdowns.is_some() || fl.charging.is_some())
+                        .then(|| est(reps.iter().map(|r| fleet_availability(plant, r, f)))),
                 }
             })
             .collect(),
         events: reps.iter().map(|r| r.events).sum(),
+        overflow_moves_per_h: features
+            .overflow
+            .then(|| est(reps.iter().map(|r| per_h(r.overflow_moves as f64, r)))),
+        turned_away_per_h: features
+            .turn_away
+            .then(|| est(reps.iter().map(|r| per_h(r.turned_away.iter().sum::<u64>() as f64, r)))),
+        deadlock: deadlock_message(plant, reps),
     }
 }
 

@@ -8,8 +8,8 @@ use std::path::Path;
 
 use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
-use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario};
-use super::{demand, distance, fleet, routing};
+use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
+use super::{demand, distance, fleet, routing, staging};
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
 
@@ -91,7 +91,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     }
     let locations = locations(&s, ctx)?;
     let (distance_rule, distance) = distance::compile(&s, &locations, ctx)?;
-    let departments = departments(&s, ctx)?;
+    let departments = departments(&s, &locations, ctx)?;
     if departments.len() > locations.len() {
         return Err(ctx
             .err(
@@ -218,7 +218,8 @@ fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {
     Ok(out)
 }
 
-fn departments(s: &Scenario, ctx: &Ctx) -> Result<Vec<Department>, ScenarioError> {
+fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<Department>, ScenarioError> {
+    let instant = s.moves.is_some();
     let p = FieldPath::root().key("departments");
     check_unique(
         ctx,
@@ -243,7 +244,36 @@ fn departments(s: &Scenario, ctx: &Ctx) -> Result<Vec<Department>, ScenarioError
                 format!("department \"{}\" needs at least 1 machine", d.id),
             ));
         }
-        out.push(Department { id: d.id.clone(), role, machines });
+        let dp = p.index(i);
+        if role != DepartmentRole::Work {
+            for (present, field) in [(d.staging.is_some(), "staging"), (d.breakdowns.is_some(), "breakdowns")]
+            {
+                if present {
+                    return Err(ctx
+                        .err(&dp.key(field), format!("dock \"{}\" cannot have `{field}`", d.id))
+                        .with_hint(
+                        "docks hold any number of lots and never break down; give it to a work department",
+                    ));
+                }
+            }
+        }
+        if d.when_full.is_some() && role != DepartmentRole::Receiving {
+            return Err(ctx
+                .err(
+                    &dp.key("when_full"),
+                    format!("`when_full` is for receiving docks; \"{}\" is not one", d.id),
+                )
+                .with_hint(
+                    "it says what a receiving dock does with a new lot when the first department is full",
+                ));
+        }
+        let staging = staging::staging(d.staging.as_ref(), &d.id, &dp, locations, instant, ctx)?;
+        let breakdowns = match &d.breakdowns {
+            None => None,
+            Some(b) => Some(staging::breakdowns(b, &dp.key("breakdowns"), true, ctx)?),
+        };
+        let turn_away = d.when_full == Some(WhenFullSpec::TurnAway);
+        out.push(Department { id: d.id.clone(), role, machines, staging, breakdowns, turn_away });
     }
     for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {
         if !out.iter().any(|d| d.role == role) {

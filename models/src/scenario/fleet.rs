@@ -154,7 +154,17 @@ fn fleet(
             .err(&fp.key("capacity"), format!("capacity of fleet \"{}\" must be at least 1 load", f.id))
             .with_hint("a forklift carries 1 load; a tow train carries as many as it has carts"));
     }
+    let breakdowns = match &f.breakdowns {
+        None => None,
+        Some(b) => Some(super::staging::breakdowns(b, &fp.key("breakdowns"), false, ctx)?),
+    };
+    let charging = match &f.charging {
+        None => None,
+        Some(c) => Some(super::staging::charging(c, &fp.key("charging"), ctx)?),
+    };
     Ok(Fleet {
+        breakdowns,
+        charging,
         id: f.id.clone(),
         kind: match f.kind {
             KindSpec::Forklift => MoverKind::Forklift,

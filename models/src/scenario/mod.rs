@@ -16,6 +16,7 @@ mod operators;
 mod routing;
 mod schema;
 mod search;
+mod staging;
 
 use std::path::Path;
 

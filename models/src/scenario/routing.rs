@@ -249,6 +249,17 @@ fn check_exits(product: &str, ops: &[Operation], rp: &FieldPath, ctx: &Ctx) -> R
 /// Builds the processing time. The distribution's own messages quote time
 /// parameters in seconds, so the hint says so unless the value was not a time.
 fn processing_time(spec: &DistSpec, tp: &FieldPath, ctx: &Ctx) -> Result<Dist, ScenarioError> {
+    time_dist(spec, tp, ctx, "processing time")
+}
+
+/// Builds a distribution of a duration (`what` names it in messages: a
+/// processing time, a repair time).
+pub(crate) fn time_dist(
+    spec: &DistSpec,
+    tp: &FieldPath,
+    ctx: &Ctx,
+    what: &str,
+) -> Result<Dist, ScenarioError> {
     let in_seconds = |r: Result<Dist, String>, family: &str| {
         r.map_err(|e| {
             let not_a_time = ["probabilit", " cv ", " shape ", "erlang k"].iter().any(|w| e.contains(w));
@@ -263,10 +274,9 @@ fn processing_time(spec: &DistSpec, tp: &FieldPath, ctx: &Ctx) -> Result<Dist, S
     let d = match spec {
         DistSpec::Constant(v) => {
             if !(v.0 > 0.0) {
-                return Err(ctx.err(
-                    tp,
-                    format!("processing time must be longer than 0, got {}", format_duration(v.0)),
-                ));
+                return Err(
+                    ctx.err(tp, format!("{what} must be longer than 0, got {}", format_duration(v.0)))
+                );
             }
             in_seconds(Dist::constant(v.0), "constant")?
         }
@@ -307,7 +317,7 @@ fn processing_time(spec: &DistSpec, tp: &FieldPath, ctx: &Ctx) -> Result<Dist, S
         }
     };
     if !(d.mean() > 0.0) {
-        return Err(ctx.err(tp, "processing time must have a mean longer than 0"));
+        return Err(ctx.err(tp, format!("{what} must have a mean longer than 0")));
     }
     Ok(d)
 }

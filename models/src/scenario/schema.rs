@@ -133,6 +133,62 @@ pub(crate) struct DepartmentSpec {
     pub id: String,
     pub machines: Option<u32>,
     pub dock: Option<DockSpec>,
+    pub staging: Option<StagingSpec>,
+    pub breakdowns: Option<BreakdownSpec>,
+    pub when_full: Option<WhenFullSpec>,
+}
+
+/// `staging: { inbound: 4, outbound: 2, overflow: LOCATION }`: finite space at a department.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct StagingSpec {
+    pub inbound: Option<u32>,
+    pub outbound: Option<u32>,
+    pub overflow: Option<String>,
+}
+
+/// `breakdowns: { between: DIST, repair: DIST, counted_in: busy-time, interrupted: resume }`.
+/// Fleets use the same form without `interrupted`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct BreakdownSpec {
+    pub between: TimeSpec,
+    pub repair: TimeSpec,
+    pub counted_in: Option<CountedInSpec>,
+    pub interrupted: Option<InterruptedSpec>,
+}
+
+/// `counted_in: clock-time | busy-time`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum CountedInSpec {
+    ClockTime,
+    BusyTime,
+}
+
+/// `interrupted: resume | restart`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum InterruptedSpec {
+    Resume,
+    Restart,
+}
+
+/// `when_full: hold | turn-away` on a receiving dock.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum WhenFullSpec {
+    Hold,
+    TurnAway,
+}
+
+/// `charging: { every: 6 h, for: 45 min }`: a battery truck's charge cycle.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct ChargingSpec {
+    pub every: Seconds,
+    #[serde(rename = "for")]
+    pub for_: Seconds,
 }
 
 #[derive(Debug, Clone, Copy, PartialEq, Eq, DeriveDeserialize)]
@@ -303,6 +359,8 @@ pub(crate) struct FleetSpec {
     pub max_load: Option<Kilograms>,
     pub capacity: Option<u32>,
     pub operators: Option<OperatorsSpec>,
+    pub breakdowns: Option<BreakdownSpec>,
+    pub charging: Option<ChargingSpec>,
 }
 
 /// One entry of `serves: [{ from: saw, to: turning }, { to: shipping }]`.

@@ -9,10 +9,12 @@ mod arrivals;
 mod model;
 mod stats;
 
-pub use model::{simulate, simulate_releases, simulate_wip_series};
+pub use model::{simulate, simulate_releases, simulate_wip_series, Deadlock};
 pub use stats::{FleetStats, RepStats, TICK_S};
 
-use crate::plant::{Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, Plant};
+use crate::plant::{
+    Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, Plant,
+};
 use crate::travel::travel_time;
 
 /// What a replication needs beyond the plant: which layout, how long, which seed.
@@ -53,6 +55,29 @@ pub struct Plan {
     /// `fleet_choice: nearest-idle`: a request goes to the nearest idle mover
     /// of any allowed fleet, and waits in every allowed fleet's list.
     pub(crate) nearest_fleet: bool,
+    /// Departments in the plant (`dept_location` may hold as many again:
+    /// the overflow areas, see `overflow`).
+    pub(crate) n_departments: usize,
+    /// Some department has finite staging: the blocking rules run. When
+    /// false, the event handlers take exactly the paths they took before
+    /// staging existed, so seeded results do not change.
+    pub(crate) staging: bool,
+    /// Most lots waiting for a machine, per department (`u32::MAX`: unlimited).
+    pub(crate) inbound_cap: Vec<u32>,
+    /// Most finished lots waiting to leave, per department (`u32::MAX`: unlimited).
+    pub(crate) outbound_cap: Vec<u32>,
+    /// Some department has an overflow location. Then a lot dropped at the
+    /// overflow area of department `d` sits at pseudo-department
+    /// `n_departments + d`, whose location is `dept_location[n_departments + d]`.
+    pub(crate) overflow: bool,
+    /// Per department: it has an overflow location.
+    pub(crate) has_overflow: Vec<bool>,
+    /// Per department: a receiving dock that turns lots away when the first department is full.
+    pub(crate) turn_away: Vec<bool>,
+    /// Machine breakdowns per department.
+    pub(crate) breakdowns: Vec<Option<Breakdowns>>,
+    /// A set holding only fleet `f`, for the return trip from an overflow area.
+    pub(crate) single_fleet: Vec<FleetSet>,
 }
 
 /// The fleets allowed to serve one move: `Plan::fleet_sets[start..start + len]`.
@@ -129,6 +154,12 @@ pub(crate) struct PlanFleet {
     pub(crate) reserve_movers: u32,
     /// The operators' working hours; `None`: always on duty.
     pub(crate) duty: Option<PlanDuty>,
+    /// Mover breakdowns.
+    pub(crate) breakdowns: Option<Breakdowns>,
+    /// Battery charge cycle.
+    pub(crate) charging: Option<Charging>,
+    /// Breakdowns or charging: movers go out of service, and operating time is kept per mover.
+    pub(crate) service: bool,
 }
 
 /// A duty calendar as the event handlers read it.
@@ -252,13 +283,47 @@ impl Plan {
                         changes: d.changes(),
                         on_at_start: d.on_at(0.0),
                     }),
+                    breakdowns: fl.breakdowns.clone(),
+                    charging: fl.charging,
+                    service: fl.breakdowns.is_some() || fl.charging.is_some(),
                 }
             })
             .collect();
+        let nd = plant.departments.len();
+        let overflow = plant.departments.iter().any(|d| d.staging.overflow.is_some());
+        let mut dept_location = lay.location_of.clone();
+        if overflow {
+            // The overflow areas as pseudo-departments nd..2·nd (a department's
+            // own location where it has none; nothing is ever dropped there).
+            dept_location.extend(
+                plant
+                    .departments
+                    .iter()
+                    .enumerate()
+                    .map(|(d, dep)| dep.staging.overflow.unwrap_or(lay.location_of[d])),
+            );
+        }
+        let cap = |c: Option<u32>| c.unwrap_or(u32::MAX);
+        let single_fleet = (0..plant.fleets().len())
+            .map(|f| {
+                let start = fleet_sets.len() as u32;
+                fleet_sets.push(f as u32);
+                FleetSet { start, len: 1 }
+            })
+            .collect();
         Plan {
+            n_departments: nd,
+            staging: plant.departments.iter().any(|d| d.staging.is_limited()),
+            inbound_cap: plant.departments.iter().map(|d| cap(d.staging.inbound)).collect(),
+            outbound_cap: plant.departments.iter().map(|d| cap(d.staging.outbound)).collect(),
+            overflow,
+            has_overflow: plant.departments.iter().map(|d| d.staging.overflow.is_some()).collect(),
+            turn_away: plant.departments.iter().map(|d| d.turn_away).collect(),
+            breakdowns: plant.departments.iter().map(|d| d.breakdowns.clone()).collect(),
+            single_fleet,
             n_locations: plant.locations.len(),
             distance: plant.distance.clone(),
-            dept_location: lay.location_of.clone(),
+            dept_location,
             dept_role: plant.departments.iter().map(|d| d.role).collect(),
             machines: plant.departments.iter().map(|d| d.machines).collect(),
             products,

@@ -8,10 +8,14 @@ use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
 use super::stats::{FleetStats, RepStats, TICK_S};
-use super::{Plan, PlanArrivals, RunSpec};
+use super::{FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
+mod breakdowns;
 mod movers;
+mod staging;
+
+pub use staging::Deadlock;
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
@@ -19,6 +23,10 @@ mod movers;
 /// them belong to the product's demand, which no layout may change.
 const ARRIVALS: u64 = 1;
 const LOT: u64 = 2;
+/// `MACHINE, department, machine`: that machine's failures and repairs.
+const MACHINE: u64 = 3;
+/// `MOVER, fleet, mover`: that mover's failures and repairs.
+const MOVER: u64 = 4;
 
 const NONE: u32 = u32::MAX;
 
@@ -44,6 +52,19 @@ enum Event {
     Duty { fleet: u32 },
     /// Record the plant's WIP for a warm-up series (pilot runs only).
     Sample,
+    /// A machine of a department with breakdowns finishes its operation,
+    /// unless a failure has since interrupted it (the token no longer matches).
+    MachineEnd { machine: u32, token: u32 },
+    /// A machine fails.
+    MachineFail { machine: u32 },
+    /// A machine is repaired.
+    MachineRepaired { machine: u32 },
+    /// A mover that found its destination full has set the load down at the overflow area.
+    OverflowDrop { mover: u32 },
+    /// A mover fails (it goes for repair at the end of its current delivery).
+    MoverFail { mover: u32 },
+    /// A mover comes back from repair or charging.
+    MoverBack { mover: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -85,14 +106,75 @@ struct Mover {
     slots: u32,
     /// Loads on board a train (always 0 for a single-load mover).
     loads: u32,
+    /// Since when it has waited at a full inbound area, holding its load.
+    blocked_since: f64,
+    /// Breakdowns and charging (fleets with `PlanFleet::service` only):
+    /// operating since `mark` (not idle, off duty or out of service).
+    operating: bool,
+    mark: f64,
+    /// Operating time since the last charge, s.
+    worked: f64,
+    /// Busy-time failures: operating time left before the next failure, s.
+    to_fail: f64,
+    /// A failure has come due; it goes for repair when it is next free.
+    fail_due: bool,
+}
+
+/// A finished lot held on its machine because the outbound area is full.
+#[derive(Debug, Clone, Copy)]
+struct Blocked {
+    lot: u32,
+    /// The machine (departments with breakdowns), or NONE.
+    machine: u32,
+    /// The operation it goes to next, and the fleets allowed to move it there.
+    op: u32,
+    set: FleetSet,
+}
+
+/// One machine of a department with breakdowns.
+#[derive(Debug, Clone)]
+struct Machine {
+    dept: u32,
+    /// Lot on the machine (in process, interrupted, or blocked); NONE when free.
+    lot: u32,
+    up: bool,
+    /// Holding a finished lot (blocking after service).
+    blocked: bool,
+    /// Changes whenever an operation is interrupted, so its end event is ignored.
+    token: u32,
+    /// Processing time left of the current operation, s, as of `run_start`.
+    work_left: f64,
+    /// The current operation's whole processing time (for a restart).
+    work_total: f64,
+    run_start: f64,
+    /// Busy-time failures: processing time left before the next failure.
+    to_fail: f64,
+    rng: Stream,
 }
 
 struct Department {
+    /// Machines holding a lot (processing it, interrupted, or blocked).
     busy: u32,
     queue: VecDeque<u32>,
     wip: TimeWeighted,
+    /// Machines processing (not blocked, not down).
     busy_level: TimeWeighted,
     queue_level: TimeWeighted,
+    /// Finished lots waiting to leave (for a mover, or for room downstream).
+    out_count: u32,
+    /// Inbound places promised to lots on their way back from the overflow area.
+    reserved: u32,
+    /// Waiting for inbound room, oldest first: with instant moves (lot, 1 if
+    /// still held on its machine else 0); with fleets (mover, NONE), or, with
+    /// an overflow location, (lot at the overflow area, fleet that brought it).
+    waiting: VecDeque<(u32, u32)>,
+    /// Machines holding a finished lot, oldest first.
+    blocked: VecDeque<Blocked>,
+    blocked_level: TimeWeighted,
+    /// Machines up (departments with breakdowns).
+    up_level: TimeWeighted,
+    /// First of its machines in `PlantModel::machines` (departments with breakdowns).
+    first_machine: u32,
 }
 
 struct FleetState {
@@ -147,6 +229,15 @@ struct PlantModel<'a> {
     /// (time, product) of every lot released, when logging (tests of common random numbers).
     log_releases: bool,
     releases: Vec<(f64, u32)>,
+    /// Machines of departments with breakdowns.
+    machines: Vec<Machine>,
+    /// Per mover, its breakdown stream (empty unless some fleet has breakdowns).
+    mover_rng: Vec<Stream>,
+    /// Loads taken to overflow areas, and lots turned away, in the window.
+    overflow_moves: u64,
+    turned_away: Vec<u64>,
+    /// Set when the plant deadlocked: nothing more is handled.
+    deadlock: Option<Deadlock>,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -212,6 +303,7 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
     for f in 0..plan.fleets.len() {
         m.start_duty(f, &mut cal);
     }
+    m.start_breakdowns(&mut cal);
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
     events += run_until(&mut m, &mut cal, spec.horizon_s);
@@ -223,21 +315,53 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
 impl<'a> PlantModel<'a> {
     fn new(plan: &'a Plan, spec: &RunSpec, replication: u64) -> Self {
         let n_products = plan.products.len();
-        let departments = plan
-            .machines
-            .iter()
-            .map(|_| Department {
-                busy: 0,
-                queue: VecDeque::with_capacity(16),
-                wip: TimeWeighted::new(0.0),
-                busy_level: TimeWeighted::new(0.0),
-                queue_level: TimeWeighted::new(0.0),
+        let nd = plan.n_departments;
+        let mut machines = Vec::new();
+        let departments = (0..if plan.overflow { 2 * nd } else { nd })
+            .map(|d| {
+                let first_machine = machines.len() as u32;
+                let mut up_level = TimeWeighted::new(0.0);
+                if d < nd && plan.breakdowns[d].is_some() {
+                    let c = plan.machines[d];
+                    up_level.add(0.0, f64::from(c));
+                    for k in 0..c {
+                        machines.push(Machine {
+                            dept: d as u32,
+                            lot: NONE,
+                            up: true,
+                            blocked: false,
+                            token: 0,
+                            work_left: 0.0,
+                            work_total: 0.0,
+                            run_start: 0.0,
+                            to_fail: 0.0,
+                            rng: stream(spec.seed, replication, &[MACHINE, d as u64, u64::from(k)]),
+                        });
+                    }
+                }
+                Department {
+                    busy: 0,
+                    queue: VecDeque::with_capacity(16),
+                    wip: TimeWeighted::new(0.0),
+                    busy_level: TimeWeighted::new(0.0),
+                    queue_level: TimeWeighted::new(0.0),
+                    out_count: 0,
+                    reserved: 0,
+                    waiting: VecDeque::new(),
+                    blocked: VecDeque::new(),
+                    blocked_level: TimeWeighted::new(0.0),
+                    up_level,
+                    first_machine,
+                }
             })
             .collect();
+        let mut mover_rng = Vec::new();
+        let any_mover_failures = plan.fleets.iter().any(|f| f.breakdowns.is_some());
         let mut movers = Vec::new();
         let mut fleets = Vec::new();
         let mut slots = 0;
         for (f, fleet) in plan.fleets.iter().enumerate() {
+            let first_of_fleet = movers.len();
             let mut idle = Vec::with_capacity(fleet.count as usize);
             for _ in 0..fleet.count {
                 idle.push(movers.len() as u32);
@@ -248,7 +372,17 @@ impl<'a> PlantModel<'a> {
                     idle_since: 0.0,
                     slots,
                     loads: 0,
+                    blocked_since: f64::NAN,
+                    operating: false,
+                    mark: 0.0,
+                    worked: 0.0,
+                    to_fail: 0.0,
+                    fail_due: false,
                 });
+                if any_mover_failures {
+                    let k = (movers.len() - 1 - first_of_fleet) as u64;
+                    mover_rng.push(stream(spec.seed, replication, &[MOVER, f as u64, k]));
+                }
                 slots += fleet.capacity;
             }
             fleets.push(FleetState {
@@ -294,6 +428,11 @@ impl<'a> PlantModel<'a> {
             order_play: 0,
             log_releases: false,
             releases: Vec::new(),
+            machines,
+            mover_rng,
+            overflow_moves: 0,
+            turned_away: vec![0; n_products],
+            deadlock: None,
         }
     }
 
@@ -310,7 +449,11 @@ impl<'a> PlantModel<'a> {
             d.wip.reset(t);
             d.busy_level.reset(t);
             d.queue_level.reset(t);
+            d.blocked_level.reset(t);
+            d.up_level.reset(t);
         }
+        self.overflow_moves = 0;
+        self.turned_away.iter_mut().for_each(|s| *s = 0);
         for f in &mut self.fleets {
             f.wait.reset();
             f.wait_hist.reset();
@@ -399,6 +542,16 @@ impl<'a> PlantModel<'a> {
         let now = cal.now();
         let product = p as u32;
         let prod = &self.plan.products[p];
+        if self.plan.staging && self.plan.turn_away[prod.enters_at] && !self.has_room(prod.ops[0].department)
+        {
+            // Turned away: the lot number is used up all the same, so the
+            // lots after it keep their streams (common random numbers).
+            self.lots_made[p] += 1;
+            if now >= self.window.0 {
+                self.turned_away[p] += 1;
+            }
+            return;
+        }
         if self.log_releases {
             self.releases.push((now, product));
         }
@@ -434,6 +587,11 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         let p = lot.product as usize;
         let dept = self.plan.products[p].ops[lot.op as usize].department;
+        if self.plan.overflow && lot.department as usize == self.plan.n_departments + dept {
+            // Back from the overflow area into the place kept for it.
+            self.departments[dept].reserved -= 1;
+        }
+        let lot = &mut self.lots[id as usize];
         lot.department = dept as u32;
         if self.plan.dept_role[dept] == DepartmentRole::Shipping {
             let flow = now - lot.born;
@@ -455,6 +613,10 @@ impl<'a> PlantModel<'a> {
     fn start_or_queue(&mut self, id: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let dept = self.lots[id as usize].department as usize;
+        if self.plan.breakdowns[dept].is_some() {
+            self.start_or_queue_on_machines(id, dept, cal);
+            return;
+        }
         let d = &mut self.departments[dept];
         if d.busy < self.plan.machines[dept] {
             d.busy += 1;
@@ -473,7 +635,8 @@ impl<'a> PlantModel<'a> {
         cal.schedule(cal.now() + t, Event::EndOperation { lot: id });
     }
 
-    fn end_operation(&mut self, id: u32, cal: &mut Calendar<Event>) {
+    /// Lot `id` has finished its operation on `machine` (NONE in a department without breakdowns).
+    fn end_operation(&mut self, id: u32, machine: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let lot = &mut self.lots[id as usize];
         let dept = lot.department as usize;
@@ -485,6 +648,10 @@ impl<'a> PlantModel<'a> {
             op.next.iter().position(|&(_, cum, _)| u < cum).unwrap_or(op.next.len() - 1)
         };
         let (next, _, fleets) = op.next[branch];
+        if self.plan.staging || machine != NONE {
+            self.leave_machine(id, dept, machine, next as u32, fleets, cal);
+            return;
+        }
         // Free the machine first: a rework loop back to this department queues behind others.
         let d = &mut self.departments[dept];
         if let Some(waiting) = d.queue.pop_front() {
@@ -497,9 +664,47 @@ impl<'a> PlantModel<'a> {
         self.route(id, next as u32, fleets, cal);
     }
 
-    fn finish(self, t: f64, events: u64) -> RepStats {
+    fn finish(mut self, t: f64, events: u64) -> RepStats {
         let window_s = self.window.1 - self.window.0;
+        let nd = self.plan.n_departments;
+        // Movers still waiting at a full inbound area: their wait so far.
+        for m in 0..self.movers.len() {
+            let since = self.movers[m].blocked_since;
+            if !since.is_nan() {
+                let w = self.in_window(since, t);
+                self.fleets[self.movers[m].fleet as usize].acc.blocked_s += w;
+            }
+        }
+        let overflow = self.plan.overflow;
+        let machines = &self.plan.machines;
+        let per_machine = |d: usize, x: f64| if machines[d] == 0 { 0.0 } else { x / f64::from(machines[d]) };
+        let blocked = (0..nd).map(|d| per_machine(d, self.departments[d].blocked_level.mean(t))).collect();
+        let availability = (0..nd)
+            .map(|d| {
+                if self.plan.breakdowns[d].is_some() {
+                    per_machine(d, self.departments[d].up_level.mean(t))
+                } else {
+                    1.0
+                }
+            })
+            .collect();
+        let wip_department = (0..nd)
+            .map(|d| {
+                let w = self.departments[d].wip.mean(t);
+                // Lots at a department's overflow area count as the department's.
+                if overflow {
+                    w + self.departments[nd + d].wip.mean(t)
+                } else {
+                    w
+                }
+            })
+            .collect();
         RepStats {
+            blocked,
+            availability,
+            overflow_moves: self.overflow_moves,
+            turned_away: self.turned_away,
+            deadlock: self.deadlock,
             window_s,
             events,
             shipped: self.shipped,
@@ -507,7 +712,7 @@ impl<'a> PlantModel<'a> {
             flow_time_all: self.flow_all,
             flow_hist: self.flow_hist,
             wip_total: self.wip.mean(t),
-            wip_department: self.departments.iter().map(|d| d.wip.mean(t)).collect(),
+            wip_department,
             wip_transit: self.transit.mean(t),
             utilization: self
                 .departments
@@ -515,7 +720,7 @@ impl<'a> PlantModel<'a> {
                 .zip(&self.plan.machines)
                 .map(|(d, &c)| if c == 0 { 0.0 } else { d.busy_level.mean(t) / f64::from(c) })
                 .collect(),
-            queue: self.departments.iter().map(|d| d.queue_level.mean(t)).collect(),
+            queue: self.departments[..nd].iter().map(|d| d.queue_level.mean(t)).collect(),
             move_wait: self.fleets.iter().map(|f| f.wait).collect(),
             move_wait_hist_fleet: self.fleets.iter().map(|f| f.wait_hist.clone()).collect(),
             move_wait_all: self.wait_all,
@@ -530,10 +735,13 @@ impl Model for PlantModel<'_> {
 
     #[inline]
     fn handle(&mut self, event: Event, cal: &mut Calendar<Event>) {
+        if self.deadlock.is_some() {
+            return; // the calendar was cleared; nothing more happens
+        }
         match event {
             Event::Arrival { product } => self.arrival(product, cal),
             Event::Order { index } => self.order(index, cal),
-            Event::EndOperation { lot } => self.end_operation(lot, cal),
+            Event::EndOperation { lot } => self.end_operation(lot, NONE, cal),
             Event::Pickup { mover } => self.pickup(mover, cal),
             Event::Deliver { mover } => self.deliver(mover, cal),
             Event::Loaded { mover } => self.loaded(mover, cal),
@@ -548,6 +756,12 @@ impl Model for PlantModel<'_> {
                     cal.schedule(now + self.series_step, Event::Sample);
                 }
             }
+            Event::MachineEnd { machine, token } => self.machine_end(machine, token, cal),
+            Event::MachineFail { machine } => self.machine_fail(machine, cal),
+            Event::MachineRepaired { machine } => self.machine_repaired(machine, cal),
+            Event::OverflowDrop { mover } => self.overflow_drop(mover, cal),
+            Event::MoverFail { mover } => self.mover_fail(mover, cal),
+            Event::MoverBack { mover } => self.mover_back(mover, cal),
         }
     }
 }

@@ -26,6 +26,12 @@ pub struct FleetStats {
     /// less this is the scheduled working time. A mover that finishes a
     /// delivery after its shift has ended works into this time.
     pub off_s: f64,
+    /// Mover-seconds waiting at a full inbound area, holding a load (busy time).
+    pub blocked_s: f64,
+    /// Mover-seconds out of service (breakdowns and charging), clipped to the window.
+    pub down_s: f64,
+    /// Mover-seconds of that on charge.
+    pub charging_s: f64,
 }
 
 /// Results of one replication of one layout.
@@ -63,4 +69,15 @@ pub struct RepStats {
     pub move_wait_hist_fleet: Vec<TickHistogram>,
     /// Activity per fleet.
     pub fleets: Vec<FleetStats>,
+    /// Time-average share of machines holding a finished lot they cannot pass
+    /// on (blocking after service), per department.
+    pub blocked: Vec<f64>,
+    /// Time-average share of machines up, per department (1 without breakdowns).
+    pub availability: Vec<f64>,
+    /// Loads taken to an overflow area because the inbound area was full.
+    pub overflow_moves: u64,
+    /// Lots turned away at their receiving dock, per product.
+    pub turned_away: Vec<u64>,
+    /// Set when the replication stopped because the plant deadlocked.
+    pub deadlock: Option<super::Deadlock>,
 }

@@ -29,11 +29,19 @@ impl PlantModel<'_> {
             return;
         }
         if plan.instant {
+            if plan.staging && !self.has_room(to) {
+                self.wait_for_room(id, from, to, cal);
+                return;
+            }
             self.departments[from].wip.add(now, -1.0);
             self.arrive(id, cal);
             return;
         }
         lot.requested = now;
+        if plan.staging {
+            // Waiting for a mover: it takes a place in the outbound area.
+            self.departments[from].out_count += 1;
+        }
         // Ticket 0 means "taken", so it is never handed out.
         self.next_ticket = self.next_ticket.wrapping_add(1).max(1);
         let ticket = self.next_ticket;
@@ -137,6 +145,9 @@ impl PlantModel<'_> {
     fn dispatch(&mut self, mover: u32, lot: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         self.lots[lot as usize].ticket = 0;
+        if self.plan.fleets[self.movers[mover as usize].fleet as usize].service {
+            self.work_start(mover, now);
+        }
         let m = &mut self.movers[mover as usize];
         m.lot = lot;
         let f = m.fleet as usize;
@@ -167,7 +178,7 @@ impl PlantModel<'_> {
     }
 
     #[inline]
-    fn record_loaded(&mut self, f: usize, a: f64, b: f64, d: f64) {
+    pub(super) fn record_loaded(&mut self, f: usize, a: f64, b: f64, d: f64) {
         let w = self.in_window(a, b);
         let acc = &mut self.fleets[f].acc;
         acc.loaded_s += w;
@@ -226,6 +237,10 @@ impl PlantModel<'_> {
         self.departments[from].wip.add(now, -1.0);
         self.transit.add(now, 1.0);
         cal.schedule(t_end, Event::Deliver { mover });
+        if self.plan.staging {
+            self.departments[from].out_count -= 1;
+            self.unblock(from, cal);
+        }
     }
 
     /// A train has reached a lot: load it onto a free cart.
@@ -245,6 +260,10 @@ impl PlantModel<'_> {
         mm.lot = NONE;
         mm.location = self.plan.dept_location[from] as u32;
         cal.schedule(t_end, Event::Loaded { mover });
+        if self.plan.staging {
+            self.departments[from].out_count -= 1;
+            self.unblock(from, cal);
+        }
     }
 
     /// A train has finished loading: fetch the nearest request waiting now
@@ -271,7 +290,7 @@ impl PlantModel<'_> {
 
     /// A train drives to the nearest drop-off among its loads (equally near:
     /// the load picked up first) and sets that load down.
-    fn next_drop(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+    pub(super) fn next_drop(&mut self, mover: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let m = self.movers[mover as usize];
         let f = m.fleet as usize;
@@ -303,12 +322,28 @@ impl PlantModel<'_> {
 
     /// The mover has set a load down at its destination.
     pub(super) fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
-        let now = cal.now();
         let lot = self.movers[mover as usize].lot;
         let to = self.destination(lot);
+        self.movers[mover as usize].location = to as u32;
+        if self.plan.staging {
+            let l = &self.lots[lot as usize];
+            let dept = self.plan.products[l.product as usize].ops[l.op as usize].department;
+            // A lot back from the overflow area has its place kept.
+            let returning = l.department as usize == self.plan.n_departments + dept;
+            if !returning && !self.has_room(dept) {
+                self.full_on_arrival(mover, dept, cal);
+                return;
+            }
+        }
+        self.set_down(mover, cal);
+    }
+
+    /// The mover's load enters its department; then the mover goes on.
+    pub(super) fn set_down(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let lot = self.movers[mover as usize].lot;
         let m = &mut self.movers[mover as usize];
         m.lot = NONE;
-        m.location = to as u32;
         let more = m.loads > 0;
         self.transit.add(now, -1.0);
         self.arrive(lot, cal);
@@ -324,6 +359,9 @@ impl PlantModel<'_> {
     pub(super) fn mover_free(&mut self, mover: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let f = self.movers[mover as usize].fleet as usize;
+        if self.plan.fleets[f].service && self.service_due(mover, cal) {
+            return;
+        }
         if !self.fleets[f].on_duty {
             self.fleets[f].off.push(mover);
             return;
@@ -388,6 +426,9 @@ impl PlantModel<'_> {
     #[inline]
     fn reposition(&mut self, mover: u32, to: usize, cal: &mut Calendar<Event>, arrival: Event) {
         let now = cal.now();
+        if self.plan.fleets[self.movers[mover as usize].fleet as usize].service {
+            self.work_start(mover, now);
+        }
         let m = &mut self.movers[mover as usize];
         let f = m.fleet as usize;
         let d = self.plan.dist(m.location as usize, to);

@@ -1,0 +1,231 @@
+//! Breakdowns: machines that fail and are repaired (clock or busy time, resume or restart), and movers out of service for repair or charging.
+//!
+//! A department with breakdowns tracks each machine, since each fails on its
+//! own; departments without keep the plain busy count. Every machine and
+//! every mover draws its failure and repair times from its own stream
+//! (`MACHINE, department, machine` and `MOVER, fleet, mover`), so adding
+//! breakdowns anywhere shifts no other draw (common random numbers).
+
+use layflow_engine::Calendar;
+
+use super::{Event, PlantModel, NONE};
+use crate::plant::{FailureClock, Interrupted};
+
+impl PlantModel<'_> {
+    /// Schedules the first failure of every machine and mover that can fail.
+    pub(super) fn start_breakdowns(&mut self, cal: &mut Calendar<Event>) {
+        for k in 0..self.machines.len() {
+            let d = self.machines[k].dept as usize;
+            let b = self.plan.breakdowns[d].as_ref().expect("machines are tracked for breakdowns");
+            let m = &mut self.machines[k];
+            let t = b.between.sample(&mut m.rng);
+            match b.clock {
+                FailureClock::ClockTime => cal.schedule(t, Event::MachineFail { machine: k as u32 }),
+                FailureClock::BusyTime => m.to_fail = t,
+            }
+        }
+        if self.mover_rng.is_empty() {
+            return;
+        }
+        for k in 0..self.movers.len() {
+            let f = self.movers[k].fleet as usize;
+            if let Some(b) = self.plan.fleets[f].breakdowns.as_ref() {
+                let t = b.between.sample(&mut self.mover_rng[k]);
+                match b.clock {
+                    FailureClock::ClockTime => cal.schedule(t, Event::MoverFail { mover: k as u32 }),
+                    FailureClock::BusyTime => self.movers[k].to_fail = t,
+                }
+            }
+        }
+    }
+
+    /// A lot for a department with breakdowns: the lowest-numbered free,
+    /// working machine takes it, or it queues.
+    pub(super) fn start_or_queue_on_machines(&mut self, id: u32, dept: usize, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let first = self.departments[dept].first_machine as usize;
+        let n = self.plan.machines[dept] as usize;
+        let free = (first..first + n).find(|&k| self.machines[k].lot == NONE && self.machines[k].up);
+        let d = &mut self.departments[dept];
+        match free {
+            Some(k) => {
+                d.busy += 1;
+                d.busy_level.add(now, 1.0);
+                self.start_on(k as u32, id, cal);
+            }
+            None => {
+                d.queue.push_back(id);
+                d.queue_level.add(now, 1.0);
+            }
+        }
+    }
+
+    /// Starts lot `id`'s operation on `machine`: the same draw from the
+    /// lot's stream as the plain path, so the lot's times do not change.
+    pub(super) fn start_on(&mut self, machine: u32, id: u32, cal: &mut Calendar<Event>) {
+        let lot = &mut self.lots[id as usize];
+        let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
+        let t = op.time.as_ref().map_or(0.0, |d| d.sample(&mut lot.rng));
+        let m = &mut self.machines[machine as usize];
+        m.lot = id;
+        m.work_total = t;
+        m.work_left = t;
+        self.run_machine(machine, cal);
+    }
+
+    /// The machine processes its lot's remaining work; with busy-time
+    /// failures, the failure comes first if it falls within that work.
+    fn run_machine(&mut self, machine: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let m = &mut self.machines[machine as usize];
+        let b = self.plan.breakdowns[m.dept as usize].as_ref().expect("tracked machines have breakdowns");
+        m.run_start = now;
+        if b.clock == FailureClock::BusyTime && m.to_fail <= m.work_left {
+            cal.schedule(now + m.to_fail, Event::MachineFail { machine });
+        } else {
+            m.token = m.token.wrapping_add(1);
+            cal.schedule(now + m.work_left, Event::MachineEnd { machine, token: m.token });
+        }
+    }
+
+    pub(super) fn machine_end(&mut self, machine: u32, token: u32, cal: &mut Calendar<Event>) {
+        let m = &mut self.machines[machine as usize];
+        if m.token != token {
+            return; // a failure interrupted this operation
+        }
+        let b = self.plan.breakdowns[m.dept as usize].as_ref().expect("tracked machines have breakdowns");
+        if b.clock == FailureClock::BusyTime {
+            m.to_fail -= m.work_left;
+        }
+        m.work_left = 0.0;
+        let lot = m.lot;
+        self.end_operation(lot, machine, cal);
+    }
+
+    pub(super) fn machine_fail(&mut self, machine: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let m = &mut self.machines[machine as usize];
+        let dept = m.dept as usize;
+        let b = self.plan.breakdowns[dept].as_ref().expect("tracked machines have breakdowns");
+        let processing = m.lot != NONE && !m.blocked;
+        if processing {
+            let done = now - m.run_start;
+            m.work_left = match b.interrupted {
+                Interrupted::Resume => (m.work_left - done).max(0.0),
+                Interrupted::Restart => m.work_total,
+            };
+            m.token = m.token.wrapping_add(1); // its end event no longer counts
+        }
+        m.up = false;
+        m.to_fail = 0.0;
+        let repair = b.repair.sample(&mut m.rng);
+        let d = &mut self.departments[dept];
+        d.up_level.add(now, -1.0);
+        if processing {
+            d.busy_level.add(now, -1.0);
+        }
+        cal.schedule(now + repair, Event::MachineRepaired { machine });
+    }
+
+    pub(super) fn machine_repaired(&mut self, machine: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let m = &mut self.machines[machine as usize];
+        let dept = m.dept as usize;
+        let b = self.plan.breakdowns[dept].as_ref().expect("tracked machines have breakdowns");
+        m.up = true;
+        let t = b.between.sample(&mut m.rng);
+        match b.clock {
+            FailureClock::ClockTime => cal.schedule(now + t, Event::MachineFail { machine }),
+            FailureClock::BusyTime => m.to_fail = t,
+        }
+        let (lot, blocked) = (m.lot, m.blocked);
+        let d = &mut self.departments[dept];
+        d.up_level.add(now, 1.0);
+        if lot != NONE {
+            if !blocked {
+                d.busy_level.add(now, 1.0);
+                self.run_machine(machine, cal);
+            }
+            return;
+        }
+        if let Some(w) = d.queue.pop_front() {
+            d.queue_level.add(now, -1.0);
+            d.busy += 1;
+            d.busy_level.add(now, 1.0);
+            self.start_on(machine, w, cal);
+            if self.plan.staging {
+                self.on_inbound_space(dept, cal);
+            }
+        }
+    }
+
+    /// Marks the start of a spell of operating time of a mover whose fleet can fail or charge.
+    #[inline]
+    pub(super) fn work_start(&mut self, mover: u32, now: f64) {
+        let m = &mut self.movers[mover as usize];
+        if !m.operating {
+            m.operating = true;
+            m.mark = now;
+        }
+    }
+
+    /// A mover has come free (fleets with breakdowns or charging): counts its
+    /// operating time and, if a repair or a charge is due, takes it out of
+    /// service. Returns whether it went.
+    pub(super) fn service_due(&mut self, mover: u32, cal: &mut Calendar<Event>) -> bool {
+        let now = cal.now();
+        let f = self.movers[mover as usize].fleet as usize;
+        let fl = &self.plan.fleets[f];
+        let m = &mut self.movers[mover as usize];
+        if m.operating {
+            let spell = now - m.mark;
+            m.operating = false;
+            m.worked += spell;
+            if fl.breakdowns.as_ref().is_some_and(|b| b.clock == FailureClock::BusyTime) {
+                m.to_fail -= spell;
+                if m.to_fail <= 0.0 {
+                    m.fail_due = true;
+                }
+            }
+        }
+        let out = if m.fail_due {
+            m.fail_due = false;
+            let b = fl.breakdowns.as_ref().expect("only fleets with breakdowns fail");
+            let repair = b.repair.sample(&mut self.mover_rng[mover as usize]);
+            let t = b.between.sample(&mut self.mover_rng[mover as usize]);
+            match b.clock {
+                // The next failure counts from the end of the repair.
+                FailureClock::ClockTime => cal.schedule(now + repair + t, Event::MoverFail { mover }),
+                FailureClock::BusyTime => m.to_fail = t,
+            }
+            repair
+        } else if let Some(c) = fl.charging.filter(|c| m.worked >= c.every_s) {
+            m.worked = 0.0;
+            let w = self.in_window(now, now + c.for_s);
+            self.fleets[f].acc.charging_s += w;
+            c.for_s
+        } else {
+            return false;
+        };
+        let w = self.in_window(now, now + out);
+        self.fleets[f].acc.down_s += w;
+        cal.schedule(now + out, Event::MoverBack { mover });
+        true
+    }
+
+    /// A mover's failure comes due (clock time): an idle mover goes now, a busy
+    /// one when it is next free.
+    pub(super) fn mover_fail(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        let f = self.movers[mover as usize].fleet as usize;
+        self.movers[mover as usize].fail_due = true;
+        if let Some(i) = self.fleets[f].idle.iter().position(|&m| m == mover) {
+            self.fleets[f].idle.swap_remove(i);
+            self.mover_free(mover, cal);
+        }
+    }
+
+    /// Back from repair or charging.
+    pub(super) fn mover_back(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        self.mover_free(mover, cal);
+    }
+}

@@ -1,0 +1,329 @@
+//! Finite staging: room in inbound areas, blocking after service, movers waiting or going to an overflow area, and deadlock detection.
+//!
+//! Inbound staging holds the lots waiting for a machine; outbound staging
+//! the finished lots waiting to leave. A lot that finishes when the outbound
+//! area is full stays on its machine, which stops (blocking after service).
+//! With instant moves a finished lot leaves as soon as its next department
+//! has room, and waits in the outbound area (or on the machine) until then.
+//! With fleets a mover that finds the inbound area full waits there holding
+//! its load, or takes the load to the department's overflow area; a lot at
+//! the overflow area comes back by a move request when a place frees up.
+//! Nothing here runs unless `Plan::staging` is set.
+
+use layflow_engine::Calendar;
+
+use super::{Blocked, Event, PlantModel, NONE};
+use crate::plant::DepartmentRole;
+use crate::sim::FleetSet;
+
+/// Marks a waiting lot (instant moves) still held on its machine upstream.
+const HELD: u32 = 1;
+
+/// Why a replication stopped early: loads stuck in a cycle of full staging
+/// areas that no event can ever free.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Deadlock {
+    /// Simulated time, s.
+    pub time_s: f64,
+    /// The departments involved (indices), in department order.
+    pub departments: Vec<usize>,
+}
+
+impl PlantModel<'_> {
+    /// Whether a lot arriving now at department `d` can be set down: a free
+    /// machine, or a place in the inbound area. Shipping docks always have room.
+    pub(super) fn has_room(&self, d: usize) -> bool {
+        if self.plan.dept_role[d] != DepartmentRole::Work {
+            return true;
+        }
+        let dep = &self.departments[d];
+        self.has_free_machine(d)
+            || (dep.queue.len() as u64 + u64::from(dep.reserved)) < u64::from(self.plan.inbound_cap[d])
+    }
+
+    /// A machine of department `d` is free (and up) for a new lot.
+    pub(super) fn has_free_machine(&self, d: usize) -> bool {
+        if self.plan.breakdowns[d].is_some() {
+            let first = self.departments[d].first_machine as usize;
+            self.machines[first..first + self.plan.machines[d] as usize].iter().any(|m| m.lot == NONE && m.up)
+        } else {
+            self.departments[d].busy < self.plan.machines[d]
+        }
+    }
+
+    /// Lot `id` has finished at `dept` (on `machine`, or NONE) and goes to
+    /// operation `op` next: pass it on, or block the machine.
+    pub(super) fn leave_machine(
+        &mut self,
+        id: u32,
+        dept: usize,
+        machine: u32,
+        op: u32,
+        set: FleetSet,
+        cal: &mut Calendar<Event>,
+    ) {
+        let plan = self.plan;
+        let p = self.lots[id as usize].product as usize;
+        let to = plan.products[p].ops[op as usize].department;
+        if plan.staging && to != dept {
+            let out_full = self.departments[dept].out_count >= plan.outbound_cap[dept];
+            let must_wait = !plan.instant || !self.has_room(to);
+            if out_full && must_wait {
+                self.block(id, dept, machine, op, set, cal);
+                return;
+            }
+        }
+        // Route first, then free the machine: a lot that stays for rework
+        // joins the back of the queue before the machine takes the front,
+        // which is the order of the plain path (free, then queue).
+        self.route(id, op, set, cal);
+        self.release_machine(dept, machine, false, cal);
+    }
+
+    /// The machine holds its finished lot: the outbound area is full.
+    fn block(
+        &mut self,
+        id: u32,
+        dept: usize,
+        machine: u32,
+        op: u32,
+        set: FleetSet,
+        cal: &mut Calendar<Event>,
+    ) {
+        let now = cal.now();
+        self.lots[id as usize].op = op;
+        let d = &mut self.departments[dept];
+        d.blocked.push_back(Blocked { lot: id, machine, op, set });
+        d.busy_level.add(now, -1.0);
+        d.blocked_level.add(now, 1.0);
+        if machine != NONE {
+            self.machines[machine as usize].blocked = true;
+        }
+        if self.plan.instant {
+            // It may also leave straight from the machine when the next department has room.
+            let p = self.lots[id as usize].product as usize;
+            let to = self.plan.products[p].ops[op as usize].department;
+            self.departments[to].waiting.push_back((id, HELD));
+        }
+        self.check_deadlock(cal);
+    }
+
+    /// The machine (`machine`, or one of the department's in the plain
+    /// path) lets go of its lot: it takes the next lot in the queue, if up.
+    pub(super) fn release_machine(
+        &mut self,
+        dept: usize,
+        machine: u32,
+        was_blocked: bool,
+        cal: &mut Calendar<Event>,
+    ) {
+        let now = cal.now();
+        let d = &mut self.departments[dept];
+        if was_blocked {
+            d.blocked_level.add(now, -1.0);
+        }
+        let up = if machine == NONE {
+            true
+        } else {
+            let m = &mut self.machines[machine as usize];
+            m.lot = NONE;
+            m.blocked = false;
+            m.up
+        };
+        let next = if up { d.queue.pop_front() } else { None };
+        match next {
+            Some(w) => {
+                d.queue_level.add(now, -1.0);
+                if was_blocked {
+                    d.busy_level.add(now, 1.0);
+                }
+                if machine == NONE {
+                    self.start(w, cal);
+                } else {
+                    self.start_on(machine, w, cal);
+                }
+            }
+            None => {
+                d.busy -= 1;
+                if !was_blocked && up {
+                    d.busy_level.add(now, -1.0);
+                }
+            }
+        }
+        if self.plan.staging {
+            self.on_inbound_space(dept, cal);
+        }
+    }
+
+    /// Room may have opened at `dept`: let in who waits, oldest first.
+    pub(super) fn on_inbound_space(&mut self, dept: usize, cal: &mut Calendar<Event>) {
+        while !self.departments[dept].waiting.is_empty() && self.has_room(dept) {
+            let (who, tag) = self.departments[dept].waiting.pop_front().expect("not empty");
+            if self.plan.instant {
+                self.admit_lot(who, tag == HELD, cal);
+            } else if self.plan.has_overflow[dept] {
+                // Keep a place for it and ask for a mover to bring it back.
+                self.departments[dept].reserved += 1;
+                let op = self.lots[who as usize].op;
+                self.route(who, op, self.plan.single_fleet[tag as usize], cal);
+            } else {
+                let since = self.movers[who as usize].blocked_since;
+                let f = self.movers[who as usize].fleet as usize;
+                self.fleets[f].acc.blocked_s += self.in_window(since, cal.now());
+                self.movers[who as usize].blocked_since = f64::NAN;
+                self.set_down(who, cal);
+            }
+        }
+    }
+
+    /// Instant moves: a waiting lot enters its next department, leaving the
+    /// outbound area (or the machine) it waited in upstream.
+    fn admit_lot(&mut self, id: u32, held: bool, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let origin = self.lots[id as usize].department as usize;
+        self.departments[origin].wip.add(now, -1.0);
+        self.arrive(id, cal);
+        if held {
+            let d = &mut self.departments[origin];
+            let k = d.blocked.iter().position(|b| b.lot == id).expect("a held lot is blocked upstream");
+            let b = d.blocked.remove(k).expect("found");
+            self.release_machine(origin, b.machine, true, cal);
+        } else {
+            self.departments[origin].out_count -= 1;
+            self.unblock(origin, cal);
+        }
+    }
+
+    /// A place has freed in `dept`'s outbound area: the oldest blocked
+    /// machine passes its lot there and goes on.
+    pub(super) fn unblock(&mut self, dept: usize, cal: &mut Calendar<Event>) {
+        while self.departments[dept].out_count < self.plan.outbound_cap.get(dept).copied().unwrap_or(u32::MAX)
+        {
+            let Some(b) = self.departments[dept].blocked.pop_front() else {
+                return;
+            };
+            if self.plan.instant {
+                // Now waiting in the outbound area instead of on the machine.
+                self.departments[dept].out_count += 1;
+                let p = self.lots[b.lot as usize].product as usize;
+                let to = self.plan.products[p].ops[b.op as usize].department;
+                if let Some(w) = self.departments[to].waiting.iter_mut().find(|w| w.0 == b.lot) {
+                    w.1 = 0;
+                }
+            } else {
+                self.route(b.lot, b.op, b.set, cal);
+            }
+            self.release_machine(dept, b.machine, true, cal);
+        }
+    }
+
+    /// Instant moves: lot `id` at `from` waits for room at `to`, in `from`'s outbound area.
+    pub(super) fn wait_for_room(&mut self, id: u32, from: usize, to: usize, cal: &mut Calendar<Event>) {
+        self.departments[from].out_count += 1;
+        self.departments[to].waiting.push_back((id, 0));
+        self.check_deadlock(cal);
+    }
+
+    /// A mover has reached department `to` and found it full: it waits there
+    /// holding its load, or takes the load to the overflow area.
+    pub(super) fn full_on_arrival(&mut self, mover: u32, to: usize, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        if self.plan.has_overflow[to] {
+            let m = self.movers[mover as usize];
+            let f = m.fleet as usize;
+            let spot = self.plan.dept_location[self.plan.n_departments + to];
+            let d = self.plan.dist(m.location as usize, spot);
+            let fl = &self.plan.fleets[f];
+            let t_arrive = now + fl.travel_s(d, true);
+            let t_end = t_arrive + fl.unload_s;
+            self.record_loaded(f, now, t_arrive, d);
+            self.fleets[f].acc.handling_s += self.in_window(t_arrive, t_end);
+            if now >= self.window.0 && now < self.window.1 {
+                self.overflow_moves += 1;
+            }
+            self.movers[mover as usize].location = spot as u32;
+            cal.schedule(t_end, Event::OverflowDrop { mover });
+            return;
+        }
+        self.movers[mover as usize].blocked_since = now;
+        self.departments[to].waiting.push_back((mover, NONE));
+        self.check_deadlock(cal);
+    }
+
+    /// A mover has set a load down at an overflow area; the lot waits there
+    /// for a place in its department.
+    pub(super) fn overflow_drop(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        let m = self.movers[mover as usize];
+        let lot = m.lot;
+        let l = &self.lots[lot as usize];
+        let to = self.plan.products[l.product as usize].ops[l.op as usize].department;
+        let pseudo = self.plan.n_departments + to;
+        self.lots[lot as usize].department = pseudo as u32;
+        self.transit.add(now, -1.0);
+        self.departments[pseudo].wip.add(now, 1.0);
+        self.departments[to].waiting.push_back((lot, m.fleet));
+        let mm = &mut self.movers[mover as usize];
+        mm.lot = NONE;
+        let more = mm.loads > 0;
+        self.on_inbound_space(to, cal);
+        if more {
+            self.next_drop(mover, cal);
+        } else {
+            self.mover_free(mover, cal);
+        }
+    }
+
+    /// Stops the replication if loads are stuck for good: a set of
+    /// departments whose machines all hold finished lots that can only go
+    /// to full departments of the same set (instant moves), or whose
+    /// outbound areas wait for movers that all wait, holding loads, at such
+    /// departments (fleets). Runs only when a wait begins.
+    pub(super) fn check_deadlock(&mut self, cal: &mut Calendar<Event>) {
+        let nd = self.plan.n_departments;
+        let mut stuck: Vec<bool> = (0..nd)
+            .map(|d| {
+                let c = self.plan.machines[d];
+                c > 0 && self.departments[d].blocked.len() == c as usize
+            })
+            .collect();
+        if !stuck.iter().any(|&s| s) {
+            return;
+        }
+        if self.plan.instant {
+            // Peel off departments with a lot waiting to go somewhere that can still take it.
+            let mut changed = true;
+            while changed {
+                changed = false;
+                for y in 0..nd {
+                    for &(lot, _) in &self.departments[y].waiting {
+                        let origin = self.lots[lot as usize].department as usize;
+                        if origin < nd && stuck[origin] && !stuck[y] {
+                            stuck[origin] = false;
+                            changed = true;
+                        }
+                    }
+                }
+            }
+        } else {
+            // Any mover not waiting at a stuck department may still come
+            // (conservative: it is never called a deadlock when one might).
+            let waiting_at_stuck = (0..nd)
+                .filter(|&y| stuck[y] && !self.plan.has_overflow[y])
+                .map(|y| self.departments[y].waiting.len())
+                .sum::<usize>();
+            if waiting_at_stuck < self.movers.len() {
+                return;
+            }
+            for (y, s) in stuck.iter_mut().enumerate() {
+                *s = *s || !self.departments[y].waiting.is_empty();
+            }
+        }
+        let departments: Vec<usize> = (0..nd).filter(|&d| stuck[d]).collect();
+        if departments.is_empty() {
+            return;
+        }
+        self.deadlock = Some(Deadlock { time_s: cal.now(), departments });
+        cal.clear();
+    }
+}
