@@ -5,6 +5,7 @@
 
 mod check;
 mod compare;
+mod experiment;
 mod fleet;
 mod output;
 mod plot;
@@ -34,7 +35,7 @@ use clap::{Parser, Subcommand, ValueEnum};
                   layflow compare scenarios/demo.yaml --demand 0.8,1.0,1.2\n  \
                   layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n  \
                   layflow search scenarios/demo.yaml --out found.yaml --validate\n\n\
-                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed."
+                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed, 130 stopped by Ctrl-C."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -59,6 +60,13 @@ enum Command {
     /// Search for layouts with a low load-distance cost (robust tabu search, simulated
     /// annealing, pairwise exchange), write them for `compare`, and check them by simulation.
     Search(search::SearchArgs),
+    /// Run an experiment plan (layouts × demand × fleet sizes × any scenario field ×
+    /// replications): durable, resumable, shardable for a cluster.
+    Experiment(experiment::ExperimentArgs),
+    /// Combine the output folders of an experiment's shards into exactly the result of one run.
+    Merge(experiment::MergeArgs),
+    /// Print an experiment's summary again from its output folder, without re-running.
+    Summarize(experiment::SummarizeArgs),
 }
 
 /// Output format shared by the commands.
@@ -85,6 +93,10 @@ impl Failure {
     pub fn run(message: impl Into<String>) -> Failure {
         Failure { code: 1, message: message.into() }
     }
+    /// Stopped by Ctrl-C: 130, the shell's code for an interrupt.
+    pub fn interrupted(message: impl Into<String>) -> Failure {
+        Failure { code: 130, message: message.into() }
+    }
     /// The message shown to the user.
     pub fn message(&self) -> &str {
         &self.message
@@ -104,6 +116,9 @@ fn main() -> ExitCode {
         Command::Compare(a) => compare::compare(&a),
         Command::Fleet(a) => fleet::fleet(&a),
         Command::Search(a) => search::search(&a),
+        Command::Experiment(a) => experiment::experiment(&a),
+        Command::Merge(a) => experiment::merge(&a),
+        Command::Summarize(a) => experiment::summarize(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -19,15 +19,35 @@ pub struct Progress {
 impl Progress {
     /// A bar for `total` replications.
     pub fn new(total: u64, quiet: bool) -> Progress {
+        Progress::with_noun(total, quiet, "replications")
+    }
+
+    /// A bar for `total` things called `noun` (e.g. "units").
+    pub fn with_noun(total: u64, quiet: bool, noun: &str) -> Progress {
         let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new(total) };
         bar.set_style(
-            ProgressStyle::with_template(
-                "{spinner} {prefix} [{bar:30}] {pos}/{len} replications, {msg}, {elapsed} elapsed, ~{eta} left",
-            )
+            ProgressStyle::with_template(&format!(
+                "{{spinner}} {{prefix}} [{{bar:30}}] {{pos}}/{{len}} {noun}, {{msg}}, {{elapsed}} elapsed, ~{{eta}} left"
+            ))
             .expect("valid progress template")
             .progress_chars("=> "),
         );
         Progress { bar, events: AtomicU64::new(0), started: Instant::now() }
+    }
+
+    /// Count `n` as done already (a resumed run), without touching the speed.
+    pub fn advance(&self, n: u64) {
+        self.bar.inc(n);
+        self.bar.reset_eta();
+    }
+
+    /// Print a line above the bar (or plainly, when the bar is hidden but not quiet).
+    pub fn println(&self, line: String) {
+        if self.bar.is_hidden() {
+            eprintln!("{line}");
+        } else {
+            self.bar.println(line);
+        }
     }
 
     /// What is running now, e.g. `layout proposed, demand ×1.2`.

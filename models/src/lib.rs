@@ -3,6 +3,7 @@
 pub mod analysis;
 pub mod compare;
 pub mod dist;
+pub mod experiment;
 pub mod plant;
 pub mod report;
 pub mod scenario;

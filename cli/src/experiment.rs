@@ -1,0 +1,441 @@
+//! `layflow experiment`, `merge` and `summarize`: run a plan's units durably (resumable, shardable), combine shards exactly, and report.
+
+use std::path::{Path, PathBuf};
+use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::{Arc, Mutex};
+
+use clap::{Args, ValueEnum};
+use rayon::prelude::*;
+
+use layflow_models::experiment::journal::{self, Contents, Writer};
+use layflow_models::experiment::results::{self, PointSummary, Summary};
+use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
+use layflow_models::report::Estimate;
+use layflow_models::sim::{simulate, Plan};
+
+use crate::progress::Progress;
+use crate::table::{dur, num, pm, Table};
+use crate::{output, Failure};
+
+/// Arguments of `layflow experiment`.
+#[derive(Args, Debug)]
+#[command(after_help = "Every finished unit (one replication of one design point) is written and synced to \
+                  DIR/units.jsonl before it counts, so after Ctrl-C, a kill or a power cut `--resume` finishes \
+                  the rest and the results are the same, byte for byte, as an uninterrupted run.\n\n\
+                  Examples:\n  layflow experiment scenarios/plans/overnight.yaml --out results\n  \
+                  layflow experiment scenarios/plans/overnight.yaml --out results --resume\n  \
+                  parallel layflow experiment scenarios/plans/overnight.yaml --shard {}/4 --out shards/{} ::: 1 2 3 4\n  \
+                  layflow merge shards/1 shards/2 shards/3 shards/4 --out results")]
+pub struct ExperimentArgs {
+    /// The experiment plan (YAML): scenario, replications, and factors or points.
+    pub plan: PathBuf,
+    /// Folder for the results (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+    /// Continue a run that stopped: keep the units already in DIR, run the rest.
+    #[arg(long)]
+    pub resume: bool,
+    /// Run only shard K of N (units are dealt round-robin); combine the shards with `layflow merge`.
+    #[arg(long, value_name = "K/N")]
+    pub shard: Option<String>,
+    /// Worker threads (default: every core). Results do not depend on it.
+    #[arg(long, value_name = "K")]
+    pub threads: Option<usize>,
+    /// No progress bar or per-point lines.
+    #[arg(long, short)]
+    pub quiet: bool,
+}
+
+/// Arguments of `layflow merge`.
+#[derive(Args, Debug)]
+pub struct MergeArgs {
+    /// Output folders of the shards (each holding units.jsonl).
+    #[arg(required = true, num_args = 1..)]
+    pub dirs: Vec<PathBuf>,
+    /// Folder for the merged results (created if missing).
+    #[arg(long, value_name = "DIR")]
+    pub out: PathBuf,
+}
+
+/// Output formats of `summarize`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum SummaryFormat {
+    /// A table per design point.
+    Table,
+    /// summary.csv.
+    Csv,
+    /// summary.json.
+    Json,
+}
+
+/// Arguments of `layflow summarize`.
+#[derive(Args, Debug)]
+pub struct SummarizeArgs {
+    /// An experiment's output folder.
+    pub dir: PathBuf,
+    /// Output format on stdout.
+    #[arg(long, value_enum, default_value_t = SummaryFormat::Table)]
+    pub format: SummaryFormat,
+}
+
+/// Set by Ctrl-C: start no new unit.
+static STOP: AtomicBool = AtomicBool::new(false);
+
+fn journal_path(dir: &Path) -> PathBuf {
+    dir.join(journal::FILE)
+}
+
+/// Read a folder's results file, reporting a torn tail on stderr.
+fn read_journal(dir: &Path) -> Result<Contents, Failure> {
+    let path = journal_path(dir);
+    if !path.is_file() {
+        return Err(Failure::input(format!(
+            "{}: no results file ({}) here; is this an experiment's --out folder?",
+            dir.display(),
+            journal::FILE
+        )));
+    }
+    let c = journal::read(&path).map_err(Failure::input)?;
+    if c.torn_bytes > 0 {
+        eprintln!(
+            "note: {}: the last {} bytes were a line cut off mid-write (the run stopped while writing it); \
+             kept the {} complete units before it",
+            path.display(),
+            c.torn_bytes,
+            c.units.len()
+        );
+    }
+    Ok(c)
+}
+
+/// Run `layflow experiment`.
+pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
+    let plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    let shard = match &args.shard {
+        None => Shard::ALL,
+        Some(s) => Shard::parse(s).map_err(Failure::input)?,
+    };
+    output::prepare_dir(&args.out)?;
+    let header = Header::new(&plan, shard);
+    let path = journal_path(&args.out);
+    let (writer, done) = open_journal(&path, &header, args)?;
+    let threads = crate::run::threads(args.threads)?;
+    let pool = rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let mine: Vec<u64> = (0..plan.units()).filter(|&u| shard.owns(u)).collect();
+    let mut is_done = vec![false; plan.units() as usize];
+    for u in &done {
+        is_done[u.unit as usize] = true;
+    }
+    let pending: Vec<u64> = mine.iter().copied().filter(|&u| !is_done[u as usize]).collect();
+    eprintln!(
+        "{}: {} × {} = {} units{}; {} done, {} to run",
+        plan.file.display(),
+        crate::table::count(plan.points.len(), "design point"),
+        crate::table::count(plan.replications as usize, "replication"),
+        plan.units(),
+        if shard == Shard::ALL { String::new() } else { format!(", shard {shard} has {}", mine.len()) },
+        mine.len() - pending.len(),
+        pending.len()
+    );
+    // Ctrl-C stops new units; a second Ctrl-C would wait for the running ones too,
+    // so it is left to the default handler only if the first could not be installed.
+    if !pending.is_empty() {
+        let _ = ctrlc::set_handler(|| {
+            if STOP.swap(true, Ordering::SeqCst) {
+                eprintln!("\nstill finishing the running units; they will be saved");
+            } else {
+                eprintln!("\nCtrl-C: finishing the running units, then stopping");
+            }
+        });
+    }
+    let plans: Vec<Plan> = plan.setups.iter().map(|s| Plan::new(&s.plant, s.spec.layout)).collect();
+    let progress = Progress::with_noun(mine.len() as u64, args.quiet, "units");
+    progress.advance(mine.len() as u64 - pending.len() as u64);
+    let state = Mutex::new(RunState { writer, units: done, error: None });
+    let remaining = Arc::new(point_counts(&plan, &mine, &is_done));
+    pool.install(|| {
+        pending.par_iter().for_each(|&u| {
+            if STOP.load(Ordering::SeqCst) {
+                return;
+            }
+            let (p, r) = plan.unit(u);
+            let rep = simulate(&plans[p], &plan.setups[p].spec, r);
+            let unit = Unit::new(&plan, u, &rep);
+            let mut st = state.lock().expect("no worker panics while holding the lock");
+            if st.error.is_some() {
+                return;
+            }
+            if let Some(why) = layflow_models::report::replication_deadlock(&plan.setups[p].plant, &rep, r) {
+                // A jammed plant's numbers mean nothing: keep them out of the results.
+                let levels: Vec<String> = plan
+                    .factors
+                    .iter()
+                    .zip(&header.points[p])
+                    .map(|(f, l)| format!("{}={l}", f.name))
+                    .collect();
+                st.error = Some(format!("design point {} ({}): {why}", p + 1, levels.join(", ")));
+                STOP.store(true, Ordering::SeqCst);
+                return;
+            }
+            if let Err(e) = st.writer.write(&unit) {
+                st.error = Some(format!("cannot write {}: {e}", st.writer.path().display()));
+                STOP.store(true, Ordering::SeqCst);
+                return;
+            }
+            st.units.push(unit);
+            progress.done(&rep);
+            let left = &remaining[p];
+            if left.fetch_sub(1, Ordering::SeqCst) == 1 && !args.quiet {
+                progress.println(point_line(&plan, &header, &st.units, p));
+            }
+        });
+    });
+    progress.finish();
+    let st = state.into_inner().expect("no worker panicked");
+    if let Some(e) = st.error {
+        return Err(Failure::run(format!(
+            "{e}\nthe finished units are saved; fix the cause and rerun with --resume"
+        )));
+    }
+    let finished = st.units.len();
+    if finished < mine.len() {
+        return Err(Failure::interrupted(format!(
+            "stopped: {finished} of {} units done and saved in {}; run the same command with --resume to finish",
+            mine.len(),
+            path.display()
+        )));
+    }
+    let units = results::canonical(st.units).map_err(Failure::run)?;
+    if shard == Shard::ALL {
+        write_outputs(&args.out, &header, &units)?;
+        let summary = results::summarize(&header, &units).map_err(Failure::run)?;
+        print!("{}", render(&summary, &header, plan.units()));
+        eprintln!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
+    } else {
+        output::write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
+        eprintln!(
+            "shard {shard} complete: {} units in {}. When every shard is done: layflow merge DIR... --out DIR",
+            units.len(),
+            path.display()
+        );
+    }
+    Ok(())
+}
+
+struct RunState {
+    writer: Writer,
+    units: Vec<Unit>,
+    error: Option<String>,
+}
+
+/// Units of each design point this run still has to do.
+fn point_counts(plan: &Experiment, mine: &[u64], is_done: &[bool]) -> Vec<std::sync::atomic::AtomicUsize> {
+    let counts: Vec<std::sync::atomic::AtomicUsize> =
+        (0..plan.points.len()).map(|_| std::sync::atomic::AtomicUsize::new(0)).collect();
+    for &u in mine {
+        if !is_done[u as usize] {
+            counts[plan.unit(u).0].fetch_add(1, Ordering::Relaxed);
+        }
+    }
+    counts
+}
+
+/// Open (or create) the results file; returns the units already done.
+fn open_journal(path: &Path, header: &Header, args: &ExperimentArgs) -> Result<(Writer, Vec<Unit>), Failure> {
+    let fail = |e: std::io::Error| Failure::run(format!("cannot write {}: {e}", path.display()));
+    if !path.exists() {
+        if args.resume {
+            eprintln!("note: {} holds no results yet; starting afresh", args.out.display());
+        }
+        return Ok((Writer::create(path, header).map_err(fail)?, Vec::new()));
+    }
+    if !args.resume {
+        return Err(Failure::input(format!(
+            "{} already holds results ({}); add --resume to finish that run, or choose another --out",
+            args.out.display(),
+            journal::FILE
+        )));
+    }
+    let c = read_journal(&args.out)?;
+    if !c.header.same_plan(header) {
+        return Err(Failure::input(format!(
+            "{}: these results are of another plan or scenario version (hash {} here, {} now); results of \
+             different versions cannot be mixed: choose another --out, or move the old results away",
+            path.display(),
+            &c.header.hash[..16],
+            &header.hash[..16]
+        )));
+    }
+    if c.header.shard != header.shard {
+        return Err(Failure::input(format!(
+            "{} holds shard {} of this plan, not {}; give the same --shard to resume it",
+            path.display(),
+            c.header.shard,
+            header.shard
+        )));
+    }
+    let w = Writer::append(path, c.intact_bytes).map_err(fail)?;
+    Ok((w, c.units))
+}
+
+/// The per-point line shown when a design point's last unit finishes.
+fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> String {
+    let mine: Vec<Unit> = units.iter().filter(|u| u.point == p).cloned().collect();
+    let levels: Vec<String> =
+        plan.factors.iter().zip(&header.points[p]).map(|(f, l)| format!("{}={l}", f.name)).collect();
+    let mut s = format!(
+        "point {}/{} done ({}): {} replications",
+        p + 1,
+        plan.points.len(),
+        levels.join(", "),
+        mine.len()
+    );
+    if let Ok(sum) = results::summarize(&Header { points: header.points.clone(), ..header.clone() }, &mine) {
+        let pt = &sum.points[p];
+        if let Some(e) = estimate(pt, "flow_time_s") {
+            s.push_str(&format!(", flow time {}", dur(&e)));
+        }
+        if let Some(e) = estimate(pt, "throughput_per_h") {
+            s.push_str(&format!(", throughput {}/h", pm(&e, 1.0)));
+        }
+    }
+    s
+}
+
+/// A plant-level metric of a point as an estimate.
+fn estimate(p: &PointSummary, metric: &str) -> Option<Estimate> {
+    let m = p.metrics.iter().find(|m| m.scope == "plant" && m.metric == metric)?;
+    Some(Estimate { mean: m.mean?, half_width: m.half_width, n: m.n })
+}
+
+/// Write the whole plan's results: canonical units file, tidy CSV, summaries (each atomically).
+fn write_outputs(dir: &Path, header: &Header, units: &[Unit]) -> Result<(), Failure> {
+    let whole = Header { shard: Shard::ALL, ..header.clone() };
+    let summary = results::summarize(&whole, units).map_err(Failure::run)?;
+    output::write_atomic(dir, journal::FILE, &results::units_jsonl(&whole, units))?;
+    output::write_atomic(dir, "results.csv", &results::results_csv(&whole, units))?;
+    output::write_atomic(dir, "summary.csv", &results::summary_csv(&summary))?;
+    output::write_atomic(dir, "summary.json", &results::summary_json(&summary))?;
+    Ok(())
+}
+
+/// One table row per design point: the headline metrics with 95% intervals.
+fn render(s: &Summary, header: &Header, total_units: u64) -> String {
+    let done: usize = s.points.iter().map(|p| p.replications).sum();
+    let mut out = format!(
+        "Experiment {}…: {} design points, {done} of {total_units} units; ± is the 95% confidence half-width\n",
+        &s.plan_hash[..12],
+        s.points.len()
+    );
+    let mut head: Vec<String> = vec!["point".into()];
+    head.extend(s.factors.iter().cloned());
+    head.extend(
+        [
+            "reps",
+            "throughput (lots/h)",
+            "flow time",
+            "flow time p95",
+            "WIP (lots)",
+            "wait for a mover",
+            "handling cost (/h)",
+        ]
+        .map(String::from),
+    );
+    let mut t = Table::new(&head);
+    for p in &s.points {
+        let mut row = vec![p.point.to_string()];
+        row.extend(p.levels.iter().cloned());
+        row.push(p.replications.to_string());
+        let number = |m: &str| estimate(p, m).map_or("-".into(), |e| pm(&e, 1.0));
+        let duration = |m: &str| estimate(p, m).map_or("-".into(), |e| dur(&e));
+        row.push(number("throughput_per_h"));
+        row.push(duration("flow_time_s"));
+        let p95 = p.percentiles.iter().find(|q| q.metric == "flow_time_s" && q.percentile == "p95");
+        row.push(p95.filter(|q| q.observations > 0).map_or("-".into(), |q| {
+            let (u, sc) = crate::table::time_unit(q.value_s);
+            format!("{} {u}", num(q.value_s / sc))
+        }));
+        row.push(number("wip_mean"));
+        row.push(duration("move_wait_s"));
+        row.push(number("handling_cost_per_h"));
+        t.row(row);
+    }
+    out.push_str(&t.render(2));
+    let _ = header;
+    out.push_str(
+        "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
+    );
+    out
+}
+
+/// Run `layflow merge`.
+pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
+    let mut first: Option<(PathBuf, Header)> = None;
+    let mut all = Vec::new();
+    for dir in &args.dirs {
+        let c = read_journal(dir)?;
+        match &first {
+            None => first = Some((dir.clone(), c.header.clone())),
+            Some((d0, h0)) => {
+                if !h0.same_plan(&c.header) {
+                    return Err(Failure::input(format!(
+                        "{} and {} hold results of different plans or scenario versions (hash {} vs {}); only \
+                         shards of one plan merge",
+                        d0.display(),
+                        dir.display(),
+                        &h0.hash[..16],
+                        &c.header.hash[..16]
+                    )));
+                }
+            }
+        }
+        all.extend(c.units);
+    }
+    let (_, header) = first.expect("clap requires at least one folder");
+    let units = results::canonical(all).map_err(Failure::input)?;
+    if (units.len() as u64) < header.units {
+        let mut have = vec![false; header.units as usize];
+        for u in &units {
+            have[u.unit as usize] = true;
+        }
+        let missing: Vec<u64> = (0..header.units).filter(|&u| !have[u as usize]).collect();
+        let (p, r) = header.unit(missing[0]);
+        return Err(Failure::input(format!(
+            "{} of {} units are missing, e.g. design point {} replication {r} (unit {}); finish the shards that \
+             stopped (rerun them with --resume) or add the folders left out, then merge again",
+            missing.len(),
+            header.units,
+            p + 1,
+            missing[0]
+        )));
+    }
+    output::prepare_dir(&args.out)?;
+    write_outputs(&args.out, &header, &units)?;
+    let summary = results::summarize(&header, &units).map_err(Failure::run)?;
+    print!("{}", render(&summary, &header, header.units));
+    eprintln!("merged {} folders into {}", args.dirs.len(), args.out.display());
+    Ok(())
+}
+
+/// Run `layflow summarize`.
+pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
+    let c = read_journal(&args.dir)?;
+    let units = results::canonical(c.units).map_err(Failure::input)?;
+    let summary = results::summarize(&c.header, &units).map_err(Failure::input)?;
+    if (units.len() as u64) < c.header.units && c.header.shard == Shard::ALL {
+        eprintln!(
+            "note: {} of {} units are done; the table covers those (finish with `layflow experiment ... --resume`)",
+            units.len(),
+            c.header.units
+        );
+    }
+    match args.format {
+        SummaryFormat::Table => print!("{}", render(&summary, &c.header, c.header.units)),
+        SummaryFormat::Csv => print!("{}", String::from_utf8_lossy(&results::summary_csv(&summary))),
+        SummaryFormat::Json => print!("{}", String::from_utf8_lossy(&results::summary_json(&summary))),
+    }
+    Ok(())
+}

@@ -1,0 +1,340 @@
+//! End-to-end tests of `layflow experiment`, `merge` and `summarize`: shards merge exactly, a killed or interrupted run resumes to the same bytes, damage is caught.
+
+mod common;
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output, Stdio};
+use std::time::{Duration, Instant};
+
+use common::{layflow, root, text};
+
+/// The files a finished experiment leaves, all of which must match byte for byte.
+const OUTPUTS: &[&str] = &["units.jsonl", "results.csv", "summary.csv", "summary.json"];
+
+/// A plan over the demo plant in `dir`: 2 layouts × 2 fleet sizes × `reps`.
+fn plan(dir: &Path, reps: u32, horizon: &str) -> PathBuf {
+    let p = dir.join("plan.yaml");
+    let demo = root().join("scenarios/demo.yaml");
+    std::fs::write(
+        &p,
+        format!(
+            "scenario: {}\nreplications: {reps}\nseed: 11\nhorizon: {horizon}\nwarmup: 1 d\nfactors:\n  layout: [current, proposed]\n  fleets.forklifts.count: [1, 2]\n",
+            demo.display()
+        ),
+    )
+    .unwrap();
+    p
+}
+
+fn run(args: &[&str]) -> Output {
+    let out = layflow(args);
+    assert!(out.status.success(), "{args:?}: {}", text(&out.stderr));
+    out
+}
+
+fn same_outputs(a: &Path, b: &Path) {
+    for f in OUTPUTS {
+        let x = std::fs::read(a.join(f)).unwrap_or_else(|e| panic!("{}/{f}: {e}", a.display()));
+        let y = std::fs::read(b.join(f)).unwrap_or_else(|e| panic!("{}/{f}: {e}", b.display()));
+        assert!(x == y, "{f} differs between {} and {}", a.display(), b.display());
+    }
+}
+
+fn s(p: &Path) -> &str {
+    p.to_str().unwrap()
+}
+
+#[test]
+fn three_shards_merge_to_exactly_the_single_run() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 4, "3 d");
+    let whole = t.path().join("whole");
+    let out = run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let table = text(&out.stdout);
+    assert!(table.contains("4 design points, 16 of 16 units"), "{table}");
+    let mut shards = Vec::new();
+    for k in 1..=3 {
+        let d = t.path().join(format!("shard-{k}"));
+        run(&[
+            "experiment",
+            s(&plan),
+            "--shard",
+            &format!("{k}/3"),
+            "--out",
+            s(&d),
+            "--quiet",
+            "--threads",
+            "1",
+        ]);
+        shards.push(d);
+    }
+    let merged = t.path().join("merged");
+    let mut args = vec!["merge"];
+    args.extend(shards.iter().map(|d| s(d)));
+    args.extend(["--out", s(&merged)]);
+    let m = run(&args);
+    same_outputs(&whole, &merged);
+    assert_eq!(m.stdout, out.stdout, "the merge prints the same table");
+    // summarize re-prints it from the saved results.
+    let again = run(&["summarize", s(&merged)]);
+    assert_eq!(again.stdout, out.stdout);
+    // Tidy CSV: one row per point × replication × metric.
+    let csv = std::fs::read_to_string(whole.join("results.csv")).unwrap();
+    let head = csv.lines().next().unwrap();
+    assert_eq!(head, "point,layout,fleets.forklifts.count,replication,scope,subject,metric,value");
+    let per_unit = csv.lines().filter(|l| l.starts_with("1,current,1,0,")).count();
+    assert_eq!(csv.lines().count() - 1, 16 * per_unit);
+    // Leaving a shard out is refused, naming what is missing.
+    let out = layflow(&["merge", s(&shards[0]), s(&shards[1]), "--out", s(&t.path().join("partial"))]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("units are missing"), "{}", text(&out.stderr));
+}
+
+/// Wait until `file` holds at least `lines` lines, or `limit` passes.
+fn wait_for_lines(file: &Path, lines: usize, limit: Duration) -> usize {
+    let start = Instant::now();
+    loop {
+        let n = std::fs::read(file).map(|b| b.iter().filter(|&&c| c == b'\n').count()).unwrap_or(0);
+        if n >= lines || start.elapsed() > limit {
+            return n;
+        }
+        std::thread::sleep(Duration::from_millis(2));
+    }
+}
+
+#[test]
+fn a_run_killed_mid_way_resumes_to_the_same_bytes() {
+    let t = tempfile::tempdir().unwrap();
+    // 4 points × 15 replications of 20 days, one thread: a few seconds, so the kill lands mid-way.
+    let plan = plan(t.path(), 15, "20 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+
+    let killed = t.path().join("killed");
+    let mut child = Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args(["experiment", s(&plan), "--out", s(&killed), "--quiet", "--threads", "1"])
+        .current_dir(root())
+        .stdout(Stdio::null())
+        .stderr(Stdio::null())
+        .spawn()
+        .unwrap();
+    // Header plus at least 5 units, then SIGKILL: no chance to clean up.
+    let seen = wait_for_lines(&killed.join("units.jsonl"), 6, Duration::from_secs(60));
+    child.kill().unwrap();
+    child.wait().unwrap();
+    let lines = wait_for_lines(&killed.join("units.jsonl"), 0, Duration::ZERO);
+    assert!(seen >= 6 && lines < 61, "the kill must land mid-way: {lines} of 61 lines written");
+    // Without --resume the folder is refused, so nothing is overwritten.
+    let out = layflow(&["experiment", s(&plan), "--out", s(&killed), "--quiet"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("--resume"));
+    let out = run(&["experiment", s(&plan), "--out", s(&killed), "--resume", "--quiet"]);
+    let err = text(&out.stderr);
+    assert!(err.contains(&format!("{} done", lines - 1)) || err.contains("done"), "{err}");
+    same_outputs(&whole, &killed);
+}
+
+#[test]
+fn a_torn_last_line_is_dropped_and_rerun() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 3, "3 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    // A power cut mid-write: the file ends inside a line.
+    let torn = t.path().join("torn");
+    std::fs::create_dir(&torn).unwrap();
+    let full = std::fs::read(whole.join("units.jsonl")).unwrap();
+    let cut = full.len() - full.len() / 5;
+    std::fs::write(torn.join("units.jsonl"), &full[..cut]).unwrap();
+    let out = run(&["experiment", s(&plan), "--out", s(&torn), "--resume", "--quiet"]);
+    let err = text(&out.stderr);
+    assert!(err.contains("cut off mid-write") && err.contains("kept the"), "{err}");
+    same_outputs(&whole, &torn);
+    // Damage in the middle is not a crash: refused, never silently dropped.
+    let bad = t.path().join("bad");
+    std::fs::create_dir(&bad).unwrap();
+    let mut lines: Vec<&[u8]> = full.split(|&b| b == b'\n').collect();
+    lines[3] = b"{\"unit\": oops";
+    std::fs::write(bad.join("units.jsonl"), lines.join(&b'\n')).unwrap();
+    let out = layflow(&["summarize", s(&bad)]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(
+        text(&out.stderr).contains("line 4") && text(&out.stderr).contains("damaged"),
+        "{}",
+        text(&out.stderr)
+    );
+}
+
+#[test]
+fn ctrl_c_stops_cleanly_and_resume_finishes() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 15, "20 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let stopped = t.path().join("stopped");
+    let child = Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args(["experiment", s(&plan), "--out", s(&stopped), "--quiet", "--threads", "1"])
+        .current_dir(root())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    wait_for_lines(&stopped.join("units.jsonl"), 4, Duration::from_secs(60));
+    let ok = Command::new("kill").args(["-INT", &child.id().to_string()]).status().unwrap();
+    assert!(ok.success());
+    let out = child.wait_with_output().unwrap();
+    let err = text(&out.stderr);
+    if out.status.success() {
+        // The run finished before the signal arrived: nothing to resume, still a valid result.
+        same_outputs(&whole, &stopped);
+        return;
+    }
+    assert_eq!(out.status.code(), Some(130), "{err}");
+    assert!(err.contains("--resume"), "{err}");
+    // Every line on disk is a whole unit: nothing torn by a clean stop.
+    let bytes = std::fs::read(stopped.join("units.jsonl")).unwrap();
+    assert_eq!(bytes.last(), Some(&b'\n'));
+    run(&["experiment", s(&plan), "--out", s(&stopped), "--resume", "--quiet"]);
+    same_outputs(&whole, &stopped);
+}
+
+#[test]
+fn bad_plans_and_mixed_results_are_refused() {
+    let t = tempfile::tempdir().unwrap();
+    let demo = root().join("scenarios/demo.yaml");
+    let cases = [
+        ("factors:\n  fleets.trucks.count: [1, 2]\n", "no entry with id `trucks`"),
+        ("factors:\n  flets.forklifts.count: [1, 2]\n", "has no `flets`"),
+        ("factors:\n  layout: []\n", "has no levels"),
+        ("factors:\n  layout: [current, nowhere]\n", "no layout named \"nowhere\""),
+        ("factors:\n  demand: [1.0, -2]\n", "not a demand factor"),
+        ("factors:\n  fleets.forklifts.count: [1, 0]\n", "design point 2"),
+        ("factors: {}\n", "`factors:` is empty"),
+        ("points: []\n", "`points:` is empty"),
+        ("", "no `factors:` and no `points:`"),
+        ("factors:\n  layout: [current]\nrepliations: 3\n", "unknown field"),
+    ];
+    for (i, (body, needle)) in cases.iter().enumerate() {
+        let p = t.path().join(format!("plan-{i}.yaml"));
+        std::fs::write(&p, format!("scenario: {}\nreplications: 2\n{body}", demo.display())).unwrap();
+        let out = layflow(&["experiment", s(&p), "--out", s(&t.path().join(format!("o{i}")))]);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{body}: {err}");
+        assert!(
+            err.contains(needle) && err.contains(&format!("plan-{i}.yaml")),
+            "{body}: expected {needle:?} in {err}"
+        );
+    }
+    let good = plan(t.path(), 2, "2 d");
+    for shard in ["0/3", "4/3", "3", "1/0"] {
+        let out = layflow(&["experiment", s(&good), "--shard", shard, "--out", s(&t.path().join("x"))]);
+        assert_eq!(out.status.code(), Some(2), "--shard {shard}");
+        assert!(text(&out.stderr).contains("K/N"), "{}", text(&out.stderr));
+    }
+    // Results of two versions of a plan do not mix: in a merge, or on --resume.
+    let a = t.path().join("a");
+    run(&["experiment", s(&good), "--out", s(&a), "--quiet"]);
+    let other_dir = t.path().join("other");
+    std::fs::create_dir(&other_dir).unwrap();
+    let other = plan(&other_dir, 3, "2 d");
+    let b = t.path().join("b");
+    run(&["experiment", s(&other), "--out", s(&b), "--quiet"]);
+    let out = layflow(&["merge", s(&a), s(&b), "--out", s(&t.path().join("m"))]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("different plans or scenario versions"), "{}", text(&out.stderr));
+    let out = layflow(&["experiment", s(&other), "--out", s(&a), "--resume", "--quiet"]);
+    assert_eq!(out.status.code(), Some(2));
+    assert!(text(&out.stderr).contains("another plan or scenario version"), "{}", text(&out.stderr));
+}
+
+#[test]
+fn listed_points_and_any_scenario_field() {
+    let t = tempfile::tempdir().unwrap();
+    let demo = root().join("scenarios/demo.yaml");
+    let p = t.path().join("points.yaml");
+    std::fs::write(
+        &p,
+        format!(
+            "scenario: {}\nreplications: 3\nhorizon: 3 d\nwarmup: 1 d\npoints:\n  - {{ layout: current }}\n  - {{ layout: proposed, fleets.forklifts.dispatch: first-come, products.pump-housing.demand.per_hour: 2.0 }}\n",
+            demo.display()
+        ),
+    )
+    .unwrap();
+    let d = t.path().join("out");
+    let out = run(&["experiment", s(&p), "--out", s(&d), "--quiet"]);
+    let table = text(&out.stdout);
+    assert!(table.contains("2 design points, 6 of 6 units"), "{table}");
+    // A factor a point leaves out keeps the scenario's own value, shown as "-".
+    let csv = std::fs::read_to_string(d.join("summary.csv")).unwrap();
+    assert!(csv.lines().nth(1).unwrap().starts_with("1,current,-,-,"), "{csv}");
+    // The higher pump-housing demand shows in that product's throughput.
+    let v: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(d.join("summary.json")).unwrap()).unwrap();
+    let tp = |pt: usize| {
+        v["points"][pt]["metrics"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .find(|m| m["subject"] == "pump-housing" && m["metric"] == "throughput_per_h")
+            .unwrap()["mean"]
+            .as_f64()
+            .unwrap()
+    };
+    assert!(tp(1) > tp(0) * 1.15, "pump-housing throughput {} vs {}", tp(1), tp(0));
+}
+
+#[test]
+fn the_gnu_parallel_one_liner_matches_a_single_run() {
+    if Command::new("parallel").arg("--version").stdout(Stdio::null()).status().is_err() {
+        eprintln!(
+            "NOTICE: GNU parallel is not installed; the sharded one-liner was not run (CI installs it)"
+        );
+        return;
+    }
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 4, "3 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let bin = env!("CARGO_BIN_EXE_layflow");
+    // The README's one-liner, with the binary's full path.
+    let script = format!(
+        "cd {dir} && parallel --halt now,fail=1 {bin} experiment plan.yaml --shard {{}}/3 --out shards/{{}} --quiet ::: 1 2 3 \
+         && {bin} merge shards/1 shards/2 shards/3 --out merged",
+        dir = t.path().display()
+    );
+    let out = Command::new("bash").args(["-c", &script]).output().unwrap();
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    same_outputs(&whole, &t.path().join("merged"));
+}
+
+#[test]
+fn the_slurm_scripts_are_valid_bash_with_known_directives() {
+    // What the scripts can be checked for without a cluster: bash parses them,
+    // and every #SBATCH line uses an option sbatch documents (from memory of
+    // sbatch(1); a single-node Slurm is not started here, see the README).
+    const KNOWN: &[&str] = &[
+        "--job-name",
+        "--array",
+        "--output",
+        "--error",
+        "--time",
+        "--cpus-per-task",
+        "--mem",
+        "--ntasks",
+        "--dependency",
+        "--partition",
+        "--nodes",
+    ];
+    for f in ["experiment-array.sbatch", "merge.sbatch", "submit.sh"] {
+        let path = root().join("scenarios/cluster").join(f);
+        let out = Command::new("bash").args(["-n", s(&path)]).output().unwrap();
+        assert!(out.status.success(), "{f}: {}", text(&out.stderr));
+        let body = std::fs::read_to_string(&path).unwrap();
+        for line in body.lines().filter(|l| l.starts_with("#SBATCH")) {
+            let opt = line.trim_start_matches("#SBATCH").trim();
+            let name = opt.split(['=', ' ']).next().unwrap();
+            assert!(KNOWN.contains(&name), "{f}: unknown sbatch option in {line:?}");
+            assert!(opt.contains('='), "{f}: write options as --name=value: {line:?}");
+        }
+    }
+}

@@ -1,0 +1,337 @@
+//! The results file of an experiment: one JSON line per finished unit, appended durably, read back with torn-line recovery.
+//!
+//! The first line is a header naming the plan's content hash, the shard,
+//! the factors, the design points and the metrics; every later line is one
+//! unit (design point × replication) with every metric's value and the
+//! unit's flow-time and move-wait histograms in HdrHistogram's V2
+//! interchange format (base64). A line counts as done only once it has
+//! been written, flushed and synced, so after a crash, a kill or a power
+//! cut the file holds every finished unit and at most one torn line at the
+//! end, which [`read`] drops and reports.
+
+use std::io::Write as _;
+use std::path::{Path, PathBuf};
+
+use base64::Engine as _;
+use layflow_engine::TickHistogram;
+use serde::{Deserialize, Serialize};
+
+use crate::sim::{RepStats, TICK_S};
+
+use super::plan::Experiment;
+
+/// The results file's name inside an output folder.
+pub const FILE: &str = "units.jsonl";
+
+/// Format version of the file.
+const VERSION: u32 = 1;
+
+/// Which share of the units a run takes: units u with u mod `of` = `index` − 1.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize, Deserialize)]
+pub struct Shard {
+    /// 1-based shard number.
+    pub index: u32,
+    /// Number of shards.
+    pub of: u32,
+}
+
+impl Shard {
+    /// The whole plan.
+    pub const ALL: Shard = Shard { index: 1, of: 1 };
+
+    /// Parse `K/N` (1 ≤ K ≤ N).
+    pub fn parse(text: &str) -> Result<Shard, String> {
+        let bad =
+            || format!("--shard {text:?}: write K/N with 1 ≤ K ≤ N, e.g. 2/8 for the second of eight shards");
+        let (k, n) = text.split_once('/').ok_or_else(bad)?;
+        let (index, of) =
+            (k.trim().parse::<u32>().map_err(|_| bad())?, n.trim().parse::<u32>().map_err(|_| bad())?);
+        if index == 0 || of == 0 || index > of {
+            return Err(bad());
+        }
+        Ok(Shard { index, of })
+    }
+
+    /// Whether unit `u` belongs to this shard. Units are dealt round-robin,
+    /// so every shard gets a share of every design point.
+    pub fn owns(&self, u: u64) -> bool {
+        u % u64::from(self.of) == u64::from(self.index - 1)
+    }
+}
+
+impl std::fmt::Display for Shard {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        write!(f, "{}/{}", self.index, self.of)
+    }
+}
+
+/// The header line: what every unit line belongs to.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Header {
+    /// File format version.
+    pub layflow_experiment: u32,
+    /// Content hash of the plan and scenario (see [`Experiment::hash`]).
+    pub hash: String,
+    /// The shard this file holds (1/1 for a whole plan, or a merge).
+    pub shard: Shard,
+    /// Units in the whole plan.
+    pub units: u64,
+    /// Replications per design point.
+    pub replications: u32,
+    /// Factor names.
+    pub factors: Vec<String>,
+    /// Levels of every design point, as text.
+    pub points: Vec<Vec<String>>,
+    /// Metric labels (`flow_time_s`, `pump-housing/flow_time_s`, …), with scope and subject.
+    pub metrics: Vec<MetricName>,
+}
+
+/// A metric's identity in the file.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct MetricName {
+    /// plant, product, department or fleet.
+    pub scope: String,
+    /// The product, department or fleet id; empty for the plant.
+    pub subject: String,
+    /// The metric's name, e.g. `flow_time_s`.
+    pub name: String,
+}
+
+impl Header {
+    /// The header for `shard` of `exp`.
+    pub fn new(exp: &Experiment, shard: Shard) -> Header {
+        Header {
+            layflow_experiment: VERSION,
+            hash: exp.hash.clone(),
+            shard,
+            units: exp.units(),
+            replications: exp.replications,
+            factors: exp.factors.iter().map(|f| f.name.clone()).collect(),
+            points: exp.points.iter().map(|p| p.labels()).collect(),
+            metrics: crate::compare::metrics(&exp.setups[0].plant)
+                .into_iter()
+                .map(|m| MetricName {
+                    scope: m.scope.as_str().into(),
+                    subject: m.subject,
+                    name: m.name.into(),
+                })
+                .collect(),
+        }
+    }
+
+    /// The design point and replication of unit `u`.
+    pub fn unit(&self, u: u64) -> (usize, u64) {
+        let r = u64::from(self.replications);
+        ((u / r) as usize, u % r)
+    }
+
+    /// The same plan, whatever the shard.
+    pub fn same_plan(&self, other: &Header) -> bool {
+        Header { shard: Shard::ALL, ..self.clone() } == Header { shard: Shard::ALL, ..other.clone() }
+    }
+}
+
+/// One finished unit.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Unit {
+    /// The first 16 hex digits of the plan's hash: a line from another plan is caught even out of context.
+    pub plan: String,
+    /// Unit number (design point × replications + replication).
+    pub unit: u64,
+    /// Design point, 0-based.
+    pub point: usize,
+    /// Replication, 0-based.
+    pub replication: u64,
+    /// Events simulated.
+    pub events: u64,
+    /// Every metric's value, in the header's order; `null` where the replication observed nothing.
+    pub values: Vec<Option<f64>>,
+    /// Flow-time histogram, V2 base64, ticks of [`TICK_S`].
+    pub flow_time_hist: String,
+    /// Move-wait histogram (every fleet), V2 base64, ticks of [`TICK_S`].
+    pub move_wait_hist: String,
+}
+
+impl Unit {
+    /// The record of unit `u` of `exp` from its replication's results.
+    pub fn new(exp: &Experiment, u: u64, rep: &RepStats) -> Unit {
+        let (point, replication) = exp.unit(u);
+        let b64 = |h: &TickHistogram| base64::engine::general_purpose::STANDARD.encode(h.to_v2());
+        Unit {
+            plan: exp.hash[..16].to_string(),
+            unit: u,
+            point,
+            replication,
+            events: rep.events,
+            values: crate::compare::values(&exp.setups[point].plant, rep)
+                .into_iter()
+                .map(|v| v.is_finite().then_some(v))
+                .collect(),
+            flow_time_hist: b64(&rep.flow_hist),
+            move_wait_hist: b64(&rep.move_wait_hist),
+        }
+    }
+
+    /// Decode one of the unit's histograms.
+    pub fn histogram(text: &str) -> Result<TickHistogram, String> {
+        let bytes =
+            base64::engine::general_purpose::STANDARD.decode(text).map_err(|e| format!("bad base64: {e}"))?;
+        TickHistogram::from_v2(&bytes, TICK_S)
+    }
+}
+
+/// One JSON line, newline included.
+fn line<T: Serialize>(v: &T) -> Vec<u8> {
+    let mut s = serde_json::to_vec(v).expect("plain data serializes");
+    s.push(b'\n');
+    s
+}
+
+/// A results file open for appending.
+pub struct Writer {
+    file: std::fs::File,
+    path: PathBuf,
+}
+
+impl Writer {
+    /// Start a new file with its header (replacing none: the caller checked).
+    pub fn create(path: &Path, header: &Header) -> std::io::Result<Writer> {
+        let mut file = std::fs::OpenOptions::new().create_new(true).write(true).open(path)?;
+        file.write_all(&line(header))?;
+        file.sync_all()?;
+        Ok(Writer { file, path: path.to_path_buf() })
+    }
+
+    /// Reopen a file for appending after its first `keep` bytes (what
+    /// [`read`] found intact; a torn tail is cut off).
+    pub fn append(path: &Path, keep: u64) -> std::io::Result<Writer> {
+        let file = std::fs::OpenOptions::new().write(true).open(path)?;
+        file.set_len(keep)?;
+        file.sync_all()?;
+        let mut w = Writer { file, path: path.to_path_buf() };
+        use std::io::Seek as _;
+        w.file.seek(std::io::SeekFrom::End(0))?;
+        Ok(w)
+    }
+
+    /// Append one unit; when this returns, the line is on disk.
+    pub fn write(&mut self, unit: &Unit) -> std::io::Result<()> {
+        self.file.write_all(&line(unit))?;
+        self.file.flush()?;
+        self.file.sync_data()
+    }
+
+    /// The file's path.
+    pub fn path(&self) -> &Path {
+        &self.path
+    }
+}
+
+/// What [`read`] found.
+#[derive(Debug, Clone)]
+pub struct Contents {
+    /// The header.
+    pub header: Header,
+    /// Every intact unit, in file order.
+    pub units: Vec<Unit>,
+    /// Bytes up to the end of the last intact line.
+    pub intact_bytes: u64,
+    /// Bytes dropped from the end: a line cut off mid-write (0 when none).
+    pub torn_bytes: u64,
+}
+
+/// Read a results file. A damaged tail (a last line without its newline, or
+/// lines at the end that do not parse, as a crash mid-write leaves) is
+/// dropped and counted in `torn_bytes`; a bad line followed by good ones is
+/// damage no crash explains, and an error.
+pub fn read(path: &Path) -> Result<Contents, String> {
+    let bytes = std::fs::read(path).map_err(|e| format!("cannot read {}: {e}", path.display()))?;
+    let mut lines: Vec<(usize, usize)> = Vec::new(); // (start, end incl. newline)
+    let mut start = 0;
+    for (i, &b) in bytes.iter().enumerate() {
+        if b == b'\n' {
+            lines.push((start, i + 1));
+            start = i + 1;
+        }
+    }
+    let tail_unterminated = start < bytes.len();
+    let header_line = lines.first().ok_or_else(|| {
+        format!(
+            "{}: no complete header line; the run stopped before it wrote one, so start afresh",
+            path.display()
+        )
+    })?;
+    let header: Header = serde_json::from_slice(&bytes[header_line.0..header_line.1]).map_err(|e| {
+        format!(
+            "{}: line 1 is not a layflow experiment header ({e}); is this a results file?",
+            path.display()
+        )
+    })?;
+    if header.layflow_experiment != VERSION {
+        return Err(format!(
+            "{}: written by a different results format (version {}); this layflow reads version {VERSION}",
+            path.display(),
+            header.layflow_experiment
+        ));
+    }
+    let mut units = Vec::new();
+    let mut intact = header_line.1;
+    let mut bad: Option<(usize, String)> = None;
+    for (n, &(a, b)) in lines.iter().enumerate().skip(1) {
+        match serde_json::from_slice::<Unit>(&bytes[a..b]) {
+            Ok(u) if bad.is_none() => {
+                if u.plan != header.hash[..16] {
+                    return Err(format!(
+                        "{}, line {}: a result of another plan (hash {}, this file's plan is {}); results of different \
+                         plans or scenario versions cannot be mixed",
+                        path.display(),
+                        n + 1,
+                        u.plan,
+                        &header.hash[..16]
+                    ));
+                }
+                if u.values.len() != header.metrics.len() || u.unit >= header.units {
+                    return Err(format!(
+                        "{}, line {}: does not fit the header (wrong unit or metric count)",
+                        path.display(),
+                        n + 1
+                    ));
+                }
+                units.push(u);
+                intact = b;
+            }
+            Ok(_) => {
+                let (line, e) = bad.take().expect("set");
+                return Err(format!(
+                    "{}, line {line}: not a result line ({e}), yet good lines follow it: the file is damaged, not just \
+                     cut off; move it away and rerun, or restore it from a copy",
+                    path.display()
+                ));
+            }
+            Err(e) => {
+                if bad.is_none() {
+                    bad = Some((n + 1, e.to_string()));
+                }
+            }
+        }
+    }
+    let _ = tail_unterminated;
+    Ok(Contents { header, units, intact_bytes: intact as u64, torn_bytes: (bytes.len() - intact) as u64 })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn shard_specs_are_checked_and_deal_units_round_robin() {
+        assert_eq!(Shard::parse("2/3"), Ok(Shard { index: 2, of: 3 }));
+        for bad in ["0/3", "4/3", "3", "a/b", "1/0", "-1/3"] {
+            assert!(Shard::parse(bad).is_err(), "{bad}");
+        }
+        let s = [Shard::parse("1/3").unwrap(), Shard::parse("2/3").unwrap(), Shard::parse("3/3").unwrap()];
+        for u in 0..30u64 {
+            assert_eq!(s.iter().filter(|x| x.owns(u)).count(), 1, "unit {u} has exactly one shard");
+        }
+    }
+}

@@ -1,0 +1,573 @@
+//! Experiment plans: the YAML file, its factors and levels, the design points they make, and the plant each point runs.
+//!
+//! A factor is `layout`, `demand`, or a path to any field of the scenario
+//! (`fleets.forklifts.count`, `products.pump-housing.demand.per_hour`):
+//! keys of mappings, and in lists either a 0-based index or the `id` of an
+//! element. Each design point is the scenario with its levels written in,
+//! compiled like any scenario, so a level the scenario would refuse is
+//! refused here, with the design point named, before anything runs.
+
+use std::fmt::Write as _;
+use std::path::{Path, PathBuf};
+
+use serde::Deserialize;
+use serde_norway::{Mapping, Value};
+use sha2::{Digest, Sha256};
+
+use crate::plant::Plant;
+use crate::sim::RunSpec;
+use crate::units::parse_duration;
+
+/// A plan as written (see the module notes).
+#[derive(Debug, Deserialize)]
+#[serde(deny_unknown_fields)]
+struct PlanSpec {
+    scenario: String,
+    replications: u32,
+    seed: Option<u64>,
+    horizon: Option<String>,
+    warmup: Option<String>,
+    #[serde(default = "yes")]
+    common_random_numbers: bool,
+    factors: Option<Mapping>,
+    points: Option<Vec<Mapping>>,
+}
+
+fn yes() -> bool {
+    true
+}
+
+/// What a factor changes.
+#[derive(Debug, Clone, PartialEq)]
+pub enum FactorKind {
+    /// The layout simulated (levels are layout names).
+    Layout,
+    /// The demand factor (levels are numbers > 0).
+    Demand,
+    /// A field of the scenario, by its path.
+    Field(Vec<String>),
+}
+
+/// One factor of the plan.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Factor {
+    /// As written in the plan, e.g. `fleets.forklifts.count`.
+    pub name: String,
+    /// What it changes.
+    pub kind: FactorKind,
+}
+
+/// One design point: a level for every factor (`None`: the scenario's own value).
+#[derive(Debug, Clone, PartialEq)]
+pub struct DesignPoint {
+    /// Levels in factor order.
+    pub levels: Vec<Option<Value>>,
+}
+
+impl DesignPoint {
+    /// Each level as text (`-` for the scenario's own), for tables and CSV.
+    pub fn labels(&self) -> Vec<String> {
+        self.levels.iter().map(|l| l.as_ref().map_or_else(|| "-".to_string(), value_text)).collect()
+    }
+}
+
+/// A YAML scalar as plain text.
+pub fn value_text(v: &Value) -> String {
+    match v {
+        Value::String(s) => s.clone(),
+        Value::Number(n) => n.to_string(),
+        Value::Bool(b) => b.to_string(),
+        Value::Null => "null".into(),
+        other => serde_norway::to_string(other).unwrap_or_default().trim().to_string(),
+    }
+}
+
+/// A checked plan, its design points compiled into plants.
+#[derive(Debug, Clone)]
+pub struct Experiment {
+    /// The plan file.
+    pub file: PathBuf,
+    /// The scenario file, resolved against the plan's folder.
+    pub scenario: PathBuf,
+    /// Replications of every design point.
+    pub replications: u32,
+    /// Base seed of every stream.
+    pub seed: u64,
+    /// Replication r of every design point sees the same random numbers.
+    pub common_random_numbers: bool,
+    /// The factors, in plan order.
+    pub factors: Vec<Factor>,
+    /// The design points, in plan order (full factorial: the last factor varies fastest).
+    pub points: Vec<DesignPoint>,
+    /// Per design point: the plant and what a replication of it runs.
+    pub setups: Vec<Setup>,
+    /// Content hash of everything that decides the results (plan settings,
+    /// every design point's compiled plant, the layflow version), hex.
+    pub hash: String,
+}
+
+/// What one design point runs.
+#[derive(Debug, Clone)]
+pub struct Setup {
+    /// The plant with the point's levels written in.
+    pub plant: Plant,
+    /// Layout, horizon, warm-up, demand factor and seed.
+    pub spec: RunSpec,
+}
+
+impl Experiment {
+    /// Units of work: design points × replications.
+    pub fn units(&self) -> u64 {
+        self.points.len() as u64 * u64::from(self.replications)
+    }
+
+    /// (design point, replication) of unit `u`: replications of a point are consecutive.
+    pub fn unit(&self, u: u64) -> (usize, u64) {
+        let r = u64::from(self.replications);
+        ((u / r) as usize, u % r)
+    }
+}
+
+/// A plan error, for people: which file, where, what to do.
+#[derive(Debug, Clone, PartialEq)]
+pub struct PlanError {
+    /// The message, naming the file and (where known) the line.
+    pub message: String,
+}
+
+impl std::fmt::Display for PlanError {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        f.write_str(&self.message)
+    }
+}
+
+fn err(file: &Path, line: Option<usize>, what: impl std::fmt::Display, hint: &str) -> PlanError {
+    let mut message = match line {
+        Some(l) => format!("error in {}, line {l}: {what}", file.display()),
+        None => format!("error in {}: {what}", file.display()),
+    };
+    if !hint.is_empty() {
+        let _ = write!(message, "\nhint: {hint}");
+    }
+    PlanError { message }
+}
+
+/// The first line (1-based) whose text, trimmed, starts with `key` followed by `:`.
+fn line_of(text: &str, key: &str) -> Option<usize> {
+    let quoted = [key.to_string(), format!("\"{key}\""), format!("'{key}'")];
+    text.lines()
+        .position(|l| {
+            let t = l.trim_start().trim_start_matches("- ").trim_start();
+            quoted
+                .iter()
+                .any(|k| t.strip_prefix(k.as_str()).is_some_and(|rest| rest.trim_start().starts_with(':')))
+        })
+        .map(|i| i + 1)
+}
+
+/// Split `fleets.forklifts.count` or `products[0].demand` into segments.
+fn segments(path: &str) -> Vec<String> {
+    path.replace('[', ".").replace(']', "").split('.').filter(|s| !s.is_empty()).map(str::to_string).collect()
+}
+
+/// The value at `path`, creating the last key of a mapping if missing (the
+/// scenario's own checks then refuse a key it does not know).
+fn field_mut<'a>(root: &'a mut Value, path: &[String]) -> Result<&'a mut Value, String> {
+    let mut at = root;
+    for (i, seg) in path.iter().enumerate() {
+        let last = i + 1 == path.len();
+        let here = path[..i].join(".");
+        let place = if here.is_empty() { "the top level".to_string() } else { format!("`{here}`") };
+        at = match at {
+            Value::Mapping(m) => {
+                let key = Value::String(seg.clone());
+                if !m.contains_key(&key) {
+                    if last {
+                        m.insert(key.clone(), Value::Null);
+                    } else {
+                        let keys: Vec<String> = m.keys().map(value_text).collect();
+                        return Err(format!("{place} has no `{seg}` (it has: {})", keys.join(", ")));
+                    }
+                }
+                m.get_mut(&key).expect("present")
+            }
+            Value::Sequence(items) => {
+                let n = items.len();
+                let idx = match seg.parse::<usize>() {
+                    Ok(k) if k < n => k,
+                    Ok(k) => return Err(format!("{place} has {n} entries; index {k} is past the end")),
+                    Err(_) => {
+                        let ids: Vec<String> =
+                            items.iter().filter_map(|v| v.get("id").map(value_text)).collect();
+                        items
+                            .iter()
+                            .position(|v| v.get("id").map(value_text).as_deref() == Some(seg.as_str()))
+                            .ok_or_else(|| {
+                                format!("{place} has no entry with id `{seg}` (ids: {})", ids.join(", "))
+                            })?
+                    }
+                };
+                &mut items[idx]
+            }
+            _ => return Err(format!("{place} is a single value; `{seg}` cannot be looked up in it")),
+        };
+    }
+    Ok(at)
+}
+
+/// Read and check a plan, compiling every design point's plant.
+pub fn load(file: &Path) -> Result<Experiment, PlanError> {
+    let text = std::fs::read_to_string(file)
+        .map_err(|e| err(file, None, format!("cannot read the plan: {e}"), "check the path"))?;
+    let de = serde_norway::Deserializer::from_str(&text);
+    let spec: PlanSpec = serde_path_to_error::deserialize(de).map_err(|e| {
+        let line = e.inner().location().map(|l| l.line());
+        let path = e.path().to_string();
+        let what = if path == "." { e.inner().to_string() } else { format!("{path}: {}", e.inner()) };
+        err(
+            file,
+            line,
+            what,
+            "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, and \
+             `factors:` (every combination) or `points:` (a list)",
+        )
+    })?;
+    if spec.replications == 0 {
+        return Err(err(file, line_of(&text, "replications"), "replications must be at least 1", ""));
+    }
+    let dir = file.parent().unwrap_or_else(|| Path::new(""));
+    let scenario = dir.join(&spec.scenario);
+    let scenario_text = std::fs::read_to_string(&scenario).map_err(|e| {
+        err(
+            file,
+            line_of(&text, "scenario"),
+            format!("cannot read the scenario {}: {e}", scenario.display()),
+            "the scenario is named relative to the plan file",
+        )
+    })?;
+    // The scenario as it stands must be valid on its own.
+    let base_plant =
+        crate::parse_scenario(&scenario_text, &scenario).map_err(|e| PlanError { message: e.to_string() })?;
+    let base: Value = serde_norway::from_str(&scenario_text)
+        .map_err(|e| err(&scenario, None, format!("not YAML: {e}"), ""))?;
+
+    let (factors, points) = design(file, &text, &spec, &base)?;
+    let duration = |key: &str, v: &Option<String>| -> Result<Option<f64>, PlanError> {
+        v.as_ref()
+            .map(|t| {
+                parse_duration(t).ok().filter(|s| *s >= 0.0).ok_or_else(|| {
+                    err(
+                        file,
+                        line_of(&text, key),
+                        format!("{key} {t:?} is not a duration ≥ 0"),
+                        "write e.g. \"20 d\" or \"36 h\"",
+                    )
+                })
+            })
+            .transpose()
+    };
+    let horizon = duration("horizon", &spec.horizon)?;
+    let warmup = duration("warmup", &spec.warmup)?;
+    let seed = spec.seed.unwrap_or(base_plant.run.seed);
+
+    let mut setups = Vec::with_capacity(points.len());
+    for (p, point) in points.iter().enumerate() {
+        let describe = || {
+            let parts: Vec<String> =
+                factors.iter().zip(point.labels()).map(|(f, l)| format!("{} = {l}", f.name)).collect();
+            format!("design point {} ({})", p + 1, parts.join(", "))
+        };
+        let mut doc = base.clone();
+        let mut layout = None;
+        let mut demand = None;
+        for (f, level) in factors.iter().zip(&point.levels) {
+            let Some(level) = level else { continue };
+            match &f.kind {
+                FactorKind::Layout => layout = Some(value_text(level)),
+                FactorKind::Demand => demand = level.as_f64(),
+                FactorKind::Field(path) => {
+                    *field_mut(&mut doc, path).map_err(|e| err(file, line_of(&text, &f.name), e, ""))? =
+                        level.clone();
+                }
+            }
+        }
+        let plant = if factors.iter().any(|f| matches!(f.kind, FactorKind::Field(_))) {
+            let yaml = serde_norway::to_string(&doc).expect("a YAML value serializes");
+            crate::parse_scenario(&yaml, &scenario).map_err(|e| {
+                err(
+                    file,
+                    None,
+                    format!(
+                        "{}: the scenario refuses it: {}",
+                        describe(),
+                        e.to_string().replace('\n', "\n  ")
+                    ),
+                    "line numbers in that message refer to the scenario with the levels written in",
+                )
+            })?
+        } else {
+            base_plant.clone()
+        };
+        let layout_index = match &layout {
+            None => 0,
+            Some(name) => plant.layout_index(name).ok_or_else(|| {
+                let known: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
+                err(
+                    file,
+                    line_of(&text, "layout"),
+                    format!("{}: no layout named {name:?}", describe()),
+                    &format!("the scenario's layouts: {}", known.join(", ")),
+                )
+            })?,
+        };
+        let horizon_s = horizon.unwrap_or(plant.run.horizon_s);
+        let warmup_s = warmup.unwrap_or(plant.run.warmup_s);
+        if warmup_s >= horizon_s {
+            return Err(err(
+                file,
+                line_of(&text, "warmup"),
+                format!("the warm-up ({warmup_s} s) must end before the horizon ({horizon_s} s)"),
+                "",
+            ));
+        }
+        let point_seed = if spec.common_random_numbers { seed } else { mix(seed, p as u64) };
+        let spec = RunSpec {
+            layout: layout_index,
+            horizon_s,
+            warmup_s,
+            demand_factor: demand.unwrap_or(plant.demand_factor),
+            seed: point_seed,
+        };
+        setups.push(Setup { plant, spec });
+    }
+    // Every point must report the same metrics, so results line up in one table.
+    let first = crate::compare::metrics(&setups[0].plant).iter().map(|m| m.label()).collect::<Vec<_>>();
+    for (p, s) in setups.iter().enumerate().skip(1) {
+        let here: Vec<String> = crate::compare::metrics(&s.plant).iter().map(|m| m.label()).collect();
+        if here != first {
+            return Err(err(
+                file,
+                None,
+                format!("design point {} changes which products, departments or fleets the plant has", p + 1),
+                "factors may change values, not the plant's structure",
+            ));
+        }
+    }
+    let mut h = Sha256::new();
+    h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
+    h.update(format!("{:?}\n{seed}\n{}\n", spec.replications, spec.common_random_numbers));
+    for (f, s) in factors.iter().zip(0..) {
+        h.update(format!("factor {s} {:?}\n", f));
+    }
+    for (p, s) in points.iter().zip(&setups) {
+        h.update(format!("{:?}\n{:?}\n{:?}\n", p.levels, s.spec, s.plant));
+    }
+    let hash = h.finalize().iter().map(|b| format!("{b:02x}")).collect();
+    Ok(Experiment {
+        file: file.to_path_buf(),
+        scenario,
+        replications: spec.replications,
+        seed,
+        common_random_numbers: spec.common_random_numbers,
+        factors,
+        points,
+        setups,
+        hash,
+    })
+}
+
+/// SplitMix64 of (seed, point): independent streams per design point when
+/// common random numbers are off.
+fn mix(seed: u64, point: u64) -> u64 {
+    let mut z = seed ^ point.wrapping_add(1).wrapping_mul(0x9E37_79B9_7F4A_7C15);
+    z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+    z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+    z ^ (z >> 31)
+}
+
+fn factor_kind(file: &Path, text: &str, name: &str, base: &Value) -> Result<FactorKind, PlanError> {
+    match name {
+        "layout" => Ok(FactorKind::Layout),
+        "demand" => Ok(FactorKind::Demand),
+        _ => {
+            let path = segments(name);
+            let mut probe = base.clone();
+            field_mut(&mut probe, &path).map_err(|e| {
+                err(
+                    file,
+                    line_of(text, name),
+                    format!("factor `{name}`: {e}"),
+                    "a factor is `layout`, `demand`, or the path of a scenario field, e.g. fleets.forklifts.count",
+                )
+            })?;
+            Ok(FactorKind::Field(path))
+        }
+    }
+}
+
+fn check_level(file: &Path, text: &str, f: &Factor, v: &Value) -> Result<(), PlanError> {
+    let bad =
+        |what: String| Err(err(file, line_of(text, &f.name), format!("factor `{}`: {what}", f.name), ""));
+    match f.kind {
+        FactorKind::Demand => match v.as_f64() {
+            Some(x) if x > 0.0 && x.is_finite() => Ok(()),
+            _ => bad(format!("level {} is not a demand factor > 0", value_text(v))),
+        },
+        FactorKind::Layout if !v.is_string() => bad(format!("level {} is not a layout name", value_text(v))),
+        _ if v.is_mapping() || v.is_sequence() => {
+            bad("levels must be single values (numbers, names, durations)".into())
+        }
+        _ => Ok(()),
+    }
+}
+
+fn design(
+    file: &Path,
+    text: &str,
+    spec: &PlanSpec,
+    base: &Value,
+) -> Result<(Vec<Factor>, Vec<DesignPoint>), PlanError> {
+    let key_name = |k: &Value| -> Result<String, PlanError> {
+        k.as_str()
+            .map(str::to_string)
+            .ok_or_else(|| err(file, None, format!("factor name {} is not text", value_text(k)), ""))
+    };
+    match (&spec.factors, &spec.points) {
+        (Some(_), Some(_)) => Err(err(
+            file,
+            line_of(text, "points"),
+            "a plan has `factors:` or `points:`, not both",
+            "use `factors:` for every combination of levels, `points:` for a list of chosen combinations",
+        )),
+        (None, None) => Err(err(
+            file,
+            None,
+            "the plan has no `factors:` and no `points:`",
+            "e.g. `factors: { layout: [current, proposed], demand: [0.8, 1.0, 1.2] }`",
+        )),
+        (Some(map), None) => {
+            if map.is_empty() {
+                return Err(err(
+                    file,
+                    line_of(text, "factors"),
+                    "`factors:` is empty",
+                    "give at least one factor with its levels",
+                ));
+            }
+            let mut factors = Vec::new();
+            let mut levels: Vec<Vec<Value>> = Vec::new();
+            for (k, v) in map {
+                let name = key_name(k)?;
+                let kind = factor_kind(file, text, &name, base)?;
+                let f = Factor { name: name.clone(), kind };
+                let list = match v {
+                    Value::Sequence(s) => s.clone(),
+                    other => vec![other.clone()],
+                };
+                if list.is_empty() {
+                    return Err(err(
+                        file,
+                        line_of(text, &name),
+                        format!("factor `{name}` has no levels"),
+                        "list at least one level, e.g. [1, 2, 3]",
+                    ));
+                }
+                for (i, l) in list.iter().enumerate() {
+                    check_level(file, text, &f, l)?;
+                    if list[..i].contains(l) {
+                        return Err(err(
+                            file,
+                            line_of(text, &name),
+                            format!("factor `{name}` lists level {} twice", value_text(l)),
+                            "",
+                        ));
+                    }
+                }
+                factors.push(f);
+                levels.push(list);
+            }
+            // Full factorial, the last factor varying fastest.
+            let mut points = vec![DesignPoint { levels: Vec::new() }];
+            for list in &levels {
+                points = points
+                    .into_iter()
+                    .flat_map(|p| {
+                        list.iter().map(move |l| {
+                            let mut q = p.clone();
+                            q.levels.push(Some(l.clone()));
+                            q
+                        })
+                    })
+                    .collect();
+            }
+            Ok((factors, points))
+        }
+        (None, Some(list)) => {
+            if list.is_empty() {
+                return Err(err(
+                    file,
+                    line_of(text, "points"),
+                    "`points:` is empty",
+                    "list at least one design point",
+                ));
+            }
+            let mut factors: Vec<Factor> = Vec::new();
+            for m in list {
+                for k in m.keys() {
+                    let name = key_name(k)?;
+                    if !factors.iter().any(|f| f.name == name) {
+                        let kind = factor_kind(file, text, &name, base)?;
+                        factors.push(Factor { name, kind });
+                    }
+                }
+            }
+            let mut points = Vec::new();
+            for (i, m) in list.iter().enumerate() {
+                let mut levels = Vec::new();
+                for f in &factors {
+                    let v = m.get(Value::String(f.name.clone())).cloned();
+                    if let Some(v) = &v {
+                        check_level(file, text, f, v)?;
+                    }
+                    levels.push(v);
+                }
+                let p = DesignPoint { levels };
+                if points.contains(&p) {
+                    return Err(err(
+                        file,
+                        None,
+                        format!("design point {} repeats an earlier one", i + 1),
+                        "list each combination once; replications repeat it",
+                    ));
+                }
+                points.push(p);
+            }
+            Ok((factors, points))
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn paths_find_keys_indices_and_ids() {
+        let mut v: Value =
+            serde_norway::from_str("fleets:\n  - { id: a, count: 1 }\n  - { id: b, count: 2 }\n").unwrap();
+        *field_mut(&mut v, &segments("fleets.b.count")).unwrap() = Value::from(5);
+        *field_mut(&mut v, &segments("fleets[0].count")).unwrap() = Value::from(7);
+        assert_eq!(v["fleets"][1]["count"], Value::from(5));
+        assert_eq!(v["fleets"][0]["count"], Value::from(7));
+        let e = field_mut(&mut v, &segments("fleets.c.count")).unwrap_err();
+        assert!(e.contains("no entry with id `c`") && e.contains("a, b"), "{e}");
+        let e = field_mut(&mut v, &segments("fleet.a")).unwrap_err();
+        assert!(e.contains("has no `fleet`"), "{e}");
+    }
+
+    #[test]
+    fn mixing_keeps_points_apart() {
+        assert_ne!(mix(1, 0), mix(1, 1));
+        assert_eq!(mix(1, 3), mix(1, 3));
+    }
+}
