@@ -108,7 +108,28 @@ pub fn load(path: &Path) -> Result<layflow_models::plant::Plant, Failure> {
     layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
 }
 
+/// Leave quietly when stdout is closed early (`layflow ... | head`): Rust
+/// ignores SIGPIPE, so `print!` panics on the broken pipe instead; a reader
+/// that has seen enough is not an error worth a backtrace.
+fn quiet_on_broken_pipe() {
+    let default = std::panic::take_hook();
+    std::panic::set_hook(Box::new(move |info| {
+        let text = info
+            .payload()
+            .downcast_ref::<String>()
+            .map(String::as_str)
+            .or_else(|| info.payload().downcast_ref::<&str>().copied())
+            .unwrap_or("");
+        if text.contains("Broken pipe") || text.contains("os error 32") {
+            // 128 + SIGPIPE, what a shell reports for a process the pipe closed.
+            std::process::exit(141);
+        }
+        default(info);
+    }));
+}
+
 fn main() -> ExitCode {
+    quiet_on_broken_pipe();
     let cli = Cli::parse();
     let result = match cli.command {
         Command::Check(a) => check::check(&a),

@@ -338,3 +338,31 @@ fn the_slurm_scripts_are_valid_bash_with_known_directives() {
         }
     }
 }
+
+#[test]
+fn a_reader_that_stops_early_gets_no_backtrace() {
+    // `layflow summarize DIR --format csv | head -1`: the pipe closes early.
+    use std::io::BufRead as _;
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 2, "2 d");
+    // 20 design points: a summary well over a pipe's 64 KiB buffer, so the
+    // writer is still writing when the reader goes away.
+    let text_plan = std::fs::read_to_string(&plan).unwrap() + "  demand: [0.6, 0.7, 0.8, 0.9, 1.0]\n";
+    std::fs::write(&plan, text_plan).unwrap();
+    let d = t.path().join("out");
+    run(&["experiment", s(&plan), "--out", s(&d), "--quiet"]);
+    assert!(std::fs::metadata(d.join("summary.csv")).unwrap().len() > 128 * 1024);
+    let mut child = Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args(["summarize", s(&d), "--format", "csv"])
+        .stdout(Stdio::piped())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    let mut first = String::new();
+    std::io::BufReader::new(child.stdout.take().unwrap()).read_line(&mut first).unwrap();
+    assert!(first.starts_with("point,"));
+    let out = child.wait_with_output().unwrap();
+    let err = text(&out.stderr);
+    assert!(!err.contains("panicked"), "{err}");
+    assert!(matches!(out.status.code(), Some(0) | Some(141)), "{:?}", out.status);
+}
