@@ -248,10 +248,9 @@ pub fn summary_json(s: &Summary) -> Vec<u8> {
     v
 }
 
-/// The units file in canonical form: header (as the whole plan) then units by number.
+/// The units file in canonical form: the header, then units by number.
 pub fn units_jsonl(header: &Header, units: &[Unit]) -> Vec<u8> {
-    let whole = Header { shard: super::journal::Shard::ALL, ..header.clone() };
-    let mut out = serde_json::to_vec(&whole).expect("plain data serializes");
+    let mut out = serde_json::to_vec(header).expect("plain data serializes");
     out.push(b'\n');
     for u in units {
         out.extend(serde_json::to_vec(u).expect("plain data serializes"));
