@@ -308,6 +308,17 @@ fn the_gnu_parallel_one_liner_matches_a_single_run() {
     let out = Command::new("bash").args(["-c", &script]).output().unwrap();
     assert!(out.status.success(), "{}", text(&out.stderr));
     same_outputs(&whole, &t.path().join("merged"));
+    // The shipped script, with `layflow` found on PATH as a user would have it.
+    let bin_dir = Path::new(bin).parent().unwrap();
+    let path = format!("{}:{}", bin_dir.display(), std::env::var("PATH").unwrap_or_default());
+    let out = Command::new("bash")
+        .arg(root().join("scenarios/cluster/parallel.sh"))
+        .args([s(&plan), "2", s(&t.path().join("by-script"))])
+        .env("PATH", path)
+        .output()
+        .unwrap();
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    same_outputs(&whole, &t.path().join("by-script/merged"));
 }
 
 #[test]
