@@ -5,7 +5,7 @@ use std::path::{Path, PathBuf};
 
 use clap::Args;
 use layflow_models::analysis::StaticPicture;
-use layflow_models::plant::{Demand, DepartmentRole, Handling, Plant};
+use layflow_models::plant::{Demand, DepartmentRole, Handling, LoadStart, Plant};
 use layflow_models::units::format_duration;
 use serde_json::json;
 
@@ -64,6 +64,10 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
                 format!(", up {} of the time", share(pic.availability[d]))
             } else {
                 String::new()
+            } + &if dep.calendar.is_some() {
+                format!(", scheduled {} of the time", share(pic.scheduled_share[d]))
+            } else {
+                String::new()
             }
         );
     }
@@ -101,6 +105,10 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
         }
     );
     let _ = writeln!(s, "demand factor {}", num(pic.demand_factor));
+    let network = plant.aisles.as_ref().map_or_else(String::new, |n| {
+        format!(" ({}, {})", count(n.nodes.len(), "node"), count(n.segments.len(), "segment"))
+    });
+    let _ = writeln!(s, "distances: {}{network}", plant.distance_rule.describe());
     let _ = writeln!(s);
     let _ = writeln!(s, "Demand: long-run mean lots per hour (demand factor applied)");
     let w = plant.products.iter().map(|p| p.id.chars().count()).max().unwrap_or(0);
@@ -111,6 +119,16 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             prod.id,
             pic.product_rate_per_h[p],
             demand_pattern(plant, p, pic.demand_factor)
+                + &prod.lot.map_or(String::new(), |l| {
+                    format!(
+                        "; lots of {} units, {} load{} of up to {}, next step starts on the {} load",
+                        l.quantity,
+                        l.loads(),
+                        if l.loads() == 1 { "" } else { "s" },
+                        l.transfer_batch,
+                        if l.start == LoadStart::FirstLoad { "first" } else { "last" }
+                    )
+                })
         );
     }
     let _ = writeln!(s);
@@ -140,10 +158,21 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
 
     let _ = writeln!(s, "Departments: predicted utilisation = arrivals × mean processing time ÷ machines");
     let breakdowns = plant.departments.iter().any(|d| d.breakdowns.is_some());
+    let calendars = plant.departments.iter().any(|d| d.calendar.is_some());
+    let setups = plant.departments.iter().any(|d| d.setups.is_some());
     let staging = plant.departments.iter().any(|d| d.staging.is_limited());
     let mut header = vec!["department", "machines", "lots/h", "utilisation"];
+    if setups {
+        header.push("setups");
+    }
+    if calendars {
+        header.push("scheduled");
+    }
     if breakdowns {
-        header.extend(["availability", "vs available"]);
+        header.push("availability");
+    }
+    if breakdowns || calendars || setups {
+        header.push("vs available");
     }
     if staging {
         header.push("staging in/out");
@@ -161,8 +190,16 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             format!("{:.2}", pic.arrivals_per_h[d]),
             share(pic.utilization[d]),
         ];
+        if setups {
+            row.push(if dep.setups.is_some() { share(pic.setup_share[d]) } else { String::new() });
+        }
+        if calendars {
+            row.push(share(pic.scheduled_share[d]));
+        }
         if breakdowns {
             row.push(share(pic.availability[d]));
+        }
+        if breakdowns || calendars || setups {
             row.push(share(u));
         }
         if staging {
@@ -183,10 +220,16 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
         t.row(row);
     }
     s.push_str(&t.render(2));
-    if breakdowns {
+    if breakdowns && !calendars && !setups {
         let _ = writeln!(
             s,
             "  (availability = MTBF ÷ (MTBF + MTTR); vs available = λ·E[S] ÷ (machines × availability))"
+        );
+    } else if breakdowns || calendars || setups {
+        let _ = writeln!(
+            s,
+            "  (vs available = (λ·E[S] + setup time per hour) ÷ (machines × scheduled share × availability); \
+             setups assume each lot follows a random lot of the department's mix; availability = MTBF ÷ (MTBF + MTTR))"
         );
     }
     let _ = writeln!(s);
@@ -287,6 +330,8 @@ fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
             "utilization_predicted": pic.utilization[d],
             "availability_predicted": pic.availability[d],
             "utilization_against_availability": pic.utilization_available[d],
+            "scheduled_share": pic.scheduled_share[d],
+            "setup_share_predicted": pic.setup_share[d],
             "staging_inbound": dep.staging.inbound,
             "staging_outbound": dep.staging.outbound,
         })).collect::<Vec<_>>(),

@@ -75,6 +75,10 @@ pub struct SizeResult {
     pub utilization: Estimate,
     /// The analytic estimate's busy time ÷ available mover time at this size.
     pub utilization_analytic: f64,
+    /// Busy time ÷ on-duty mover time (shifts less breaks); present when the
+    /// operators have working hours.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
     /// Share travelling loaded.
     pub loaded_share: Estimate,
     /// Share travelling empty.
@@ -442,6 +446,16 @@ fn size_result(
         movers: n,
         utilization: e("utilization"),
         utilization_analytic: analytic.busy_s_per_h / (3600.0 * f64::from(n) * analytic_efficiency(analytic)),
+        utilization_scheduled: plant.fleets()[f].operators.duty.as_ref().map(|_| {
+            let v: Vec<f64> = reps
+                .iter()
+                .map(|r| {
+                    let s = &r.fleets[f];
+                    (s.loaded_s + s.empty_s + s.handling_s) / (f64::from(n) * r.window_s - s.off_s)
+                })
+                .collect();
+            estimate(&v).0
+        }),
         loaded_share: share(|s| s.loaded_s),
         empty_share: share(|s| s.empty_s),
         handling_share: share(|s| s.handling_s),
@@ -543,6 +557,10 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
         "cost/h",
         "cost/load",
     ];
+    let scheduled = out.sizes.iter().any(|r| r.utilization_scheduled.is_some());
+    if scheduled {
+        head.insert(2, "busy (on duty)");
+    }
     let tnames: Vec<String> = (0..out.targets.len()).map(|i| format!("target {}", i + 1)).collect();
     head.extend(tnames.iter().map(String::as_str));
     let mut t = Table::new(&head);
@@ -564,6 +582,9 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
             pm(&r.cost_per_h, 1.0),
             pm(&r.cost_per_load, 1.0),
         ];
+        if let Some(u) = &r.utilization_scheduled {
+            row.insert(2, pct(u));
+        }
         for v in &r.targets {
             row.push(
                 if v.met {
@@ -584,6 +605,10 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
         "  busy = loaded + empty + load/unload; analytic = the minimum-empty-flow estimate's busy share at that size; \
          wait p95 = each replication's 95th percentile, averaged"
     );
+    if scheduled {
+        let _ =
+            writeln!(s, "  busy (on duty) = busy time ÷ the operators' on-duty time (shifts less breaks)");
+    }
     for (i, tg) in out.targets.iter().enumerate() {
         let what = TARGET_METRICS[tg.metric].2;
         let _ = writeln!(s, "  target {}: {} ({what})", i + 1, tg.describe());

@@ -5,6 +5,7 @@
 
 mod check;
 mod compare;
+mod draw;
 mod experiment;
 mod fleet;
 mod output;
@@ -67,6 +68,9 @@ enum Command {
     Merge(experiment::MergeArgs),
     /// Print an experiment's summary again from its output folder, without re-running.
     Summarize(experiment::SummarizeArgs),
+    /// Draw one layout as an SVG picture: locations, departments, docks, the aisle
+    /// network and flows between departments (width ∝ loads per hour).
+    Draw(draw::DrawArgs),
 }
 
 /// Output format shared by the commands.
@@ -140,6 +144,7 @@ fn main() -> ExitCode {
         Command::Experiment(a) => experiment::experiment(&a),
         Command::Merge(a) => experiment::merge(&a),
         Command::Summarize(a) => experiment::summarize(&a),
+        Command::Draw(a) => draw::draw(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -25,6 +25,13 @@ pub fn write_atomic(dir: &Path, name: &str, bytes: &[u8]) -> Result<(), Failure>
     let fail = |e: std::io::Error| Failure::run(format!("cannot write {}: {e}", target.display()));
     let mut tmp = tempfile::Builder::new().prefix(&format!(".{name}.")).tempfile_in(dir).map_err(fail)?;
     tmp.write_all(bytes).map_err(fail)?;
+    // A temporary file is private (0600); a result is for everyone who may
+    // read the folder, like any file the user would have saved.
+    #[cfg(unix)]
+    {
+        use std::os::unix::fs::PermissionsExt as _;
+        tmp.as_file().set_permissions(std::fs::Permissions::from_mode(0o644)).map_err(fail)?;
+    }
     tmp.as_file().sync_all().map_err(fail)?;
     tmp.persist(&target).map_err(|e| fail(e.error))?;
     Ok(())

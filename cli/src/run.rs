@@ -274,8 +274,16 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
 
         let staging = l.departments.iter().any(|d| d.blocked_share.is_some());
         let breakdowns = l.departments.iter().any(|d| d.availability.is_some());
+        let calendars = l.departments.iter().any(|d| d.utilization_scheduled.is_some());
+        let setups = l.departments.iter().any(|d| d.setup_share.is_some());
         let mut header =
             vec!["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"];
+        if calendars {
+            header.extend(["of scheduled", "scheduled"]);
+        }
+        if setups {
+            header.extend(["setup", "setup predicted"]);
+        }
         if staging {
             header.push("blocked");
         }
@@ -301,6 +309,14 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 pm(&dep.queue_mean, 1.0),
                 pm(&dep.wip_mean, 1.0),
             ];
+            if calendars {
+                row.push(dep.utilization_scheduled.as_ref().map_or(String::new(), pct));
+                row.push(dep.scheduled_share.map_or(String::new(), share));
+            }
+            if setups {
+                row.push(dep.setup_share.as_ref().map_or(String::new(), pct));
+                row.push(dep.setup_share_predicted.map_or(String::new(), share));
+            }
             if staging {
                 row.push(dep.blocked_share.as_ref().filter(|_| machines > 0).map_or(String::new(), pct));
             }
@@ -312,6 +328,13 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         }
         s.push('\n');
         s.push_str(&t.render(2));
+        if calendars {
+            let _ = writeln!(
+                s,
+                "  (utilisation is against clock time; of scheduled = busy ÷ the calendar's working time; \
+                 scheduled = its share of the clock)"
+            );
+        }
 
         if !l.fleets.is_empty() {
             let blocked = l.fleets.iter().any(|f| f.blocked_share.is_some());
@@ -334,6 +357,10 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             if service {
                 header.push("availability");
             }
+            let on_duty = l.fleets.iter().any(|f| f.utilization_scheduled.is_some());
+            if on_duty {
+                header.push("busy on duty");
+            }
             let mut t = Table::new(&header);
             for f in &l.fleets {
                 let mut row = vec![
@@ -353,6 +380,9 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 }
                 if service {
                     row.push(f.availability.as_ref().map_or(String::new(), pct));
+                }
+                if on_duty {
+                    row.push(f.utilization_scheduled.as_ref().map_or(String::new(), pct));
                 }
                 t.row(row);
             }

@@ -69,7 +69,8 @@ fn three_shards_merge_to_exactly_the_single_run() {
         shards.push(d);
     }
     // A finished shard resumed again (a requeued cluster task) does nothing new.
-    let again = run(&["experiment", s(&plan), "--shard", "2/3", "--out", s(&shards[1]), "--resume", "--quiet"]);
+    let again =
+        run(&["experiment", s(&plan), "--shard", "2/3", "--out", s(&shards[1]), "--resume", "--quiet"]);
     assert!(text(&again.stderr).contains("0 to run"), "{}", text(&again.stderr));
     let merged = t.path().join("merged");
     let mut args = vec!["merge"];

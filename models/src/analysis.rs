@@ -96,11 +96,19 @@ pub struct StaticPicture {
     pub utilization: Vec<f64>,
     /// Share of time a machine is up, MTBF/(MTBF + MTTR), per department (1 without breakdowns).
     pub availability: Vec<f64>,
-    /// Load against the capacity left by breakdowns, λ·E[S]/(c·A): at or
-    /// above 1 the department cannot keep up. Equal to `utilization` without
-    /// breakdowns. (With busy-time failures each busy hour brings MTTR/MTBF
-    /// hours of repair, which gives the same factor 1/A.)
+    /// Load against the capacity left by breakdowns and the calendar,
+    /// (λ·E[S] + setup time per hour)/(c·scheduled share·A): at or above 1 the
+    /// department cannot keep up. Equal to `utilization` without breakdowns,
+    /// calendar or setups. (With busy-time failures each busy hour brings
+    /// MTTR/MTBF hours of repair, which gives the same factor 1/A.)
     pub utilization_available: Vec<f64>,
+    /// Share of clock time that is scheduled working time, per department (1 without a calendar).
+    pub scheduled_share: Vec<f64>,
+    /// Expected setup seconds per hour per machine, as a share of the hour:
+    /// each lot's predecessor on the machine is taken to be a random lot of
+    /// the department's mix (FIFO with independent arrivals), so a change
+    /// from product i to j comes with probability share_i·share_j. 0 without setups.
+    pub setup_share: Vec<f64>,
     /// Per fleet, per department: loads per hour the fleet picks up there
     /// (its share of the from-to chart, by [`move_shares`]).
     pub fleet_pickups_per_h: Vec<Vec<f64>>,
@@ -135,6 +143,8 @@ impl StaticPicture {
         let mut arrivals = vec![0.0; nd];
         let mut work_s_per_h = vec![0.0; nd];
         let mut rates = Vec::with_capacity(plant.products.len());
+        // Lots per hour of each product at each department, for the setup mix.
+        let mut mix = vec![vec![0.0; plant.products.len()]; nd];
         for (p, prod) in plant.products.iter().enumerate() {
             let v = visit_ratios(plant, p).unwrap_or_else(|| vec![0.0; prod.routing.len()]);
             let rate_h = plant.mean_rate_per_s(p) * 3600.0 * demand_factor;
@@ -148,6 +158,7 @@ impl StaticPicture {
                 let d = op.department;
                 if plant.departments[d].role == DepartmentRole::Work {
                     arrivals[d] += rate_h * v[k];
+                    mix[d][p] += rate_h * v[k];
                     work_s_per_h[d] += rate_h * v[k] * op.time.as_ref().map_or(0.0, |t| t.mean());
                 }
                 for &(j, pr) in &op.next {
@@ -156,6 +167,11 @@ impl StaticPicture {
                         ft[d * nd + to] += rate_h * v[k] * pr;
                     }
                 }
+            }
+            // Each move of a lot is one move per unit load.
+            let loads = f64::from(prod.lot.map_or(1, |l| l.loads()));
+            if loads != 1.0 {
+                ft.iter_mut().for_each(|x| *x *= loads);
             }
             for (a, b) in from_to.iter_mut().zip(&ft) {
                 *a += b;
@@ -178,8 +194,37 @@ impl StaticPicture {
             )
             .collect::<Vec<f64>>();
         let availability: Vec<f64> = plant.departments.iter().map(|d| d.availability()).collect();
-        let utilization_available =
-            utilization.iter().zip(&availability).map(|(&u, &a): (&f64, &f64)| u / a).collect();
+        let scheduled_share: Vec<f64> = plant.departments.iter().map(|d| d.scheduled_share()).collect();
+        let setup_share: Vec<f64> = plant
+            .departments
+            .iter()
+            .enumerate()
+            .map(|(d, dep)| match &dep.setups {
+                Some(st) if dep.machines > 0 && arrivals[d] > 0.0 => {
+                    let n = plant.products.len();
+                    let mut s = 0.0;
+                    for i in 0..n {
+                        for j in 0..n {
+                            if let Some(t) = st.for_change(i, j) {
+                                s += mix[d][i] / arrivals[d] * mix[d][j] * t.mean();
+                            }
+                        }
+                    }
+                    s / 3600.0 / f64::from(dep.machines)
+                }
+                _ => 0.0,
+            })
+            .collect();
+        let utilization_available = (0..nd)
+            .map(|d| {
+                let u = utilization[d] + setup_share[d];
+                if scheduled_share[d] == 1.0 && availability[d] == 1.0 {
+                    u
+                } else {
+                    u / (availability[d] * scheduled_share[d])
+                }
+            })
+            .collect();
         let layouts =
             (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
         let fleet_pickups_per_h = pickups(plant, &by_product);
@@ -193,6 +238,8 @@ impl StaticPicture {
             utilization,
             availability,
             utilization_available,
+            scheduled_share,
+            setup_share,
             fleet_pickups_per_h,
             layouts,
         }

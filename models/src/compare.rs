@@ -11,7 +11,10 @@ use layflow_engine::{paired_difference, Interval};
 use serde::Serialize;
 
 use crate::plant::Plant;
-use crate::report::{fleet_availability, fleet_cost_per_h, observed, Features, CONFIDENCE};
+use crate::report::{
+    department_scheduled_utilization, fleet_availability, fleet_cost_per_h, fleet_scheduled_utilization,
+    observed, Features, CONFIDENCE,
+};
 use crate::sim::RepStats;
 
 /// Which part of the plant a metric describes.
@@ -129,6 +132,10 @@ const OVERFLOW_METRIC: (&str, Kind, Better) = ("overflow_moves_per_h", Kind::Num
 const TURNED_AWAY_METRIC: (&str, Kind, Better) = ("turned_away_per_h", Kind::Number, Better::Lower);
 const BLOCKED_METRIC: (&str, Kind, Better) = ("blocked_share", Kind::Number, Better::Lower);
 const AVAILABILITY_METRIC: (&str, Kind, Better) = ("availability", Kind::Number, Better::Higher);
+/// With a calendar (departments) or operators' working hours (fleets).
+const SCHEDULED_METRIC: (&str, Kind, Better) = ("utilization_scheduled", Kind::Number, Better::Neither);
+/// With setups.
+const SETUP_METRIC: (&str, Kind, Better) = ("setup_share", Kind::Number, Better::Lower);
 
 /// Every metric of `plant`, in the order [`values`] returns them.
 pub fn metrics(plant: &Plant) -> Vec<Metric> {
@@ -157,6 +164,12 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
         if d.breakdowns.is_some() {
             add(Scope::Department, &d.id, &[AVAILABILITY_METRIC]);
         }
+        if d.calendar.is_some() {
+            add(Scope::Department, &d.id, &[SCHEDULED_METRIC]);
+        }
+        if d.setups.is_some() {
+            add(Scope::Department, &d.id, &[SETUP_METRIC]);
+        }
     }
     for f in plant.fleets() {
         add(Scope::Fleet, &f.id, FLEET_METRICS);
@@ -165,6 +178,9 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
         }
         if f.breakdowns.is_some() || f.charging.is_some() {
             add(Scope::Fleet, &f.id, &[AVAILABILITY_METRIC]);
+        }
+        if f.operators.duty.is_some() {
+            add(Scope::Fleet, &f.id, &[SCHEDULED_METRIC]);
         }
     }
     out
@@ -210,6 +226,12 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
         if plant.departments[d].breakdowns.is_some() {
             v.push(r.availability[d]);
         }
+        if plant.departments[d].calendar.is_some() {
+            v.push(department_scheduled_utilization(r, d));
+        }
+        if plant.departments[d].setups.is_some() {
+            v.push(r.setup[d]);
+        }
     }
     for (f, fl) in fleets.iter().enumerate() {
         let s = &r.fleets[f];
@@ -232,6 +254,9 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
         }
         if fl.breakdowns.is_some() || fl.charging.is_some() {
             v.push(fleet_availability(plant, r, f));
+        }
+        if fl.operators.duty.is_some() {
+            v.push(fleet_scheduled_utilization(plant, r, f));
         }
     }
     debug_assert_eq!(v.len(), metrics(plant).len());

@@ -4,6 +4,7 @@ pub mod analysis;
 pub mod compare;
 pub mod dist;
 pub mod experiment;
+pub mod network;
 pub mod plant;
 pub mod report;
 pub mod scenario;

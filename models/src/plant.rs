@@ -18,6 +18,8 @@ pub struct Plant {
     pub distance_rule: DistanceRule,
     /// Location-to-location distance in metres, row-major, `locations.len()` squared.
     pub distance: Vec<f64>,
+    /// The aisle network and every pair's shortest path, with `distance: aisles`; `None` otherwise.
+    pub aisles: Option<crate::network::AisleNetwork>,
     /// Departments, docks included.
     pub departments: Vec<Department>,
     /// Named candidate layouts; at least one.
@@ -63,6 +65,8 @@ pub enum DistanceRule {
         /// The CSV file it was read from, if any.
         file: Option<String>,
     },
+    /// Shortest paths over the aisle network ([`Plant::aisles`]).
+    Aisles,
 }
 
 impl DistanceRule {
@@ -73,6 +77,7 @@ impl DistanceRule {
             DistanceRule::Euclidean => "straight line".into(),
             DistanceRule::Matrix { file: Some(f) } => format!("the distance matrix in {f}"),
             DistanceRule::Matrix { file: None } => "the scenario's distance matrix".into(),
+            DistanceRule::Aisles => "shortest paths over the aisle network".into(),
         }
     }
 }
@@ -104,6 +109,86 @@ pub struct Department {
     /// Receiving docks only: turn a new lot away when the first department of
     /// its routing has no room for it, instead of holding it at the dock.
     pub turn_away: bool,
+    /// Working hours (shifts less breaks); `None`: works around the clock.
+    pub calendar: Option<WorkCalendar>,
+    /// Setup times when a machine changes product; `None`: no setups.
+    pub setups: Option<Setups>,
+}
+
+/// When a department works, and what becomes of an operation under way when a shift ends.
+#[derive(Debug, Clone, PartialEq)]
+pub struct WorkCalendar {
+    /// The working windows, in the same form as a fleet's operators' hours.
+    pub duty: DutyCalendar,
+    /// Finish the operation under way, or pause it until the next shift.
+    pub at_shift_end: ShiftEnd,
+}
+
+impl WorkCalendar {
+    /// Share of clock time that is scheduled working time (on-duty seconds per period ÷ period).
+    pub fn scheduled_share(&self) -> f64 {
+        self.duty.on.iter().map(|&(a, b)| b - a).sum::<f64>() / self.duty.period_s
+    }
+}
+
+/// What a machine does with an operation under way when its department's shift or break begins.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum ShiftEnd {
+    /// It works on until the operation is done, then stops.
+    Finish,
+    /// It stops at once and goes on with the time left at the start of the next working window.
+    Pause,
+}
+
+/// Setup times of a department's machines. A machine starts set up for the
+/// first lot it takes, so only a change from one product to another needs a setup.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Setups {
+    /// Setup on any change of product without a pair entry; `None`: only the pairs set up.
+    pub on_change: Option<Dist>,
+    /// (from product, to product, setup time) for particular changes.
+    pub pairs: Vec<(usize, usize, Dist)>,
+}
+
+impl Setups {
+    /// The setup distribution for a change from product `from` to `to` (`None`: no setup).
+    pub fn for_change(&self, from: usize, to: usize) -> Option<&Dist> {
+        if from == to {
+            return None;
+        }
+        self.pairs.iter().find(|p| p.0 == from && p.1 == to).map(|p| &p.2).or(self.on_change.as_ref())
+    }
+}
+
+/// How a product's lot is split into unit loads for moving.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub struct LotSplit {
+    /// Units in a lot (at least 1).
+    pub quantity: u32,
+    /// Units moved together as one unit load (1 to `quantity`); the last load
+    /// of a lot may hold fewer.
+    pub transfer_batch: u32,
+    /// When the lot's operation at the next department may start.
+    pub start: LoadStart,
+}
+
+impl LotSplit {
+    /// Unit loads per lot: ⌈quantity ÷ transfer batch⌉.
+    pub fn loads(&self) -> u32 {
+        self.quantity.div_ceil(self.transfer_batch)
+    }
+}
+
+/// When the operation of a lot that moves in several unit loads starts.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum LoadStart {
+    /// When its first load arrives: the machine works the loads in the order
+    /// they arrive, each for its share of the lot's time, and each load
+    /// leaves as soon as it is done (overlapping operations).
+    FirstLoad,
+    /// When its last load arrives: the whole lot is worked at once and its
+    /// loads leave together.
+    LastLoad,
 }
 
 /// Staging space at a work department. `None` is unlimited (the default).
@@ -206,8 +291,11 @@ pub struct Product {
     pub enters_at: usize,
     /// Operations; `routing[0]` is the first one visited.
     pub routing: Vec<Operation>,
-    /// Weight of one lot, kg; `None`: any fleet may lift it.
+    /// Weight of one lot, kg; `None`: any fleet may lift it. With `lot`
+    /// splitting it is the weight of one unit load.
     pub weight_kg: Option<f64>,
+    /// Lot quantity and unit loads; `None`: the lot moves as one load.
+    pub lot: Option<LotSplit>,
 }
 
 /// Where a product's lots come from.
@@ -457,6 +545,11 @@ impl Department {
     /// Share of time a machine is up (1 without breakdowns).
     pub fn availability(&self) -> f64 {
         self.breakdowns.as_ref().map_or(1.0, Breakdowns::availability)
+    }
+
+    /// Share of clock time that is scheduled working time (1 without a calendar).
+    pub fn scheduled_share(&self) -> f64 {
+        self.calendar.as_ref().map_or(1.0, WorkCalendar::scheduled_share)
     }
 }
 

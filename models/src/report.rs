@@ -125,6 +125,19 @@ pub struct DepartmentSummary {
     /// MTBF ÷ (MTBF + MTTR), with breakdowns.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub availability_predicted: Option<f64>,
+    /// Busy machine time ÷ scheduled machine time (the calendar's working
+    /// windows); present when the department has a calendar.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
+    /// Share of clock time the calendar schedules, with a calendar.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scheduled_share: Option<f64>,
+    /// Share of machine time spent setting up (counted in `utilization`); present with setups.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub setup_share: Option<Estimate>,
+    /// The static estimate of the setup share (random mix of products), with setups.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub setup_share_predicted: Option<f64>,
 }
 
 /// Per-fleet results.
@@ -164,6 +177,10 @@ pub struct FleetSummary {
     /// present when the fleet has breakdowns or charging.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub availability: Option<Estimate>,
+    /// Busy mover time ÷ on-duty mover time (the operators' shifts less
+    /// breaks); present when the operators have working hours.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
 }
 
 /// Everything `run` reports for one layout.
@@ -231,6 +248,27 @@ impl Features {
             overflow: plant.departments.iter().any(|d| d.staging.overflow.is_some()),
             turn_away: plant.departments.iter().any(|d| d.turn_away),
         }
+    }
+}
+
+/// Department `d`'s busy machine time ÷ its scheduled machine time in one replication.
+pub fn department_scheduled_utilization(r: &RepStats, d: usize) -> f64 {
+    let scheduled = r.window_s - r.off_shift_s[d];
+    if scheduled > 0.0 {
+        r.utilization[d] * r.window_s / scheduled
+    } else {
+        f64::NAN
+    }
+}
+
+/// Fleet `f`'s busy mover time ÷ its on-duty mover time in one replication.
+pub fn fleet_scheduled_utilization(plant: &Plant, r: &RepStats, f: usize) -> f64 {
+    let s = &r.fleets[f];
+    let on = f64::from(plant.fleets()[f].count) * r.window_s - s.off_s;
+    if on > 0.0 {
+        (s.loaded_s + s.empty_s + s.handling_s + s.blocked_s) / on
+    } else {
+        f64::NAN
     }
 }
 
@@ -358,6 +396,13 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                 blocked_share: features.staging.then(|| est(reps.iter().map(|r| r.blocked[d]))),
                 availability: dep.breakdowns.as_ref().map(|_| est(reps.iter().map(|r| r.availability[d]))),
                 availability_predicted: dep.breakdowns.as_ref().map(|b| b.availability()),
+                utilization_scheduled: dep
+                    .calendar
+                    .as_ref()
+                    .map(|_| est(reps.iter().map(|r| department_scheduled_utilization(r, d)))),
+                scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
+                setup_share: dep.setups.as_ref().map(|_| est(reps.iter().map(|r| r.setup[d]))),
+                setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
             })
             .collect(),
         fleets: fleets
@@ -390,6 +435,11 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                     blocked_share: features.staging.then(|| share(|s| s.blocked_s)),
                     availability: (fl.breakdowns.is_some() || fl.charging.is_some())
                         .then(|| est(reps.iter().map(|r| fleet_availability(plant, r, f)))),
+                    utilization_scheduled: fl
+                        .operators
+                        .duty
+                        .as_ref()
+                        .map(|_| est(reps.iter().map(|r| fleet_scheduled_utilization(plant, r, f)))),
                 }
             })
             .collect(),

@@ -9,7 +9,7 @@ use std::path::Path;
 use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
 use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
-use super::{demand, distance, fleet, routing, staging};
+use super::{demand, distance, fleet, routing, staging, work};
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
 
@@ -90,7 +90,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         ));
     }
     let locations = locations(&s, ctx)?;
-    let (distance_rule, distance) = distance::compile(&s, &locations, ctx)?;
+    let (distance_rule, distance, aisles) = distance::compile(&s, &locations, ctx)?;
     let departments = departments(&s, &locations, ctx)?;
     if departments.len() > locations.len() {
         return Err(ctx
@@ -124,6 +124,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let search = super::search::rules(&s, &departments, &locations, &layouts, ctx)?;
     let products = routing::products(&s, &departments, ctx)?;
     let orders = demand::order_trace(&s, &products, ctx)?;
+    split_without_staging(&s, &departments, &products, ctx)?;
     let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
     let cost_per_load_metre = s.costs.as_ref().map_or(0.0, |c| c.per_load_metre);
     if !(cost_per_load_metre >= 0.0 && cost_per_load_metre.is_finite()) {
@@ -145,6 +146,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         locations,
         distance_rule,
         distance,
+        aisles,
         departments,
         layouts,
         products,
@@ -159,6 +161,34 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             Some(FleetChoiceSpec::NearestIdle) => FleetChoice::NearestIdle,
         },
     })
+}
+
+/// Lots that move in several unit loads are not yet combined with finite
+/// staging: a staging area counts loads, a machine's queue counts lots, and
+/// the blocking rules assume one load per lot.
+fn split_without_staging(
+    s: &Scenario,
+    departments: &[Department],
+    products: &[crate::plant::Product],
+    ctx: &Ctx,
+) -> Result<(), ScenarioError> {
+    let Some(p) = products.iter().position(|p| p.lot.is_some_and(|l| l.loads() > 1)) else {
+        return Ok(());
+    };
+    let staged = departments.iter().position(|d| d.staging.is_limited() || d.turn_away);
+    match staged {
+        None => Ok(()),
+        Some(d) => Err(ctx
+            .err(
+                &FieldPath::root().key("products").index(p).key("lot").key("transfer_batch"),
+                format!(
+                    "product \"{}\" moves in several unit loads, and department \"{}\" has finite staging: \
+                     the two cannot be combined yet",
+                    s.products[p].id, departments[d].id
+                ),
+            )
+            .with_hint("leave out `transfer_batch` (the lot moves as one load) or the department's `staging`/`when_full`")),
+    }
 }
 
 fn run_settings(s: &Scenario, ctx: &Ctx) -> Result<RunSettings, ScenarioError> {
@@ -246,8 +276,12 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
         }
         let dp = p.index(i);
         if role != DepartmentRole::Work {
-            for (present, field) in [(d.staging.is_some(), "staging"), (d.breakdowns.is_some(), "breakdowns")]
-            {
+            for (present, field) in [
+                (d.staging.is_some(), "staging"),
+                (d.breakdowns.is_some(), "breakdowns"),
+                (d.calendar.is_some(), "calendar"),
+                (d.setups.is_some(), "setups"),
+            ] {
                 if present {
                     return Err(ctx
                         .err(&dp.key(field), format!("dock \"{}\" cannot have `{field}`", d.id))
@@ -273,7 +307,25 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             Some(b) => Some(staging::breakdowns(b, &dp.key("breakdowns"), true, ctx)?),
         };
         let turn_away = d.when_full == Some(WhenFullSpec::TurnAway);
-        out.push(Department { id: d.id.clone(), role, machines, staging, breakdowns, turn_away });
+        let calendar = match &d.calendar {
+            None => None,
+            Some(c) => work::calendar(c, &d.id, &dp, ctx)?,
+        };
+        let product_ids: Vec<&str> = s.products.iter().map(|p| p.id.as_str()).collect();
+        let setups = match &d.setups {
+            None => None,
+            Some(st) => Some(work::setups(st, &d.id, &dp, &product_ids, ctx)?),
+        };
+        out.push(Department {
+            id: d.id.clone(),
+            role,
+            machines,
+            staging,
+            breakdowns,
+            turn_away,
+            calendar,
+            setups,
+        });
     }
     for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {
         if !out.iter().any(|d| d.role == role) {

@@ -1,4 +1,4 @@
-//! Location-to-location distances: rectilinear, euclidean, or a matrix given inline or in a CSV file.
+//! Location-to-location distances: rectilinear, euclidean, a matrix given inline or in a CSV file, or shortest paths over an aisle network.
 //!
 //! An inline matrix lists its rows in the order of `locations`. A CSV file
 //! (its path relative to the scenario file) starts with a header row of
@@ -7,19 +7,62 @@
 //! in any order but must cover exactly the scenario's locations. Distances
 //! may be asymmetric (one-way aisles) but must be finite, non-negative and
 //! zero on the diagonal.
+//!
+//! With `distance: aisles` (or an `aisles:` section and no `distance`), each
+//! location names its pick-up/drop-off `node`, and distances are shortest
+//! paths over the network's segments ([`crate::network`]).
 
-use super::compile::Ctx;
+use super::compile::{check_unique, resolve, Ctx};
 use super::error::{did_you_mean, ScenarioError};
 use super::locate::FieldPath;
-use super::schema::{DistanceSpec, MatrixSource, Scenario};
+use super::schema::{AislesSpec, DistanceSpec, MatrixSource, Scenario};
+use crate::network::{AisleNetwork, AisleNode, NetworkError, Segment};
 use crate::plant::{DistanceRule, Location};
 
-/// The rule and the row-major n×n matrix.
+/// The rule, the row-major n×n matrix, and the aisle network where there is one.
 pub(crate) fn compile(
     s: &Scenario,
     locations: &[Location],
     ctx: &Ctx,
-) -> Result<(DistanceRule, Vec<f64>), ScenarioError> {
+) -> Result<(DistanceRule, Vec<f64>, Option<AisleNetwork>), ScenarioError> {
+    let p = FieldPath::root().key("distance");
+    let spec = s.distance.as_ref().map(|d| &d.0);
+    match (spec, &s.aisles) {
+        (None | Some(DistanceSpec::Aisles), Some(a)) => {
+            let (net, m) = aisles(s, a, locations, ctx)?;
+            return Ok((DistanceRule::Aisles, m, Some(net)));
+        }
+        (Some(DistanceSpec::Aisles), None) => {
+            return Err(ctx
+                .err(&p, "`distance: aisles` needs an aisle network, and the scenario has no `aisles:` section")
+                .with_hint("add `aisles: { nodes: [...], segments: [...] }`; see the README's section on aisle networks"));
+        }
+        (Some(_), Some(_)) => {
+            return Err(ctx
+                .err(&p, "the scenario describes an aisle network, but `distance` names another rule")
+                .with_hint(
+                    "write `distance: aisles` to travel over the network, or remove the `aisles:` section",
+                ));
+        }
+        (_, None) => {}
+    }
+    if let Some(i) = s.locations.iter().position(|l| l.node.is_some()) {
+        return Err(ctx
+            .err(
+                &FieldPath::root().key("locations").index(i).key("node"),
+                format!(
+                    "location \"{}\" names an aisle node, but the scenario has no aisle network",
+                    s.locations[i].id
+                ),
+            )
+            .with_hint("`node` is for `distance: aisles`; add an `aisles:` section or remove `node`"));
+    }
+    let (rule, m) = plain(s, locations, ctx)?;
+    Ok((rule, m, None))
+}
+
+/// The rules without a network: from coordinates, or a given matrix.
+fn plain(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<(DistanceRule, Vec<f64>), ScenarioError> {
     let p = FieldPath::root().key("distance");
     let n = locations.len();
     let from_coordinates = |f: fn(f64, f64) -> f64| {
@@ -35,6 +78,8 @@ pub(crate) fn compile(
         None | Some(DistanceSpec::Rectilinear) => {
             Ok((DistanceRule::Rectilinear, from_coordinates(|dx, dy| dx.abs() + dy.abs())))
         }
+        // Handled by `compile` (the network, or an error when it is missing).
+        Some(DistanceSpec::Aisles) => Err(ctx.err(&p, "`distance: aisles` needs an `aisles:` section")),
         Some(DistanceSpec::Euclidean) => Ok((DistanceRule::Euclidean, from_coordinates(f64::hypot))),
         Some(DistanceSpec::Matrix(MatrixSource::Inline(rows))) => {
             let mp = p.key("matrix");
@@ -166,4 +211,144 @@ fn read_csv(text: &str, locations: &[Location]) -> Result<Vec<f64>, String> {
         ));
     }
     Ok(m)
+}
+
+/// Checks the aisle section and the locations' nodes, then finds every
+/// location pair's shortest path.
+fn aisles(
+    s: &Scenario,
+    a: &AislesSpec,
+    locations: &[Location],
+    ctx: &Ctx,
+) -> Result<(AisleNetwork, Vec<f64>), ScenarioError> {
+    let p = FieldPath::root().key("aisles");
+    let np = p.key("nodes");
+    if a.nodes.is_empty() {
+        return Err(ctx.err(&np, "the aisle network has no nodes").with_hint(
+            "list the junctions and pick-up/drop-off points: `nodes: [{ id: n1, at: [15, 22.5] }, ...]`",
+        ));
+    }
+    check_unique(
+        ctx,
+        "aisle node",
+        a.nodes.iter().enumerate().map(|(i, n)| (n.id.as_str(), np.index(i).key("id"))),
+    )?;
+    let mut nodes = Vec::with_capacity(a.nodes.len());
+    for (i, n) in a.nodes.iter().enumerate() {
+        let [x, y] = n.at;
+        if !(x.is_finite() && y.is_finite()) {
+            return Err(ctx.err(
+                &np.index(i).key("at"),
+                format!("coordinates of aisle node \"{}\" must be finite numbers (metres)", n.id),
+            ));
+        }
+        nodes.push(AisleNode { id: n.id.clone(), x, y });
+    }
+    let ids: Vec<&str> = nodes.iter().map(|n| n.id.as_str()).collect();
+    let sp = p.key("segments");
+    if a.segments.is_empty() {
+        return Err(ctx
+            .err(&sp, "the aisle network has no segments")
+            .with_hint("join the nodes: `segments: [{ from: n1, to: n2 }, ...]`"));
+    }
+    let mut segments: Vec<Segment> = Vec::with_capacity(a.segments.len());
+    for (i, g) in a.segments.iter().enumerate() {
+        let gp = sp.index(i);
+        let from = resolve(ctx, &gp.key("from"), "aisle node", &g.from, &ids)?;
+        let to = resolve(ctx, &gp.key("to"), "aisle node", &g.to, &ids)?;
+        if from == to {
+            return Err(ctx.err(&gp.key("to"), format!("segment {i} starts and ends at node \"{}\"", g.from)));
+        }
+        if let Some(j) =
+            segments.iter().position(|o| (o.from, o.to) == (from, to) || (o.from, o.to) == (to, from))
+        {
+            return Err(ctx
+                .err(&gp, format!("segments {j} and {i} both join \"{}\" and \"{}\"", g.from, g.to))
+                .with_hint(
+                    "give each pair of nodes one segment; for two parallel aisles, add a node on one of them",
+                ));
+        }
+        let length_m = match g.length {
+            Some(l) => {
+                if !(l > 0.0 && l.is_finite()) {
+                    return Err(ctx
+                        .err(
+                            &gp.key("length"),
+                            format!("segment length must be a number of metres > 0, got {l}"),
+                        )
+                        .with_hint("leave `length` out to use the straight line between the nodes"));
+                }
+                l
+            }
+            None => {
+                let (u, v) = (&nodes[from], &nodes[to]);
+                let l = (u.x - v.x).hypot(u.y - v.y);
+                if !(l > 0.0) {
+                    return Err(ctx
+                        .err(
+                            &gp,
+                            format!(
+                                "nodes \"{}\" and \"{}\" are at the same point, so the segment has no length",
+                                g.from, g.to
+                            ),
+                        )
+                        .with_hint("give the segment a `length` in metres, or move one of the nodes"));
+                }
+                l
+            }
+        };
+        if g.capacity == Some(0) {
+            return Err(ctx
+                .err(&gp.key("capacity"), "segment capacity must be at least 1 mover")
+                .with_hint("leave `capacity` out for an aisle with room for any number of movers"));
+        }
+        let speed_limit_mps = match g.speed_limit {
+            None => None,
+            Some(v) if v.0 > 0.0 && v.0.is_finite() => Some(v.0),
+            Some(v) => {
+                return Err(ctx.err(
+                    &gp.key("speed_limit"),
+                    format!("a speed limit must be more than 0, got {} km/h", v.0 * 3.6),
+                ))
+            }
+        };
+        segments.push(Segment {
+            from,
+            to,
+            length_m,
+            one_way: g.one_way.unwrap_or(false),
+            speed_limit_mps,
+            capacity: g.capacity,
+        });
+    }
+    let lp = FieldPath::root().key("locations");
+    let mut location_node = Vec::with_capacity(locations.len());
+    for (i, l) in s.locations.iter().enumerate() {
+        let Some(name) = &l.node else {
+            return Err(ctx
+                .err(&lp.index(i), format!("location \"{}\" has no aisle node", l.id))
+                .with_hint("with `distance: aisles` every location names the node where movers pick up and drop off: `node: ...`"));
+        };
+        location_node.push(resolve(ctx, &lp.index(i).key("node"), "aisle node", name, &ids)?);
+    }
+    AisleNetwork::build(nodes, segments, location_node).map_err(|e| match e {
+        NetworkError::Unreachable { from, to } => {
+            let (a, b) = (&s.locations[from], &s.locations[to]);
+            let (na, nb) = (a.node.as_deref().unwrap_or(""), b.node.as_deref().unwrap_or(""));
+            ctx.err(
+                &lp.index(from).key("node"),
+                format!(
+                    "location \"{}\" (node \"{na}\") cannot reach location \"{}\" (node \"{nb}\") over the aisles",
+                    a.id, b.id
+                ),
+            )
+            .with_hint("every location must reach every other: join the nodes with segments, or check which way the one-way segments run")
+        }
+        NetworkError::BadSegment { segment, reason } => {
+            ctx.err(&sp.index(segment), format!("segment {segment}: {reason}"))
+        }
+        NetworkError::BadLocationNode { location } => {
+            ctx.err(&lp.index(location).key("node"), "this node does not exist")
+        }
+    })
 }

@@ -17,6 +17,7 @@ mod routing;
 mod schema;
 mod search;
 mod staging;
+mod work;
 
 use std::path::Path;
 

@@ -3,7 +3,7 @@
 use super::compile::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
-use super::schema::OperatorsSpec;
+use super::schema::{OperatorsSpec, ShiftsSpec};
 use crate::plant::{DutyCalendar, Operators};
 use crate::units::{format_duration, Seconds};
 
@@ -26,49 +26,94 @@ pub(crate) fn operators(
             )
             .with_hint("e.g. `efficiency: 0.85`: travel and handling then take 1/0.85 times as long"));
     }
-    let duty =
-        match (&spec.shifts, &spec.breaks) {
-            (None, None) => None,
-            (None, Some(_)) => return Err(ctx
+    let duty = match (&spec.shifts, &spec.breaks) {
+        (None, None) => None,
+        (None, Some(_)) => {
+            return Err(ctx
                 .err(&op.key("breaks"), format!("the breaks of fleet \"{fleet}\" need `shifts`"))
                 .with_hint(
                     "breaks repeat with the shift period: add `shifts: { every: 1 d, on: [[0 h, 24 h]] }`",
-                )),
-            (Some(sh), breaks) => {
-                let sp = op.key("shifts");
-                let period = sh.every.0;
-                if !(period > 0.0) {
-                    return Err(ctx.err(
-                        &sp.key("every"),
-                        format!("the shift period must be longer than 0, got {}", format_duration(period)),
-                    ));
-                }
-                if sh.on.is_empty() {
-                    return Err(ctx
-                        .err(&sp.key("on"), format!("fleet \"{fleet}\" has no shift windows"))
-                        .with_hint(
-                            "give windows such as `on: [[6 h, 14 h], [14 h, 22 h]]`, or leave `shifts` out",
-                        ));
-                }
-                let shifts = windows(&sh.on, period, &sp.key("on"), "shift", ctx)?;
-                let off = match breaks {
-                    Some(b) => windows(b, period, &op.key("breaks"), "break", ctx)?,
-                    None => Vec::new(),
-                };
-                let on = subtract(&union(shifts), &union(off));
-                if on.is_empty() {
-                    return Err(ctx
-                        .err(op, format!("the operators of fleet \"{fleet}\" are never on duty"))
-                        .with_hint("the breaks cover every shift window; shorten the breaks"));
-                }
-                if on == [(0.0, period)] {
-                    None
-                } else {
-                    Some(DutyCalendar { period_s: period, on })
-                }
-            }
-        };
+                ))
+        }
+        (Some(sh), breaks) => {
+            let (owner, who) = (format!("fleet \"{fleet}\""), format!("the operators of fleet \"{fleet}\""));
+            duty_calendar(sh, breaks.as_deref(), op, &owner, &who, ctx)?
+        }
+    };
     Ok(Operators { efficiency, duty })
+}
+
+/// Compiles `shifts` and `breaks` under `base` (where both fields sit) into
+/// working windows; `None` when they cover the whole period. `who` names the
+/// owner in messages (`fleet "x"`) and `who` those who work (`the operators of fleet "x"`).
+/// Shifts may touch but not overlap, and no break may be as long as a shift it cuts.
+pub(crate) fn duty_calendar(
+    sh: &ShiftsSpec,
+    breaks: Option<&[[Seconds; 2]]>,
+    base: &FieldPath,
+    owner: &str,
+    who: &str,
+    ctx: &Ctx,
+) -> Result<Option<DutyCalendar>, ScenarioError> {
+    let sp = base.key("shifts");
+    let period = sh.every.0;
+    if !(period > 0.0) {
+        return Err(ctx.err(
+            &sp.key("every"),
+            format!("the shift period must be longer than 0, got {}", format_duration(period)),
+        ));
+    }
+    if sh.on.is_empty() {
+        return Err(ctx
+            .err(&sp.key("on"), format!("{owner} has no shift windows"))
+            .with_hint("give windows such as `on: [[6 h, 14 h], [14 h, 22 h]]`, or leave `shifts` out"));
+    }
+    let shifts = windows(&sh.on, period, &sp.key("on"), "shift", ctx)?;
+    for (i, &(a, b)) in shifts.iter().enumerate() {
+        if let Some(j) = (0..i).find(|&j| shifts[j].0 < b && a < shifts[j].1) {
+            return Err(ctx
+                .err(
+                    &sp.key("on").index(i),
+                    format!(
+                        "shift [{}, {}] overlaps shift [{}, {}] of {owner}",
+                        format_duration(a),
+                        format_duration(b),
+                        format_duration(shifts[j].0),
+                        format_duration(shifts[j].1)
+                    ),
+                )
+                .with_hint("shifts may meet end to start ([6 h, 14 h] then [14 h, 22 h]) but not overlap"));
+        }
+    }
+    let off = match breaks {
+        Some(b) => windows(b, period, &base.key("breaks"), "break", ctx)?,
+        None => Vec::new(),
+    };
+    let on = subtract(&union(shifts.clone()), &union(off.clone()));
+    if on.is_empty() {
+        return Err(ctx
+            .err(base, format!("{who} are never on duty"))
+            .with_hint("the breaks cover every shift window; shorten the breaks"));
+    }
+    for (i, &(c, d)) in off.iter().enumerate() {
+        if let Some(&(a, b)) = shifts.iter().find(|&&(a, b)| c < b && a < d && d - c >= b - a) {
+            return Err(ctx
+                .err(
+                    &base.key("breaks").index(i),
+                    format!(
+                        "break [{}, {}] lasts {}, as long as or longer than the shift [{}, {}] ({}) it overlaps",
+                        format_duration(c),
+                        format_duration(d),
+                        format_duration(d - c),
+                        format_duration(a),
+                        format_duration(b),
+                        format_duration(b - a)
+                    ),
+                )
+                .with_hint("a break is a pause within a shift; to leave a shift out, remove it from `shifts.on`"));
+        }
+    }
+    Ok(if on == [(0.0, period)] { None } else { Some(DutyCalendar { period_s: period, on }) })
 }
 
 /// Checks each `[start, end]` window: `0 <= start < end <= period`.

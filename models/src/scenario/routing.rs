@@ -75,7 +75,11 @@ pub(crate) fn products(
                 ))
             }
         };
-        out.push(Product { id: spec.id.clone(), demand, enters_at, routing, weight_kg });
+        let lot = match &spec.lot {
+            None => None,
+            Some(l) => Some(super::work::lot(l, &spec.id, &pp, ctx)?),
+        };
+        out.push(Product { id: spec.id.clone(), demand, enters_at, routing, weight_kg, lot });
     }
     Ok(out)
 }

@@ -22,6 +22,7 @@ pub(crate) struct Scenario {
     pub demand_factor: Option<f64>,
     pub locations: Vec<LocationSpec>,
     pub distance: Option<DistanceField>,
+    pub aisles: Option<AislesSpec>,
     pub departments: Vec<DepartmentSpec>,
     pub layouts: Ordered<Ordered<String>>,
     pub layout_files: Option<Vec<String>>,
@@ -62,15 +63,47 @@ pub(crate) struct RunSpec {
 pub(crate) struct LocationSpec {
     pub id: String,
     pub at: [f64; 2],
+    /// The aisle node where movers pick up and drop off (with `distance: aisles`).
+    pub node: Option<String>,
 }
 
-/// `rectilinear`, `euclidean` or `{ matrix: ... }`.
+/// `aisles: { nodes: [...], segments: [...] }`: the aisle network for `distance: aisles`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct AislesSpec {
+    pub nodes: Vec<AisleNodeSpec>,
+    pub segments: Vec<SegmentSpec>,
+}
+
+/// `{ id: n1, at: [15, 22.5] }`: a junction, bend or pick-up/drop-off point (m).
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct AisleNodeSpec {
+    pub id: String,
+    pub at: [f64; 2],
+}
+
+/// `{ from: n1, to: n2, length: 30, one_way: true, speed_limit: 5 km/h, capacity: 1 }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct SegmentSpec {
+    pub from: String,
+    pub to: String,
+    /// Metres; the straight line between the nodes when absent.
+    pub length: Option<f64>,
+    pub one_way: Option<bool>,
+    pub speed_limit: Option<MetresPerSecond>,
+    pub capacity: Option<u32>,
+}
+
+/// `rectilinear`, `euclidean`, `{ matrix: ... }` or `aisles`.
 #[derive(Debug, DeriveDeserialize)]
 #[serde(deny_unknown_fields, rename_all = "lowercase")]
 pub(crate) enum DistanceSpec {
     Rectilinear,
     Euclidean,
     Matrix(MatrixSource),
+    Aisles,
 }
 
 /// The distance rule, read by hand because the YAML deserializer takes a
@@ -84,7 +117,7 @@ impl<'de> Deserialize<'de> for DistanceField {
         impl<'de> Visitor<'de> for V {
             type Value = DistanceField;
             fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
-                f.write_str("rectilinear, euclidean or { matrix: ... }")
+                f.write_str("rectilinear, euclidean, aisles or { matrix: ... }")
             }
             fn visit_str<E: de::Error>(self, v: &str) -> Result<DistanceField, E> {
                 DistanceSpec::deserialize(de::value::StrDeserializer::<E>::new(v)).map(DistanceField)
@@ -136,6 +169,43 @@ pub(crate) struct DepartmentSpec {
     pub staging: Option<StagingSpec>,
     pub breakdowns: Option<BreakdownSpec>,
     pub when_full: Option<WhenFullSpec>,
+    pub calendar: Option<CalendarSpec>,
+    pub setups: Option<SetupsSpec>,
+}
+
+/// `calendar: { shifts: { every: 1 d, on: [...] }, breaks: [...], at_shift_end: finish }`:
+/// a department's working hours, written as a fleet's operators' are.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct CalendarSpec {
+    pub shifts: ShiftsSpec,
+    pub breaks: Option<Vec<[Seconds; 2]>>,
+    pub at_shift_end: Option<ShiftEndSpec>,
+}
+
+/// `at_shift_end: finish | pause`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum ShiftEndSpec {
+    Finish,
+    Pause,
+}
+
+/// `setups: { on_change: DIST, pairs: [{ from: A, to: B, time: DIST }] }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct SetupsSpec {
+    pub on_change: Option<TimeSpec>,
+    pub pairs: Option<Vec<SetupPairSpec>>,
+}
+
+/// One entry of `setups.pairs`: the setup for a change from product `from` to product `to`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct SetupPairSpec {
+    pub from: String,
+    pub to: String,
+    pub time: TimeSpec,
 }
 
 /// `staging: { inbound: 4, outbound: 2, overflow: LOCATION }`: finite space at a department.
@@ -232,6 +302,24 @@ pub(crate) struct ProductSpec {
     pub enters_at: Option<String>,
     pub routing: Vec<StepSpec>,
     pub load: Option<LoadSpec>,
+    pub lot: Option<LotSpec>,
+}
+
+/// `lot: { quantity: 40, transfer_batch: 10, starts_on: first-load }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct LotSpec {
+    pub quantity: u32,
+    pub transfer_batch: Option<u32>,
+    pub starts_on: Option<LoadStartSpec>,
+}
+
+/// `starts_on: first-load | last-load`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum LoadStartSpec {
+    FirstLoad,
+    LastLoad,
 }
 
 /// `load: { weight: 800 kg }`: what one lot weighs, for fleets' `max_load`.

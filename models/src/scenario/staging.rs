@@ -93,7 +93,7 @@ pub(crate) fn breakdowns(
 
 /// A failure or repair time: any duration distribution, but not a normal that
 /// goes below zero more than [`MAX_NEGATIVE_SHARE`] of the time.
-fn duration(
+pub(crate) fn duration(
     spec: &DistSpec,
     tp: &FieldPath,
     what: &str,

@@ -13,7 +13,8 @@ pub use model::{simulate, simulate_releases, simulate_wip_series, Deadlock};
 pub use stats::{FleetStats, RepStats, TICK_S};
 
 use crate::plant::{
-    Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, Plant,
+    Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, LoadStart,
+    Plant, Setups, ShiftEnd,
 };
 use crate::travel::travel_time;
 
@@ -78,6 +79,23 @@ pub struct Plan {
     pub(crate) breakdowns: Vec<Option<Breakdowns>>,
     /// A set holding only fleet `f`, for the return trip from an overflow area.
     pub(crate) single_fleet: Vec<FleetSet>,
+    /// Per department: each machine is tracked on its own (breakdowns, a calendar or setups).
+    /// Departments without keep the plain busy count, as before these existed.
+    pub(crate) tracked: Vec<bool>,
+    /// Working hours per department.
+    pub(crate) calendars: Vec<Option<PlanCalendar>>,
+    /// Setup times per department.
+    pub(crate) setups: Vec<Option<Setups>>,
+    /// Some product's lots move in several unit loads.
+    pub(crate) split: bool,
+}
+
+/// A department's working hours as the event handlers read them.
+#[derive(Debug, Clone)]
+pub(crate) struct PlanCalendar {
+    pub(crate) duty: PlanDuty,
+    /// Pause operations under way at the end of a working window (else finish them).
+    pub(crate) pause: bool,
 }
 
 /// The fleets allowed to serve one move: `Plan::fleet_sets[start..start + len]`.
@@ -115,6 +133,8 @@ pub(crate) struct PlanProduct {
     /// Fleets allowed to serve the move from the receiving dock to the first step.
     pub(crate) entry: FleetSet,
     pub(crate) ops: Vec<PlanOp>,
+    /// Lots in several unit loads: (quantity, transfer batch, start on the first load).
+    pub(crate) split: Option<(u32, u32, bool)>,
 }
 
 #[derive(Debug, Clone)]
@@ -232,6 +252,10 @@ impl Plan {
                 enters_at: prod.enters_at,
                 entry,
                 ops,
+                split: prod
+                    .lot
+                    .filter(|l| l.loads() > 1)
+                    .map(|l| (l.quantity, l.transfer_batch, l.start == LoadStart::FirstLoad)),
             });
         }
         // The busiest pick-up department of each fleet, for a reserve with no `at`.
@@ -311,7 +335,33 @@ impl Plan {
                 FleetSet { start, len: 1 }
             })
             .collect();
+        let split = plant.products.iter().any(|p| p.lot.is_some_and(|l| l.loads() > 1));
+        let plan_duty = |d: &crate::plant::DutyCalendar| PlanDuty {
+            period_s: d.period_s,
+            changes: d.changes(),
+            on_at_start: d.on_at(0.0),
+        };
         Plan {
+            tracked: plant
+                .departments
+                .iter()
+                .map(|d| {
+                    d.role == DepartmentRole::Work
+                        && (d.breakdowns.is_some() || d.calendar.is_some() || d.setups.is_some())
+                })
+                .collect(),
+            calendars: plant
+                .departments
+                .iter()
+                .map(|d| {
+                    d.calendar.as_ref().map(|c| PlanCalendar {
+                        duty: plan_duty(&c.duty),
+                        pause: c.at_shift_end == ShiftEnd::Pause,
+                    })
+                })
+                .collect(),
+            setups: plant.departments.iter().map(|d| d.setups.clone()).collect(),
+            split,
             n_departments: nd,
             staging: plant.departments.iter().any(|d| d.staging.is_limited()),
             inbound_cap: plant.departments.iter().map(|d| cap(d.staging.inbound)).collect(),

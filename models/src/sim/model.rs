@@ -12,6 +12,8 @@ use super::{FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
 mod breakdowns;
+mod calendars;
+mod lots;
 mod movers;
 mod staging;
 
@@ -22,11 +24,13 @@ pub use staging::Deadlock;
 /// and the extra lot of a trace order scaled by the demand factor: all of
 /// them belong to the product's demand, which no layout may change.
 const ARRIVALS: u64 = 1;
-const LOT: u64 = 2;
+pub(super) const LOT: u64 = 2;
 /// `MACHINE, department, machine`: that machine's failures and repairs.
 const MACHINE: u64 = 3;
 /// `MOVER, fleet, mover`: that mover's failures and repairs.
 const MOVER: u64 = 4;
+/// `SETUP, department, machine`: that machine's setup times.
+const SETUP: u64 = 5;
 
 const NONE: u32 = u32::MAX;
 
@@ -55,8 +59,10 @@ enum Event {
     /// A machine of a department with breakdowns finishes its operation,
     /// unless a failure has since interrupted it (the token no longer matches).
     MachineEnd { machine: u32, token: u32 },
-    /// A machine fails.
-    MachineFail { machine: u32 },
+    /// A machine fails. A busy-time failure carries the machine's token and
+    /// is void once the operation it fell in has been paused; a clock-time
+    /// failure carries NONE and always counts.
+    MachineFail { machine: u32, token: u32 },
     /// A machine is repaired.
     MachineRepaired { machine: u32 },
     /// A mover that found its destination full has set the load down at the overflow area.
@@ -65,6 +71,8 @@ enum Event {
     MoverFail { mover: u32 },
     /// A mover comes back from repair or charging.
     MoverBack { mover: u32 },
+    /// A department's working window begins or ends.
+    DeptShift { dept: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -150,6 +158,14 @@ struct Machine {
     /// Busy-time failures: processing time left before the next failure.
     to_fail: f64,
     rng: Stream,
+    /// An end (or busy-time failure) event is pending for the current phase.
+    running: bool,
+    /// The current phase is a setup, with this much of it left as of `run_start`.
+    in_setup: bool,
+    setup_left: f64,
+    /// Product it is set up for (NONE: none yet, so the first lot needs no setup).
+    product: u32,
+    setup_rng: Stream,
 }
 
 struct Department {
@@ -175,6 +191,15 @@ struct Department {
     up_level: TimeWeighted,
     /// First of its machines in `PlantModel::machines` (departments with breakdowns).
     first_machine: u32,
+    /// Inside a working window (always, without a calendar).
+    on_shift: bool,
+    /// The next change of the calendar: period number and index into its changes.
+    duty_period: u64,
+    duty_index: usize,
+    /// Machines setting up.
+    setup_level: TimeWeighted,
+    /// Seconds off shift in the observation window (recorded when each off spell begins).
+    off_s: f64,
 }
 
 struct FleetState {
@@ -238,6 +263,8 @@ struct PlantModel<'a> {
     turned_away: Vec<u64>,
     /// Set when the plant deadlocked: nothing more is handled.
     deadlock: Option<Deadlock>,
+    /// Per slab entry, how it is split into loads (empty unless `Plan::split`).
+    aux: Vec<lots::LotAux>,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -303,6 +330,7 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
     for f in 0..plan.fleets.len() {
         m.start_duty(f, &mut cal);
     }
+    m.start_calendars(&mut cal);
     m.start_breakdowns(&mut cal);
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
@@ -321,7 +349,7 @@ impl<'a> PlantModel<'a> {
             .map(|d| {
                 let first_machine = machines.len() as u32;
                 let mut up_level = TimeWeighted::new(0.0);
-                if d < nd && plan.breakdowns[d].is_some() {
+                if d < nd && plan.tracked[d] {
                     let c = plan.machines[d];
                     up_level.add(0.0, f64::from(c));
                     for k in 0..c {
@@ -336,6 +364,11 @@ impl<'a> PlantModel<'a> {
                             run_start: 0.0,
                             to_fail: 0.0,
                             rng: stream(spec.seed, replication, &[MACHINE, d as u64, u64::from(k)]),
+                            running: false,
+                            in_setup: false,
+                            setup_left: 0.0,
+                            product: NONE,
+                            setup_rng: stream(spec.seed, replication, &[SETUP, d as u64, u64::from(k)]),
                         });
                     }
                 }
@@ -352,6 +385,11 @@ impl<'a> PlantModel<'a> {
                     blocked_level: TimeWeighted::new(0.0),
                     up_level,
                     first_machine,
+                    on_shift: true,
+                    duty_period: 0,
+                    duty_index: 0,
+                    setup_level: TimeWeighted::new(0.0),
+                    off_s: 0.0,
                 }
             })
             .collect();
@@ -433,6 +471,7 @@ impl<'a> PlantModel<'a> {
             overflow_moves: 0,
             turned_away: vec![0; n_products],
             deadlock: None,
+            aux: Vec::new(),
         }
     }
 
@@ -451,6 +490,7 @@ impl<'a> PlantModel<'a> {
             d.queue_level.reset(t);
             d.blocked_level.reset(t);
             d.up_level.reset(t);
+            d.setup_level.reset(t);
         }
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
@@ -555,6 +595,10 @@ impl<'a> PlantModel<'a> {
         if self.log_releases {
             self.releases.push((now, product));
         }
+        if prod.split.is_some() {
+            self.release_split(p, cal);
+            return;
+        }
         let n = self.lots_made[p];
         self.lots_made[p] += 1;
         let lot = Lot {
@@ -566,6 +610,14 @@ impl<'a> PlantModel<'a> {
             ticket: 0,
             rng: stream(self.seed, self.replication, &[LOT, p as u64, n]),
         };
+        let id = self.alloc_lot(lot);
+        self.wip.add(now, 1.0);
+        self.departments[prod.enters_at].wip.add(now, 1.0);
+        self.route(id, 0, prod.entry, cal);
+    }
+
+    /// Puts a lot (or a load) in the slab, reusing a freed slot.
+    fn alloc_lot(&mut self, lot: Lot) -> u32 {
         let id = match self.free_lots.pop() {
             Some(id) => {
                 self.lots[id as usize] = lot;
@@ -576,9 +628,21 @@ impl<'a> PlantModel<'a> {
                 (self.lots.len() - 1) as u32
             }
         };
-        self.wip.add(now, 1.0);
-        self.departments[prod.enters_at].wip.add(now, 1.0);
-        self.route(id, 0, prod.entry, cal);
+        if self.plan.split {
+            self.aux.resize(self.lots.len(), lots::LotAux::WHOLE);
+            self.aux[id as usize] = lots::LotAux::WHOLE;
+        }
+        id
+    }
+
+    /// Share of a lot that slab entry `id` stands for: 1, or a load's units ÷ the lot quantity.
+    #[inline]
+    fn weight(&self, id: u32) -> f64 {
+        if self.plan.split {
+            self.aux[id as usize].weight
+        } else {
+            1.0
+        }
     }
 
     /// A lot reaches the department of its current operation.
@@ -594,6 +658,10 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         lot.department = dept as u32;
         if self.plan.dept_role[dept] == DepartmentRole::Shipping {
+            if self.plan.split && self.aux[id as usize].parent != NONE {
+                self.load_shipped(id, now);
+                return;
+            }
             let flow = now - lot.born;
             self.wip.add(now, -1.0);
             if now >= self.window.0 {
@@ -605,15 +673,20 @@ impl<'a> PlantModel<'a> {
             self.free_lots.push(id);
             return;
         }
-        self.departments[dept].wip.add(now, 1.0);
+        let w = self.weight(id);
+        self.departments[dept].wip.add(now, w);
         self.start_or_queue(id, cal);
     }
 
     /// Start the lot's operation on a free machine, or queue it.
     fn start_or_queue(&mut self, id: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if self.plan.split && self.aux[id as usize].gathers {
+            self.gather(id, cal);
+            return;
+        }
         let dept = self.lots[id as usize].department as usize;
-        if self.plan.breakdowns[dept].is_some() {
+        if self.plan.tracked[dept] {
             self.start_or_queue_on_machines(id, dept, cal);
             return;
         }
@@ -632,6 +705,8 @@ impl<'a> PlantModel<'a> {
         let lot = &mut self.lots[id as usize];
         let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
         let t = op.time.as_ref().map_or(0.0, |d| d.sample(&mut lot.rng));
+        // A load is worked for its share of the lot's time (× 1 exactly for a whole lot).
+        let t = if self.plan.split { t * self.aux[id as usize].weight } else { t };
         cal.schedule(cal.now() + t, Event::EndOperation { lot: id });
     }
 
@@ -681,7 +756,7 @@ impl<'a> PlantModel<'a> {
         let blocked = (0..nd).map(|d| per_machine(d, self.departments[d].blocked_level.mean(t))).collect();
         let availability = (0..nd)
             .map(|d| {
-                if self.plan.breakdowns[d].is_some() {
+                if self.plan.tracked[d] {
                     per_machine(d, self.departments[d].up_level.mean(t))
                 } else {
                     1.0
@@ -699,7 +774,10 @@ impl<'a> PlantModel<'a> {
                 }
             })
             .collect();
+        let setup = (0..nd).map(|d| per_machine(d, self.departments[d].setup_level.mean(t))).collect();
         RepStats {
+            setup,
+            off_shift_s: self.departments[..nd].iter().map(|d| d.off_s).collect(),
             blocked,
             availability,
             overflow_moves: self.overflow_moves,
@@ -757,11 +835,12 @@ impl Model for PlantModel<'_> {
                 }
             }
             Event::MachineEnd { machine, token } => self.machine_end(machine, token, cal),
-            Event::MachineFail { machine } => self.machine_fail(machine, cal),
+            Event::MachineFail { machine, token } => self.machine_fail(machine, token, cal),
             Event::MachineRepaired { machine } => self.machine_repaired(machine, cal),
             Event::OverflowDrop { mover } => self.overflow_drop(mover, cal),
             Event::MoverFail { mover } => self.mover_fail(mover, cal),
             Event::MoverBack { mover } => self.mover_back(mover, cal),
+            Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
         }
     }
 }

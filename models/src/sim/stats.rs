@@ -72,6 +72,11 @@ pub struct RepStats {
     /// Time-average share of machines holding a finished lot they cannot pass
     /// on (blocking after service), per department.
     pub blocked: Vec<f64>,
+    /// Seconds of the window each department is off shift by its calendar
+    /// (0 without one): the window less this is its scheduled time.
+    pub off_shift_s: Vec<f64>,
+    /// Time-average share of machines setting up, per department (0 without setups).
+    pub setup: Vec<f64>,
     /// Time-average share of machines up, per department (1 without breakdowns).
     pub availability: Vec<f64>,
     /// Loads taken to an overflow area because the inbound area was full.

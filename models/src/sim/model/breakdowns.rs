@@ -16,11 +16,15 @@ impl PlantModel<'_> {
     pub(super) fn start_breakdowns(&mut self, cal: &mut Calendar<Event>) {
         for k in 0..self.machines.len() {
             let d = self.machines[k].dept as usize;
-            let b = self.plan.breakdowns[d].as_ref().expect("machines are tracked for breakdowns");
+            let Some(b) = self.plan.breakdowns[d].as_ref() else {
+                continue; // tracked for a calendar, setups or loads, not breakdowns
+            };
             let m = &mut self.machines[k];
             let t = b.between.sample(&mut m.rng);
             match b.clock {
-                FailureClock::ClockTime => cal.schedule(t, Event::MachineFail { machine: k as u32 }),
+                FailureClock::ClockTime => {
+                    cal.schedule(t, Event::MachineFail { machine: k as u32, token: NONE })
+                }
                 FailureClock::BusyTime => m.to_fail = t,
             }
         }
@@ -39,13 +43,17 @@ impl PlantModel<'_> {
         }
     }
 
-    /// A lot for a department with breakdowns: the lowest-numbered free,
-    /// working machine takes it, or it queues.
+    /// A lot for a department whose machines are tracked: the lowest-numbered
+    /// free, working machine takes it (in working hours), or it queues.
     pub(super) fn start_or_queue_on_machines(&mut self, id: u32, dept: usize, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let first = self.departments[dept].first_machine as usize;
         let n = self.plan.machines[dept] as usize;
-        let free = (first..first + n).find(|&k| self.machines[k].lot == NONE && self.machines[k].up);
+        let free = if self.departments[dept].on_shift {
+            (first..first + n).find(|&k| self.machines[k].lot == NONE && self.machines[k].up)
+        } else {
+            None
+        };
         let d = &mut self.departments[dept];
         match free {
             Some(k) => {
@@ -61,40 +69,102 @@ impl PlantModel<'_> {
     }
 
     /// Starts lot `id`'s operation on `machine`: the same draw from the
-    /// lot's stream as the plain path, so the lot's times do not change.
+    /// lot's stream as the plain path, so the lot's times do not change. A
+    /// change of product first sets the machine up (from its own stream).
     pub(super) fn start_on(&mut self, machine: u32, id: u32, cal: &mut Calendar<Event>) {
         let lot = &mut self.lots[id as usize];
-        let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
+        let product = lot.product;
+        let op = &self.plan.products[product as usize].ops[lot.op as usize];
         let t = op.time.as_ref().map_or(0.0, |d| d.sample(&mut lot.rng));
+        let dept = self.machines[machine as usize].dept as usize;
         let m = &mut self.machines[machine as usize];
         m.lot = id;
         m.work_total = t;
         m.work_left = t;
+        if let Some(st) = self.plan.setups[dept].as_ref() {
+            if m.product != NONE {
+                if let Some(dist) = st.for_change(m.product as usize, product as usize) {
+                    m.in_setup = true;
+                    m.setup_left = dist.sample(&mut m.setup_rng);
+                }
+            }
+            m.product = product;
+        }
+        if self.plan.split {
+            let w = self.aux[id as usize].weight;
+            let m = &mut self.machines[machine as usize];
+            m.work_total *= w;
+            m.work_left *= w;
+        }
         self.run_machine(machine, cal);
     }
 
     /// The machine processes its lot's remaining work; with busy-time
     /// failures, the failure comes first if it falls within that work.
-    fn run_machine(&mut self, machine: u32, cal: &mut Calendar<Event>) {
+    /// The machine works on its current phase (setup, or the operation's
+    /// remaining work); with busy-time failures, the failure comes first if
+    /// it falls within that phase.
+    pub(super) fn run_machine(&mut self, machine: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let m = &mut self.machines[machine as usize];
-        let b = self.plan.breakdowns[m.dept as usize].as_ref().expect("tracked machines have breakdowns");
+        let dept = m.dept as usize;
+        let busy_time =
+            self.plan.breakdowns[dept].as_ref().is_some_and(|b| b.clock == FailureClock::BusyTime);
         m.run_start = now;
-        if b.clock == FailureClock::BusyTime && m.to_fail <= m.work_left {
-            cal.schedule(now + m.to_fail, Event::MachineFail { machine });
+        m.running = true;
+        m.token = m.token.wrapping_add(1);
+        let left = if m.in_setup { m.setup_left } else { m.work_left };
+        if m.in_setup {
+            self.departments[dept].setup_level.add(now, 1.0);
+        }
+        if busy_time && m.to_fail <= left {
+            cal.schedule(now + m.to_fail, Event::MachineFail { machine, token: m.token });
         } else {
-            m.token = m.token.wrapping_add(1);
-            cal.schedule(now + m.work_left, Event::MachineEnd { machine, token: m.token });
+            cal.schedule(now + left, Event::MachineEnd { machine, token: m.token });
         }
     }
 
+    /// Stops the machine's current phase now (a failure or a pause), keeping
+    /// the time it has left; returns the time worked in the phase.
+    pub(super) fn stop_phase(&mut self, machine: u32, now: f64) -> f64 {
+        let m = &mut self.machines[machine as usize];
+        let dept = m.dept as usize;
+        let done = now - m.run_start;
+        m.running = false;
+        m.token = m.token.wrapping_add(1); // its end event no longer counts
+        if m.in_setup {
+            m.setup_left = (m.setup_left - done).max(0.0);
+            self.departments[dept].setup_level.add(now, -1.0);
+        } else {
+            m.work_left = (m.work_left - done).max(0.0);
+        }
+        if self.plan.breakdowns[dept].as_ref().is_some_and(|b| b.clock == FailureClock::BusyTime) {
+            m.to_fail -= done;
+        }
+        done
+    }
+
     pub(super) fn machine_end(&mut self, machine: u32, token: u32, cal: &mut Calendar<Event>) {
+        let now = cal.now();
         let m = &mut self.machines[machine as usize];
         if m.token != token {
-            return; // a failure interrupted this operation
+            return; // a failure or a pause interrupted this phase
         }
-        let b = self.plan.breakdowns[m.dept as usize].as_ref().expect("tracked machines have breakdowns");
-        if b.clock == FailureClock::BusyTime {
+        m.running = false;
+        let dept = m.dept as usize;
+        let busy_time =
+            self.plan.breakdowns[dept].as_ref().is_some_and(|b| b.clock == FailureClock::BusyTime);
+        if m.in_setup {
+            if busy_time {
+                m.to_fail -= m.setup_left;
+            }
+            m.in_setup = false;
+            m.setup_left = 0.0;
+            self.departments[dept].setup_level.add(now, -1.0);
+            self.run_machine(machine, cal);
+            return;
+        }
+        if busy_time {
             m.to_fail -= m.work_left;
         }
         m.work_left = 0.0;
@@ -102,20 +172,24 @@ impl PlantModel<'_> {
         self.end_operation(lot, machine, cal);
     }
 
-    pub(super) fn machine_fail(&mut self, machine: u32, cal: &mut Calendar<Event>) {
+    pub(super) fn machine_fail(&mut self, machine: u32, token: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if token != NONE && self.machines[machine as usize].token != token {
+            return; // a busy-time failure in a phase since paused
+        }
         let m = &mut self.machines[machine as usize];
         let dept = m.dept as usize;
-        let b = self.plan.breakdowns[dept].as_ref().expect("tracked machines have breakdowns");
-        let processing = m.lot != NONE && !m.blocked;
+        let b = self.plan.breakdowns[dept].as_ref().expect("only machines with breakdowns fail");
+        let processing = m.running;
         if processing {
-            let done = now - m.run_start;
-            m.work_left = match b.interrupted {
-                Interrupted::Resume => (m.work_left - done).max(0.0),
-                Interrupted::Restart => m.work_total,
-            };
-            m.token = m.token.wrapping_add(1); // its end event no longer counts
+            let restart = b.interrupted == Interrupted::Restart && !m.in_setup;
+            self.stop_phase(machine, now);
+            let m = &mut self.machines[machine as usize];
+            if restart {
+                m.work_left = m.work_total;
+            }
         }
+        let m = &mut self.machines[machine as usize];
         m.up = false;
         m.to_fail = 0.0;
         let repair = b.repair.sample(&mut m.rng);
@@ -135,17 +209,22 @@ impl PlantModel<'_> {
         m.up = true;
         let t = b.between.sample(&mut m.rng);
         match b.clock {
-            FailureClock::ClockTime => cal.schedule(now + t, Event::MachineFail { machine }),
+            FailureClock::ClockTime => cal.schedule(now + t, Event::MachineFail { machine, token: NONE }),
             FailureClock::BusyTime => m.to_fail = t,
         }
         let (lot, blocked) = (m.lot, m.blocked);
         let d = &mut self.departments[dept];
         d.up_level.add(now, 1.0);
+        // Off shift, a paused operation waits for the next working window.
+        let may_work = d.on_shift || !self.plan.calendars[dept].as_ref().is_some_and(|c| c.pause);
         if lot != NONE {
-            if !blocked {
+            if !blocked && may_work {
                 d.busy_level.add(now, 1.0);
                 self.run_machine(machine, cal);
             }
+            return;
+        }
+        if !d.on_shift {
             return;
         }
         if let Some(w) = d.queue.pop_front() {

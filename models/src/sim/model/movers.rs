@@ -19,6 +19,11 @@ impl PlantModel<'_> {
     pub(super) fn route(&mut self, id: u32, op: u32, set: FleetSet, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let plan = self.plan;
+        if plan.split && self.aux[id as usize].loads > 1 {
+            self.route_loads(id, op, set, cal);
+            return;
+        }
+        let w = self.weight(id);
         let lot = &mut self.lots[id as usize];
         lot.op = op;
         let prod = &plan.products[lot.product as usize];
@@ -33,7 +38,7 @@ impl PlantModel<'_> {
                 self.wait_for_room(id, from, to, cal);
                 return;
             }
-            self.departments[from].wip.add(now, -1.0);
+            self.departments[from].wip.add(now, -w);
             self.arrive(id, cal);
             return;
         }
@@ -234,8 +239,9 @@ impl PlantModel<'_> {
             fs.acc.distance_loaded_m += d;
         }
         self.record_pickup(f, m.lot, now);
-        self.departments[from].wip.add(now, -1.0);
-        self.transit.add(now, 1.0);
+        let w = self.weight(m.lot);
+        self.departments[from].wip.add(now, -w);
+        self.transit.add(now, w);
         cal.schedule(t_end, Event::Deliver { mover });
         if self.plan.staging {
             self.departments[from].out_count -= 1;
@@ -252,8 +258,9 @@ impl PlantModel<'_> {
         let t_end = now + self.plan.fleets[f].load_s;
         self.fleets[f].acc.handling_s += self.in_window(now, t_end);
         self.record_pickup(f, m.lot, now);
-        self.departments[from].wip.add(now, -1.0);
-        self.transit.add(now, 1.0);
+        let w = self.weight(m.lot);
+        self.departments[from].wip.add(now, -w);
+        self.transit.add(now, w);
         self.onboard[(m.slots + m.loads) as usize] = m.lot;
         let mm = &mut self.movers[mover as usize];
         mm.loads += 1;
@@ -345,7 +352,8 @@ impl PlantModel<'_> {
         let m = &mut self.movers[mover as usize];
         m.lot = NONE;
         let more = m.loads > 0;
-        self.transit.add(now, -1.0);
+        let w = self.weight(lot);
+        self.transit.add(now, -w);
         self.arrive(lot, cal);
         if more {
             self.next_drop(mover, cal);

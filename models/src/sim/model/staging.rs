@@ -43,9 +43,12 @@ impl PlantModel<'_> {
 
     /// A machine of department `d` is free (and up) for a new lot.
     pub(super) fn has_free_machine(&self, d: usize) -> bool {
-        if self.plan.breakdowns[d].is_some() {
+        if self.plan.tracked[d] {
             let first = self.departments[d].first_machine as usize;
-            self.machines[first..first + self.plan.machines[d] as usize].iter().any(|m| m.lot == NONE && m.up)
+            self.departments[d].on_shift
+                && self.machines[first..first + self.plan.machines[d] as usize]
+                    .iter()
+                    .any(|m| m.lot == NONE && m.up)
         } else {
             self.departments[d].busy < self.plan.machines[d]
         }
@@ -122,15 +125,16 @@ impl PlantModel<'_> {
         if was_blocked {
             d.blocked_level.add(now, -1.0);
         }
-        let up = if machine == NONE {
-            true
+        // `up`: it was counted busy until now; `can_take`: it may start the next lot.
+        let (up, can_take) = if machine == NONE {
+            (true, true)
         } else {
             let m = &mut self.machines[machine as usize];
             m.lot = NONE;
             m.blocked = false;
-            m.up
+            (m.up, m.up && d.on_shift)
         };
-        let next = if up { d.queue.pop_front() } else { None };
+        let next = if can_take { d.queue.pop_front() } else { None };
         match next {
             Some(w) => {
                 d.queue_level.add(now, -1.0);

@@ -1,0 +1,180 @@
+//! End-to-end tests of `layflow draw` (the picture read back as SVG), and of `layflow run` over an aisle network.
+
+mod common;
+
+use std::collections::HashMap;
+use std::path::{Path, PathBuf};
+
+use common::{layflow, root, text};
+use svg::parser::Event;
+
+/// One element of interest read back from the picture.
+#[derive(Debug, Default)]
+struct Picture {
+    department_labels: Vec<String>,
+    locations: usize,
+    aisles: usize,
+    /// (loads per hour, stroke width) of each flow, in drawing order.
+    flows: Vec<(f64, f64)>,
+    legend: bool,
+}
+
+fn read_picture(path: &Path) -> Picture {
+    let mut content = String::new();
+    let mut pic = Picture::default();
+    let mut in_label = false;
+    // A flow is a <g class="flow" data-loads-per-h> whose first <path> carries the width.
+    let mut pending_flow: Option<f64> = None;
+    for event in svg::open(path, &mut content).expect("the picture parses as SVG") {
+        match event {
+            Event::Tag(name, _, attrs) => {
+                let class = attrs.get("class").map(|v| v.to_string()).unwrap_or_default();
+                in_label = name == "text" && class == "department-label";
+                match (name, class.as_str()) {
+                    ("rect", "location") => pic.locations += 1,
+                    ("g", "aisle") => pic.aisles += 1,
+                    ("g", "flow") => {
+                        pending_flow = Some(attrs["data-loads-per-h"].parse().expect("a number"));
+                    }
+                    ("path", _) => {
+                        if let (Some(f), Some(w)) = (pending_flow.take(), attrs.get("stroke-width")) {
+                            pic.flows.push((f, w.parse().expect("a width")));
+                        }
+                    }
+                    ("g", _) if attrs.get("id").is_some_and(|v| *v == "legend") => pic.legend = true,
+                    _ => {}
+                }
+            }
+            Event::Text(t) if in_label => {
+                pic.department_labels.push(t.trim().to_string());
+                in_label = false;
+            }
+            Event::Error(e) => panic!("SVG error: {e}"),
+            _ => {}
+        }
+    }
+    pic
+}
+
+fn draw(scenario: &str, layout: &str, dir: &Path, extra: &[&str]) -> PathBuf {
+    let out = dir.join(format!("{layout}.svg"));
+    let mut args = vec!["draw", scenario, "--layout", layout, "-o", out.to_str().expect("utf-8")];
+    args.extend_from_slice(extra);
+    let o = layflow(&args);
+    assert!(o.status.success(), "draw failed:\n{}", text(&o.stderr));
+    out
+}
+
+#[test]
+fn the_aisle_demo_draws_with_every_part_and_flows_ordered_by_width() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let svg_path = draw("scenarios/aisles-demo.yaml", "current", dir.path(), &[]);
+    let pic = read_picture(&svg_path);
+    // The demo has 11 departments (2 docks) on 14 locations and 25 aisle segments.
+    let mut labels = pic.department_labels.clone();
+    labels.sort();
+    let mut want: Vec<&str> = vec![
+        "receiving",
+        "saw",
+        "turning",
+        "milling",
+        "drilling",
+        "heat-treat",
+        "grinding",
+        "deburr",
+        "wash",
+        "inspection",
+        "shipping",
+    ];
+    want.sort();
+    assert_eq!(labels, want, "one label per department");
+    assert_eq!(pic.locations, 14);
+    assert_eq!(pic.aisles, 25);
+    assert!(pic.legend, "the picture has a legend");
+    assert!(pic.flows.len() >= 10, "flows: {:?}", pic.flows);
+    // Widths follow flows: a larger flow is never drawn thinner.
+    let mut by_flow = pic.flows.clone();
+    by_flow.sort_by(|a, b| a.0.total_cmp(&b.0));
+    for w in by_flow.windows(2) {
+        assert!(w[0].1 <= w[1].1, "flow {} drawn {} px, flow {} drawn {} px", w[0].0, w[0].1, w[1].0, w[1].1);
+    }
+    let (small, large) = (by_flow[0], by_flow[by_flow.len() - 1]);
+    assert!(large.1 > 3.0 * small.1, "widths should read at a glance: {small:?} against {large:?}");
+    // Proportional above the floor width: the ratio of widths is the ratio of flows.
+    for &(f, w) in &by_flow {
+        if w > 1.0 {
+            let want = 16.0 * f / large.0;
+            assert!((w - want).abs() < 1e-2, "flow {f}: width {w}, expected {want}");
+        }
+    }
+    render_png_if_possible(&svg_path);
+}
+
+/// A PNG render proves the file is well-formed enough for a real renderer;
+/// resvg is optional, so without it the check is skipped with a notice.
+fn render_png_if_possible(svg_path: &Path) {
+    let resvg =
+        std::env::var_os("HOME").map(|h| PathBuf::from(h).join(".cargo/bin/resvg")).filter(|p| p.exists());
+    let Some(resvg) = resvg else {
+        eprintln!(
+            "notice: resvg not found in ~/.cargo/bin; skipping the PNG render of {}",
+            svg_path.display()
+        );
+        return;
+    };
+    let png = svg_path.with_extension("png");
+    let o = std::process::Command::new(resvg)
+        .args(["--sans-serif-family", "DejaVu Sans"])
+        .arg(svg_path)
+        .arg(&png)
+        .output()
+        .expect("resvg runs");
+    assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
+    let bytes = std::fs::read(&png).expect("the PNG was written");
+    assert!(bytes.starts_with(b"\x89PNG") && bytes.len() > 10_000, "PNG of {} bytes", bytes.len());
+}
+
+#[test]
+fn a_plant_without_aisles_draws_too_and_results_are_noted() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let results = dir.path().to_str().expect("utf-8").to_string();
+    let out = dir.path().join("plain.svg");
+    let o = layflow(&["draw", "scenarios/demo.yaml", "--results", &results, "-o", out.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    assert!(text(&o.stderr).contains("segment-by-segment simulation"), "{}", text(&o.stderr));
+    let pic = read_picture(&out);
+    assert_eq!(pic.aisles, 0);
+    assert_eq!(pic.department_labels.len(), 11);
+}
+
+#[test]
+fn draw_refuses_bad_arguments_with_code_2() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = dir.path().join("x.svg");
+    let out = out.to_str().unwrap();
+    for args in [
+        vec!["draw", "scenarios/aisles-demo.yaml", "--layout", "nowhere", "-o", out],
+        vec!["draw", "scenarios/aisles-demo.yaml", "--results", "no/such/dir", "-o", out],
+        vec!["draw", "scenarios/bad/aisles-unreachable-location.yaml", "-o", out],
+    ] {
+        let o = layflow(&args);
+        assert_eq!(o.status.code(), Some(2), "{args:?}: {}", text(&o.stderr));
+    }
+}
+
+/// `layflow run`'s loaded distance against its static load-distance on the
+/// one-way validation network: equal, since nothing there is random (see the
+/// scenario's comment for the hand computation: 30 lots × 210 m / 24 h).
+#[test]
+fn run_reports_loaded_distance_equal_to_the_static_load_distance_over_aisles() {
+    let p = root().join("scenarios/validation/aisles-one-way.yaml");
+    let o = layflow(&["run", p.to_str().unwrap(), "--format", "json", "--quiet", "--no-wall-clock"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
+    let l: &HashMap<String, serde_json::Value> =
+        &serde_json::from_value(v["layouts"][0].clone()).expect("a layout object");
+    let loaded = l["distance_loaded_m_per_h"]["mean"].as_f64().expect("loaded distance");
+    let stat = l["load_distance_static_m_per_h"].as_f64().expect("static load-distance");
+    assert!((stat - 262.5).abs() < 1e-9, "static {stat}");
+    assert!((loaded - stat).abs() < 1e-9 * stat, "simulated {loaded} against static {stat}");
+}
