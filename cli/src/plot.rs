@@ -17,6 +17,20 @@ fn plot_error(e: impl std::fmt::Display) -> Failure {
     Failure::run(format!("cannot draw the picture: {e}"))
 }
 
+/// The legend every chart here shares: upper right, on a faint white box.
+fn legend<'a, DB, CT>(c: &mut ChartContext<'a, DB, CT>) -> Result<(), Failure>
+where
+    DB: DrawingBackend + 'a,
+    CT: CoordTranslate,
+{
+    c.configure_series_labels()
+        .background_style(WHITE.mix(0.9))
+        .border_style(RGBColor(200, 200, 200))
+        .position(SeriesLabelPosition::UpperRight)
+        .draw()
+        .map_err(plot_error)
+}
+
 /// Two panels over fleet size: wait (mean and p95, minutes) and utilisation
 /// (simulated with its interval, and analytic), with each target as a dashed line.
 pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Result<String, Failure> {
@@ -80,12 +94,7 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
                 .label(format!("target: {}", t.describe()))
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
         }
-        c.configure_series_labels()
-            .background_style(WHITE.mix(0.9))
-            .border_style(RGBColor(200, 200, 200))
-            .position(SeriesLabelPosition::UpperRight)
-            .draw()
-            .map_err(plot_error)?;
+        legend(&mut c)?;
 
         let util_targets: Vec<(&Target, f64)> = targets
             .iter()
@@ -135,12 +144,7 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
                 .label(format!("target: {}", t.describe()))
                 .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
         }
-        c.configure_series_labels()
-            .background_style(WHITE.mix(0.9))
-            .border_style(RGBColor(200, 200, 200))
-            .position(SeriesLabelPosition::UpperRight)
-            .draw()
-            .map_err(plot_error)?;
+        legend(&mut c)?;
         root.present().map_err(plot_error)?;
     }
     Ok(svg)
@@ -236,12 +240,7 @@ pub fn search_svg(
             .label(format!("{name}: {}", crate::table::num(v)))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
         }
-        c.configure_series_labels()
-            .background_style(WHITE.mix(0.9))
-            .border_style(RGBColor(200, 200, 200))
-            .position(SeriesLabelPosition::UpperRight)
-            .draw()
-            .map_err(plot_error)?;
+        legend(&mut c)?;
         root.present().map_err(plot_error)?;
     }
     Ok(svg)
