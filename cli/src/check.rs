@@ -106,7 +106,12 @@ fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     );
     let _ = writeln!(s, "demand factor {}", num(pic.demand_factor));
     let network = plant.aisles.as_ref().map_or_else(String::new, |n| {
-        format!(" ({}, {})", count(n.nodes.len(), "node"), count(n.segments.len(), "segment"))
+        let travel = if n.needs_simulation() {
+            "; movers travel it segment by segment (capacities, speed limits or zones)"
+        } else {
+            "; no capacity, speed limit or zone, so each trip is one leg"
+        };
+        format!(" ({}, {}{travel})", count(n.nodes.len(), "node"), count(n.segments.len(), "segment"))
     });
     let _ = writeln!(s, "distances: {}{network}", plant.distance_rule.describe());
     let _ = writeln!(s);

@@ -501,6 +501,8 @@ const SHOWN: &[(&str, &str)] = &[
     ("distance_loaded_m_per_h", "distance loaded (m/h)"),
     ("distance_empty_m_per_h", "distance empty (m/h)"),
     ("handling_cost_per_h", "fleet cost (/h)"),
+    // Only where the aisle network is travelled segment by segment.
+    ("congestion_delay_s_per_h", "aisle congestion (mover-s/h)"),
 ];
 
 fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s: f64) -> String {
@@ -609,7 +611,7 @@ fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s: f6
             .iter()
             .filter(|(name, _)| fleets || !matches!(*name, "wip_in_transit_mean" | "move_wait_s"))
             .filter(|(name, _)| fleets || !name.contains("distance") && !name.contains("cost"))
-            .map(|(name, label)| (label.to_string(), find_metric(metric_list, name).expect("plant metric")))
+            .filter_map(|(name, label)| Some((label.to_string(), find_metric(metric_list, name)?)))
             .collect();
         for p in &plant.products {
             let label = format!("{}/flow_time_s", p.id);

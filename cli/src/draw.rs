@@ -6,7 +6,8 @@
 //! pair of departments never lie on top of each other, and lines between bays
 //! in a row do not run over the bays between them. With an aisle network the
 //! aisles are drawn too, coloured by static traffic: the from-to chart routed
-//! over the shortest paths. Every element carries a class and data attributes
+//! over the shortest paths, or, with `--results`, by the simulated congestion
+//! (or traffic) per segment read from a results folder. Every element carries a class and data attributes
 //! (`class="flow" data-loads-per-h=...`), so tests and scripts can read the
 //! picture back.
 
@@ -30,9 +31,9 @@ pub struct DrawArgs {
     /// The layout to draw (default: the first).
     #[arg(long, value_name = "NAME")]
     pub layout: Option<String>,
-    /// A results folder (`compare --out`). Per-segment results need the
-    /// segment-by-segment simulation, which is not built yet; the aisles are
-    /// coloured by static traffic either way.
+    /// A results folder (`compare --out`, or an experiment's folder): the
+    /// aisles are coloured by the simulated congestion delay per segment (or
+    /// by simulated traffic where nobody waited) from its summary.csv.
     #[arg(long, value_name = "DIR")]
     pub results: Option<PathBuf>,
     /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
@@ -72,19 +73,26 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
         })?,
     };
     let factor = crate::check::demand_factor(&plant, args.demand)?;
-    if let Some(dir) = &args.results {
-        if !dir.is_dir() {
-            return Err(Failure::input(format!("--results {}: not a directory", dir.display())));
+    let sim = match &args.results {
+        Some(dir) => {
+            if !dir.is_dir() {
+                return Err(Failure::input(format!("--results {}: not a directory", dir.display())));
+            }
+            let sim = simulated(dir, &plant, layout)?;
+            if sim.is_none() {
+                eprintln!(
+                    "note: --results {}: no per-segment results there. They come from the segment-by-segment \
+                     simulation, which runs when the scenario's aisles have a capacity, a speed limit or a zone; \
+                     the aisles are coloured by static traffic (the from-to chart over the shortest paths) instead.",
+                    dir.display()
+                );
+            }
+            sim
         }
-        eprintln!(
-            "note: --results {}: per-segment traffic and congestion need the segment-by-segment simulation, \
-             which is not built yet; the aisles are coloured by static traffic (the from-to chart over the \
-             shortest paths) instead.",
-            dir.display()
-        );
-    }
+        None => None,
+    };
     let pic = StaticPicture::new(&plant, factor);
-    let doc = picture(&plant, layout, &pic, &args.scenario);
+    let doc = picture(&plant, layout, &pic, &args.scenario, sim.as_ref());
     let dir = match args.out.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),
@@ -197,7 +205,13 @@ fn typical_spacing(plant: &Plant) -> f64 {
 }
 
 /// The whole picture.
-fn picture(plant: &Plant, layout: usize, pic: &StaticPicture, scenario: &Path) -> Document {
+fn picture(
+    plant: &Plant,
+    layout: usize,
+    pic: &StaticPicture,
+    scenario: &Path,
+    sim: Option<&Simulated>,
+) -> Document {
     let lay = &plant.layouts[layout];
     let net = plant.aisles.as_ref();
     // Bounds over the locations and the aisle nodes.
@@ -268,7 +282,7 @@ fn picture(plant: &Plant, layout: usize, pic: &StaticPicture, scenario: &Path) -
     doc = doc.add(locations(plant, layout, &frame, half * scale, net));
     let mut traffic_max = 0.0;
     if let Some(n) = net {
-        let (g, m) = aisles(n, &frame, &loc_flow);
+        let (g, m) = aisles(n, &frame, &loc_flow, sim);
         traffic_max = m;
         doc = doc.add(g);
     }
@@ -276,28 +290,135 @@ fn picture(plant: &Plant, layout: usize, pic: &StaticPicture, scenario: &Path) -
     doc = doc.add(flows(plant, layout, pic, &frame, flow_max));
     doc = doc.add(names(plant, layout, &frame, half * scale));
     let legend_x = MARGIN + (x1 - x0) * scale + MARGIN;
-    doc.add(legend(legend_x, TOP, flow_max, net.map(|_| traffic_max), scale, net))
+    doc.add(legend(legend_x, TOP, flow_max, net.map(|_| traffic_max), scale, net, sim))
+}
+
+/// Per-segment figures of a simulation, read from a results folder.
+struct Simulated {
+    /// Movers entering each segment per hour.
+    traffic: Vec<f64>,
+    /// Mover-seconds of congestion delay per hour at each segment.
+    delay: Vec<f64>,
+    /// Colour by delay (someone waited somewhere), else by traffic.
+    by_delay: bool,
+}
+
+impl Simulated {
+    /// The value each segment is coloured by.
+    fn value(&self, s: usize) -> f64 {
+        if self.by_delay {
+            self.delay[s]
+        } else {
+            self.traffic[s]
+        }
+    }
+}
+
+/// Reads `summary.csv` of a `compare --out` or experiment folder: the rows of
+/// scope `segment` for the drawn layout (where the file has a `layout`
+/// column), at the first demand factor or design point listed. `None` when
+/// the folder holds no per-segment results.
+fn simulated(dir: &Path, plant: &Plant, layout: usize) -> Result<Option<Simulated>, Failure> {
+    let Some(net) = plant.aisles.as_ref() else {
+        return Ok(None);
+    };
+    let path = dir.join("summary.csv");
+    if !path.is_file() {
+        return Ok(None);
+    }
+    let bad = |e: String| Failure::input(format!("--results {}: {e}", path.display()));
+    let mut r = csv::Reader::from_path(&path).map_err(|e| bad(e.to_string()))?;
+    let head = r.headers().map_err(|e| bad(e.to_string()))?.clone();
+    let col = |name: &str| head.iter().position(|h| h == name);
+    let (Some(scope), Some(subject), Some(metric), Some(mean)) =
+        (col("scope"), col("subject"), col("metric"), col("mean"))
+    else {
+        return Err(
+            bad("not a results summary: it needs the columns scope, subject, metric and mean".into()),
+        );
+    };
+    let layout_col = col("layout");
+    // The first column tells demand factors (compare) or design points (experiment) apart.
+    let group_col = col("demand_factor").or(col("point"));
+    let mut group: Option<String> = None;
+    let n = net.segments.len();
+    let (mut traffic, mut delay) = (vec![f64::NAN; n], vec![f64::NAN; n]);
+    for (i, row) in r.records().enumerate() {
+        let row = row.map_err(|e| bad(format!("row {}: {e}", i + 2)))?;
+        if row.get(scope) != Some("segment") {
+            continue;
+        }
+        if layout_col.is_some_and(|c| row.get(c) != Some(plant.layouts[layout].name.as_str())) {
+            continue;
+        }
+        if let Some(c) = group_col {
+            let g = row.get(c).unwrap_or("").to_string();
+            match &group {
+                None => group = Some(g),
+                Some(first) if *first != g => continue,
+                Some(_) => {}
+            }
+        }
+        let Some(k) =
+            row.get(subject).and_then(|s| s.strip_prefix("segment-")).and_then(|s| s.parse::<usize>().ok())
+        else {
+            continue;
+        };
+        if k >= n {
+            return Err(bad(format!(
+                "row {}: {} does not exist in this scenario's network of {n} segments; was the folder made from another scenario?",
+                i + 2,
+                row.get(subject).unwrap_or("")
+            )));
+        }
+        let v: f64 = row.get(mean).and_then(|m| m.parse().ok()).unwrap_or(f64::NAN);
+        match row.get(metric) {
+            Some("traversals_per_h") => traffic[k] = v,
+            Some("congestion_delay_s_per_h") => delay[k] = v,
+            _ => {}
+        }
+    }
+    if traffic.iter().all(|x| x.is_nan()) {
+        return Ok(None);
+    }
+    let clean = |v: Vec<f64>| v.into_iter().map(|x| if x.is_finite() { x } else { 0.0 }).collect::<Vec<_>>();
+    let (traffic, delay) = (clean(traffic), clean(delay));
+    let by_delay = delay.iter().any(|&d| d > 0.0);
+    Ok(Some(Simulated { traffic, delay, by_delay }))
 }
 
 /// Aisle segments coloured by static traffic, one-way arrows, capacity and speed-limit marks.
 /// Returns the group and the busiest segment's loads per hour.
-fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64]) -> (Group, f64) {
+fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Simulated>) -> (Group, f64) {
     let traffic = net.segment_loads_per_h(loc_flow);
-    let max = traffic.iter().copied().fold(0.0, f64::max);
+    let colour_by: Vec<f64> = match sim {
+        Some(s) => (0..net.segments.len()).map(|i| s.value(i)).collect(),
+        None => traffic.clone(),
+    };
+    let max = colour_by.iter().copied().fold(0.0, f64::max);
     let mut g = Group::new().set("id", "aisles");
     for (i, s) in net.segments.iter().enumerate() {
         let (a, b) = (&net.nodes[s.from], &net.nodes[s.to]);
         let (ax, ay) = frame.px(a.x, a.y);
         let (bx, by) = (frame.px(b.x, b.y).0, frame.px(b.x, b.y).1);
-        let share = if max > 0.0 { traffic[i] / max } else { 0.0 };
+        let share = if max > 0.0 { colour_by[i] / max } else { 0.0 };
+        let simulated = sim.map_or(String::new(), |s| {
+            format!("; simulated {} movers/h, {} mover-s/h held up", short(s.traffic[i]), short(s.delay[i]))
+        });
         let mut seg = Group::new()
             .set("class", "aisle")
             .set("data-segment", i)
             .set("data-from", a.id.clone())
             .set("data-to", b.id.clone())
-            .set("data-loads-per-h", format!("{:.6}", traffic[i]))
+            .set("data-loads-per-h", format!("{:.6}", traffic[i]));
+        if let Some(s) = sim {
+            seg = seg
+                .set("data-sim-traversals-per-h", format!("{:.6}", s.traffic[i]))
+                .set("data-congestion-s-per-h", format!("{:.6}", s.delay[i]));
+        }
+        seg = seg
             .add(Title::new(format!(
-                "aisle {} – {}: {} m, {} loads/h{}{}{}",
+                "aisle {} – {}: {} m, {} loads/h{}{}{}{simulated}",
                 a.id,
                 b.id,
                 short(s.length_m),
@@ -366,6 +487,20 @@ fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64]) -> (Group, f64) {
                 );
         }
         g = g.add(seg);
+    }
+    for n in net.nodes.iter().filter(|n| n.zone) {
+        let (x, y) = frame.px(n.x, n.y);
+        g = g.add(
+            Circle::new()
+                .set("cx", x)
+                .set("cy", y)
+                .set("r", 6)
+                .set("fill", "white")
+                .set("stroke", rgb(SLATE))
+                .set("stroke-width", 2)
+                .set("class", "zone")
+                .set("data-node", n.id.clone()),
+        );
     }
     for n in &net.nodes {
         let (x, y) = frame.px(n.x, n.y);
@@ -583,6 +718,7 @@ fn legend(
     traffic_max: Option<f64>,
     scale: f64,
     net: Option<&AisleNetwork>,
+    sim: Option<&Simulated>,
 ) -> Group {
     let mut g = Group::new().set("id", "legend");
     let mut y = top + 4.0;
@@ -613,11 +749,22 @@ fn legend(
     }
     if let (Some(tmax), Some(net)) = (traffic_max, net) {
         y += 10.0;
-        g = g.add(legend_text(x, y, 14.0, "Aisle traffic, loads/h").set("font-weight", "bold"));
+        let (title, l1, l2) = match sim {
+            Some(s) if s.by_delay => {
+                ("Aisle congestion, mover-s/h", "simulated: waiting to enter each", "segment (--results)")
+            }
+            Some(_) => ("Aisle traffic, movers/h", "simulated: movers entering each", "segment (--results)"),
+            None => (
+                "Aisle traffic, loads/h",
+                "static: the from-to chart over the",
+                "shortest paths, both directions",
+            ),
+        };
+        g = g.add(legend_text(x, y, 14.0, title).set("font-weight", "bold"));
         y += 16.0;
-        g = g.add(legend_text(x, y, 11.0, "static: the from-to chart over the"));
+        g = g.add(legend_text(x, y, 11.0, l1));
         y += 14.0;
-        g = g.add(legend_text(x, y, 11.0, "shortest paths, both directions"));
+        g = g.add(legend_text(x, y, 11.0, l2));
         y += 16.0;
         let steps = 24;
         for k in 0..steps {
@@ -678,7 +825,7 @@ fn legend(
                 .add(label(x + 20.0, y + 3.5, 10.0, "1").set("fill", rgb(BRICK)).set("stroke-width", 0));
             g = sample(g, y, mark, "capacity: movers at once");
             y += 14.0;
-            g = g.add(legend_text(x + 54.0, y + 4.0, 10.0, "(not yet simulated)"));
+            g = g.add(legend_text(x + 54.0, y + 4.0, 10.0, "(both directions together)"));
             y += 22.0;
         }
         if any(&|s| s.speed_limit_mps.is_some()) {
@@ -693,8 +840,17 @@ fn legend(
                     .set("stroke-dasharray", "3 3"),
             );
             g = sample(g, y, dash, "speed limit");
-            y += 14.0;
-            g = g.add(legend_text(x + 54.0, y + 4.0, 10.0, "(not yet simulated)"));
+            y += 22.0;
+        }
+        if net.nodes.iter().any(|n| n.zone) {
+            let ring = Circle::new()
+                .set("cx", x + 20.0)
+                .set("cy", y)
+                .set("r", 6)
+                .set("fill", "white")
+                .set("stroke", rgb(SLATE))
+                .set("stroke-width", 2);
+            g = g.add(ring).add(legend_text(x + 54.0, y + 4.0, 11.0, "zone: one mover in the intersection"));
             y += 22.0;
         }
     }

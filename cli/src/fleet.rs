@@ -87,6 +87,10 @@ pub struct SizeResult {
     pub handling_share: Estimate,
     /// Share idle.
     pub idle_share: Estimate,
+    /// Share lost waiting to enter full aisle segments or busy intersections
+    /// (counted in `utilization`); present when the aisles are simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub congestion_share: Option<Estimate>,
     /// Mean wait from move request to pick-up, this fleet's moves, s.
     pub move_wait_s: Estimate,
     /// Each replication's 95th-percentile wait, averaged, s.
@@ -388,7 +392,7 @@ fn target_value(name: &str, plant: &Plant, r: &RepStats, f: usize) -> f64 {
         "move_wait_p90" => wait_q(0.90),
         "move_wait_p95" => wait_q(0.95),
         "move_wait_p99" => wait_q(0.99),
-        "utilization" => (s.loaded_s + s.empty_s + s.handling_s) / cap,
+        "utilization" => (s.loaded_s + s.empty_s + s.handling_s + s.congestion_s) / cap,
         "empty_share" => s.empty_s / cap,
         "flow_time" => {
             if r.flow_time_all.count() == 0 {
@@ -451,7 +455,8 @@ fn size_result(
                 .iter()
                 .map(|r| {
                     let s = &r.fleets[f];
-                    (s.loaded_s + s.empty_s + s.handling_s) / (f64::from(n) * r.window_s - s.off_s)
+                    (s.loaded_s + s.empty_s + s.handling_s + s.congestion_s)
+                        / (f64::from(n) * r.window_s - s.off_s)
                 })
                 .collect();
             estimate(&v).0
@@ -459,12 +464,16 @@ fn size_result(
         loaded_share: share(|s| s.loaded_s),
         empty_share: share(|s| s.empty_s),
         handling_share: share(|s| s.handling_s),
+        congestion_share: layflow_models::report::Features::of(plant)
+            .aisles
+            .then(|| share(|s| s.congestion_s)),
         idle_share: {
             let v: Vec<f64> = reps
                 .iter()
                 .map(|r| {
                     let s = &r.fleets[f];
-                    1.0 - (s.loaded_s + s.empty_s + s.handling_s) / (f64::from(n) * r.window_s)
+                    1.0 - (s.loaded_s + s.empty_s + s.handling_s + s.congestion_s)
+                        / (f64::from(n) * r.window_s)
                 })
                 .collect();
             estimate(&v).0
@@ -561,6 +570,10 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
     if scheduled {
         head.insert(2, "busy (on duty)");
     }
+    let congestion = out.sizes.iter().any(|r| r.congestion_share.is_some());
+    if congestion {
+        head.push("held up in aisles");
+    }
     let tnames: Vec<String> = (0..out.targets.len()).map(|i| format!("target {}", i + 1)).collect();
     head.extend(tnames.iter().map(String::as_str));
     let mut t = Table::new(&head);
@@ -585,6 +598,9 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
         if let Some(u) = &r.utilization_scheduled {
             row.insert(2, pct(u));
         }
+        if let Some(c) = &r.congestion_share {
+            row.push(pct(c));
+        }
         for v in &r.targets {
             row.push(
                 if v.met {
@@ -605,6 +621,12 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
         "  busy = loaded + empty + load/unload; analytic = the minimum-empty-flow estimate's busy share at that size; \
          wait p95 = each replication's 95th percentile, averaged"
     );
+    if congestion {
+        let _ = writeln!(
+            s,
+            "  held up in aisles = waiting to enter a full aisle segment or a busy intersection (counted in busy)"
+        );
+    }
     if scheduled {
         let _ =
             writeln!(s, "  busy (on duty) = busy time ÷ the operators' on-duty time (shifts less breaks)");

@@ -361,6 +361,10 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             if on_duty {
                 header.push("busy on duty");
             }
+            let congestion = l.fleets.iter().any(|f| f.congestion_share.is_some());
+            if congestion {
+                header.push("held up in aisles");
+            }
             let mut t = Table::new(&header);
             for f in &l.fleets {
                 let mut row = vec![
@@ -384,10 +388,42 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 if on_duty {
                     row.push(f.utilization_scheduled.as_ref().map_or(String::new(), pct));
                 }
+                if congestion {
+                    row.push(f.congestion_share.as_ref().map_or(String::new(), pct));
+                }
                 t.row(row);
             }
             s.push('\n');
             s.push_str(&t.render(2));
+        }
+        if let Some(segments) = &l.segments {
+            let mut t = Table::new(&[
+                "segment",
+                "from",
+                "to",
+                "traffic (movers/h)",
+                "mean occupancy",
+                "congestion (mover-s/h)",
+                "per traversal",
+            ]);
+            for g in segments {
+                t.row(vec![
+                    g.segment.to_string(),
+                    g.from.clone(),
+                    g.to.clone(),
+                    pm(&g.traversals_per_h, 1.0),
+                    pm(&g.occupancy_mean, 1.0),
+                    pm(&g.congestion_delay_s_per_h, 1.0),
+                    pm(&g.congestion_delay_per_traversal_s, 1.0) + " s",
+                ]);
+            }
+            s.push('\n');
+            s.push_str(&t.render(2));
+            let _ = writeln!(
+                s,
+                "  (aisles travelled segment by segment; congestion = waiting to enter a full segment or a \
+                 busy intersection)"
+            );
         }
     }
     if out.layouts.len() > 1 {

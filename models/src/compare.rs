@@ -29,6 +29,8 @@ pub enum Scope {
     Department,
     /// One fleet.
     Fleet,
+    /// One aisle segment (subject `segment-3`; with segment-by-segment travel only).
+    Segment,
 }
 
 impl Scope {
@@ -39,6 +41,7 @@ impl Scope {
             Scope::Product => "product",
             Scope::Department => "department",
             Scope::Fleet => "fleet",
+            Scope::Segment => "segment",
         }
     }
 }
@@ -136,6 +139,21 @@ const AVAILABILITY_METRIC: (&str, Kind, Better) = ("availability", Kind::Number,
 const SCHEDULED_METRIC: (&str, Kind, Better) = ("utilization_scheduled", Kind::Number, Better::Neither);
 /// With setups.
 const SETUP_METRIC: (&str, Kind, Better) = ("setup_share", Kind::Number, Better::Lower);
+/// With segment-by-segment travel over the aisles: the plant's total
+/// congestion delay, each fleet's share lost to it, and per segment.
+const CONGESTION_METRIC: (&str, Kind, Better) = ("congestion_delay_s_per_h", Kind::Number, Better::Lower);
+const FLEET_CONGESTION_METRIC: (&str, Kind, Better) = ("congestion_share", Kind::Number, Better::Lower);
+const SEGMENT_METRICS: &[(&str, Kind, Better)] = &[
+    ("traversals_per_h", Kind::Number, Better::Neither),
+    ("occupancy_mean", Kind::Number, Better::Neither),
+    ("congestion_delay_s_per_h", Kind::Number, Better::Lower),
+    ("congestion_delay_per_traversal_s", Kind::Duration, Better::Lower),
+];
+
+/// The subject name of aisle segment `s` in metric labels: `segment-3/traversals_per_h`.
+pub fn segment_subject(s: usize) -> String {
+    format!("segment-{s}")
+}
 
 /// Every metric of `plant`, in the order [`values`] returns them.
 pub fn metrics(plant: &Plant) -> Vec<Metric> {
@@ -152,6 +170,9 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
     }
     if features.turn_away {
         add(Scope::Plant, "", &[TURNED_AWAY_METRIC]);
+    }
+    if features.aisles {
+        add(Scope::Plant, "", &[CONGESTION_METRIC]);
     }
     for p in &plant.products {
         add(Scope::Product, &p.id, PRODUCT_METRICS);
@@ -181,6 +202,15 @@ pub fn metrics(plant: &Plant) -> Vec<Metric> {
         }
         if f.operators.duty.is_some() {
             add(Scope::Fleet, &f.id, &[SCHEDULED_METRIC]);
+        }
+        if features.aisles {
+            add(Scope::Fleet, &f.id, &[FLEET_CONGESTION_METRIC]);
+        }
+    }
+    if features.aisles {
+        let n = plant.aisles.as_ref().map_or(0, |a| a.segments.len());
+        for s in 0..n {
+            add(Scope::Segment, &segment_subject(s), SEGMENT_METRICS);
         }
     }
     out
@@ -215,6 +245,9 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
     if features.turn_away {
         v.push(per_h(r.turned_away.iter().sum::<u64>() as f64));
     }
+    if features.aisles {
+        v.push(per_h(r.segments.iter().map(|g| g.delay_s).sum()));
+    }
     for p in 0..plant.products.len() {
         v.extend([per_h(r.shipped[p] as f64), observed(&r.flow_time[p])]);
     }
@@ -236,7 +269,7 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
     for (f, fl) in fleets.iter().enumerate() {
         let s = &r.fleets[f];
         let cap = f64::from(fl.count) * r.window_s;
-        let busy = s.loaded_s + s.empty_s + s.handling_s + s.blocked_s;
+        let busy = s.busy_s();
         v.extend([
             busy / cap,
             s.loaded_s / cap,
@@ -257,6 +290,22 @@ pub fn values(plant: &Plant, r: &RepStats) -> Vec<f64> {
         }
         if fl.operators.duty.is_some() {
             v.push(fleet_scheduled_utilization(plant, r, f));
+        }
+        if features.aisles {
+            v.push(s.congestion_s / cap);
+        }
+    }
+    if features.aisles {
+        let n = plant.aisles.as_ref().map_or(0, |a| a.segments.len());
+        for s in 0..n {
+            // A replication that stopped before anything was recorded has no segment figures.
+            let g = r.segments.get(s).copied().unwrap_or_default();
+            v.extend([
+                per_h(g.traversals as f64),
+                g.occupancy,
+                per_h(g.delay_s),
+                if g.traversals > 0 { g.delay_s / g.traversals as f64 } else { f64::NAN },
+            ]);
         }
     }
     debug_assert_eq!(v.len(), metrics(plant).len());

@@ -7,9 +7,9 @@
 //! node to the other's, found with Dijkstra's method (petgraph's A* with a
 //! zero estimate, which returns the path as well as its length).
 //!
-//! The network keeps each pair's path as a list of segment indices, so that a
-//! segment-by-segment simulation (movers occupying segments, waits at full
-//! ones) and per-segment traffic can be built on it without searching again.
+//! The network keeps each pair's path as a list of segment indices, so that
+//! the segment-by-segment simulation (`sim/model/aisles.rs`: movers occupying
+//! segments, waits at full ones) and per-segment traffic need no search.
 //! A path's distance is the sum of its segments' lengths in path order, so the
 //! distance matrix and the stored paths always agree to the last bit.
 
@@ -24,6 +24,9 @@ pub struct AisleNode {
     pub x: f64,
     /// Position, metres.
     pub y: f64,
+    /// Zone control: at most one mover in the intersection at a time (see
+    /// `sim/model/aisles.rs` for when a mover counts as inside).
+    pub zone: bool,
 }
 
 /// A stretch of aisle between two nodes.
@@ -39,8 +42,7 @@ pub struct Segment {
     pub one_way: bool,
     /// Highest speed allowed on it, m/s; `None`: no limit beyond the mover's own.
     pub speed_limit_mps: Option<f64>,
-    /// Most movers on it at once; `None`: unlimited. (Recorded for the
-    /// segment-by-segment simulation; travel today does not wait for room.)
+    /// Most movers on it at once, both directions together; `None`: unlimited.
     pub capacity: Option<u32>,
 }
 
@@ -152,6 +154,21 @@ impl AisleNetwork {
         Ok((AisleNetwork { nodes, segments, location_node, path_start, path_segments }, distance))
     }
 
+    /// Whether movers must travel it segment by segment: some segment has a
+    /// capacity or a speed limit, or some node has zone control. Otherwise a
+    /// trip is one leg of the shortest-path distance (exactly as before).
+    pub fn needs_simulation(&self) -> bool {
+        self.nodes.iter().any(|n| n.zone)
+            || self.segments.iter().any(|s| s.capacity.is_some() || s.speed_limit_mps.is_some())
+    }
+
+    /// A readable name for segment `s`: its index and its two nodes.
+    pub fn segment_name(&self, s: usize) -> String {
+        let g = &self.segments[s];
+        let arrow = if g.one_way { "->" } else { "-" };
+        format!("segment {s} ({} {arrow} {})", self.nodes[g.from].id, self.nodes[g.to].id)
+    }
+
     /// Number of locations the paths are kept for.
     pub fn n_locations(&self) -> usize {
         self.location_node.len()
@@ -187,8 +204,8 @@ impl AisleNetwork {
     }
 
     /// Travel time in seconds along the path at constant `speed_mps`, slowed
-    /// to each segment's speed limit where that is lower. (The simulation does
-    /// not apply speed limits yet; this is the rule it is to follow.)
+    /// to each segment's speed limit where that is lower: the rule the
+    /// segment-by-segment simulation follows when no mover waits.
     pub fn travel_time_s(&self, from: usize, to: usize, speed_mps: f64) -> f64 {
         self.path(from, to)
             .iter()
@@ -243,7 +260,7 @@ mod tests {
     use super::*;
 
     fn node(id: &str, x: f64, y: f64) -> AisleNode {
-        AisleNode { id: id.into(), x, y }
+        AisleNode { id: id.into(), x, y, zone: false }
     }
 
     fn seg(from: usize, to: usize, length_m: f64, one_way: bool) -> Segment {

@@ -181,6 +181,30 @@ pub struct FleetSummary {
     /// breaks); present when the operators have working hours.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub utilization_scheduled: Option<Estimate>,
+    /// Share of mover time lost waiting to enter full aisle segments or busy
+    /// intersections (counted in `utilization`); present when the aisle
+    /// network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub congestion_share: Option<Estimate>,
+}
+
+/// What one aisle segment saw, across replications.
+#[derive(Debug, Clone, Serialize)]
+pub struct SegmentSummary {
+    /// Segment index in the scenario's `aisles.segments`.
+    pub segment: usize,
+    /// Node ids at its ends.
+    pub from: String,
+    /// Node id at its other end.
+    pub to: String,
+    /// Movers entering it per hour, both directions (traffic).
+    pub traversals_per_h: Estimate,
+    /// Time-average movers on it.
+    pub occupancy_mean: Estimate,
+    /// Mover-seconds of waiting to enter it, per hour (congestion delay).
+    pub congestion_delay_s_per_h: Estimate,
+    /// Congestion delay per traversal, s.
+    pub congestion_delay_per_traversal_s: Estimate,
 }
 
 /// Everything `run` reports for one layout.
@@ -224,9 +248,16 @@ pub struct LayoutSummary {
     /// Lots turned away at receiving docks per hour; present when a dock may turn lots away.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub turned_away_per_h: Option<Estimate>,
-    /// Why replications stopped early, when the plant deadlocked through blocking.
+    /// Why replications stopped early, when the plant deadlocked through blocking or in the aisles.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub deadlock: Option<String>,
+    /// Mover-seconds lost to congestion per hour, every segment; present when
+    /// the network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub congestion_delay_s_per_h: Option<Estimate>,
+    /// Per aisle segment, in scenario order; present when the network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segments: Option<Vec<SegmentSummary>>,
 }
 
 /// Which of the optional figures a plant reports.
@@ -238,6 +269,8 @@ pub struct Features {
     pub overflow: bool,
     /// Some receiving dock may turn lots away.
     pub turn_away: bool,
+    /// The aisle network is simulated segment by segment (a capacity, a speed limit or a zone).
+    pub aisles: bool,
 }
 
 impl Features {
@@ -247,6 +280,7 @@ impl Features {
             staging: plant.departments.iter().any(|d| d.staging.is_limited()),
             overflow: plant.departments.iter().any(|d| d.staging.overflow.is_some()),
             turn_away: plant.departments.iter().any(|d| d.turn_away),
+            aisles: plant.aisles.as_ref().is_some_and(|n| n.needs_simulation()),
         }
     }
 }
@@ -266,7 +300,7 @@ pub fn fleet_scheduled_utilization(plant: &Plant, r: &RepStats, f: usize) -> f64
     let s = &r.fleets[f];
     let on = f64::from(plant.fleets()[f].count) * r.window_s - s.off_s;
     if on > 0.0 {
-        (s.loaded_s + s.empty_s + s.handling_s + s.blocked_s) / on
+        s.busy_s() / on
     } else {
         f64::NAN
     }
@@ -275,6 +309,29 @@ pub fn fleet_scheduled_utilization(plant: &Plant, r: &RepStats, f: usize) -> f64
 /// Share of fleet `f`'s mover time in service in one replication.
 pub fn fleet_availability(plant: &Plant, r: &RepStats, f: usize) -> f64 {
     1.0 - r.fleets[f].down_s / (f64::from(plant.fleets()[f].count) * r.window_s)
+}
+
+/// The message for movers stuck for good in the aisles (replication `i`, 0-based).
+fn aisle_deadlock(plant: &Plant, d: &crate::sim::Deadlock, i: u64) -> String {
+    let fleets = plant.fleets();
+    let movers: Vec<String> = d.movers.iter().map(|&(f, k)| format!("{} #{}", fleets[f].id, k + 1)).collect();
+    let (segments, zones) = match plant.aisles.as_ref() {
+        Some(net) => (
+            d.segments.iter().map(|&s| net.segment_name(s)).collect::<Vec<_>>(),
+            d.zones.iter().map(|&n| format!("zone \"{}\"", net.nodes[n].id)).collect::<Vec<_>>(),
+        ),
+        None => (Vec::new(), Vec::new()),
+    };
+    let held = segments.into_iter().chain(zones).collect::<Vec<_>>().join(", ");
+    format!(
+        "the movers deadlocked in the aisles in replication {} at {}: {} hold or wait for {}, and each waits for \
+         room that only another of them can free, so none can ever move again. Give one of those segments a \
+         higher `capacity`, add a passing place (a node with a second route round), or make the aisle one-way",
+        i + 1,
+        crate::units::format_duration(d.time_s),
+        movers.join(", "),
+        held
+    )
 }
 
 /// The message for the first replication that deadlocked, if any.
@@ -286,6 +343,9 @@ pub fn deadlock_message(plant: &Plant, reps: &[RepStats]) -> Option<String> {
 /// The deadlock message of one replication (number `replication`, 0-based), if it deadlocked.
 pub fn replication_deadlock(plant: &Plant, rep: &RepStats, replication: u64) -> Option<String> {
     let (i, d) = (replication, rep.deadlock.as_ref()?);
+    if !d.movers.is_empty() {
+        return Some(aisle_deadlock(plant, d, i));
+    }
     let names: Vec<&str> = d.departments.iter().map(|&k| plant.departments[k].id.as_str()).collect();
     Some(format!(
         "the plant deadlocked in replication {} at {}: departments {} are full and every machine there holds a \
@@ -416,13 +476,13 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                 FleetSummary {
                     fleet: fl.id.clone(),
                     movers: fl.count,
-                    utilization: share(|s| s.loaded_s + s.empty_s + s.handling_s + s.blocked_s),
+                    utilization: share(|s| s.busy_s()),
                     loaded_travel_share: share(|s| s.loaded_s),
                     empty_travel_share: share(|s| s.empty_s),
                     handling_share: share(|s| s.handling_s),
                     idle_share: est(reps.iter().map(|r| {
                         let s = &r.fleets[f];
-                        1.0 - (s.loaded_s + s.empty_s + s.handling_s + s.blocked_s + s.down_s) / cap(r)
+                        1.0 - (s.busy_s() + s.down_s) / cap(r)
                     })),
                     moves_per_h: est(reps.iter().map(|r| per_h(r.fleets[f].moves as f64, r))),
                     move_wait_s: est(reps.iter().map(|r| observed(&r.move_wait[f]))),
@@ -440,6 +500,7 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                         .duty
                         .as_ref()
                         .map(|_| est(reps.iter().map(|r| fleet_scheduled_utilization(plant, r, f)))),
+                    congestion_share: features.aisles.then(|| share(|s| s.congestion_s)),
                 }
             })
             .collect(),
@@ -451,7 +512,46 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
             .turn_away
             .then(|| est(reps.iter().map(|r| per_h(r.turned_away.iter().sum::<u64>() as f64, r)))),
         deadlock: deadlock_message(plant, reps),
+        congestion_delay_s_per_h: features
+            .aisles
+            .then(|| est(reps.iter().map(|r| per_h(r.segments.iter().map(|g| g.delay_s).sum(), r)))),
+        segments: segment_summaries(plant, reps),
     }
+}
+
+/// Per-segment traffic, occupancy and congestion; `None` unless the network is simulated.
+fn segment_summaries(plant: &Plant, reps: &[RepStats]) -> Option<Vec<SegmentSummary>> {
+    let net = plant.aisles.as_ref().filter(|n| n.needs_simulation())?;
+    let per_h = |x: f64, r: &RepStats| x / r.window_s * 3600.0;
+    let ok = |r: &RepStats, s: usize| r.segments.len() > s;
+    Some(
+        net.segments
+            .iter()
+            .enumerate()
+            .map(|(s, g)| SegmentSummary {
+                segment: s,
+                from: net.nodes[g.from].id.clone(),
+                to: net.nodes[g.to].id.clone(),
+                traversals_per_h: est(reps
+                    .iter()
+                    .filter(|r| ok(r, s))
+                    .map(|r| per_h(r.segments[s].traversals as f64, r))),
+                occupancy_mean: est(reps.iter().filter(|r| ok(r, s)).map(|r| r.segments[s].occupancy)),
+                congestion_delay_s_per_h: est(reps
+                    .iter()
+                    .filter(|r| ok(r, s))
+                    .map(|r| per_h(r.segments[s].delay_s, r))),
+                congestion_delay_per_traversal_s: est(reps.iter().filter(|r| ok(r, s)).map(|r| {
+                    let g = &r.segments[s];
+                    if g.traversals > 0 {
+                        g.delay_s / g.traversals as f64
+                    } else {
+                        0.0
+                    }
+                })),
+            })
+            .collect(),
+    )
 }
 
 #[cfg(test)]

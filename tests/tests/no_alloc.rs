@@ -40,8 +40,10 @@ fn allocations_do_not_grow_with_the_horizon() {
     // at once would count each other's allocations. The variable-demand demo
     // adds profiled arrivals (thinning) and trace orders releasing several
     // lots at once. The third plant has every fleet rule: tow trains,
-    // nearest-idle fleet choice, reserve, parking, shifts and breaks.
-    for name in ["demo.yaml", "orders-demo.yaml", "validation/all-fleet-rules.yaml"] {
+    // nearest-idle fleet choice, reserve, parking, shifts and breaks. The
+    // aisle demo travels its network segment by segment (a capacity-1
+    // crossing and a speed limit), with waits at the crossing.
+    for name in ["demo.yaml", "orders-demo.yaml", "validation/all-fleet-rules.yaml", "aisles-demo.yaml"] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         let plant = load_scenario(&path).unwrap();
         let plan = Plan::new(&plant, 0);

@@ -242,7 +242,7 @@ fn aisles(
                 format!("coordinates of aisle node \"{}\" must be finite numbers (metres)", n.id),
             ));
         }
-        nodes.push(AisleNode { id: n.id.clone(), x, y });
+        nodes.push(AisleNode { id: n.id.clone(), x, y, zone: n.zone.unwrap_or(false) });
     }
     let ids: Vec<&str> = nodes.iter().map(|n| n.id.as_str()).collect();
     let sp = p.key("segments");
@@ -320,6 +320,18 @@ fn aisles(
             speed_limit_mps,
             capacity: g.capacity,
         });
+    }
+    for (i, n) in nodes.iter().enumerate() {
+        if n.zone && !segments.iter().any(|g| g.from == i || g.to == i) {
+            return Err(ctx
+                .err(
+                    &np.index(i).key("zone"),
+                    format!("aisle node \"{}\" has zone control, but no segment meets it", n.id),
+                )
+                .with_hint(
+                    "zone control is for a junction of aisles: join the node with segments, or remove `zone`",
+                ));
+        }
     }
     let lp = FieldPath::root().key("locations");
     let mut location_node = Vec::with_capacity(locations.len());

@@ -75,12 +75,14 @@ pub(crate) struct AislesSpec {
     pub segments: Vec<SegmentSpec>,
 }
 
-/// `{ id: n1, at: [15, 22.5] }`: a junction, bend or pick-up/drop-off point (m).
+/// `{ id: n1, at: [15, 22.5], zone: true }`: a junction, bend or pick-up/drop-off point (m).
 #[derive(Debug, DeriveDeserialize)]
 #[serde(deny_unknown_fields)]
 pub(crate) struct AisleNodeSpec {
     pub id: String,
     pub at: [f64; 2],
+    /// Zone control: one mover in the intersection at a time.
+    pub zone: Option<bool>,
 }
 
 /// `{ from: n1, to: n2, length: 30, one_way: true, speed_limit: 5 km/h, capacity: 1 }`.

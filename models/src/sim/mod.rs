@@ -10,7 +10,7 @@ mod model;
 mod stats;
 
 pub use model::{simulate, simulate_releases, simulate_wip_series, Deadlock};
-pub use stats::{FleetStats, RepStats, TICK_S};
+pub use stats::{FleetStats, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, LoadStart,
@@ -88,6 +88,9 @@ pub struct Plan {
     pub(crate) setups: Vec<Option<Setups>>,
     /// Some product's lots move in several unit loads.
     pub(crate) split: bool,
+    /// The aisle network when movers travel it segment by segment (a
+    /// capacity, a speed limit or a zone somewhere); `None`: one leg per trip.
+    pub(crate) aisles: Option<crate::network::AisleNetwork>,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -342,6 +345,7 @@ impl Plan {
             on_at_start: d.on_at(0.0),
         };
         Plan {
+            aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),
             tracked: plant
                 .departments
                 .iter()

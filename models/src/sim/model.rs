@@ -11,6 +11,7 @@ use super::stats::{FleetStats, RepStats, TICK_S};
 use super::{FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
+mod aisles;
 mod breakdowns;
 mod calendars;
 mod lots;
@@ -73,6 +74,9 @@ enum Event {
     MoverBack { mover: u32 },
     /// A department's working window begins or ends.
     DeptShift { dept: u32 },
+    /// A mover travelling the aisle network segment by segment reaches the
+    /// end of a segment, or is ready to set off (see `aisles.rs`).
+    Step { mover: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -265,6 +269,8 @@ struct PlantModel<'a> {
     deadlock: Option<Deadlock>,
     /// Per slab entry, how it is split into loads (empty unless `Plan::split`).
     aux: Vec<lots::LotAux>,
+    /// Segment-by-segment travel (empty unless `Plan::aisles`).
+    aisle: aisles::AisleState,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -436,6 +442,7 @@ impl<'a> PlantModel<'a> {
                 to_reserve: 0,
             });
         }
+        let slots_movers = movers.len();
         PlantModel {
             plan,
             seed: spec.seed,
@@ -472,6 +479,7 @@ impl<'a> PlantModel<'a> {
             turned_away: vec![0; n_products],
             deadlock: None,
             aux: Vec::new(),
+            aisle: aisles::AisleState::new(plan, slots_movers),
         }
     }
 
@@ -492,6 +500,7 @@ impl<'a> PlantModel<'a> {
             d.up_level.reset(t);
             d.setup_level.reset(t);
         }
+        self.aisle.reset(t);
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
         for f in &mut self.fleets {
@@ -750,6 +759,7 @@ impl<'a> PlantModel<'a> {
                 self.fleets[self.movers[m].fleet as usize].acc.blocked_s += w;
             }
         }
+        let segments = self.segment_stats(t);
         let overflow = self.plan.overflow;
         let machines = &self.plan.machines;
         let per_machine = |d: usize, x: f64| if machines[d] == 0 { 0.0 } else { x / f64::from(machines[d]) };
@@ -776,6 +786,7 @@ impl<'a> PlantModel<'a> {
             .collect();
         let setup = (0..nd).map(|d| per_machine(d, self.departments[d].setup_level.mean(t))).collect();
         RepStats {
+            segments,
             setup,
             off_shift_s: self.departments[..nd].iter().map(|d| d.off_s).collect(),
             blocked,
@@ -841,6 +852,7 @@ impl Model for PlantModel<'_> {
             Event::MoverFail { mover } => self.mover_fail(mover, cal),
             Event::MoverBack { mover } => self.mover_back(mover, cal),
             Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
+            Event::Step { mover } => self.step(mover, cal),
         }
     }
 }

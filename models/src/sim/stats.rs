@@ -32,6 +32,28 @@ pub struct FleetStats {
     pub down_s: f64,
     /// Mover-seconds of that on charge.
     pub charging_s: f64,
+    /// Mover-seconds waiting to enter a full aisle segment or a busy
+    /// intersection (congestion delay; busy time). 0 unless the aisle network
+    /// is simulated segment by segment.
+    pub congestion_s: f64,
+}
+
+impl FleetStats {
+    /// Mover-seconds busy: travelling, handling, blocked at a full inbound area, or held up in the aisles.
+    pub fn busy_s(&self) -> f64 {
+        self.loaded_s + self.empty_s + self.handling_s + self.blocked_s + self.congestion_s
+    }
+}
+
+/// What one aisle segment saw in the window (segment-by-segment travel only).
+#[derive(Debug, Clone, Copy, Default, PartialEq)]
+pub struct SegmentStats {
+    /// Movers that entered it in the window (both directions).
+    pub traversals: u64,
+    /// Time-average movers on it (travelling, or waiting at its far end).
+    pub occupancy: f64,
+    /// Mover-seconds spent waiting to enter it (congestion delay).
+    pub delay_s: f64,
 }
 
 /// Results of one replication of one layout.
@@ -85,4 +107,7 @@ pub struct RepStats {
     pub turned_away: Vec<u64>,
     /// Set when the replication stopped because the plant deadlocked.
     pub deadlock: Option<super::Deadlock>,
+    /// Per aisle segment, in scenario order; empty unless the network is
+    /// simulated segment by segment (`AisleNetwork::needs_simulation`).
+    pub segments: Vec<SegmentStats>,
 }

@@ -159,6 +159,11 @@ impl PlantModel<'_> {
         let pickup = self.plan.dept_location[self.lots[lot as usize].department as usize];
         let d = self.plan.dist(m.location as usize, pickup);
         let loaded = m.loads > 0;
+        if self.plan.aisles.is_some() {
+            let from = m.location as usize;
+            self.walk(mover, from, pickup, loaded, 0.0, 0.0, Event::Pickup { mover }, cal);
+            return;
+        }
         let t = self.plan.fleets[f].travel_s(d, loaded);
         if loaded {
             self.record_loaded(f, now, now + t, d);
@@ -171,7 +176,7 @@ impl PlantModel<'_> {
     }
 
     #[inline]
-    fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
+    pub(super) fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
         let w = self.in_window(a, b);
         let acc = &mut self.fleets[f].acc;
         acc.empty_s += w;
@@ -227,22 +232,30 @@ impl PlantModel<'_> {
         let t_travel_end = t_load_end + fl.travel_s(d, true);
         let t_end = t_travel_end + fl.unload_s;
 
-        let handling = self.in_window(now, t_load_end) + self.in_window(t_travel_end, t_end);
-        let loaded = self.in_window(t_load_end, t_travel_end);
-        let counted = now >= self.window.0 && now < self.window.1;
-        let fs = &mut self.fleets[f];
-        fs.acc.handling_s += handling;
-        fs.acc.loaded_s += loaded;
-        if t_travel_end > t_load_end {
-            fs.acc.distance_loaded_m += d * loaded / (t_travel_end - t_load_end);
-        } else if counted {
-            fs.acc.distance_loaded_m += d;
+        if self.plan.aisles.is_some() {
+            // The trip's travel and unloading are credited as it goes (aisles.rs).
+            self.fleets[f].acc.handling_s += self.in_window(now, t_load_end);
+            let (a, b) = (self.plan.dept_location[from], self.plan.dept_location[to]);
+            let (load_s, unload_s) = (fl.load_s, fl.unload_s);
+            self.walk(mover, a, b, true, load_s, unload_s, Event::Deliver { mover }, cal);
+        } else {
+            let handling = self.in_window(now, t_load_end) + self.in_window(t_travel_end, t_end);
+            let loaded = self.in_window(t_load_end, t_travel_end);
+            let counted = now >= self.window.0 && now < self.window.1;
+            let fs = &mut self.fleets[f];
+            fs.acc.handling_s += handling;
+            fs.acc.loaded_s += loaded;
+            if t_travel_end > t_load_end {
+                fs.acc.distance_loaded_m += d * loaded / (t_travel_end - t_load_end);
+            } else if counted {
+                fs.acc.distance_loaded_m += d;
+            }
+            cal.schedule(t_end, Event::Deliver { mover });
         }
         self.record_pickup(f, m.lot, now);
         let w = self.weight(m.lot);
         self.departments[from].wip.add(now, -w);
         self.transit.add(now, w);
-        cal.schedule(t_end, Event::Deliver { mover });
         if self.plan.staging {
             self.departments[from].out_count -= 1;
             self.unblock(from, cal);
@@ -315,6 +328,14 @@ impl PlantModel<'_> {
         // Keep the rest in pick-up order, so that ties go to the earliest.
         self.onboard.copy_within(base + k + 1..base + n, base + k);
         let to = self.destination(lot);
+        if self.plan.aisles.is_some() {
+            let mm = &mut self.movers[mover as usize];
+            mm.loads -= 1;
+            mm.lot = lot;
+            let unload_s = self.plan.fleets[f].unload_s;
+            self.walk(mover, here, to, true, 0.0, unload_s, Event::Deliver { mover }, cal);
+            return;
+        }
         let d = self.plan.dist(here, to);
         let fl = &self.plan.fleets[f];
         let t_arrive = now + fl.travel_s(d, true);
@@ -439,8 +460,13 @@ impl PlantModel<'_> {
         }
         let m = &mut self.movers[mover as usize];
         let f = m.fleet as usize;
-        let d = self.plan.dist(m.location as usize, to);
+        let from = m.location as usize;
+        let d = self.plan.dist(from, to);
         m.location = to as u32;
+        if self.plan.aisles.is_some() {
+            self.walk(mover, from, to, false, 0.0, 0.0, arrival, cal);
+            return;
+        }
         let t = self.plan.fleets[f].travel_s(d, false);
         self.record_empty(f, now, now + t, d);
         cal.schedule(now + t, arrival);

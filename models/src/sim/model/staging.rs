@@ -20,13 +20,20 @@ use crate::sim::FleetSet;
 const HELD: u32 = 1;
 
 /// Why a replication stopped early: loads stuck in a cycle of full staging
-/// areas that no event can ever free.
+/// areas, or movers stuck in the aisles, that no event can ever free.
 #[derive(Debug, Clone, PartialEq)]
 pub struct Deadlock {
     /// Simulated time, s.
     pub time_s: f64,
-    /// The departments involved (indices), in department order.
+    /// The departments involved (indices), in department order (empty for an aisle deadlock).
     pub departments: Vec<usize>,
+    /// Aisle deadlock: the movers that can never move on, as (fleet, number
+    /// within the fleet from 0), in mover order; empty for a staging deadlock.
+    pub movers: Vec<(usize, u32)>,
+    /// Aisle deadlock: the segments those movers hold or wait for, in segment order.
+    pub segments: Vec<usize>,
+    /// Aisle deadlock: the zone-controlled nodes they hold or wait for, in node order.
+    pub zones: Vec<usize>,
 }
 
 impl PlantModel<'_> {
@@ -236,15 +243,21 @@ impl PlantModel<'_> {
             let m = self.movers[mover as usize];
             let f = m.fleet as usize;
             let spot = self.plan.dept_location[self.plan.n_departments + to];
+            if now >= self.window.0 && now < self.window.1 {
+                self.overflow_moves += 1;
+            }
+            if self.plan.aisles.is_some() {
+                let (from, unload_s) = (m.location as usize, self.plan.fleets[f].unload_s);
+                self.movers[mover as usize].location = spot as u32;
+                self.walk(mover, from, spot, true, 0.0, unload_s, Event::OverflowDrop { mover }, cal);
+                return;
+            }
             let d = self.plan.dist(m.location as usize, spot);
             let fl = &self.plan.fleets[f];
             let t_arrive = now + fl.travel_s(d, true);
             let t_end = t_arrive + fl.unload_s;
             self.record_loaded(f, now, t_arrive, d);
             self.fleets[f].acc.handling_s += self.in_window(t_arrive, t_end);
-            if now >= self.window.0 && now < self.window.1 {
-                self.overflow_moves += 1;
-            }
             self.movers[mover as usize].location = spot as u32;
             cal.schedule(t_end, Event::OverflowDrop { mover });
             return;
@@ -327,7 +340,13 @@ impl PlantModel<'_> {
         if departments.is_empty() {
             return;
         }
-        self.deadlock = Some(Deadlock { time_s: cal.now(), departments });
+        self.deadlock = Some(Deadlock {
+            time_s: cal.now(),
+            departments,
+            movers: Vec::new(),
+            segments: Vec::new(),
+            zones: Vec::new(),
+        });
         cal.clear();
     }
 }
