@@ -525,13 +525,7 @@ fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s: f6
     if let Some(w) = &out.warmup_auto {
         let _ = writeln!(s, "{}", w.describe());
     }
-    let _ = writeln!(
-        s,
-        "{} events in {:.2} s ({:.1} million events/s); ± is the 95% confidence half-width",
-        out.events,
-        wall_s,
-        out.events as f64 / wall_s.max(1e-9) / 1e6
-    );
+    let _ = writeln!(s, "{}; ± is the 95% confidence half-width", crate::table::speed(out.events, wall_s));
     let ranked = &metric_list[find_metric(metric_list, &out.ranked_on).expect("ranked metric exists")];
     for lv in &out.levels {
         let _ = writeln!(s, "\n== demand ×{} ==", lv.demand_factor);

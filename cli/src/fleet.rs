@@ -548,7 +548,7 @@ fn render(out: &FleetOutput, wall_s: f64) -> String {
     if let Some(w) = &out.warmup_auto {
         let _ = writeln!(s, "{}", w.describe());
     }
-    let _ = writeln!(s, "{} events in {:.2} s; ± is the 95% confidence half-width\n", out.events, wall_s);
+    let _ = writeln!(s, "{}; ± is the 95% confidence half-width\n", crate::table::speed(out.events, wall_s));
     let mut head = vec![
         "movers",
         "busy",

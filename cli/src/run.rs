@@ -210,13 +210,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     if let Some(w) = &out.warmup_auto {
         let _ = writeln!(s, "{}", w.describe());
     }
-    let _ = writeln!(
-        s,
-        "{} events in {:.2} s ({:.1} million events/s)",
-        out.events,
-        wall_s,
-        out.events as f64 / wall_s.max(1e-9) / 1e6
-    );
+    let _ = writeln!(s, "{}", crate::table::speed(out.events, wall_s));
     for l in &out.layouts {
         let _ = writeln!(s, "\n== layout {} ==", l.layout);
         let (mut ft, ftp) = dur_pct(&l.flow_time_s);

@@ -182,3 +182,11 @@ pub fn coverage(n: usize, replications: u32) -> String {
 pub fn dur_plain(seconds: f64) -> String {
     layflow_models::units::format_duration(seconds)
 }
+
+/// "N events in T s (X million events/s)": how much was simulated, and how fast.
+pub fn speed(events: u64, wall_s: f64) -> String {
+    format!(
+        "{events} events in {wall_s:.2} s ({:.1} million events/s)",
+        events as f64 / wall_s.max(1e-9) / 1e6
+    )
+}
