@@ -14,7 +14,7 @@ use serde::Serialize;
 
 use crate::check::warn_overload;
 use crate::progress::Progress;
-use crate::run::{duration_arg, layouts, SimOptions};
+use crate::run::{layouts, SimOptions};
 use crate::select::{self, SelectArgs, Selection};
 use crate::table::{dur, dur_plain, num, pm, time_unit, whole, Table};
 use crate::warmup::{self, WarmupChoice};
@@ -132,12 +132,7 @@ pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
 /// Run the comparison on an already loaded plant (`search --validate` adds
 /// its layouts to the plant in memory first).
 pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
-    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
-    let replications = args.sim.replications.unwrap_or(plant.run.replications);
-    if replications == 0 {
-        return Err(Failure::input("--replications must be at least 1"));
-    }
-    let seed = args.sim.seed.unwrap_or(plant.run.seed);
+    let crate::run::RunBasics { horizon_s, replications, seed } = args.sim.basics(plant)?;
     let which = compared_layouts(plant, &args.layouts)?;
     let baseline = match &args.baseline {
         None => 0,
@@ -155,11 +150,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let ranked_on =
         find_metric(&metric_list, &args.metric).ok_or_else(|| unknown_metric(&args.metric, &metric_list))?;
     let selection = select::settings(&args.select, &metric_list[ranked_on], args.sim.replications)?;
-    let threads = crate::run::threads(args.sim.threads)?;
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let pool = crate::run::pool(args.sim.threads)?;
     if let Some(dir) = &args.out {
         output::prepare_dir(dir)?;
     }

@@ -119,11 +119,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     let header = Header::new(&plan, shard);
     let path = journal_path(&args.out);
     let (writer, done) = open_journal(&path, &header, args)?;
-    let threads = crate::run::threads(args.threads)?;
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let pool = crate::run::pool(args.threads)?;
     let mine: Vec<u64> = (0..plan.units()).filter(|&u| shard.owns(u)).collect();
     let mut is_done = vec![false; plan.units() as usize];
     for u in &done {

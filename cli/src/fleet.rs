@@ -15,7 +15,7 @@ use serde::Serialize;
 
 use crate::check::{demand_factor, warn_overload};
 use crate::progress::Progress;
-use crate::run::{duration_arg, layouts, SimOptions};
+use crate::run::{layouts, SimOptions};
 use crate::table::{dur, dur_plain, num, pct, pm, share, Table};
 use crate::target::{self, Target, Verdict, TARGET_METRICS};
 use crate::warmup::{self, WarmupChoice};
@@ -241,12 +241,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         None => 0,
         Some(n) => layouts(&plant, std::slice::from_ref(n))?[0],
     };
-    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
-    let replications = args.sim.replications.unwrap_or(plant.run.replications);
-    if replications == 0 {
-        return Err(Failure::input("--replications must be at least 1"));
-    }
-    let seed = args.sim.seed.unwrap_or(plant.run.seed);
+    let crate::run::RunBasics { horizon_s, replications, seed } = args.sim.basics(&plant)?;
     let factor = demand_factor(&plant, args.demand)?;
     let efficiency = args.efficiency.unwrap_or_else(|| fleet_efficiency(&plant, f));
     if !(efficiency > 0.0 && efficiency <= 1.0) {
@@ -262,11 +257,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
             )));
         }
     }
-    let threads = crate::run::threads(args.sim.threads)?;
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let pool = crate::run::pool(args.sim.threads)?;
     let pic = StaticPicture::new(&plant, factor);
     warn_overload(&plant, &pic);
     let availability = fleet_availability(&plant, f);

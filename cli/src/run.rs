@@ -126,22 +126,44 @@ pub fn threads(arg: Option<usize>) -> Result<usize, Failure> {
     }
 }
 
+/// A pool of `--threads` workers (default: every core) for the replications.
+pub fn pool(arg: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
+    let threads = threads(arg)?;
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))
+}
+
+/// What a simulating command runs, from its options or else the scenario's `run:` settings.
+pub struct RunBasics {
+    /// Simulated time per replication, warm-up included, s.
+    pub horizon_s: f64,
+    /// Replications (at least 1).
+    pub replications: u32,
+    /// Base seed.
+    pub seed: u64,
+}
+
+impl SimOptions {
+    /// `--horizon`, `--replications` and `--seed`, checked, over the scenario's values.
+    pub fn basics(&self, plant: &Plant) -> Result<RunBasics, Failure> {
+        let horizon_s = duration_arg("--horizon", &self.horizon, plant.run.horizon_s)?;
+        let replications = self.replications.unwrap_or(plant.run.replications);
+        if replications == 0 {
+            return Err(Failure::input("--replications must be at least 1"));
+        }
+        Ok(RunBasics { horizon_s, replications, seed: self.seed.unwrap_or(plant.run.seed) })
+    }
+}
+
 /// Simulate and report.
 pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let plant = load(&args.scenario)?;
-    let horizon_s = duration_arg("--horizon", &args.sim.horizon, plant.run.horizon_s)?;
-    let replications = args.sim.replications.unwrap_or(plant.run.replications);
-    if replications == 0 {
-        return Err(Failure::input("--replications must be at least 1"));
-    }
-    let seed = args.sim.seed.unwrap_or(plant.run.seed);
+    let RunBasics { horizon_s, replications, seed } = args.sim.basics(&plant)?;
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;
-    let threads = threads(args.sim.threads)?;
-    let pool = rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))?;
+    let pool = pool(args.sim.threads)?;
     let (warmup_s, warmup_auto) =
         warmup::resolve(&args.sim.warmup, &plant, &which, horizon_s, factor, seed, &pool, args.sim.quiet)?;
     if !(horizon_s > warmup_s) {
