@@ -527,23 +527,11 @@ fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s: f6
                 lv.overloaded.join(", ")
             );
         }
-        let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
-        if fleets {
-            header.extend(["wait for a mover", "fleet cost (/h)"]);
-        }
+        let mut header = crate::run::headline_header(fleets);
         header.extend(["static load-distance (load-m/h)", "static rank", "simulated rank"]);
         let mut t = Table::new(&header);
         for (l, r) in lv.layouts.iter().zip(&lv.ranking) {
-            let mut row = vec![
-                l.layout.clone(),
-                pm(&l.throughput_per_h, 1.0),
-                dur(&l.flow_time_s.estimate()),
-                pm(&l.wip_mean, 1.0),
-            ];
-            if fleets {
-                row.push(dur(&l.move_wait_s.estimate()));
-                row.push(pm(&l.handling_cost_per_h, 1.0));
-            }
+            let mut row = crate::run::headline_cells(l, fleets);
             row.extend([
                 whole(l.load_distance_static_m_per_h),
                 r.static_rank.to_string(),

@@ -445,27 +445,39 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     if out.layouts.len() > 1 {
         let _ = writeln!(s, "\n== layouts side by side ==");
         let fleets = !plant.fleets().is_empty();
-        let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
-        if fleets {
-            header.extend(["wait for a mover", "fleet cost (/h)"]);
-        }
+        let mut header = headline_header(fleets);
         header.push("static load-distance");
         let mut t = Table::new(&header);
         for l in &out.layouts {
-            let mut row = vec![
-                l.layout.clone(),
-                pm(&l.throughput_per_h, 1.0),
-                dur(&l.flow_time_s.estimate()),
-                pm(&l.wip_mean, 1.0),
-            ];
-            if fleets {
-                row.push(dur(&l.move_wait_s.estimate()));
-                row.push(pm(&l.handling_cost_per_h, 1.0));
-            }
+            let mut row = headline_cells(l, fleets);
             row.push(format!("{} load-m/h", whole(l.load_distance_static_m_per_h)));
             t.row(row);
         }
         s.push_str(&t.render(2));
     }
     s
+}
+
+/// The headline columns of a layout side by side with others (`run`, `compare`).
+pub fn headline_header(fleets: bool) -> Vec<&'static str> {
+    let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
+    if fleets {
+        header.extend(["wait for a mover", "fleet cost (/h)"]);
+    }
+    header
+}
+
+/// A layout's cells under [`headline_header`].
+pub fn headline_cells(l: &LayoutSummary, fleets: bool) -> Vec<String> {
+    let mut row = vec![
+        l.layout.clone(),
+        pm(&l.throughput_per_h, 1.0),
+        dur(&l.flow_time_s.estimate()),
+        pm(&l.wip_mean, 1.0),
+    ];
+    if fleets {
+        row.push(dur(&l.move_wait_s.estimate()));
+        row.push(pm(&l.handling_cost_per_h, 1.0));
+    }
+    row
 }
