@@ -273,16 +273,7 @@ pub fn net_flow(flow_per_h: &[f64]) -> Result<Vec<f64>, String> {
 /// travel. Only surplus → deficit entries can be non-zero; their total equals
 /// the total surplus.
 pub fn min_empty_flow(flow_per_h: &[f64], cost: &[f64]) -> Result<Vec<f64>, String> {
-    let n = square_side(flow_per_h.len(), "flow")?;
-    if cost.len() != flow_per_h.len() {
-        return Err(format!(
-            "the cost matrix has {} entries but the flow matrix has {} ({n}×{n})",
-            cost.len(),
-            flow_per_h.len()
-        ));
-    }
-    check_entries(flow_per_h, n, "flow", "loads per hour")?;
-    check_entries(cost, n, "cost", "costs")?;
+    let n = check_pair(flow_per_h, cost, "cost", "costs")?;
 
     let mut net = net_of(flow_per_h, n);
     // Inflow and outflow of a department that passes every load on are equal
@@ -467,16 +458,22 @@ fn square_side(len: usize, what: &str) -> Result<usize, String> {
 }
 
 fn check_matrices(flow: &[f64], distance: &[f64]) -> Result<usize, String> {
+    check_pair(flow, distance, "distance", "distances")
+}
+
+/// A flow matrix and a second matrix (`what`, whose entries are `unit`) of
+/// the same square size, every entry finite and ≥ 0; returns the side.
+fn check_pair(flow: &[f64], other: &[f64], what: &str, unit: &str) -> Result<usize, String> {
     let n = square_side(flow.len(), "flow")?;
-    if distance.len() != flow.len() {
+    if other.len() != flow.len() {
         return Err(format!(
-            "the distance matrix has {} entries but the flow matrix has {} ({n}×{n})",
-            distance.len(),
+            "the {what} matrix has {} entries but the flow matrix has {} ({n}×{n})",
+            other.len(),
             flow.len()
         ));
     }
     check_entries(flow, n, "flow", "loads per hour")?;
-    check_entries(distance, n, "distance", "distances")?;
+    check_entries(other, n, what, unit)?;
     Ok(n)
 }
 
