@@ -228,6 +228,12 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
              file to `layout_files:` and run `layflow compare --format json`",
         ));
     }
+    // Check where results go before searching, so a typo costs a second, not the search.
+    for (flag, file, ext) in [("--out", &args.out, "yaml"), ("--plot", &args.plot, "svg")] {
+        if let Some(f) = file {
+            check_target(f, flag, ext)?;
+        }
+    }
     let plant = load(path)?;
     let factor = args.demand.unwrap_or(plant.demand_factor);
     if !(factor.is_finite() && factor > 0.0) {
@@ -623,6 +629,25 @@ fn layouts_yaml(r: &Report, scenario: &Path, found: &[Found], file: &Path) -> St
     y
 }
 
+/// A file we are about to write: its folder exists and its name ends in `.ext`.
+fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
+    if file.extension().is_none_or(|e| !e.eq_ignore_ascii_case(ext) && !(ext == "yaml" && e == "yml")) {
+        return Err(Failure::input(format!("{flag} {}: name a .{ext} file", file.display())));
+    }
+    let dir = match file.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p,
+        _ => Path::new("."),
+    };
+    if !dir.is_dir() {
+        return Err(Failure::input(format!(
+            "{flag} {}: the folder {} does not exist",
+            file.display(),
+            dir.display()
+        )));
+    }
+    Ok(())
+}
+
 /// Write a result file atomically (temp file beside it, then rename).
 fn write_file(file: &Path, bytes: &[u8], flag: &str) -> Result<(), Failure> {
     let dir = match file.parent() {
@@ -804,6 +829,9 @@ fn search_qaplib(
             "{e}\n  hint: a QAPLIB NAME.dat holds n, then the n×n flows, then the n×n distances"
         ))
     })?;
+    if let Some(f) = &args.plot {
+        check_target(f, "--plot", "svg")?;
+    }
     let sln_path = file.with_extension("sln");
     let solution: Option<Solution> =
         if sln_path.exists() { Some(qaplib::read_sln(&sln_path).map_err(Failure::input)?) } else { None };

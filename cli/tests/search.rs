@@ -171,6 +171,18 @@ fn bad_input_is_refused_with_exit_code_2() {
             "--validate",
         ),
         (vec!["scenarios/bad/search-pinned-twice.yaml".into()], "search-pinned-twice.yaml"),
+        (
+            vec!["scenarios/demo.yaml".into(), "--out".into(), "/no/such/folder/found.yaml".into()],
+            "does not exist",
+        ),
+        (
+            vec![
+                "scenarios/demo.yaml".into(),
+                "--plot".into(),
+                dir.path().join("p.png").display().to_string(),
+            ],
+            ".svg",
+        ),
     ];
     for (args, needle) in cases {
         let mut all = vec!["search".to_string(), "--iterations".into(), "10".into()];
