@@ -631,7 +631,9 @@ fn layouts_yaml(r: &Report, scenario: &Path, found: &[Found], file: &Path) -> St
 
 /// A file we are about to write: its folder exists and its name ends in `.ext`.
 fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
-    if file.extension().is_none_or(|e| !e.eq_ignore_ascii_case(ext) && !(ext == "yaml" && e == "yml")) {
+    let fits =
+        |e: &std::ffi::OsStr| e.eq_ignore_ascii_case(ext) || (ext == "yaml" && e.eq_ignore_ascii_case("yml"));
+    if !file.extension().is_some_and(fits) {
         return Err(Failure::input(format!("{flag} {}: name a .{ext} file", file.display())));
     }
     let dir = match file.parent() {
