@@ -35,7 +35,10 @@ use clap::{Parser, Subcommand, ValueEnum};
                   layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n  \
                   layflow compare scenarios/demo.yaml --demand 0.8,1.0,1.2\n  \
                   layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n  \
-                  layflow search scenarios/demo.yaml --out found.yaml --validate\n\n\
+                  layflow fleet scenarios/demo.yaml --fleet forklifts --sizes 1..5 --target 'move_wait_p95 <= 2 min'\n  \
+                  layflow search scenarios/demo.yaml --out found.yaml --validate\n  \
+                  layflow experiment scenarios/plans/overnight.yaml --out results\n  \
+                  layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed, 130 stopped by Ctrl-C."
 )]
 struct Cli {
