@@ -195,6 +195,38 @@ pub(crate) struct PlanDuty {
     pub(crate) on_at_start: bool,
 }
 
+/// Where a replication stands in a repeating [`PlanDuty`]: the period and
+/// the index of its next change (a department's shifts, a fleet's operators).
+#[derive(Debug, Clone, Copy, Default)]
+pub(crate) struct DutyCursor {
+    period: u64,
+    index: usize,
+}
+
+impl DutyCursor {
+    /// The cursor at time 0. A change at offset 0 of the first period is
+    /// the state at time 0 itself (`on_at_start`), so it is skipped.
+    pub(crate) fn start(duty: &PlanDuty) -> DutyCursor {
+        let n = duty.changes.len();
+        if duty.changes[0] == 0.0 {
+            DutyCursor { period: u64::from(n == 1), index: 1 % n }
+        } else {
+            DutyCursor::default()
+        }
+    }
+
+    /// The time of the next change, and advance past it.
+    pub(crate) fn advance(&mut self, duty: &PlanDuty) -> f64 {
+        let t = self.period as f64 * duty.period_s + duty.changes[self.index];
+        self.index += 1;
+        if self.index == duty.changes.len() {
+            self.index = 0;
+            self.period += 1;
+        }
+        t
+    }
+}
+
 impl PlanFleet {
     /// Seconds to drive `d` metres, loaded or empty: the trapezoidal profile
     /// with an acceleration (REFERENCES §8), constant speed without, divided

@@ -8,7 +8,7 @@ use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
 use super::stats::{FleetStats, RepStats, TICK_S};
-use super::{FleetSet, Plan, PlanArrivals, RunSpec};
+use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
 mod aisles;
@@ -197,9 +197,8 @@ struct Department {
     first_machine: u32,
     /// Inside a working window (always, without a calendar).
     on_shift: bool,
-    /// The next change of the calendar: period number and index into its changes.
-    duty_period: u64,
-    duty_index: usize,
+    /// The next change of the calendar.
+    duty: DutyCursor,
     /// Machines setting up.
     setup_level: TimeWeighted,
     /// Seconds off shift in the observation window (recorded when each off spell begins).
@@ -216,9 +215,8 @@ struct FleetState {
     on_duty: bool,
     /// Movers off duty where they stopped, until the operators come back.
     off: Vec<u32>,
-    /// The next duty change: period number and index into the plan's changes.
-    duty_period: u64,
-    duty_index: usize,
+    /// The next duty change.
+    duty: DutyCursor,
     /// Movers driving to the reserve.
     to_reserve: u32,
 }
@@ -392,8 +390,7 @@ impl<'a> PlantModel<'a> {
                     up_level,
                     first_machine,
                     on_shift: true,
-                    duty_period: 0,
-                    duty_index: 0,
+                    duty: DutyCursor::default(),
                     setup_level: TimeWeighted::new(0.0),
                     off_s: 0.0,
                 }
@@ -437,8 +434,7 @@ impl<'a> PlantModel<'a> {
                 acc: FleetStats::default(),
                 on_duty: true,
                 off: Vec::with_capacity(fleet.count as usize),
-                duty_period: 0,
-                duty_index: 0,
+                duty: DutyCursor::default(),
                 to_reserve: 0,
             });
         }
@@ -671,14 +667,8 @@ impl<'a> PlantModel<'a> {
                 self.load_shipped(id, now);
                 return;
             }
-            let flow = now - lot.born;
-            self.wip.add(now, -1.0);
-            if now >= self.window.0 {
-                self.shipped[p] += 1;
-                self.flow[p].add(flow);
-                self.flow_all.add(flow);
-                self.flow_hist.record(flow);
-            }
+            let born = lot.born;
+            self.ship(p, born, now);
             self.free_lots.push(id);
             return;
         }
@@ -688,6 +678,19 @@ impl<'a> PlantModel<'a> {
     }
 
     /// Start the lot's operation on a free machine, or queue it.
+    /// A lot of product `p`, released at `born`, leaves the plant at `now`:
+    /// it counts as shipped, with its flow time, if the window is open.
+    pub(super) fn ship(&mut self, p: usize, born: f64, now: f64) {
+        let flow = now - born;
+        self.wip.add(now, -1.0);
+        if now >= self.window.0 {
+            self.shipped[p] += 1;
+            self.flow[p].add(flow);
+            self.flow_all.add(flow);
+            self.flow_hist.record(flow);
+        }
+    }
+
     fn start_or_queue(&mut self, id: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         if self.plan.split && self.aux[id as usize].gathers {

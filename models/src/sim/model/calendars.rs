@@ -9,6 +9,7 @@
 use layflow_engine::Calendar;
 
 use super::{Event, PlantModel, NONE};
+use crate::sim::DutyCursor;
 
 impl PlantModel<'_> {
     /// Puts every department with a calendar in its state at time 0 and schedules its first change.
@@ -17,12 +18,7 @@ impl PlantModel<'_> {
             let Some(c) = self.plan.calendars[d].as_ref() else {
                 continue;
             };
-            let n = c.duty.changes.len();
-            // A change at offset 0 of the first period is the state at time 0 itself.
-            if c.duty.changes[0] == 0.0 {
-                self.departments[d].duty_index = 1 % n;
-                self.departments[d].duty_period = u64::from(n == 1);
-            }
+            self.departments[d].duty = DutyCursor::start(&c.duty);
             self.departments[d].on_shift = c.duty.on_at_start;
             let first = self.next_shift_change(d);
             if !c.duty.on_at_start {
@@ -37,14 +33,7 @@ impl PlantModel<'_> {
     /// The time of department `d`'s next calendar change, and advance past it.
     fn next_shift_change(&mut self, d: usize) -> f64 {
         let duty = &self.plan.calendars[d].as_ref().expect("a department with a calendar").duty;
-        let dep = &mut self.departments[d];
-        let t = dep.duty_period as f64 * duty.period_s + duty.changes[dep.duty_index];
-        dep.duty_index += 1;
-        if dep.duty_index == duty.changes.len() {
-            dep.duty_index = 0;
-            dep.duty_period += 1;
-        }
-        t
+        self.departments[d].duty.advance(duty)
     }
 
     /// Department `d`'s working window ends or begins now.

@@ -118,14 +118,8 @@ impl PlantModel<'_> {
             return;
         }
         let r = &self.lots[rec as usize];
-        let (p, flow) = (r.product as usize, now - r.born);
-        self.wip.add(now, -1.0);
-        if now >= self.window.0 {
-            self.shipped[p] += 1;
-            self.flow[p].add(flow);
-            self.flow_all.add(flow);
-            self.flow_hist.record(flow);
-        }
+        let (p, born) = (r.product as usize, r.born);
+        self.ship(p, born, now);
         let mut id = rec;
         while id != NONE {
             let next = self.aux[id as usize].next;

@@ -11,7 +11,7 @@ use layflow_engine::Calendar;
 
 use super::{Event, PlantModel, Request, NONE};
 use crate::plant::{DispatchRule, IdleRule};
-use crate::sim::FleetSet;
+use crate::sim::{DutyCursor, FleetSet};
 
 impl PlantModel<'_> {
     /// Send a lot from the department it is at to operation `op`; `set` is
@@ -482,14 +482,7 @@ impl PlantModel<'_> {
     /// The time of fleet `f`'s next duty change, and advance past it.
     fn next_duty_change(&mut self, f: usize) -> f64 {
         let duty = self.plan.fleets[f].duty.as_ref().expect("only fleets with a duty calendar change duty");
-        let fs = &mut self.fleets[f];
-        let t = fs.duty_period as f64 * duty.period_s + duty.changes[fs.duty_index];
-        fs.duty_index += 1;
-        if fs.duty_index == duty.changes.len() {
-            fs.duty_index = 0;
-            fs.duty_period += 1;
-        }
-        t
+        self.fleets[f].duty.advance(duty)
     }
 
     /// Puts fleet `f` in its duty state at time 0 and schedules its first change.
@@ -497,11 +490,7 @@ impl PlantModel<'_> {
         let Some(duty) = self.plan.fleets[f].duty.as_ref() else {
             return;
         };
-        // A change at offset 0 of the first period is the state at time 0 itself.
-        if duty.changes[0] == 0.0 {
-            self.fleets[f].duty_index = 1 % duty.changes.len();
-            self.fleets[f].duty_period = u64::from(duty.changes.len() == 1);
-        }
+        self.fleets[f].duty = DutyCursor::start(duty);
         let first = self.next_duty_change(f);
         if !duty.on_at_start {
             self.go_off_duty(f, 0.0, first);
