@@ -253,6 +253,11 @@ impl StaticPicture {
 
 /// Σ_ij flow_ij × d(location(i), location(j)) over a department-level flow matrix.
 pub fn load_distance(plant: &Plant, layout: usize, flow: &[f64]) -> f64 {
+    flow_weighted(plant, layout, flow, |d| d)
+}
+
+/// Σ_ij flow_ij × per_trip(d(location(i), location(j))) over the pairs with flow.
+fn flow_weighted(plant: &Plant, layout: usize, flow: &[f64], per_trip: impl Fn(f64) -> f64) -> f64 {
     let nd = plant.departments.len();
     let loc = &plant.layouts[layout].location_of;
     let mut z = 0.0;
@@ -260,7 +265,7 @@ pub fn load_distance(plant: &Plant, layout: usize, flow: &[f64]) -> f64 {
         for j in 0..nd {
             let f = flow[i * nd + j];
             if f != 0.0 {
-                z += f * plant.distance(loc[i], loc[j]);
+                z += f * per_trip(plant.distance(loc[i], loc[j]));
             }
         }
     }
@@ -326,18 +331,7 @@ fn travel_s_per_h(plant: &Plant, layout: usize, flow: &[f64], v: f64, accel: Opt
     let Some(a) = accel else {
         return load_distance(plant, layout, flow) / v;
     };
-    let nd = plant.departments.len();
-    let loc = &plant.layouts[layout].location_of;
-    let mut t = 0.0;
-    for i in 0..nd {
-        for j in 0..nd {
-            let f = flow[i * nd + j];
-            if f != 0.0 {
-                t += f * travel_time(plant.distance(loc[i], loc[j]), v, Some(a));
-            }
-        }
-    }
-    t
+    flow_weighted(plant, layout, flow, |d| travel_time(d, v, Some(a)))
 }
 
 fn layout_picture(plant: &Plant, layout: usize, from_to: &[f64], by_product: &[Vec<f64>]) -> LayoutPicture {
