@@ -208,7 +208,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     if shard == Shard::ALL {
         write_outputs(&args.out, &header, &units)?;
         let summary = results::summarize(&header, &units).map_err(Failure::run)?;
-        print!("{}", render(&summary, &header, plan.units()));
+        print!("{}", render(&summary, plan.units()));
         eprintln!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
     } else {
         output::write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
@@ -289,7 +289,7 @@ fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> S
         levels.join(", "),
         mine.len()
     );
-    if let Ok(sum) = results::summarize(&Header { points: header.points.clone(), ..header.clone() }, &mine) {
+    if let Ok(sum) = results::summarize(header, &mine) {
         let pt = &sum.points[p];
         if let Some(e) = estimate(pt, "flow_time_s") {
             s.push_str(&format!(", flow time {}", dur(&e)));
@@ -319,7 +319,7 @@ fn write_outputs(dir: &Path, header: &Header, units: &[Unit]) -> Result<(), Fail
 }
 
 /// One table row per design point: the headline metrics with 95% intervals.
-fn render(s: &Summary, header: &Header, total_units: u64) -> String {
+fn render(s: &Summary, total_units: u64) -> String {
     let done: usize = s.points.iter().map(|p| p.replications).sum();
     let mut out = format!(
         "Experiment {}…: {} design points, {done} of {total_units} units; ± is the 95% confidence half-width\n",
@@ -360,7 +360,6 @@ fn render(s: &Summary, header: &Header, total_units: u64) -> String {
         t.row(row);
     }
     out.push_str(&t.render(2));
-    let _ = header;
     out.push_str(
         "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
     );
@@ -411,7 +410,7 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
     output::prepare_dir(&args.out)?;
     write_outputs(&args.out, &header, &units)?;
     let summary = results::summarize(&header, &units).map_err(Failure::run)?;
-    print!("{}", render(&summary, &header, header.units));
+    print!("{}", render(&summary, header.units));
     eprintln!("merged {} folders into {}", args.dirs.len(), args.out.display());
     Ok(())
 }
@@ -429,7 +428,7 @@ pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
         );
     }
     match args.format {
-        SummaryFormat::Table => print!("{}", render(&summary, &c.header, c.header.units)),
+        SummaryFormat::Table => print!("{}", render(&summary, c.header.units)),
         SummaryFormat::Csv => print!("{}", String::from_utf8_lossy(&results::summary_csv(&summary))),
         SummaryFormat::Json => print!("{}", String::from_utf8_lossy(&results::summary_json(&summary))),
     }

@@ -636,10 +636,7 @@ fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
     if !file.extension().is_some_and(fits) {
         return Err(Failure::input(format!("{flag} {}: name a .{ext} file", file.display())));
     }
-    let dir = match file.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p,
-        _ => Path::new("."),
-    };
+    let dir = folder_of(file);
     if !dir.is_dir() {
         return Err(Failure::input(format!(
             "{flag} {}: the folder {} does not exist",
@@ -650,25 +647,23 @@ fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
     Ok(())
 }
 
-/// Write a result file atomically (temp file beside it, then rename).
-fn write_file(file: &Path, bytes: &[u8], flag: &str) -> Result<(), Failure> {
-    let dir = match file.parent() {
+/// The folder a file goes in (`.` for a bare name).
+fn folder_of(file: &Path) -> &Path {
+    match file.parent() {
         Some(p) if !p.as_os_str().is_empty() => p,
         _ => Path::new("."),
-    };
+    }
+}
+
+/// Write a result file atomically (temp file beside it, then rename); its
+/// path was checked by [`check_target`] before the search.
+fn write_file(file: &Path, bytes: &[u8], flag: &str) -> Result<(), Failure> {
     let name = file
         .file_name()
         .ok_or_else(|| Failure::input(format!("{flag} {}: not a file name", file.display())))?
         .to_string_lossy()
         .into_owned();
-    if !dir.is_dir() {
-        return Err(Failure::input(format!(
-            "{flag} {}: the folder {} does not exist",
-            file.display(),
-            dir.display()
-        )));
-    }
-    output::write_atomic(dir, &name, bytes)
+    output::write_atomic(folder_of(file), &name, bytes)
 }
 
 #[derive(Serialize)]

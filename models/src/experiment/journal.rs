@@ -65,6 +65,13 @@ impl std::fmt::Display for Shard {
     }
 }
 
+/// (design point, replication) of unit `u` when each point has `replications`
+/// consecutive units.
+pub fn unit_of(u: u64, replications: u32) -> (usize, u64) {
+    let r = u64::from(replications);
+    ((u / r) as usize, u % r)
+}
+
 /// The header line: what every unit line belongs to.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Header {
@@ -121,8 +128,7 @@ impl Header {
 
     /// The design point and replication of unit `u`.
     pub fn unit(&self, u: u64) -> (usize, u64) {
-        let r = u64::from(self.replications);
-        ((u / r) as usize, u % r)
+        unit_of(u, self.replications)
     }
 
     /// The same plan, whatever the shard.
@@ -254,7 +260,6 @@ pub fn read(path: &Path) -> Result<Contents, String> {
             start = i + 1;
         }
     }
-    let tail_unterminated = start < bytes.len();
     let header_line = lines.first().ok_or_else(|| {
         format!(
             "{}: no complete header line; the run stopped before it wrote one, so start afresh",
@@ -315,7 +320,6 @@ pub fn read(path: &Path) -> Result<Contents, String> {
             }
         }
     }
-    let _ = tail_unterminated;
     Ok(Contents { header, units, intact_bytes: intact as u64, torn_bytes: (bytes.len() - intact) as u64 })
 }
 

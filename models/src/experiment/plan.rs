@@ -123,8 +123,7 @@ impl Experiment {
 
     /// (design point, replication) of unit `u`: replications of a point are consecutive.
     pub fn unit(&self, u: u64) -> (usize, u64) {
-        let r = u64::from(self.replications);
-        ((u / r) as usize, u % r)
+        super::journal::unit_of(u, self.replications)
     }
 }
 
@@ -356,7 +355,7 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let mut h = Sha256::new();
     h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
     h.update(format!("{:?}\n{seed}\n{}\n", spec.replications, spec.common_random_numbers));
-    for (f, s) in factors.iter().zip(0..) {
+    for (s, f) in factors.iter().enumerate() {
         h.update(format!("factor {s} {:?}\n", f));
     }
     for (p, s) in points.iter().zip(&setups) {
