@@ -63,7 +63,7 @@ mod tests {
     fn t_quantiles_match_published_table() {
         // Exact t(0.975, df) values, as tabulated (NIST/SEMATECH e-Handbook of
         // Statistical Methods §1.3.6.7.2, 3 dp; more digits recomputed in
-        // shared/REFERENCES.md §6). Tolerance 1e-5 against the exact row.
+        // docs/formulas.md §6). Tolerance 1e-5 against the exact row.
         for (df, t) in [
             (1, 12.7062),
             (2, 4.30265),
@@ -81,7 +81,7 @@ mod tests {
 
     #[test]
     fn half_width_of_a_known_sample() {
-        // n = 10 with sample sd 0.5 gives 2.26216 × 0.5 / √10 = 0.357678 (REFERENCES §6).
+        // n = 10 with sample sd 0.5 gives 2.26216 × 0.5 / √10 = 0.357678 (docs/formulas.md §6).
         // Ten values ±a around 3 with a chosen so that s = 0.5: s² = 10a²/9.
         let a = (0.25f64 * 9.0 / 10.0).sqrt();
         let xs: Vec<f64> = (0..10).map(|i| if i % 2 == 0 { 3.0 + a } else { 3.0 - a }).collect();
@@ -105,7 +105,7 @@ mod tests {
         // deviations −1, 1, 0, 2, −2, squares sum 10; s² = 10/4 = 2.5,
         // s = 1.581139; s/√5 = √0.5 = 0.7071068. Half-width
         // t(0.975, 4)·s/√5 = 2.77645 × 0.7071068 = 1.963247, with t from
-        // NIST/SEMATECH e-Handbook §1.3.6.7.2 (REFERENCES §6).
+        // NIST/SEMATECH e-Handbook §1.3.6.7.2 (docs/formulas.md §6).
         let a = [12.5, 10.0, 14.25, 9.5, 11.0];
         let b = [10.5, 6.0, 11.25, 4.5, 10.0];
         let d = paired_difference(&a, &b, 0.95);

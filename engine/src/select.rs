@@ -335,7 +335,7 @@ mod tests {
 
     #[test]
     fn eta_and_h2_by_hand() {
-        // Formulas of Kim & Nelson (2001) as quoted in REFERENCES §13.
+        // Formulas of Kim & Nelson (2001) as quoted in docs/formulas.md §13.
         // k = 2, n₀ = 10, confidence 0.95: α = 0.05, 2α/(k−1) = 0.1,
         // 0.1^(−2/9) = 10^(2/9) = e^(0.222222·2.302585) = e^(0.511686) = 1.668101,
         // η = ½(1.668101 − 1) = 0.334050, h² = 2·0.334050·9 = 6.012905.
@@ -360,7 +360,7 @@ mod tests {
 
     #[test]
     fn bad_designs_are_rejected() {
-        // Conditions stated with the procedure (REFERENCES §13): k ≥ 2, n₀ ≥ 2,
+        // Conditions stated with the procedure (docs/formulas.md §13): k ≥ 2, n₀ ≥ 2,
         // δ > 0; confidence above 1/k, which random choice already achieves.
         let g = Goal::Maximize;
         assert_eq!(KimNelson::new(1, 10, 0.95, 1.0, g).unwrap_err(), SelectError::TooFewSystems { k: 1 });
@@ -462,7 +462,7 @@ mod tests {
     fn common_noise_stops_sooner() {
         // Same marginal variance 4.0625 either way; Var(X_i − X_l) is 0.125
         // with the shared term and 8.125 without (Var(D) = σ₁² + σ₂² − 2Cov,
-        // REFERENCES §13). The stopping stage scales with h²S²/δ² (17 against
+        // docs/formulas.md §13). The stopping stage scales with h²S²/δ² (17 against
         // ~1100 at most here), so a factor of 4 is a very safe margin.
         let crn = mean_stages(20, 2.0, 0.25, 5);
         let indep = mean_stages(20, 0.0, 4.0625f64.sqrt(), 5);

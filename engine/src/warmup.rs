@@ -117,7 +117,7 @@ pub fn mser_batched(series: &[f64], batch: usize) -> Option<Truncation> {
 mod tests {
     use super::*;
 
-    /// The 40 raw values of the worked example in shared/REFERENCES.md §12.
+    /// The 40 raw values of the worked example in docs/formulas.md §12.
     const EXAMPLE: [f64; 40] = [
         9.0, 8.0, 7.0, 8.0, 8.0, 5.0, 4.0, 4.0, 3.0, 4.0, 2.0, 3.0, 2.0, 2.0, 2.0, 2.0, 1.0, 2.0, 2.0, 2.0,
         2.0, 2.0, 3.0, 2.0, 1.0, 3.0, 2.0, 2.0, 2.0, 2.0, 1.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0, 2.0,
@@ -125,7 +125,7 @@ mod tests {
 
     #[test]
     fn mser5_matches_worked_example() {
-        // Batch means and MSER-5(d), d = 0..4, from REFERENCES §12 (values
+        // Batch means and MSER-5(d), d = 0..4, from docs/formulas.md §12 (values
         // given to 6 s.f., so tolerance 1e-6 absolute on numbers < 1).
         let means: Vec<f64> = EXAMPLE.chunks_exact(5).map(|c| c.iter().sum::<f64>() / 5.0).collect();
         for (got, want) in means.iter().zip([8.0, 4.0, 2.2, 1.8, 2.0, 2.2, 1.8, 2.0]) {
@@ -135,7 +135,7 @@ mod tests {
             let got = mser_statistic(&means, d).unwrap();
             assert!((got - want).abs() < 1e-6, "d {d}: {got} vs {want}");
         }
-        // REFERENCES §12: d* = 2, so 10 raw observations go; truncated mean 2.0.
+        // docs/formulas.md §12: d* = 2, so 10 raw observations go; truncated mean 2.0.
         let t = mser5(&EXAMPLE).unwrap();
         assert_eq!(t.batches_deleted, 2);
         assert_eq!(t.observations_deleted, 10);
@@ -146,7 +146,7 @@ mod tests {
 
     #[test]
     fn guard_excludes_the_one_batch_tail() {
-        // REFERENCES §12: d = 7 leaves one batch and gives 0, which must not win.
+        // docs/formulas.md §12: d = 7 leaves one batch and gives 0, which must not win.
         let means = [8.0, 4.0, 2.2, 1.8, 2.0, 2.2, 1.8, 2.0];
         assert_eq!(mser_statistic(&means, 7), Some(0.0));
         assert_eq!(mser_statistic(&means, 8), None);
@@ -155,7 +155,7 @@ mod tests {
 
     #[test]
     fn raw_mser_matches_worked_example() {
-        // REFERENCES §12: batch size 1, d ≤ 20: d* = 12, MSER 0.00633200,
+        // docs/formulas.md §12: batch size 1, d ≤ 20: d* = 12, MSER 0.00633200,
         // truncated mean 1.96429 (= 55/28; 6 s.f. given, tolerance 5e-6).
         let t = mser(&EXAMPLE).unwrap();
         assert_eq!(t.batches_deleted, 12);
@@ -212,7 +212,7 @@ mod tests {
     fn large_level_small_spread_keeps_its_digits() {
         // The worked example shifted by 1e9: every MSER(d) is unchanged in
         // exact arithmetic, so d* and the statistics must still match
-        // REFERENCES §12. The raw values stay exact integers, so raw MSER is
+        // docs/formulas.md §12. The raw values stay exact integers, so raw MSER is
         // held to the reference's own 6 s.f. (1e-8). The batch means such as
         // 1e9 + 2.2 are rounded on input by up to ½ulp(1e9) = 6e-8, which moves
         // Σ(x − x̄)² by up to 2·Σ|x − x̄|·6e-8 = 2·0.8·6e-8 ≈ 1e-7 and MSER-5(2)

@@ -11,6 +11,7 @@ pub mod scenario;
 pub mod search;
 pub mod sim;
 pub mod sizing;
+pub mod suggest;
 pub mod travel;
 pub mod units;
 

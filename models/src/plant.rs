@@ -251,7 +251,7 @@ pub struct Breakdowns {
 
 impl Breakdowns {
     /// MTBF ÷ (MTBF + MTTR): the long-run share of time up of an alternating
-    /// up/down process (REFERENCES §14; Barlow and Proschan 1975). With
+    /// up/down process (docs/formulas.md §14; Barlow and Proschan 1975). With
     /// failures counted in busy time it is the factor by which capacity
     /// shrinks when fully loaded: each busy hour brings MTTR/MTBF hours of repair.
     pub fn availability(&self) -> f64 {
@@ -455,7 +455,7 @@ pub struct Operators {
     /// Share of time that is productive (0 < e <= 1). Travel and handling
     /// times are divided by it: it stands for traffic, operator delays and
     /// other lost time, as the efficiency factor of the fleet-size planning
-    /// formula does (REFERENCES §7).
+    /// formula does (docs/formulas.md §7).
     pub efficiency: f64,
     /// Working windows (shifts less breaks); `None`: on duty all the time.
     pub duty: Option<DutyCalendar>,

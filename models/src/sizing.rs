@@ -522,17 +522,17 @@ mod tests {
     use super::*;
 
     /// |got − want| within half a unit of the last of six significant
-    /// figures, the precision at which REFERENCES.md prints its values.
+    /// figures, the precision at which docs/formulas.md prints its values.
     fn close6(got: f64, want: f64) -> bool {
         (got - want).abs() <= 5e-6 * want.abs().max(1.0)
     }
 
-    // ---- Delivery-cycle form: REFERENCES.md §7, Groover check ----
+    // ---- Delivery-cycle form: docs/formulas.md §7, Groover check ----
 
     const FT: f64 = 0.3048; // international foot, m (exact by definition)
 
     fn groover_problem() -> (DeliveryCycle, Availability) {
-        // REFERENCES.md §7: L_d = 500 ft, L_e = 350 ft, v = 300 ft/min,
+        // docs/formulas.md §7: L_d = 500 ft, L_e = 350 ft, v = 300 ft/min,
         // T_L = T_U = 0.5 min, A = 0.95, T_f = 0.85, E_w = 0.90; converted to SI.
         let v = 300.0 * FT / 60.0;
         let cycle = DeliveryCycle {
@@ -549,7 +549,7 @@ mod tests {
 
     #[test]
     fn delivery_cycle_matches_groover_check() {
-        // REFERENCES.md §7 (Groover, material transport systems): R_f = 60/h gives
+        // docs/formulas.md §7 (Groover, material transport systems): R_f = 60/h gives
         // Tc = 3.83333 min, AT = 43.6050 min, R_dv = 11.3752/h, n = 5.27462 → 6.
         let (cycle, factors) = groover_problem();
         let est = delivery_cycle_fleet(&cycle, 60.0, &factors).unwrap();
@@ -573,9 +573,9 @@ mod tests {
         assert!(delivery_cycle_fleet(&cycle, -1.0, &factors).is_err());
     }
 
-    // ---- From-to chart form: REFERENCES.md §7, from-to chart check ----
+    // ---- From-to chart form: docs/formulas.md §7, from-to chart check ----
 
-    /// REFERENCES.md §7: A(0,0), B(40,0), C(40,30) m, rectilinear;
+    /// docs/formulas.md §7: A(0,0), B(40,0), C(40,30) m, rectilinear;
     /// loads/h A→B 20, B→C 16, A→C 8, C→B 6.
     fn chart() -> (Vec<f64>, Vec<f64>) {
         #[rustfmt::skip]
@@ -594,7 +594,7 @@ mod tests {
         (flow, dist)
     }
 
-    /// REFERENCES.md §7: v_L = 2.0 m/s, v_E = 2.5 m/s, h = 1.0 min per trip.
+    /// docs/formulas.md §7: v_L = 2.0 m/s, v_E = 2.5 m/s, h = 1.0 min per trip.
     const CHART_MOVER: MoverSpec =
         MoverSpec { speed_loaded: 2.0, speed_empty: 2.5, accel: None, handling_s_per_trip: 60.0 };
 
@@ -604,14 +604,14 @@ mod tests {
 
     #[test]
     fn net_flow_matches_reference() {
-        // REFERENCES.md §7: net flow A −28, B +10, C +18.
+        // docs/formulas.md §7: net flow A −28, B +10, C +18.
         let net = net_flow(&chart().0).unwrap();
         assert_eq!(net, vec![-28.0, 10.0, 18.0]);
     }
 
     #[test]
     fn minimum_empty_flow_matches_reference() {
-        // REFERENCES.md §7: 50 trips, 2020 m/h loaded; empties C→A 18 and
+        // docs/formulas.md §7: 50 trips, 2020 m/h loaded; empties C→A 18 and
         // B→A 10, 1660 m/h; 16.8333 + 11.0667 + 50 = 77.9 min/h, η = 0.85,
         // so N = 1.52745 → 2.
         let (flow, dist) = chart();
@@ -640,7 +640,7 @@ mod tests {
 
     #[test]
     fn conservative_rule_matches_reference() {
-        // REFERENCES.md §7, approximation (a): 80.3 min/h, N = 1.57451.
+        // docs/formulas.md §7, approximation (a): 80.3 min/h, N = 1.57451.
         let (flow, dist) = chart();
         let est = from_to_fleet(&flow, &dist, &CHART_MOVER, EmptyRule::SameAsLoaded, 0.85).unwrap();
         assert!((est.empty_m_per_h - 2020.0).abs() < 1e-9);
@@ -653,7 +653,7 @@ mod tests {
     #[test]
     fn acceleration_limit_uses_the_travel_profile_per_trip() {
         // One load an hour over 50 m and another over 5 m, v = 2 m/s, a = 0.5 m/s²:
-        // REFERENCES.md §8 gives 29 s and 6.32456 s per trip. The empties run
+        // docs/formulas.md §8 gives 29 s and 6.32456 s per trip. The empties run
         // the same legs back (B→A and C→A are the only surplus → deficit pairs).
         #[rustfmt::skip]
         let flow = vec![
@@ -866,14 +866,14 @@ products:
     fn load_text(yaml: &str) -> (Plant, StaticPicture) {
         let plant = crate::parse_scenario(yaml, std::path::Path::new("sizing-check.yaml"))
             .unwrap_or_else(|e| panic!("{e}"));
-        // Demand factor 2 makes the inner flows those of the REFERENCES.md §7 chart.
+        // Demand factor 2 makes the inner flows those of the docs/formulas.md §7 chart.
         let pic = StaticPicture::new(&plant, 2.0);
         (plant, pic)
     }
 
     #[test]
     fn plant_estimate_includes_dock_moves() {
-        // Hand computation with the REFERENCES.md §7 from-to formula. At demand
+        // Hand computation with the docs/formulas.md §7 from-to formula. At demand
         // ×2 the flows are the §7 chart (A→B 20, B→C 16, A→C 8, C→B 6) plus the
         // dock moves the file's header lists, doubled: receiving→A 28 (10 m),
         // B→shipping 10 (40 m), C→shipping 18 (10 m): 106 trips, 2880 m/h.
@@ -925,7 +925,7 @@ products:
     #[test]
     fn plant_estimate_uses_the_fleets_acceleration() {
         // The carts of the previous test with a = 0.5 m/s² at v = 1 m/s: every
-        // leg is at least 10 m, beyond v²/a = 2 m, so by REFERENCES.md §8 each
+        // leg is at least 10 m, beyond v²/a = 2 m, so by docs/formulas.md §8 each
         // trip takes d/v + v/a = d + 2 s. Loaded: 720 + 24 × 2 = 768 s/h;
         // empty: 8 × (90 + 2) = 736 s/h; handling 480 s/h; 1984 s/h in all.
         let yaml = plant_yaml(true).replace(

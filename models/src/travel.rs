@@ -42,7 +42,7 @@ mod tests {
 
     #[test]
     fn references_section_8_first_check() {
-        // REFERENCES.md §8, v = 2 m/s, a = 0.5 m/s², switch at v²/a = 8 m.
+        // docs/formulas.md §8, v = 2 m/s, a = 0.5 m/s², switch at v²/a = 8 m.
         let (v, a) = (2.0, Some(0.5));
         assert!((cruise_distance(2.0, 0.5) - 8.0).abs() < 1e-12);
         // §8: d = 50 m gives 29 s (trapezoid: 50/2 + 2/0.5).
@@ -59,7 +59,7 @@ mod tests {
 
     #[test]
     fn references_section_8_second_check() {
-        // REFERENCES.md §8: v = 3 m/s, a = 0.6 m/s², d = 60 m gives 25 s.
+        // docs/formulas.md §8: v = 3 m/s, a = 0.6 m/s², d = 60 m gives 25 s.
         assert!((travel_time(60.0, 3.0, Some(0.6)) - 25.0).abs() < 1e-9);
     }
 
@@ -79,7 +79,7 @@ mod tests {
 
     #[test]
     fn continuous_at_the_switch_point() {
-        // Both branches equal 2v/a at d = v²/a (REFERENCES.md §8 derivation),
+        // Both branches equal 2v/a at d = v²/a (docs/formulas.md §8 derivation),
         // so a step of 1e-9 m either side moves t by about 1e-9/v s there.
         for &(v, a) in &[(2.0, 0.5), (3.0, 0.6), (1.2, 0.3), (0.7, 2.0)] {
             let s = cruise_distance(v, a);

@@ -2,7 +2,7 @@
 //!
 //! Three kinds of helper live here: queueing formulas written out so that the
 //! tests can compare the simulation with theory (each unit-tested against the
-//! worked numbers of `shared/REFERENCES.md` in `tests/tests/queueing.rs`),
+//! worked numbers of `docs/formulas.md` in `tests/tests/queueing.rs`),
 //! a runner that loads a validation scenario and replicates it with the run
 //! settings the file itself states, and a [`Checks`] table that compares an
 //! estimate with a theoretical value under a stated tolerance, prints
@@ -27,13 +27,13 @@ pub const HOUR: f64 = 3600.0;
 /// by the stable recursion B(0) = 1, B(k) = a·B(k−1) / (k + a·B(k−1)).
 ///
 /// Source: the standard Erlang B recursion (from memory); cross-checked in the
-/// tests against REFERENCES §1 (B(3, 2.4) = 0.268406).
+/// tests against docs/formulas.md §1 (B(3, 2.4) = 0.268406).
 pub fn erlang_b(c: u32, a: f64) -> f64 {
     (1..=c).fold(1.0, |b, k| a * b / (f64::from(k) + a * b))
 }
 
 /// Erlang C probability of waiting C(c, a) for an M/M/c queue with offered load
-/// `a` = λ/μ < c, written as in REFERENCES §1 (the form of GNU Octave
+/// `a` = λ/μ < c, written as in docs/formulas.md §1 (the form of GNU Octave
 /// `queueing` `erlangc`): [aᶜ/c!·c/(c−a)] / [Σ_{k<c} aᵏ/k! + aᶜ/c!·c/(c−a)].
 ///
 /// # Panics
@@ -74,7 +74,7 @@ impl QueueMeans {
     }
 }
 
-/// M/M/c means: Wq = C(c, a)/(cμ − λ), W = Wq + 1/μ, Lq = λWq, L = λW (REFERENCES §1).
+/// M/M/c means: Wq = C(c, a)/(cμ − λ), W = Wq + 1/μ, Lq = λWq, L = λW (docs/formulas.md §1).
 pub fn mmc(c: u32, lambda: f64, mu: f64) -> QueueMeans {
     let a = lambda / mu;
     let cf = f64::from(c);
@@ -83,7 +83,7 @@ pub fn mmc(c: u32, lambda: f64, mu: f64) -> QueueMeans {
 }
 
 /// M/G/1 means by the Pollaczek–Khinchine mean-value formula
-/// Wq = ρτ(1 + c_s²)/(2(1 − ρ)), with ρ = λτ (REFERENCES §2; Cooper 1981, p. 189).
+/// Wq = ρτ(1 + c_s²)/(2(1 − ρ)), with ρ = λτ (docs/formulas.md §2; Cooper 1981, p. 189).
 ///
 /// # Panics
 /// If ρ >= 1.
@@ -259,7 +259,7 @@ impl Checks {
     }
 }
 
-/// Little's law, L = λW (REFERENCES §4; Little 1961), on one run.
+/// Little's law, L = λW (docs/formulas.md §4; Little 1961), on one run.
 ///
 /// Per replication the identity is exact up to the window's edges: ∫WIP over
 /// the window and Σ flow times of the lots shipped in it differ only by the

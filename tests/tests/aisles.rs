@@ -241,7 +241,7 @@ const LANE: &str = "validation/aisles-single-lane.yaml";
 
 /// The single-lane plant (its comment derives the numbers): the lane is an
 /// M/D/1 server with λ = 42/h and τ = 60 s, so by Pollaczek–Khinchine
-/// (REFERENCES §2, Cooper 1981 p. 189) a cart waits Wq = ρτ/(2(1 − ρ)) = 70 s
+/// (docs/formulas.md §2, Cooper 1981 p. 189) a cart waits Wq = ρτ/(2(1 − ρ)) = 70 s
 /// at its entry, the lane holds ρ = 0.7 carts on average and the fleet of 30
 /// loses λ·Wq/30 of its time to congestion. Tolerance: 3 half-widths of the
 /// 20-replication interval (a 0.3% chance of a false alarm per check, if the

@@ -3,7 +3,7 @@
 //! Sources:
 //! - Thinning: P. A. W. Lewis and G. S. Shedler, "Simulation of
 //!   nonhomogeneous Poisson processes by thinning", Naval Research Logistics
-//!   Quarterly 26(3):403–413, 1979 (REFERENCES §13): the count of arrivals
+//!   Quarterly 26(3):403–413, 1979 (docs/formulas.md §13): the count of arrivals
 //!   in [a, b] is Poisson with mean ∫ₐᵇ λ(t) dt, so its mean and variance
 //!   both equal that integral, and counts over disjoint intervals are
 //!   independent.
@@ -228,7 +228,7 @@ fn the_demand_factor_scales_trace_quantities_in_expectation() {
 
 #[test]
 fn arrivals_do_not_depend_on_the_layout() {
-    // Common random numbers (REFERENCES §13, paired comparisons need one
+    // Common random numbers (docs/formulas.md §13, paired comparisons need one
     // stream per source of randomness): the profiled product, the trace
     // product and the constant-rate product of the variable-demand demo
     // release the same lots at the same times under both layouts, whose

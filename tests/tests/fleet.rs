@@ -29,9 +29,9 @@ fn spec(plant: &Plant, replications_seed: u64) -> RunSpec {
 fn analytic_utilisation_matches_a_deterministic_return_home_mover() {
     // One mover, one move per lot (receiving → shipping), fixed times, back
     // home after each delivery: its busy time per request is exactly
-    // τ = load + loaded + unload + empty return = 180 s (REFERENCES §15), so
+    // τ = load + loaded + unload + empty return = 180 s (docs/formulas.md §15), so
     // utilisation = λτ = 15/h × 180 s = 0.75. The facilities-planning formula
-    // (REFERENCES §7, from-to chart form) gives the same busy time with either
+    // (docs/formulas.md §7, from-to chart form) gives the same busy time with either
     // empty-travel rule, because every empty trip is the loaded one reversed.
     let plant = load("validation/mover-md1.yaml");
     let pic = StaticPicture::new(&plant, 1.0);

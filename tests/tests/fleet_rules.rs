@@ -42,7 +42,7 @@ fn acceleration_follows_the_trapezoidal_profile() {
     let mut c = Checks::new(file);
     let fl = &plant.fleets()[0];
     c.exact("acceleration 0.5 m/s2 in m/s²", 0.5, fl.accel.unwrap_or(f64::NAN), 0.0);
-    // REFERENCES §8 (v = 2 m/s, a = 0.5 m/s²): 50 m takes 29 s (trapezoid),
+    // docs/formulas.md §8 (v = 2 m/s, a = 0.5 m/s²): 50 m takes 29 s (trapezoid),
     // 5 m takes 2·√(5/0.5) = 6.32456 s (triangle), 55 m takes 27.5 + 4 = 31.5 s.
     let (t50, t5, t55) = (29.0, 2.0 * 10f64.sqrt(), 31.5);
     c.exact("§8: 2·√10 s printed as 6.32456 s", 6.32456, t5, 5e-6);
@@ -75,7 +75,7 @@ fn moves_go_to_the_first_listed_fleet_allowed_by_serves_and_weight() {
     let file = "validation/fleet-assignment.yaml";
     let plant = load(file);
     let mut c = Checks::new(file);
-    // REFERENCES §10 (free walking 1.2–1.4 m/s) and common practice (10 s a
+    // docs/formulas.md §10 (free walking 1.2–1.4 m/s) and common practice (10 s a
     // tote): the walkers' defaults, since the scenario gives neither.
     let w = &plant.fleets()[1];
     c.exact("walker default speed loaded", 1.2, w.speed_loaded, 0.0);
@@ -179,7 +179,7 @@ fn requests_are_served_only_on_duty_and_scheduled_time_is_the_calendar() {
     let file = "validation/operators-shifts.yaml";
     let mut plant = load(file);
     let mut c = Checks::new(file);
-    // Efficiency divides every time (REFERENCES §7, the efficiency factor of
+    // Efficiency divides every time (docs/formulas.md §7, the efficiency factor of
     // the fleet-size formulas): a move of 24 + 60 + 24 s at 0.8 takes 135 s.
     let fl = &plant.fleets()[0];
     let duty = fl.operators.duty.as_ref().expect("a duty calendar");
@@ -260,7 +260,7 @@ fn every_rule_at_once_keeps_littles_law_and_repeats_exactly() {
     let plant = load(file);
     let mut c = Checks::new(file);
     let run = run_layout(&plant, 0);
-    // Little (REFERENCES §4): L = λW on every run, with the edge bound 2W/T.
+    // Little (docs/formulas.md §4): L = λW on every run, with the edge bound 2W/T.
     layflow_tests::check_little(&mut c, file, &run, layflow_tests::little_edge_bound(&run));
     // Every product still ships at its demand (nothing piles up for good):
     // 9 lots/h in all, within 3 half-widths (common practice).
@@ -275,7 +275,7 @@ fn every_rule_at_once_keeps_littles_law_and_repeats_exactly() {
         .zip(&again.reps)
         .all(|(a, b)| a.flow_time_all == b.flow_time_all && a.fleets == b.fleets);
     c.holds("every replication repeats exactly", same);
-    // Common random numbers (Law, as in REFERENCES §13): the fleet rules draw
+    // Common random numbers (Law, as in docs/formulas.md §13): the fleet rules draw
     // nothing, so the lots released are the same with plain fleets.
     let mut plain = plant.clone();
     plain.fleet_choice = FleetChoice::FirstListed;

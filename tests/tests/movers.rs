@@ -24,7 +24,7 @@ const POWER: f64 = 0.04;
 /// Largest tolerance allowed for time shares, rates and distances per hour.
 const POWER_TIGHT: f64 = 0.01;
 
-/// One mover, one move per lot: an M/D/1 server of move requests (REFERENCES §15).
+/// One mover, one move per lot: an M/D/1 server of move requests (docs/formulas.md §15).
 ///
 /// `stays`: the mover waits at shipping after a delivery (`when_idle: stay`),
 /// so each request's move wait includes its 40 s empty trip to receiving;
@@ -38,7 +38,7 @@ fn mover_md1(file: &str, stays: bool) {
     c.relative("loaded speed 5.4 km/h in m/s", 1.5, fl.speed_loaded, 1e-12);
     c.relative("empty speed 8.1 km/h in m/s", 2.25, fl.speed_empty, 1e-12);
 
-    // REFERENCES §15: τ = empty travel + load + d/v_L + unload, the empty trip
+    // docs/formulas.md §15: τ = empty travel + load + d/v_L + unload, the empty trip
     // being the one home (go-home) or the one to the next pick-up (stay).
     let d = plant.distance(0, 1);
     c.relative("rectilinear (0,0)-(60,30) = 90 m", 90.0, d, 1e-12);
@@ -48,7 +48,7 @@ fn mover_md1(file: &str, stays: bool) {
     c.relative("τ = 45 + 60 + 35 + 40 = 180 s", 180.0, tau, 1e-12);
     let lambda = 15.0 / HOUR; // requests per second: one move per lot
     let th = pollaczek_khinchine(lambda, tau, 0.0);
-    // M/D/1 (REFERENCES §2 with c_s² = 0): Wq = λτ²/(2(1−ρ)) = 270 s, ρ = 0.75.
+    // M/D/1 (docs/formulas.md §2 with c_s² = 0): Wq = λτ²/(2(1−ρ)) = 270 s, ρ = 0.75.
     c.relative("theory: Wq = λτ²/(2(1−ρ)) = 270 s", 270.0, th.wq, 1e-12);
     c.relative("theory: ρ = λτ = 0.75", 0.75, th.rho, 1e-12);
     // Move wait = request → mover at the pick-up.
@@ -73,7 +73,7 @@ fn mover_md1(file: &str, stays: bool) {
     c.estimate("mean move wait (s)", wait, &f.move_wait_s, K, b(wait), POWER);
     c.estimate("mean move wait, every fleet (s)", wait, &plain(&s.move_wait_s), K, b(wait), POWER);
     c.estimate("fleet utilisation = ρ", th.rho, &f.utilization, K, b(th.rho), POWER_TIGHT);
-    // Time shares = phase duration × λ (REFERENCES §15).
+    // Time shares = phase duration × λ (docs/formulas.md §15).
     let shares = [
         ("handling share = (45 + 35) s × λ = 1/3", (t_load + t_unload) * lambda, &f.handling_share),
         ("loaded travel share = 60 s × λ = 1/4", t_loaded * lambda, &f.loaded_travel_share),
@@ -100,7 +100,7 @@ fn mover_md1(file: &str, stays: bool) {
     let flow = wait + t_load + t_loaded + t_unload;
     c.relative("theory: flow time = wait + 140 s", wait + 140.0, flow, 1e-12);
     c.estimate("mean flow time (s)", flow, &plain(&s.flow_time_s), K, b(flow), POWER);
-    // Little (REFERENCES §4) on the parts: WIP = λ·flow, transit = λ·140 s,
+    // Little (docs/formulas.md §4) on the parts: WIP = λ·flow, transit = λ·140 s,
     // waiting at receiving = λ·wait.
     c.estimate("WIP = λ × flow time", lambda * flow, &s.wip_mean, K, b(lambda * flow), POWER);
     let transit = lambda * 140.0;
@@ -169,7 +169,7 @@ fn travel_times_follow_distance_and_speed_in_km_per_h() {
     // By hand (see the scenario): every lot takes 72 + 300 + 106 = 478 s.
     let flow_by_hand = (20.0 + 42.0 + 10.0) + 300.0 + (28.0 + 20.0 + 48.0 + 10.0);
     // The same from the formula Tc = T_L + L_d/v_L + T_U (+ L_e/v_E for the
-    // empty trip to the bay), REFERENCES §7.
+    // empty trip to the bay), docs/formulas.md §7.
     let flow_formula =
         (fl.load_s + 70.0 / v_l + fl.unload_s) + 300.0 + (70.0 / v_e + fl.load_s + 80.0 / v_l + fl.unload_s);
     c.relative("theory: flow time by hand = by the formula", flow_by_hand, flow_formula, 1e-12);
@@ -315,7 +315,7 @@ fn demo_plant_keeps_littles_law_and_its_static_load_distance() {
         );
         for (fi, f) in s.fleets.iter().enumerate() {
             // Loaded travel + handling is exactly what the static bound counts
-            // (REFERENCES §7, the from-to form without its empty-travel term):
+            // (docs/formulas.md §7, the from-to form without its empty-travel term):
             // in expectation, trips/h × (load + unload) + Σ f·d / v_L per mover.
             // The half-width of the sum is taken as the sum of half-widths
             // (conservative: it ignores that the two shares are correlated).
@@ -333,7 +333,7 @@ fn demo_plant_keeps_littles_law_and_its_static_load_distance() {
                 0.04,
             );
             // Every routed move is one trip, so moves/h = the fleet's share of the
-            // from-to chart (REFERENCES §9 flows, summed over the chart).
+            // from-to chart (docs/formulas.md §9 flows, summed over the chart).
             let trips = run.picture.layouts[l].fleet_trips_per_h[fi];
             c.estimate(
                 &format!("{name}/{}: moves/h = static trips/h", f.fleet),
@@ -347,7 +347,7 @@ fn demo_plant_keeps_littles_law_and_its_static_load_distance() {
         for d in &s.departments {
             if d.utilization_predicted > 0.0 {
                 // Work conservation: a stable department's utilisation is
-                // λE[S]/c whatever the distributions (REFERENCES §1's ρ = a/c;
+                // λE[S]/c whatever the distributions (docs/formulas.md §1's ρ = a/c;
                 // the G/G/c form is from memory). This also checks that each
                 // distribution family samples with the mean the static side uses.
                 c.estimate(

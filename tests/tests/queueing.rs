@@ -1,7 +1,7 @@
 //! Queueing theory against the simulation: M/M/1, M/M/c (Erlang C), M/D/1 and M/G/1 (Pollaczek–Khinchine), and an open Jackson network with rework.
 //!
 //! Formula tests pin the helpers in `layflow_tests` to the worked numbers of
-//! `shared/REFERENCES.md` (relative 1e-6 or better, as that file asks).
+//! `docs/formulas.md` (relative 1e-6 or better, as docs/validation.md asks).
 //!
 //! Simulation tests run each `scenarios/validation/*.yaml` file with its own
 //! run settings and compare replication estimates with theory. How the
@@ -45,17 +45,17 @@ const POWER_TIGHT: f64 = 0.01;
 
 #[test]
 fn erlang_c_matches_the_reference_values() {
-    let mut c = Checks::new("Erlang B and C formulas (REFERENCES §1)");
-    // REFERENCES §1 [C] (Erlang C as in GNU Octave `queueing` `erlangc`):
+    let mut c = Checks::new("Erlang B and C formulas (docs/formulas.md §1)");
+    // docs/formulas.md §1 [C] (Erlang C as in GNU Octave `queueing` `erlangc`):
     // C(3, 2.4) = 288/445 exactly, C(3, 2) = 4/9 exactly.
     c.relative("C(3, 2.4) = 288/445", 288.0 / 445.0, erlang_c(3, 2.4), 1e-12);
     c.exact("C(3, 2.4) vs printed 0.647191", 0.647191, erlang_c(3, 2.4), 5e-7);
     c.relative("C(3, 2) = 4/9", 4.0 / 9.0, erlang_c(3, 2.0), 1e-12);
-    // One server: C(1, a) = a, the M/M/1 probability of waiting (REFERENCES §1, P(wait) = ρ).
+    // One server: C(1, a) = a, the M/M/1 probability of waiting (docs/formulas.md §1, P(wait) = ρ).
     c.relative("C(1, 0.8) = 0.8", 0.8, erlang_c(1, 0.8), 1e-12);
-    // REFERENCES §3 table, station 2: P(wait) = 0.676761 for c = 2, a = 4.65/3.
+    // docs/formulas.md §3 table, station 2: P(wait) = 0.676761 for c = 2, a = 4.65/3.
     c.exact("C(2, 1.55) vs printed 0.676761", 0.676761, erlang_c(2, 1.55), 5e-7);
-    // Cross-check with Erlang B (REFERENCES §1): B(3, 2.4) = 0.268406 and
+    // Cross-check with Erlang B (docs/formulas.md §1): B(3, 2.4) = 0.268406 and
     // C = cB/(c − a(1 − B)).
     let b = erlang_b(3, 2.4);
     c.exact("B(3, 2.4) vs printed 0.268406", 0.268406, b, 5e-7);
@@ -68,7 +68,7 @@ fn erlang_c_matches_the_reference_values() {
     // B(1, a) = a/(1 + a) (from memory: the one-server loss system).
     c.relative("B(1, 2) = 2/3", 2.0 / 3.0, erlang_b(1, 2.0), 1e-12);
 
-    // M/M/3 means, REFERENCES §1: Wq = 96/89 h, Lq = 2.58876, W = 2.07865 h, L = 4.98876.
+    // M/M/3 means, docs/formulas.md §1: Wq = 96/89 h, Lq = 2.58876, W = 2.07865 h, L = 4.98876.
     let m = mmc(3, 2.4, 1.0);
     c.relative("M/M/3 Wq = 96/89 h", 96.0 / 89.0, m.wq, 1e-12);
     // Exact: Lq = 2.4·96/89 = 230.4/89, L = 2.4·185/89 = 444/89; the printed
@@ -79,12 +79,12 @@ fn erlang_c_matches_the_reference_values() {
     c.exact("M/M/3 W vs printed 2.07865", 2.07865, m.w, 5e-6);
     c.exact("M/M/3 L vs printed 4.98876", 4.98876, m.l, 5e-6);
     c.relative("M/M/3 rho", 0.8, m.rho, 1e-12);
-    // M/M/1, REFERENCES §1: λ = 4, μ = 5 gives L = 4, Lq = 3.2, W = 1 h, Wq = 0.8 h.
+    // M/M/1, docs/formulas.md §1: λ = 4, μ = 5 gives L = 4, Lq = 3.2, W = 1 h, Wq = 0.8 h.
     let m = mmc(1, 4.0, 5.0);
     for (what, want, got) in [("L", 4.0, m.l), ("Lq", 3.2, m.lq), ("W", 1.0, m.w), ("Wq", 0.8, m.wq)] {
         c.relative(&format!("M/M/1 {what}"), want, got, 1e-12);
     }
-    // REFERENCES §3 table, station 2 (c = 2, λ = 4.65, μ = 3): Lq 2.33106, L 3.88106, W 0.834637 h.
+    // docs/formulas.md §3 table, station 2 (c = 2, λ = 4.65, μ = 3): Lq 2.33106, L 3.88106, W 0.834637 h.
     let m = mmc(2, 4.65, 3.0);
     // Printed to 6 figures: half a unit in the last place.
     c.exact("M/M/2 station 2 Lq vs printed 2.33106", 2.33106, m.lq, 5e-6);
@@ -95,7 +95,8 @@ fn erlang_c_matches_the_reference_values() {
 
 #[test]
 fn pollaczek_khinchine_matches_the_reference_table() {
-    let mut c = Checks::new("Pollaczek–Khinchine mean-value formula (REFERENCES §2; Cooper 1981, p. 189)");
+    let mut c =
+        Checks::new("Pollaczek–Khinchine mean-value formula (docs/formulas.md §2; Cooper 1981, p. 189)");
     // λ = 0.8/h, τ = 1 h. Rows (c_s², Wq, Lq, W, L) as exact fractions of the
     // printed table: deterministic (2, 1.6, 3, 2.4), Erlang-2 (3, 2.4, 4, 3.2),
     // exponential (4, 3.2, 5, 4), Uniform[0.5, 1.5] (13/6, 26/15, 19/6, 38/15).
@@ -174,7 +175,7 @@ fn single_station(
 
 #[test]
 fn mm1_single_machine() {
-    // REFERENCES §1: λ = 4/h, μ = 5/h: ρ = 0.8, L = 4, Lq = 3.2, W = 1 h, Wq = 0.8 h.
+    // docs/formulas.md §1: λ = 4/h, μ = 5/h: ρ = 0.8, L = 4, Lq = 3.2, W = 1 h, Wq = 0.8 h.
     let th = mmc(1, 4.0, 5.0);
     assert!(
         (th.l - 4.0).abs() < 1e-12 && (th.w - 1.0).abs() < 1e-12,
@@ -216,7 +217,7 @@ fn mm1_flow_time_percentiles() {
 #[test]
 fn demand_factor_scales_the_arrival_rate() {
     // The M/M/1 plant at demand factor 0.5: λ = 2/h, μ = 5/h, so ρ = 0.4,
-    // L = 0.4/0.6 = 2/3, W = 1/(5 − 2) = 1/3 h (REFERENCES §1 formulas).
+    // L = 0.4/0.6 = 2/3, W = 1/(5 − 2) = 1/3 h (docs/formulas.md §1 formulas).
     // ρ = 0.4 relaxes in 1/(μ(1−√ρ)²) = 1.5 h, so 40 × 5,000 h after 100 h of
     // warm-up give half-widths near 0.5%.
     let plant = load("validation/mm1.yaml");
@@ -245,7 +246,7 @@ fn demand_factor_scales_the_arrival_rate() {
 
 #[test]
 fn mmc_erlang_c_three_machines() {
-    // REFERENCES §1: c = 3, λ = 2.4/h, μ = 1/h: Wq = 1.07865 h, L = 4.98876, W = 2.07865 h.
+    // docs/formulas.md §1: c = 3, λ = 2.4/h, μ = 1/h: Wq = 1.07865 h, L = 4.98876, W = 2.07865 h.
     let th = mmc(3, 2.4, 1.0);
     assert!((th.wq - 1.07865).abs() < 5e-6 && (th.l - 4.98876).abs() < 5e-6);
     single_station("validation/mmc-erlang-c.yaml", "lathes", 2.4, 1.0, th, &[]);
@@ -253,10 +254,10 @@ fn mmc_erlang_c_three_machines() {
 
 #[test]
 fn md1_constant_processing() {
-    // REFERENCES §2 table, deterministic row: W = 3 h, L = 2.4.
+    // docs/formulas.md §2 table, deterministic row: W = 3 h, L = 2.4.
     let th = pollaczek_khinchine(0.8, 1.0, 0.0);
     assert!((th.w - 3.0).abs() < 1e-12 && (th.l - 2.4).abs() < 1e-12);
-    // REFERENCES §2 rows it must not match: Uniform W = 19/6 h (5.6% higher), Erlang-2 W = 4 h.
+    // docs/formulas.md §2 rows it must not match: Uniform W = 19/6 h (5.6% higher), Erlang-2 W = 4 h.
     single_station(
         "validation/md1.yaml",
         "station",
@@ -269,12 +270,12 @@ fn md1_constant_processing() {
 
 #[test]
 fn mg1_erlang2_processing() {
-    // REFERENCES §2 table, Erlang-2 row (c_s² = 1/2): W = 4 h, L = 3.2. Its
+    // docs/formulas.md §2 table, Erlang-2 row (c_s² = 1/2): W = 4 h, L = 3.2. Its
     // distance from the M/D/1 row (W = 3 h) is 33%, far outside either
     // tolerance, so together they show that c_s² matters.
     let th = pollaczek_khinchine(0.8, 1.0, 0.5);
     assert!((th.w - 4.0).abs() < 1e-12);
-    // REFERENCES §2 rows it must not match: M/D/1 W = 3 h, exponential W = 5 h.
+    // docs/formulas.md §2 rows it must not match: M/D/1 W = 3 h, exponential W = 5 h.
     single_station(
         "validation/mg1-erlang2.yaml",
         "station",
@@ -287,11 +288,11 @@ fn mg1_erlang2_processing() {
 
 #[test]
 fn mg1_uniform_processing() {
-    // REFERENCES §2 table, Uniform[0.5, 1.5] row (c_s² = 1/12): W = 3.16667 h, L = 2.53333.
+    // docs/formulas.md §2 table, Uniform[0.5, 1.5] row (c_s² = 1/12): W = 3.16667 h, L = 2.53333.
     // It lies 5.6% above M/D/1 (3 h), so the row also tells c_s² = 1/12 from 0.
     let th = pollaczek_khinchine(0.8, 1.0, 1.0 / 12.0);
     assert!((th.w - 19.0 / 6.0).abs() < 1e-12);
-    // REFERENCES §2 rows it must not match: M/D/1 W = 3 h, Erlang-2 W = 4 h.
+    // docs/formulas.md §2 rows it must not match: M/D/1 W = 3 h, Erlang-2 W = 4 h.
     single_station(
         "validation/mg1-uniform.yaml",
         "station",
@@ -315,7 +316,7 @@ fn jackson_network_with_rework() {
     let idx: Vec<usize> = stations.iter().map(|s| department(&plant, s)).collect();
 
     // Static picture: the traffic equations λ = γ + Pᵀλ give λ = (4, 4.65, 6.25)
-    // (REFERENCES §3), which must come out of the visit ratios to 1e-9.
+    // (docs/formulas.md §3), which must come out of the visit ratios to 1e-9.
     let pic = StaticPicture::new(&plant, 1.0);
     for (k, want) in [4.0, 4.65, 6.25].into_iter().enumerate() {
         c.relative(&format!("static λ at {}", stations[k]), want, pic.arrivals_per_h[idx[k]], 1e-9);
@@ -323,7 +324,7 @@ fn jackson_network_with_rework() {
     // Visit ratios per product, by hand: strap v2 = 0.6 + 0.2 v3, v3 = 0.4 + v2
     // gives (1, 0.85, 1.25); clip v2 = 1 + 0.2 v3, v3 = v2 gives (1.25, 1.25);
     // shipping is visited once. Weighted by γ they give the network's
-    // visit ratios per external arrival (0.8, 0.93, 1.25) of REFERENCES §3.
+    // visit ratios per external arrival (0.8, 0.93, 1.25) of docs/formulas.md §3.
     let strap = visit_ratios(&plant, 0).expect("strap routing solves");
     let clip = visit_ratios(&plant, 1).expect("clip routing solves");
     for (k, want) in [1.0, 0.85, 1.25, 1.0].into_iter().enumerate() {
@@ -336,12 +337,12 @@ fn jackson_network_with_rework() {
         c.relative(&format!("network visit ratio v{}", k + 1), want, pic.arrivals_per_h[idx[k]] / 5.0, 1e-9);
     }
 
-    // Theory per station from M/M/c (REFERENCES §3 table): c = (1, 2, 1), μ = (5, 3, 8).
+    // Theory per station from M/M/c (docs/formulas.md §3 table): c = (1, 2, 1), μ = (5, 3, 8).
     let th: Vec<QueueMeans> =
         [(1, 4.0, 5.0), (2, 4.65, 3.0), (1, 6.25, 8.0)].iter().map(|&(m, l, mu)| mmc(m, l, mu)).collect();
     let l_total: f64 = th.iter().map(|t| t.l).sum();
-    c.relative("theory: network L = 11.4525 (REFERENCES §3)", 11.4525, l_total, 1e-5);
-    c.relative("theory: network W = L/5 = 2.29050 h (REFERENCES §3)", 2.29050, l_total / 5.0, 1e-5);
+    c.relative("theory: network L = 11.4525 (docs/formulas.md §3)", 11.4525, l_total, 1e-5);
+    c.relative("theory: network W = L/5 = 2.29050 h (docs/formulas.md §3)", 2.29050, l_total / 5.0, 1e-5);
     // Per product: W = Σ visits × station W (in a FIFO network whose
     // exponential rates do not depend on the class, every class sees the same
     // station sojourn time).

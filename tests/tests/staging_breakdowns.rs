@@ -24,7 +24,7 @@ fn est(e: &Option<Estimate>) -> Estimate {
 
 #[test]
 fn mm1k_with_lost_arrivals_matches_gross_and_harris() {
-    // M/M/1/K, lambda = 4/h, mu = 5/h, K = 5 (REFERENCES §14; Gross,
+    // M/M/1/K, lambda = 4/h, mu = 5/h, K = 5 (docs/formulas.md §14; Gross,
     // Shortle, Thompson and Harris, Fundamentals of Queueing Theory, 4th ed.,
     // finite queues): P_n = (1 − ρ)ρⁿ/(1 − ρ^{K+1}).
     let (lambda, rho, k) = (4.0, 0.8_f64, 5);
@@ -32,7 +32,7 @@ fn mm1k_with_lost_arrivals_matches_gross_and_harris() {
     let p_k = (1.0 - rho) * rho.powi(k) / norm;
     let l = rho / (1.0 - rho) - f64::from(k + 1) * rho.powi(k + 1) / norm;
     let mut c = Checks::new("M/M/1/K with lost arrivals (Gross & Harris)");
-    // REFERENCES §14 prints P_K = 0.0888 to 3 significant figures.
+    // docs/formulas.md §14 prints P_K = 0.0888 to 3 significant figures.
     c.exact("P_K vs the printed 0.0888", 0.0888, p_k, 5e-5);
     let plant = load("validation/mm1k-turn-away.yaml");
     let run = run_layout(&plant, 0);
@@ -192,7 +192,7 @@ fn two_station_line_with_blocking_matches_its_markov_chain() {
 
 #[test]
 fn machine_availability_is_mtbf_over_mtbf_plus_mttr() {
-    // A = MTBF/(MTBF + MTTR) = 2/(2 + 0.5) (REFERENCES §14; Barlow and Proschan 1975, from memory).
+    // A = MTBF/(MTBF + MTTR) = 2/(2 + 0.5) (docs/formulas.md §14; Barlow and Proschan 1975, from memory).
     let plant: Plant = load("validation/machine-availability.yaml");
     let a = 2.0 / 2.5;
     let lathe = department(&plant, "lathe");

@@ -1,7 +1,7 @@
 //! The static picture of a hand-checked plant: from-to chart, visit ratios with a rework loop, load-distance per layout (rectilinear and Euclidean) and the fleet's static figures.
 //!
 //! Everything here is arithmetic, so every check is exact up to floating
-//! point: relative 1e-9 (REFERENCES asks for 1e-6 on formula code; the sums
+//! point: relative 1e-9 (docs/validation.md asks for 1e-6 on formula code; the sums
 //! here have a handful of terms, so 1e-9 is ample and still catches any
 //! wrong flow or distance). The plant is `scenarios/validation/hand-checked-static.yaml`
 //! and its Euclidean copy; its comment gives the routings.
@@ -29,7 +29,7 @@ fn from_to_by_hand() -> Vec<(usize, usize, f64)> {
 
 #[test]
 fn from_to_chart_matches_the_hand_calculation() {
-    let mut c = Checks::new("from-to chart (REFERENCES §9 flows A→B 10, B→C 8, A→C 4, C→B 3)");
+    let mut c = Checks::new("from-to chart (docs/formulas.md §9 flows A→B 10, B→C 8, A→C 4, C→B 3)");
     for file in [RECT, EUCL] {
         let plant = load(file);
         let ix = depts(&plant);
@@ -109,7 +109,7 @@ fn visit_ratios_and_department_loads_by_hand() {
     c.finish();
 }
 
-/// The A, B, C part of a chart: the flows REFERENCES §9 tabulates.
+/// The A, B, C part of a chart: the flows docs/formulas.md §9 tabulates.
 fn abc_only(plant: &Plant, from_to: &[f64]) -> Vec<f64> {
     let ix = depts(plant);
     let nd = plant.departments.len();
@@ -122,7 +122,7 @@ fn abc_only(plant: &Plant, from_to: &[f64]) -> Vec<f64> {
     out
 }
 
-/// Checks every layout's load-distance against the REFERENCES §9 table (A, B, C
+/// Checks every layout's load-distance against the docs/formulas.md §9 table (A, B, C
 /// flows) and, with the dock moves added by hand, against the picture's total.
 ///
 /// `d_in[k]` is the distance from dock-in (−10, 0) to L(k+1), `d_out[k]` from
@@ -136,7 +136,7 @@ fn check_layouts(c: &mut Checks, file: &str, table: [f64; 6], d_in: [f64; 3], d_
     for (l, (perm, z)) in perms.iter().zip(table).enumerate() {
         let name = &plant.layouts[l].name;
         c.relative(
-            &format!("{file} {name}: Σ f·d over A, B, C (REFERENCES §9)"),
+            &format!("{file} {name}: Σ f·d over A, B, C (docs/formulas.md §9)"),
             z,
             load_distance(&plant, l, &abc),
             REL,
@@ -162,12 +162,12 @@ fn check_layouts(c: &mut Checks, file: &str, table: [f64; 6], d_in: [f64; 3], d_
 
 #[test]
 fn load_distance_per_layout_matches_the_reference_table() {
-    let mut c = Checks::new("load-distance per layout (REFERENCES §9, Koopmans–Beckmann with c = 0)");
-    // Distances: L1(0,0)–L3(40,30) is 70 rectilinear and 50 Euclidean (REFERENCES §9).
+    let mut c = Checks::new("load-distance per layout (docs/formulas.md §9, Koopmans–Beckmann with c = 0)");
+    // Distances: L1(0,0)–L3(40,30) is 70 rectilinear and 50 Euclidean (docs/formulas.md §9).
     let (rect, eucl) = (load(RECT), load(EUCL));
     c.relative("rectilinear L1–L3 = 70 m", 70.0, rect.distance(0, 2), REL);
     c.relative("Euclidean L1–L3 = 50 m", 50.0, eucl.distance(0, 2), REL);
-    // REFERENCES §9 rows; the dock distances by hand: rectilinear dock-in to
+    // docs/formulas.md §9 rows; the dock distances by hand: rectilinear dock-in to
     // L1, L2, L3 = 10, 50, 50 + 30; L1, L2, L3 to dock-out = 50 + 30, 10 + 30, 10.
     check_layouts(
         &mut c,
@@ -190,11 +190,11 @@ fn load_distance_per_layout_matches_the_reference_table() {
 
 #[test]
 fn fleet_static_figures_at_double_demand() {
-    // REFERENCES §7 (from-to chart form, [M] Tompkins et al.): at twice the
+    // docs/formulas.md §7 (from-to chart form, [M] Tompkins et al.): at twice the
     // §9 flows — A→B 20, B→C 16, A→C 8, C→B 6, 50 trips — layout (1,2,3) has
     // 2020 m/h loaded, i.e. 2020/2.0 m/s = 16.8333 min/h of loaded travel, and
     // 50 trips × 1 min of handling.
-    let mut c = Checks::new("fleet static figures (REFERENCES §7)");
+    let mut c = Checks::new("fleet static figures (docs/formulas.md §7)");
     let plant = load(RECT);
     let pic = StaticPicture::new(&plant, 2.0);
     let abc = abc_only(&plant, &pic.from_to);

@@ -6,11 +6,12 @@
 
 use std::path::Path;
 
-use super::error::{did_you_mean, name_list, ErrorKind, ScenarioError};
+use super::error::{ErrorKind, ScenarioError};
 use super::locate::{line_of, FieldPath};
 use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
 use super::{demand, distance, fleet, routing, staging, work};
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
+use crate::suggest::{did_you_mean, name_list};
 use crate::units::format_duration;
 
 /// Default number of replications when the scenario gives none.

@@ -12,10 +12,11 @@
 use std::path::Path;
 
 use super::compile::Ctx;
-use super::error::{did_you_mean, name_list, ScenarioError};
+use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{ProductSpec, Scenario};
 use crate::plant::{Demand, Order, OrderTrace, Product, Profile};
+use crate::suggest::{did_you_mean, name_list};
 use crate::units::{format_duration, parse_duration};
 
 /// The columns of an order trace, in the order the messages list them.

@@ -13,11 +13,12 @@
 //! paths over the network's segments ([`crate::network`]).
 
 use super::compile::{check_unique, resolve, Ctx};
-use super::error::{did_you_mean, ScenarioError};
+use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{AislesSpec, DistanceSpec, MatrixSource, Scenario};
 use crate::network::{AisleNetwork, AisleNode, NetworkError, Segment};
 use crate::plant::{DistanceRule, Location};
+use crate::suggest::did_you_mean;
 
 /// The rule, the row-major n×n matrix, and the aisle network where there is one.
 pub(crate) fn compile(

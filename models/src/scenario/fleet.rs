@@ -1,17 +1,18 @@
 //! How loads move: instant moves, or fleets of forklifts, tow carts and walkers, and which fleet may serve which move.
 
 use super::compile::{check_unique, resolve, Ctx};
-use super::error::{did_you_mean, name_list, ScenarioError};
+use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::operators::operators;
 use super::schema::{DispatchSpec, FleetSpec, IdleSpec, KindSpec, Scenario};
 use crate::plant::{
     Department, DispatchRule, Fleet, Handling, Home, IdleRule, Location, MoveFilter, MoverKind, Product,
 };
+use crate::suggest::{did_you_mean, name_list};
 use crate::units::format_weight;
 
 /// A walker's speed, loaded and empty, when the scenario gives none, m/s:
-/// free walking is about 1.2–1.4 m/s (REFERENCES §10, common practice); the
+/// free walking is about 1.2–1.4 m/s (docs/formulas.md §10, common practice); the
 /// low end, since the walker carries something.
 const WALKER_SPEED: f64 = 1.2;
 /// A walker's time to pick up or set down a tote when the scenario gives none, s (common practice).

@@ -24,7 +24,7 @@ use std::path::Path;
 pub use error::{ErrorKind, ScenarioError};
 
 use crate::plant::Plant;
-use error::{closest, name_list};
+use crate::suggest::{closest, name_list};
 
 /// Reads, checks and compiles the scenario file at `path`.
 pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {

@@ -2,11 +2,12 @@
 
 use super::compile::{check_unique, resolve, Ctx};
 use super::demand;
-use super::error::{did_you_mean, name_list, ScenarioError};
+use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{DistSpec, Scenario, StepSpec};
 use crate::dist::Dist;
 use crate::plant::{Department, DepartmentRole, Operation, Product};
+use crate::suggest::{did_you_mean, name_list};
 use crate::units::format_duration;
 
 /// How far branch probabilities may sum from 1 (hand-typed decimals).

@@ -229,7 +229,7 @@ impl DutyCursor {
 
 impl PlanFleet {
     /// Seconds to drive `d` metres, loaded or empty: the trapezoidal profile
-    /// with an acceleration (REFERENCES §8), constant speed without, divided
+    /// with an acceleration (docs/formulas.md §8), constant speed without, divided
     /// by the operators' efficiency. Exactly d/v for the defaults.
     #[inline]
     pub(crate) fn travel_s(&self, d: f64, loaded: bool) -> f64 {
