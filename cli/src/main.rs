@@ -1,27 +1,22 @@
-//! The layflow command line: verbs on a scenario file.
+//! The layflow command line: the command tree and dispatch; each command lives in `commands/`.
 //!
-//! Human tables go to stdout, diagnostics and progress to stderr. Exit codes:
-//! 0 success, 2 bad input (scenario or arguments), 1 the run itself failed.
+//! `settings.rs` resolves what every command shares (scenario, layouts,
+//! horizon, warm-up, replications, seed, threads, demand); `commands/` holds
+//! one file per command; `render/` draws their output (tables, charts, the
+//! plant, progress, one colour palette). Human tables go to stdout,
+//! diagnostics and progress to stderr. Exit codes: 0 success, 2 bad input
+//! (scenario or arguments), 1 the run itself failed.
 
-mod check;
-mod compare;
-mod draw;
-mod experiment;
-mod fleet;
-mod output;
-mod plot;
-mod progress;
-mod run;
-mod search;
-mod select;
-mod table;
-mod target;
-mod warmup;
+mod commands;
+mod failure;
+mod render;
+mod settings;
 
-use std::path::Path;
 use std::process::ExitCode;
 
-use clap::{Parser, Subcommand, ValueEnum};
+use clap::{Parser, Subcommand};
+
+use commands::{check, compare, draw, experiment, fleet, run, search};
 
 /// Simulate work in process moving through a plant laid out by departments,
 /// and compare layouts on throughput, WIP, flow time and handling cost.
@@ -35,7 +30,7 @@ use clap::{Parser, Subcommand, ValueEnum};
                   layflow run scenarios/demo.yaml --layout proposed --replications 40 --format json\n  \
                   layflow compare scenarios/demo.yaml --demand 0.8,1.0,1.2\n  \
                   layflow compare scenarios/demo.yaml --select --indifference \"3 min\"\n  \
-                  layflow fleet scenarios/demo.yaml --fleet forklifts --sizes 1..5 --target 'move_wait_p95 <= 2 min'\n  \
+                  layflow fleet scenarios/demo.yaml --fleet forklifts --sizes 1..5 --target 'move_wait_p95_s <= 2 min'\n  \
                   layflow search scenarios/demo.yaml --out found.yaml --validate\n  \
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
                   layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
@@ -76,45 +71,6 @@ enum Command {
     Draw(draw::DrawArgs),
 }
 
-/// Output format shared by the commands.
-#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
-pub enum Format {
-    /// Aligned tables for people.
-    Table,
-    /// JSON for programs.
-    Json,
-}
-
-/// A failure with its exit code: 2 for bad input, 1 for a failed run.
-pub struct Failure {
-    code: u8,
-    message: String,
-}
-
-impl Failure {
-    /// Bad input: the scenario or an argument.
-    pub fn input(message: impl Into<String>) -> Failure {
-        Failure { code: 2, message: message.into() }
-    }
-    /// The run itself failed.
-    pub fn run(message: impl Into<String>) -> Failure {
-        Failure { code: 1, message: message.into() }
-    }
-    /// Stopped by Ctrl-C: 130, the shell's code for an interrupt.
-    pub fn interrupted(message: impl Into<String>) -> Failure {
-        Failure { code: 130, message: message.into() }
-    }
-    /// The message shown to the user.
-    pub fn message(&self) -> &str {
-        &self.message
-    }
-}
-
-/// Load a scenario, turning its error into a bad-input failure.
-pub fn load(path: &Path) -> Result<layflow_models::plant::Plant, Failure> {
-    layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
-}
-
 /// Leave quietly when stdout is closed early (`layflow ... | head`): Rust
 /// ignores SIGPIPE, so `print!` panics on the broken pipe instead; a reader
 /// that has seen enough is not an error worth a backtrace.
@@ -152,7 +108,7 @@ fn main() -> ExitCode {
     match result {
         Ok(()) => ExitCode::SUCCESS,
         Err(f) => {
-            let msg = f.message.trim_end();
+            let msg = f.message().trim_end();
             if msg.starts_with("error") {
                 eprintln!("{msg}");
             } else {

@@ -63,12 +63,14 @@ fn out_dir_gets_tidy_csv_summary_and_json() {
         .starts_with("demand_factor,layout,scope,subject,metric,mean,half_width,n,baseline,difference"));
     let _: serde_json::Value =
         serde_json::from_str(&std::fs::read_to_string(d.join("summary.json")).unwrap()).unwrap();
-    // No temporary file is left behind.
+    // No temporary file is left behind: the three results and the manifest that says a comparison wrote them.
     let names: Vec<String> = std::fs::read_dir(&d)
         .unwrap()
         .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
         .collect();
-    assert_eq!(names.len(), 3, "{names:?}");
+    assert_eq!(names.len(), 4, "{names:?}");
+    let manifest = std::fs::read_to_string(d.join("layflow-results.json")).unwrap();
+    assert!(manifest.contains("\"kind\": \"compare\""), "{manifest}");
 }
 
 #[test]

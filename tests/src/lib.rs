@@ -12,9 +12,10 @@ use std::path::{Path, PathBuf};
 
 use layflow_engine::interval;
 use layflow_models::analysis::StaticPicture;
+use layflow_models::metrics::{summarize, DurationEstimate, Estimate, LayoutSummary};
 use layflow_models::plant::Plant;
-use layflow_models::report::{replicate, summarize, DurationEstimate, Estimate, LayoutSummary};
 use layflow_models::sim::{Plan, RepStats, RunSpec};
+use layflow_models::study::replicate;
 
 /// Seconds per hour, for converting the model's seconds to the hours of the references.
 pub const HOUR: f64 = 3600.0;

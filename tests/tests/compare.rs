@@ -1,7 +1,7 @@
 //! Comparing layouts: common random numbers shrink the paired interval, and compare's numbers match run's.
 
 use layflow_engine::{interval, paired_difference};
-use layflow_models::compare::{find_metric, metrics, values, values_mean};
+use layflow_models::metrics::{find_metric, metrics, values, values_mean};
 use layflow_models::sim::RunSpec;
 use layflow_tests::{load, run_spec};
 
@@ -63,7 +63,7 @@ fn compare_metrics_average_to_run_summaries() {
     let r = run_spec(&plant, spec(&plant, 1, 7), 4);
     let list = metrics(&plant);
     let rows: Vec<Vec<f64>> = r.reps.iter().map(|x| values(&plant, x)).collect();
-    let get = |label: &str| values_mean(&rows, find_metric(&list, label).unwrap()).unwrap();
+    let get = |label: &str| values_mean(&rows, find_metric(&list, label).unwrap().0).unwrap();
     let s = &r.summary;
     let close = |a: f64, b: f64| (a - b).abs() <= 1e-9 * b.abs().max(1.0);
     assert!(close(get("throughput_per_h"), s.throughput_per_h.mean));
@@ -79,7 +79,7 @@ fn compare_metrics_average_to_run_summaries() {
     assert!(close(get(&format!("{f}/utilization")), s.fleets[0].utilization.mean));
     assert!(close(get(&format!("{f}/handling_cost_per_h")), s.fleets[0].handling_cost_per_h.mean));
     // And the spread: the interval over the same values is run's interval.
-    let col: Vec<f64> = rows.iter().map(|v| v[find_metric(&list, "flow_time_s").unwrap()]).collect();
+    let col: Vec<f64> = rows.iter().map(|v| v[find_metric(&list, "flow_time_s").unwrap().0]).collect();
     let iv = interval(&col, 0.95);
     assert!(close(iv.half_width.unwrap(), s.flow_time_s.half_width.unwrap()));
 }

@@ -119,8 +119,8 @@ fn mover_md1(file: &str, stays: bool) {
 }
 
 /// A duration estimate without its percentiles.
-fn plain(d: &layflow_models::report::DurationEstimate) -> layflow_models::report::Estimate {
-    layflow_models::report::Estimate { mean: d.mean, half_width: d.half_width, n: d.n }
+fn plain(d: &layflow_models::metrics::DurationEstimate) -> layflow_models::metrics::Estimate {
+    layflow_models::metrics::Estimate { mean: d.mean, half_width: d.half_width, n: d.n }
 }
 
 #[test]
@@ -319,7 +319,7 @@ fn demo_plant_keeps_littles_law_and_its_static_load_distance() {
             // in expectation, trips/h × (load + unload) + Σ f·d / v_L per mover.
             // The half-width of the sum is taken as the sum of half-widths
             // (conservative: it ignores that the two shares are correlated).
-            let busy = layflow_models::report::Estimate {
+            let busy = layflow_models::metrics::Estimate {
                 mean: f.loaded_travel_share.mean + f.handling_share.mean,
                 half_width: Some(hw(&f.loaded_travel_share) + hw(&f.handling_share)),
                 n: f.loaded_travel_share.n,

@@ -202,7 +202,7 @@ fn mm1_flow_time_percentiles() {
         let q = (1.0f64 / (1.0 - p)).ln() / (5.0 - 4.0);
         let per_rep: Vec<f64> = run.reps.iter().map(|r| r.flow_hist.quantile(p) / HOUR).collect();
         let iv = layflow_engine::interval(&per_rep, 0.95);
-        let e = layflow_models::report::Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n };
+        let e = layflow_models::metrics::Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n };
         let bias = (BIAS_REL + 1e-3) * q;
         // p99 rests on the 1% tail of each replication, so it is the noisiest:
         // we ask its tolerance to stay under 6% (a 10% error in it fails).

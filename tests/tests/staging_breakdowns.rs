@@ -9,8 +9,8 @@
 //! Each row must also be sharp: its tolerance may not exceed 4% of theory
 //! (1% for availabilities and throughputs), so it would catch a 5% error.
 
+use layflow_models::metrics::Estimate;
 use layflow_models::plant::Plant;
-use layflow_models::report::Estimate;
 use layflow_tests::{department, load, run_layout, scaled, Checks};
 
 const K: f64 = 3.0;

@@ -18,7 +18,7 @@ use serde::{Deserialize, Serialize};
 
 use crate::sim::{RepStats, TICK_S};
 
-use super::plan::Experiment;
+use super::plan::{unit_of, Experiment};
 
 /// The results file's name inside an output folder.
 pub const FILE: &str = "units.jsonl";
@@ -65,13 +65,6 @@ impl std::fmt::Display for Shard {
     }
 }
 
-/// (design point, replication) of unit `u` when each point has `replications`
-/// consecutive units.
-pub fn unit_of(u: u64, replications: u32) -> (usize, u64) {
-    let r = u64::from(replications);
-    ((u / r) as usize, u % r)
-}
-
 /// The header line: what every unit line belongs to.
 #[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
 pub struct Header {
@@ -115,7 +108,7 @@ impl Header {
             replications: exp.replications,
             factors: exp.factors.iter().map(|f| f.name.clone()).collect(),
             points: exp.points.iter().map(|p| p.labels()).collect(),
-            metrics: crate::compare::metrics(&exp.setups[0].plant)
+            metrics: crate::metrics::metrics(&exp.setups[0].plant)
                 .into_iter()
                 .map(|m| MetricName {
                     scope: m.scope.as_str().into(),
@@ -169,7 +162,7 @@ impl Unit {
             point,
             replication,
             events: rep.events,
-            values: crate::compare::values(&exp.setups[point].plant, rep)
+            values: crate::metrics::values(&exp.setups[point].plant, rep)
                 .into_iter()
                 .map(|v| v.is_finite().then_some(v))
                 .collect(),

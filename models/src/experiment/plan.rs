@@ -115,6 +115,13 @@ pub struct Setup {
     pub spec: RunSpec,
 }
 
+/// (design point, replication) of unit `u` when each point has `replications`
+/// consecutive units: the numbering every journal, shard and merge shares.
+pub fn unit_of(u: u64, replications: u32) -> (usize, u64) {
+    let r = u64::from(replications);
+    ((u / r) as usize, u % r)
+}
+
 impl Experiment {
     /// Units of work: design points × replications.
     pub fn units(&self) -> u64 {
@@ -123,7 +130,7 @@ impl Experiment {
 
     /// (design point, replication) of unit `u`: replications of a point are consecutive.
     pub fn unit(&self, u: u64) -> (usize, u64) {
-        super::journal::unit_of(u, self.replications)
+        unit_of(u, self.replications)
     }
 }
 
@@ -340,9 +347,9 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
         setups.push(Setup { plant, spec });
     }
     // Every point must report the same metrics, so results line up in one table.
-    let first = crate::compare::metrics(&setups[0].plant).iter().map(|m| m.label()).collect::<Vec<_>>();
+    let first = crate::metrics::metrics(&setups[0].plant).iter().map(|m| m.label()).collect::<Vec<_>>();
     for (p, s) in setups.iter().enumerate().skip(1) {
-        let here: Vec<String> = crate::compare::metrics(&s.plant).iter().map(|m| m.label()).collect();
+        let here: Vec<String> = crate::metrics::metrics(&s.plant).iter().map(|m| m.label()).collect();
         if here != first {
             return Err(err(
                 file,

@@ -7,7 +7,7 @@
 use layflow_engine::{interval, TickHistogram};
 use serde::Serialize;
 
-use crate::report::CONFIDENCE;
+use crate::metrics::CONFIDENCE;
 use crate::sim::TICK_S;
 
 use super::journal::{Header, Unit};

@@ -1,223 +1,47 @@
-//! `layflow run`: simulate layouts over replications and report with confidence intervals.
+//! `run`'s report: what it prints as JSON, and the tables per layout and side by side.
 
 use std::fmt::Write as _;
-use std::path::PathBuf;
-use std::time::Instant;
 
-use clap::Args;
-use layflow_models::analysis::StaticPicture;
+use layflow_models::metrics::LayoutSummary;
 use layflow_models::plant::{DepartmentRole, Plant};
-use layflow_models::report::{replicate, summarize, LayoutSummary};
-use layflow_models::sim::{Plan, RunSpec};
-use layflow_models::units::parse_duration;
+use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
-use crate::check::{demand_factor, warn_overload};
-use crate::progress::Progress;
-use crate::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
-use crate::warmup::{self, WarmupChoice};
-use crate::{load, Failure, Format};
+use super::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
 
-/// Run settings shared by the commands that simulate; each overrides the scenario's `run:` value.
-#[derive(Args, Debug, Clone)]
-pub struct SimOptions {
-    /// Replications (overrides run.replications).
-    #[arg(long, value_name = "N")]
-    pub replications: Option<u32>,
-    /// Base seed of every random stream (overrides run.seed).
-    #[arg(long, value_name = "S")]
-    pub seed: Option<u64>,
-    /// Simulated time per replication, warm-up included, e.g. "30 d" (overrides run.horizon).
-    #[arg(long, value_name = "DURATION")]
-    pub horizon: Option<String>,
-    /// Statistics are cleared at this time, e.g. "2 d", or "auto" to choose it with MSER-5
-    /// from pilot runs (overrides run.warmup).
-    #[arg(long, value_name = "DURATION|auto")]
-    pub warmup: Option<String>,
-    /// Worker threads for replications (default: every core). Results do not depend on it.
-    #[arg(long, value_name = "K")]
-    pub threads: Option<usize>,
-    /// No progress bar.
-    #[arg(long, short)]
-    pub quiet: bool,
-    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
-    #[arg(long)]
-    pub no_wall_clock: bool,
-}
-
-/// Arguments of `layflow run`.
-#[derive(Args, Debug)]
-pub struct RunArgs {
-    /// The scenario file (YAML).
-    pub scenario: PathBuf,
-    /// Layout to simulate (repeat, or separate by commas); default: every layout.
-    #[arg(long, value_name = "NAME", value_delimiter = ',')]
-    pub layout: Vec<String>,
-    /// Scale every product's demand by this factor (overrides demand_factor).
-    #[arg(long, value_name = "FACTOR")]
-    pub demand: Option<f64>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Table)]
-    pub format: Format,
-    #[command(flatten)]
-    pub sim: SimOptions,
-}
-
+/// Everything `run` found, as written to JSON.
 #[derive(Serialize)]
-struct RunOutput<'a> {
-    plant: &'a str,
-    scenario: String,
-    horizon_s: f64,
-    warmup_s: f64,
+pub struct RunOutput<'a> {
+    /// Plant.
+    pub plant: &'a str,
+    /// Scenario.
+    pub scenario: String,
+    /// Horizon s.
+    pub horizon_s: f64,
+    /// Warmup s.
+    pub warmup_s: f64,
     /// Present when `--warmup auto` chose the warm-up.
     #[serde(skip_serializing_if = "Option::is_none")]
-    warmup_auto: Option<WarmupChoice>,
-    replications: u32,
-    seed: u64,
-    demand_factor: f64,
-    confidence: f64,
-    layouts: Vec<LayoutSummary>,
-    events: u64,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    wall_s: Option<f64>,
-}
-
-/// A duration flag's value in seconds (never negative), or `default` when absent.
-pub fn duration_arg(flag: &str, v: &Option<String>, default: f64) -> Result<f64, Failure> {
-    match v {
-        None => Ok(default),
-        Some(text) => {
-            parse_duration(text).map_err(|e| Failure::input(format!("{flag} {text:?}: {e}"))).and_then(|s| {
-                if s >= 0.0 {
-                    Ok(s)
-                } else {
-                    Err(Failure::input(format!("{flag} {text:?}: must not be negative")))
-                }
-            })
-        }
-    }
-}
-
-/// Resolve layout names (default: all), with a did-you-mean on a miss.
-pub fn layouts(plant: &Plant, names: &[String]) -> Result<Vec<usize>, Failure> {
-    if names.is_empty() {
-        return Ok((0..plant.layouts.len()).collect());
-    }
-    names
-        .iter()
-        .map(|n| {
-            plant.layout_index(n).ok_or_else(|| {
-                let known: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
-                Failure::input(format!(
-                    "--layout {n:?}: no such layout; the scenario has: {}",
-                    known.join(", ")
-                ))
-            })
-        })
-        .collect()
-}
-
-/// Worker threads: the flag's, else one per core.
-pub fn threads(arg: Option<usize>) -> Result<usize, Failure> {
-    match arg {
-        Some(0) => Err(Failure::input("--threads must be at least 1")),
-        Some(k) => Ok(k),
-        None => Ok(std::thread::available_parallelism().map_or(1, usize::from)),
-    }
-}
-
-/// A pool of `--threads` workers (default: every core) for the replications.
-pub fn pool(arg: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
-    let threads = threads(arg)?;
-    rayon::ThreadPoolBuilder::new()
-        .num_threads(threads)
-        .build()
-        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))
-}
-
-/// What a simulating command runs, from its options or else the scenario's `run:` settings.
-pub struct RunBasics {
-    /// Simulated time per replication, warm-up included, s.
-    pub horizon_s: f64,
-    /// Replications (at least 1).
+    pub warmup_auto: Option<WarmupChoice>,
+    /// Replications.
     pub replications: u32,
-    /// Base seed.
+    /// Seed.
     pub seed: u64,
+    /// Demand factor.
+    pub demand_factor: f64,
+    /// Confidence.
+    pub confidence: f64,
+    /// Layouts.
+    pub layouts: Vec<LayoutSummary>,
+    /// Events.
+    pub events: u64,
+    /// Wall s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub wall_s: Option<f64>,
 }
 
-impl SimOptions {
-    /// `--horizon`, `--replications` and `--seed`, checked, over the scenario's values.
-    pub fn basics(&self, plant: &Plant) -> Result<RunBasics, Failure> {
-        let horizon_s = duration_arg("--horizon", &self.horizon, plant.run.horizon_s)?;
-        let replications = self.replications.unwrap_or(plant.run.replications);
-        if replications == 0 {
-            return Err(Failure::input("--replications must be at least 1"));
-        }
-        Ok(RunBasics { horizon_s, replications, seed: self.seed.unwrap_or(plant.run.seed) })
-    }
-}
-
-/// Simulate and report.
-pub fn run(args: &RunArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
-    let RunBasics { horizon_s, replications, seed } = args.sim.basics(&plant)?;
-    let factor = demand_factor(&plant, args.demand)?;
-    let which = layouts(&plant, &args.layout)?;
-    let pool = pool(args.sim.threads)?;
-    let (warmup_s, warmup_auto) =
-        warmup::resolve(&args.sim.warmup, &plant, &which, horizon_s, factor, seed, &pool, args.sim.quiet)?;
-    if !(horizon_s > warmup_s) {
-        return Err(Failure::input(format!(
-            "the horizon ({}) must be longer than the warm-up ({})",
-            dur_plain(horizon_s),
-            dur_plain(warmup_s)
-        )));
-    }
-
-    let pic = StaticPicture::new(&plant, factor);
-    warn_overload(&plant, &pic);
-
-    let total = which.len() as u64 * u64::from(replications);
-    let progress = Progress::new(total, args.sim.quiet);
-    let started = Instant::now();
-    let mut summaries = Vec::with_capacity(which.len());
-    for &l in &which {
-        progress.stage(format!("layout {}", plant.layouts[l].name));
-        let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
-        let plan = Plan::new(&plant, l);
-        let reps = pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
-        if let Some(why) = layflow_models::report::deadlock_message(&plant, &reps) {
-            progress.finish();
-            return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));
-        }
-        summaries.push(summarize(&plant, &spec, &pic, &reps));
-    }
-    progress.finish();
-    let wall_s = started.elapsed().as_secs_f64();
-    let events = summaries.iter().map(|s| s.events).sum();
-
-    let out = RunOutput {
-        plant: &plant.name,
-        scenario: args.scenario.display().to_string(),
-        horizon_s,
-        warmup_s,
-        warmup_auto,
-        replications,
-        seed,
-        demand_factor: factor,
-        confidence: layflow_models::report::CONFIDENCE,
-        layouts: summaries,
-        events,
-        wall_s: (!args.sim.no_wall_clock).then_some(wall_s),
-    };
-    match args.format {
-        Format::Json => println!("{}", serde_json::to_string_pretty(&out).expect("summaries serialise")),
-        Format::Table => print!("{}", render(&plant, &out, wall_s)),
-    }
-    Ok(())
-}
-
-fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
+/// The report as tables.
+pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     let mut s = String::new();
     let _ = writeln!(s, "{}", out.plant);
     let _ = writeln!(
@@ -232,7 +56,7 @@ fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     if let Some(w) = &out.warmup_auto {
         let _ = writeln!(s, "{}", w.describe());
     }
-    let _ = writeln!(s, "{}", crate::table::speed(out.events, wall_s));
+    let _ = writeln!(s, "{}", super::table::speed(out.events, wall_s));
     for l in &out.layouts {
         let _ = writeln!(s, "\n== layout {} ==", l.layout);
         let (mut ft, ftp) = dur_pct(&l.flow_time_s);

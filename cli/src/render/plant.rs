@@ -1,4 +1,4 @@
-//! `layflow draw`: one layout of the plant as an SVG picture: locations, departments, docks, aisles and flows.
+//! The plant drawn as SVG for `layflow draw`: locations, departments, docks, aisles and flows.
 //!
 //! Flows between departments come from the static from-to chart and are drawn
 //! as curves whose width is proportional to loads per hour. Each curve bends
@@ -11,46 +11,17 @@
 //! (`class="flow" data-loads-per-h=...`), so tests and scripts can read the
 //! picture back.
 
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
-use clap::Args;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::network::AisleNetwork;
 use layflow_models::plant::{DepartmentRole, Plant};
+use layflow_models::results::segments::SegmentFigures;
 use svg::node::element::path::Data;
 use svg::node::element::{Circle, Group, Line, Path as SvgPath, Rectangle, Text, Title};
 use svg::Document;
 
-use crate::{load, Failure};
-
-/// Arguments of `layflow draw`.
-#[derive(Args, Debug)]
-pub struct DrawArgs {
-    /// The scenario file (YAML).
-    pub scenario: PathBuf,
-    /// The layout to draw (default: the first).
-    #[arg(long, value_name = "NAME")]
-    pub layout: Option<String>,
-    /// A results folder (`compare --out`, or an experiment's folder): the
-    /// aisles are coloured by the simulated congestion delay per segment (or
-    /// by simulated traffic where nobody waited) from its summary.csv.
-    #[arg(long, value_name = "DIR")]
-    pub results: Option<PathBuf>,
-    /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
-    #[arg(long, value_name = "FACTOR")]
-    pub demand: Option<f64>,
-    /// The SVG file to write.
-    #[arg(short = 'o', long = "out", value_name = "FILE.svg")]
-    pub out: PathBuf,
-}
-
-// The project's colours (the same as the charts of `fleet --plot`).
-const TEAL: (u8, u8, u8) = (27, 127, 121);
-const AMBER: (u8, u8, u8) = (217, 140, 0);
-const SLATE: (u8, u8, u8) = (61, 74, 92);
-const BRICK: (u8, u8, u8) = (179, 64, 58);
-/// An aisle that carries nothing: a pale slate.
-const AISLE_IDLE: (u8, u8, u8) = (214, 219, 226);
+use super::palette::{mix, rgb, traffic_colour, AISLE_IDLE, AMBER, BRICK, SLATE, TEAL};
 
 /// Widest flow line, px: the largest flow gets it, the others in proportion.
 const FLOW_MAX_PX: f64 = 16.0;
@@ -61,80 +32,6 @@ const PLANT_PX: f64 = 1000.0;
 const MARGIN: f64 = 40.0;
 const TOP: f64 = 78.0;
 const LEGEND_PX: f64 = 300.0;
-
-/// Draw `args.layout` of `args.scenario` to `args.out`.
-pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
-    let layout = match &args.layout {
-        None => 0,
-        Some(name) => plant.layout_index(name).ok_or_else(|| {
-            let names: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
-            Failure::input(format!("--layout {name}: no such layout; the layouts are: {}", names.join(", ")))
-        })?,
-    };
-    let factor = crate::check::demand_factor(&plant, args.demand)?;
-    let sim = match &args.results {
-        Some(dir) => {
-            if !dir.is_dir() {
-                return Err(Failure::input(format!("--results {}: not a directory", dir.display())));
-            }
-            let sim = simulated(dir, &plant, layout)?;
-            if sim.is_none() {
-                eprintln!(
-                    "note: --results {}: no per-segment results there. They come from the segment-by-segment \
-                     simulation, which runs when the scenario's aisles have a capacity, a speed limit or a zone; \
-                     the aisles are coloured by static traffic (the from-to chart over the shortest paths) instead.",
-                    dir.display()
-                );
-            }
-            sim
-        }
-        None => None,
-    };
-    let pic = StaticPicture::new(&plant, factor);
-    let doc = picture(&plant, layout, &pic, &args.scenario, sim.as_ref());
-    let dir = match args.out.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let name = args
-        .out
-        .file_name()
-        .ok_or_else(|| Failure::input(format!("-o {}: not a file name", args.out.display())))?
-        .to_string_lossy()
-        .into_owned();
-    if !dir.is_dir() {
-        return Err(Failure::input(format!(
-            "-o {}: the folder {} does not exist",
-            args.out.display(),
-            dir.display()
-        )));
-    }
-    crate::output::write_atomic(&dir, &name, doc.to_string().as_bytes())?;
-    eprintln!("wrote {}", args.out.display());
-    Ok(())
-}
-
-fn rgb(c: (u8, u8, u8)) -> String {
-    format!("rgb({},{},{})", c.0, c.1, c.2)
-}
-
-/// Linear blend of two colours, `t` in [0, 1].
-fn mix(a: (u8, u8, u8), b: (u8, u8, u8), t: f64) -> (u8, u8, u8) {
-    let m = |x: u8, y: u8| (f64::from(x) + (f64::from(y) - f64::from(x)) * t.clamp(0.0, 1.0)).round() as u8;
-    (m(a.0, b.0), m(a.1, b.1), m(a.2, b.2))
-}
-
-/// The traffic ramp: idle pale slate, through amber, to brick at the busiest aisle.
-fn traffic_colour(share: f64) -> (u8, u8, u8) {
-    if share <= 0.0 {
-        AISLE_IDLE
-    } else if share < 0.5 {
-        mix(mix(AISLE_IDLE, AMBER, 0.35), AMBER, share / 0.5)
-    } else {
-        mix(AMBER, BRICK, (share - 0.5) / 0.5)
-    }
-}
 
 /// Plant metres to picture pixels (y up in the plant, down on screen).
 struct Frame {
@@ -205,12 +102,13 @@ fn typical_spacing(plant: &Plant) -> f64 {
 }
 
 /// The whole picture.
-fn picture(
+/// The whole picture: plant, aisles, flows, names and legend.
+pub fn picture(
     plant: &Plant,
     layout: usize,
     pic: &StaticPicture,
     scenario: &Path,
-    sim: Option<&Simulated>,
+    sim: Option<&SegmentFigures>,
 ) -> Document {
     let lay = &plant.layouts[layout];
     let net = plant.aisles.as_ref();
@@ -293,103 +191,9 @@ fn picture(
     doc.add(legend(legend_x, TOP, flow_max, net.map(|_| traffic_max), scale, net, sim))
 }
 
-/// Per-segment figures of a simulation, read from a results folder.
-struct Simulated {
-    /// Movers entering each segment per hour.
-    traffic: Vec<f64>,
-    /// Mover-seconds of congestion delay per hour at each segment.
-    delay: Vec<f64>,
-    /// Colour by delay (someone waited somewhere), else by traffic.
-    by_delay: bool,
-}
-
-impl Simulated {
-    /// The value each segment is coloured by.
-    fn value(&self, s: usize) -> f64 {
-        if self.by_delay {
-            self.delay[s]
-        } else {
-            self.traffic[s]
-        }
-    }
-}
-
-/// Reads `summary.csv` of a `compare --out` or experiment folder: the rows of
-/// scope `segment` for the drawn layout (where the file has a `layout`
-/// column), at the first demand factor or design point listed. `None` when
-/// the folder holds no per-segment results.
-fn simulated(dir: &Path, plant: &Plant, layout: usize) -> Result<Option<Simulated>, Failure> {
-    let Some(net) = plant.aisles.as_ref() else {
-        return Ok(None);
-    };
-    let path = dir.join("summary.csv");
-    if !path.is_file() {
-        return Ok(None);
-    }
-    let bad = |e: String| Failure::input(format!("--results {}: {e}", path.display()));
-    let mut r = csv::Reader::from_path(&path).map_err(|e| bad(e.to_string()))?;
-    let head = r.headers().map_err(|e| bad(e.to_string()))?.clone();
-    let col = |name: &str| head.iter().position(|h| h == name);
-    let (Some(scope), Some(subject), Some(metric), Some(mean)) =
-        (col("scope"), col("subject"), col("metric"), col("mean"))
-    else {
-        return Err(
-            bad("not a results summary: it needs the columns scope, subject, metric and mean".into()),
-        );
-    };
-    let layout_col = col("layout");
-    // The first column tells demand factors (compare) or design points (experiment) apart.
-    let group_col = col("demand_factor").or(col("point"));
-    let mut group: Option<String> = None;
-    let n = net.segments.len();
-    let (mut traffic, mut delay) = (vec![f64::NAN; n], vec![f64::NAN; n]);
-    for (i, row) in r.records().enumerate() {
-        let row = row.map_err(|e| bad(format!("row {}: {e}", i + 2)))?;
-        if row.get(scope) != Some("segment") {
-            continue;
-        }
-        if layout_col.is_some_and(|c| row.get(c) != Some(plant.layouts[layout].name.as_str())) {
-            continue;
-        }
-        if let Some(c) = group_col {
-            let g = row.get(c).unwrap_or("").to_string();
-            match &group {
-                None => group = Some(g),
-                Some(first) if *first != g => continue,
-                Some(_) => {}
-            }
-        }
-        let Some(k) =
-            row.get(subject).and_then(|s| s.strip_prefix("segment-")).and_then(|s| s.parse::<usize>().ok())
-        else {
-            continue;
-        };
-        if k >= n {
-            return Err(bad(format!(
-                "row {}: {} does not exist in this scenario's network of {n} segments; was the folder made from another scenario?",
-                i + 2,
-                row.get(subject).unwrap_or("")
-            )));
-        }
-        let v: f64 = row.get(mean).and_then(|m| m.parse().ok()).unwrap_or(f64::NAN);
-        match row.get(metric) {
-            Some("traversals_per_h") => traffic[k] = v,
-            Some("congestion_delay_s_per_h") => delay[k] = v,
-            _ => {}
-        }
-    }
-    if traffic.iter().all(|x| x.is_nan()) {
-        return Ok(None);
-    }
-    let clean = |v: Vec<f64>| v.into_iter().map(|x| if x.is_finite() { x } else { 0.0 }).collect::<Vec<_>>();
-    let (traffic, delay) = (clean(traffic), clean(delay));
-    let by_delay = delay.iter().any(|&d| d > 0.0);
-    Ok(Some(Simulated { traffic, delay, by_delay }))
-}
-
 /// Aisle segments coloured by static traffic, one-way arrows, capacity and speed-limit marks.
 /// Returns the group and the busiest segment's loads per hour.
-fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Simulated>) -> (Group, f64) {
+fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&SegmentFigures>) -> (Group, f64) {
     let traffic = net.segment_loads_per_h(loc_flow);
     let colour_by: Vec<f64> = match sim {
         Some(s) => (0..net.segments.len()).map(|i| s.value(i)).collect(),
@@ -718,7 +522,7 @@ fn legend(
     traffic_max: Option<f64>,
     scale: f64,
     net: Option<&AisleNetwork>,
-    sim: Option<&Simulated>,
+    sim: Option<&SegmentFigures>,
 ) -> Group {
     let mut g = Group::new().set("id", "legend");
     let mut y = top + 4.0;

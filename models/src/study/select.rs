@@ -1,4 +1,4 @@
-//! `compare --select`: name the best layout with a stated confidence (Kim–Nelson fully sequential procedure).
+//! Selecting the best layout with a stated confidence (Kim–Nelson fully sequential procedure).
 //!
 //! S.-H. Kim and B. L. Nelson, "A fully sequential procedure for
 //! indifference-zone selection in simulation", *ACM TOMACS* 11(3):251–273,
@@ -8,47 +8,23 @@
 //! are simulated in parallel in blocks, but fed to the procedure one stage at
 //! a time in order, so the outcome does not depend on the thread count.
 
-use std::fmt::Write as _;
-
-use clap::Args;
 use layflow_engine::{Goal, KimNelson};
-use layflow_models::compare::{self, Better, Kind, Metric};
-use layflow_models::plant::Plant;
-use layflow_models::sim::{simulate, Plan, RepStats, RunSpec};
-use layflow_models::units::parse_duration;
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::progress::Progress;
-use crate::table::{num, time_unit, Table};
-use crate::Failure;
+use crate::metrics::list::{metrics, Metric};
+use crate::metrics::registry::{Better, Kind};
+use crate::plant::Plant;
+use crate::sim::{simulate, Plan, RepStats, RunSpec};
+use crate::text::num;
+use crate::units::parse_duration;
+
+use super::progress::{Progress, StudyError};
 
 /// Where the procedure is published, for reports.
 pub const SOURCE: &str =
     "Kim and Nelson (2001), \"A fully sequential procedure for indifference-zone selection in simulation\", \
      ACM TOMACS 11(3):251-273";
-
-/// The flags of `--select`.
-#[derive(Args, Debug, Clone)]
-pub struct SelectArgs {
-    /// Select the best layout on --metric with the Kim–Nelson fully sequential procedure:
-    /// add replications, drop layouts clearly worse, stop when one is left.
-    #[arg(long)]
-    pub select: bool,
-    /// The smallest difference in --metric worth acting on, in the metric's units,
-    /// e.g. "5 min" for flow_time_s or 0.5 for throughput_per_h (required with --select).
-    #[arg(long, value_name = "AMOUNT")]
-    pub indifference: Option<String>,
-    /// Probability of selecting the best layout (when it is better by at least the indifference amount).
-    #[arg(long, value_name = "P", default_value_t = 0.95)]
-    pub confidence: f64,
-    /// Replications of every layout before the first elimination (n₀ ≥ 2).
-    #[arg(long, value_name = "N", default_value_t = 10)]
-    pub first_stage: usize,
-    /// The most replications per layout --select may use before it stops undecided.
-    #[arg(long, value_name = "N", default_value_t = 500)]
-    pub max_replications: usize,
-}
 
 /// Validated selection settings.
 #[derive(Debug, Clone)]
@@ -60,110 +36,114 @@ pub struct Settings {
     goal: Goal,
 }
 
-/// Validate the `--select` flags; `None` without `--select`.
-pub fn settings(
-    a: &SelectArgs,
-    metric: &Metric,
-    replications_given: Option<u32>,
-) -> Result<Option<Settings>, Failure> {
-    if !a.select {
-        if a.indifference.is_some() {
-            return Err(Failure::input("--indifference is for --select; add --select or leave it out"));
-        }
-        return Ok(None);
-    }
-    if replications_given.is_some() {
-        return Err(Failure::input(
-            "with --select the procedure decides how many replications to run; cap them with \
-             --max-replications instead of --replications",
-        ));
-    }
-    let goal = match metric.better {
-        Better::Lower => Goal::Minimize,
-        Better::Higher => Goal::Maximize,
-        Better::Neither => {
-            return Err(Failure::input(format!(
-                "--metric {}: neither a higher nor a lower value is better, so there is no best layout to \
-                 select; select on flow_time_s, throughput_per_h, wip_mean, move_wait_s or handling_cost_per_h",
-                metric.label()
-            )))
-        }
-    };
-    let example = match metric.kind {
-        Kind::Duration => "e.g. --indifference \"5 min\"",
-        Kind::Number => "e.g. --indifference 0.5",
-    };
-    let text = a.indifference.as_deref().ok_or_else(|| {
-        Failure::input(format!(
-            "--select needs --indifference: the smallest difference in {} worth acting on ({example})",
-            metric.label()
-        ))
-    })?;
-    let delta = match metric.kind {
-        Kind::Duration => parse_duration(text).map_err(|e| {
-            Failure::input(format!("--indifference {text:?}: {e} ({} is a duration)", metric.label()))
-        })?,
-        Kind::Number => text.trim().parse::<f64>().map_err(|_| {
-            Failure::input(format!(
-                "--indifference {text:?}: not a number ({} is not a duration; {example})",
+impl Settings {
+    /// Check the selection settings for `metric`: `indifference` as the user
+    /// wrote it (a duration for a duration metric), the probability of
+    /// correct selection, the first-stage replications n₀ and the cap.
+    pub fn new(
+        metric: &Metric,
+        indifference: Option<&str>,
+        confidence: f64,
+        first_stage: usize,
+        max_replications: usize,
+    ) -> Result<Settings, StudyError> {
+        let input = |m: String| StudyError::Input(m);
+        let goal = match metric.better {
+            Better::Lower => Goal::Minimize,
+            Better::Higher => Goal::Maximize,
+            Better::Neither => {
+                return Err(input(format!(
+                    "--metric {}: neither a higher nor a lower value is better, so there is no best layout to \
+                     select; select on flow_time_s, throughput_per_h, wip_mean, move_wait_s or handling_cost_per_h",
+                    metric.label()
+                )))
+            }
+        };
+        let example = match metric.kind {
+            Kind::Duration => "e.g. --indifference \"5 min\"",
+            Kind::Number => "e.g. --indifference 0.5",
+        };
+        let text = indifference.ok_or_else(|| {
+            input(format!(
+                "--select needs --indifference: the smallest difference in {} worth acting on ({example})",
                 metric.label()
             ))
-        })?,
-    };
-    if !(delta > 0.0 && delta.is_finite()) {
-        return Err(Failure::input(format!("--indifference {text:?}: must be greater than zero")));
+        })?;
+        let delta = match metric.kind {
+            Kind::Duration => parse_duration(text).map_err(|e| {
+                input(format!("--indifference {text:?}: {e} ({} is a duration)", metric.label()))
+            })?,
+            Kind::Number => text.trim().parse::<f64>().map_err(|_| {
+                input(format!(
+                    "--indifference {text:?}: not a number ({} is not a duration; {example})",
+                    metric.label()
+                ))
+            })?,
+        };
+        if !(delta > 0.0 && delta.is_finite()) {
+            return Err(input(format!("--indifference {text:?}: must be greater than zero")));
+        }
+        if !(confidence > 0.0 && confidence < 1.0) {
+            return Err(input(format!("--confidence {confidence}: must lie between 0 and 1, e.g. 0.95")));
+        }
+        if first_stage < 2 {
+            return Err(input("--first-stage must be at least 2 (variances need two replications)".into()));
+        }
+        if max_replications < first_stage {
+            return Err(input(format!(
+                "--max-replications {max_replications} is below --first-stage {first_stage}"
+            )));
+        }
+        Ok(Settings { delta, confidence, n0: first_stage, max: max_replications, goal })
     }
-    if !(a.confidence > 0.0 && a.confidence < 1.0) {
-        return Err(Failure::input(format!(
-            "--confidence {}: must lie between 0 and 1, e.g. 0.95",
-            a.confidence
-        )));
-    }
-    if a.first_stage < 2 {
-        return Err(Failure::input("--first-stage must be at least 2 (variances need two replications)"));
-    }
-    if a.max_replications < a.first_stage {
-        return Err(Failure::input(format!(
-            "--max-replications {} is below --first-stage {}",
-            a.max_replications, a.first_stage
-        )));
-    }
-    Ok(Some(Settings { delta, confidence: a.confidence, n0: a.first_stage, max: a.max_replications, goal }))
 }
 
 /// What the selection did, for the report.
 #[derive(Debug, Clone, Serialize)]
 pub struct Selection {
-    procedure: &'static str,
-    source: &'static str,
-    metric: String,
-    goal: &'static str,
+    /// The procedure's name.
+    pub procedure: &'static str,
+    /// Where it is published.
+    pub source: &'static str,
+    /// The metric selected on (its label).
+    pub metric: String,
+    /// "lowest" or "highest".
+    pub goal: &'static str,
     /// The indifference zone δ in the metric's units (seconds for durations).
-    indifference: f64,
-    confidence: f64,
-    first_stage: usize,
-    max_replications: usize,
-    eta: f64,
-    h2: f64,
+    pub indifference: f64,
+    /// Probability of correct selection asked for.
+    pub confidence: f64,
+    /// Replications of every layout before the first elimination (n₀).
+    pub first_stage: usize,
+    /// The cap on replications per layout.
+    pub max_replications: usize,
+    /// Kim–Nelson's η.
+    pub eta: f64,
+    /// h2
+    pub h2: f64,
     /// Stages (replications of each surviving layout) fed.
-    stages: usize,
-    layouts: Vec<SelectedLayout>,
+    pub stages: usize,
+    /// Each layout's part.
+    pub layouts: Vec<SelectedLayout>,
     /// The selected layout; `None` when the cap was reached first.
-    best: Option<String>,
+    pub best: Option<String>,
     /// The survivors gave identical results in every replication (a tie no replication can break).
-    identical: bool,
+    pub identical: bool,
     /// The guarantee (or why there is none) in plain words.
-    statement: String,
+    pub statement: String,
 }
 
 /// One layout's part in the selection.
 #[derive(Debug, Clone, Serialize)]
-struct SelectedLayout {
-    layout: String,
-    replications: usize,
-    mean: f64,
+pub struct SelectedLayout {
+    /// Layout name.
+    pub layout: String,
+    /// Replications it received.
+    pub replications: usize,
+    /// Its mean on the metric over them.
+    pub mean: f64,
     /// The replication after which it was dropped; `None` for the best or a survivor.
-    eliminated_after: Option<usize>,
+    pub eliminated_after: Option<usize>,
 }
 
 /// Run the procedure on layouts `which` (their `plans`), returning each
@@ -177,12 +157,13 @@ pub fn run(
     metric: usize,
     s: &Settings,
     demand_factor: f64,
-    progress: &Progress,
-) -> Result<(Vec<Vec<RepStats>>, Selection), Failure> {
+    progress: &dyn Progress,
+) -> Result<(Vec<Vec<RepStats>>, Selection), StudyError> {
     let k = which.len();
     let mut kn = KimNelson::new(k, s.n0, s.confidence, s.delta, s.goal)
-        .map_err(|e| Failure::input(format!("--select: {e}")))?;
-    let label = compare::metrics(plant)[metric].label();
+        .map_err(|e| StudyError::Input(format!("--select: {e}")))?;
+    let list = metrics(plant);
+    let label = list[metric].label();
     let mut reps: Vec<Vec<RepStats>> = (0..k).map(|_| Vec::new()).collect();
     // Stages simulated per block after the first: enough to keep every core busy.
     let block = (2 * rayon::current_num_threads()).max(4);
@@ -213,9 +194,9 @@ pub fn run(
             let r = stage;
             values.fill(f64::NAN);
             for &i in kn.survivors() {
-                let v = compare::values(plant, &reps[i][r])[metric];
+                let v = list[metric].value(plant, &reps[i][r]);
                 if !v.is_finite() {
-                    return Err(Failure::run(format!(
+                    return Err(StudyError::Run(format!(
                         "--select: replication {r} of layout {} observed no {label} (no lot shipped in the \
                          window?); lengthen the horizon or select on another metric",
                         plant.layouts[which[i]].name
@@ -223,14 +204,14 @@ pub fn run(
                 }
                 values[i] = v;
             }
-            kn.observe(&values).map_err(|e| Failure::run(format!("--select: {e}")))?;
+            kn.observe(&values).map_err(|e| StudyError::Run(format!("--select: {e}")))?;
             stage += 1;
         }
         let alive = kn.survivors();
         identical = stage >= s.n0
             && alive.len() > 1
             && (0..stage).all(|r| {
-                let v = |i: usize| compare::values(plant, &reps[i][r])[metric];
+                let v = |i: usize| list[metric].value(plant, &reps[i][r]);
                 alive.iter().all(|&i| v(i) == v(alive[0]))
             });
     }
@@ -239,7 +220,7 @@ pub fn run(
         r.truncate(kn.observations(i));
     }
     let name = |i: usize| plant.layouts[which[i]].name.clone();
-    let m = &compare::metrics(plant)[metric];
+    let m = &list[metric];
     let best = kn.winner().map(name);
     let statement = statement(&kn, m, s, k, &best, &name, identical);
     let selection = Selection {
@@ -272,14 +253,9 @@ pub fn run(
     Ok((reps, selection))
 }
 
-fn amount(m: &Metric, x: f64) -> String {
-    match m.kind {
-        Kind::Duration => {
-            let (u, s) = time_unit(x);
-            format!("{} {u}", num(x / s).trim_end_matches('0').trim_end_matches('.'))
-        }
-        Kind::Number => num(x),
-    }
+/// An amount of metric `m` in its unit, e.g. `5 min`.
+pub fn amount(m: &Metric, x: f64) -> String {
+    crate::text::amount(m.kind == Kind::Duration, x)
 }
 
 fn statement(
@@ -295,7 +271,7 @@ fn statement(
         Goal::Minimize => "lowest",
         Goal::Maximize => "highest",
     };
-    let what = format!("mean {}", crate::compare::human(m));
+    let what = format!("mean {}", m.human());
     match best {
         Some(b) => format!(
             "With probability at least {:.0}%, layout {b} has the {goal} {what} of these {k} layouts, or is \
@@ -326,39 +302,4 @@ fn statement(
             )
         }
     }
-}
-
-/// The selection as a table and the guarantee.
-pub fn render(sel: &Selection, metric: &Metric) -> String {
-    let mut s = String::new();
-    let _ = writeln!(
-        s,
-        "  Selecting the best layout on mean {} (the {} wins): {} procedure, Kim and Nelson 2001; indifference {}, confidence {:.0}%, \
-         n₀ = {}, h² = {:.4}",
-        crate::compare::human(metric),
-        sel.goal,
-        sel.procedure,
-        amount(metric, sel.indifference),
-        sel.confidence * 100.0,
-        sel.first_stage,
-        sel.h2
-    );
-    let mut t = Table::new(&[
-        "layout",
-        "replications",
-        &format!("mean {}", crate::compare::human(metric)),
-        "outcome",
-    ]);
-    for l in &sel.layouts {
-        let outcome = match (l.eliminated_after, &sel.best) {
-            (Some(r), _) => format!("dropped after replication {r}"),
-            (None, Some(b)) if *b == l.layout => "BEST".to_string(),
-            (None, _) if sel.identical => "tied: identical results".to_string(),
-            (None, _) => "still in at the cap".to_string(),
-        };
-        t.row(vec![l.layout.clone(), l.replications.to_string(), amount(metric, l.mean), outcome]);
-    }
-    s.push_str(&t.render(2));
-    let _ = writeln!(s, "  {}", sel.statement);
-    s
 }

@@ -1,92 +1,17 @@
-//! `layflow check`: validate a scenario and print its static picture.
+//! `check`'s static picture drawn as tables and as JSON.
 
 use std::fmt::Write as _;
-use std::path::{Path, PathBuf};
+use std::path::Path;
 
-use clap::Args;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{Demand, DepartmentRole, Handling, LoadStart, Plant};
 use layflow_models::units::format_duration;
 use serde_json::json;
 
-use crate::table::{count, num, share, whole, Table};
-use crate::{load, Failure, Format};
+use super::table::{count, num, share, whole, Table};
 
-/// Arguments of `layflow check`.
-#[derive(Args, Debug)]
-pub struct CheckArgs {
-    /// The scenario file (YAML).
-    pub scenario: PathBuf,
-    /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
-    #[arg(long, value_name = "FACTOR")]
-    pub demand: Option<f64>,
-    /// Output format.
-    #[arg(long, value_enum, default_value_t = Format::Table)]
-    pub format: Format,
-}
-
-/// Validate `args.scenario` and print its static picture.
-pub fn check(args: &CheckArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
-    let factor = demand_factor(&plant, args.demand)?;
-    let pic = StaticPicture::new(&plant, factor);
-    match args.format {
-        Format::Table => print!("{}", render(&plant, &args.scenario, &pic)),
-        Format::Json => println!("{}", serde_json::to_string_pretty(&to_json(&plant, &pic)).expect("JSON")),
-    }
-    warn_overload(&plant, &pic);
-    Ok(())
-}
-
-/// The demand factor to use: the command line's, else the scenario's.
-pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
-    match arg {
-        None => Ok(plant.demand_factor),
-        Some(f) if f > 0.0 && f.is_finite() => Ok(f),
-        Some(f) => Err(Failure::input(format!(
-            "--demand {f}: the demand factor must be a positive number, e.g. 1.2"
-        ))),
-    }
-}
-
-/// Print a loud warning on stderr for every department predicted at or over capacity.
-pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
-    for d in pic.overloaded() {
-        let dep = &plant.departments[d];
-        eprintln!(
-            "WARNING: department \"{}\" is predicted at {} utilisation ({} machine{}{}): the plant cannot keep up \
-             with this demand; queues there grow without bound and simulated results will not settle.",
-            dep.id,
-            share(pic.utilization_available[d]),
-            dep.machines,
-            if dep.machines == 1 { "" } else { "s" },
-            if dep.breakdowns.is_some() {
-                format!(", up {} of the time", share(pic.availability[d]))
-            } else {
-                String::new()
-            } + &if dep.calendar.is_some() {
-                format!(", scheduled {} of the time", share(pic.scheduled_share[d]))
-            } else {
-                String::new()
-            }
-        );
-    }
-    for (l, lp) in pic.layouts.iter().enumerate() {
-        for (f, &u) in lp.fleet_utilization_lower_bound.iter().enumerate() {
-            if u >= 1.0 {
-                eprintln!(
-                    "WARNING: fleet \"{}\" needs at least {} of its time for loaded moves under layout \"{}\": \
-                     it cannot keep up; add movers.",
-                    plant.fleets()[f].id,
-                    share(u),
-                    plant.layouts[l].name
-                );
-            }
-        }
-    }
-}
-
-fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
+/// The static picture as tables.
+pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     let mut s = String::new();
     let docks = plant.departments.iter().filter(|d| d.role != DepartmentRole::Work).count();
     let _ = writeln!(s, "{}", plant.name);
@@ -303,7 +228,8 @@ fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
     }
 }
 
-fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
+/// The static picture as JSON.
+pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
     let nd = plant.departments.len();
     let ids: Vec<&str> = plant.departments.iter().map(|d| d.id.as_str()).collect();
     let mut pairs = Vec::new();

@@ -1,4 +1,4 @@
-//! `--warmup auto`: choose the warm-up deletion point with MSER-5 on the WIP series of pilot runs.
+//! Choosing the warm-up: MSER-5 on the WIP series of pilot runs.
 //!
 //! MSER (White 1997) picks the truncation point that minimises the squared
 //! standard error of the remaining mean; MSER-5 (Spratt 1998) applies it to
@@ -9,14 +9,12 @@
 //! so the runs that are reported never reuse the pilot's random numbers.
 
 use layflow_engine::warmup::mser5;
-use layflow_models::plant::Plant;
-use layflow_models::sim::{simulate_wip_series, Plan, RunSpec};
 use rayon::prelude::*;
 use serde::Serialize;
 
-use crate::run::duration_arg;
-use crate::table::{dur_plain, num};
-use crate::Failure;
+use crate::plant::Plant;
+use crate::sim::{simulate_wip_series, Plan, RunSpec};
+use crate::units::format_duration;
 
 /// Pilot replications per layout.
 pub const PILOT_REPLICATIONS: u64 = 5;
@@ -46,32 +44,32 @@ pub struct WarmupChoice {
 }
 
 impl WarmupChoice {
-    /// One line for the table header.
+    /// One line for a report's header.
     pub fn describe(&self) -> String {
         format!(
             "warm-up {} chosen by MSER-5 on the WIP of {} pilot replications per layout (decided by layout {})",
-            dur_plain(self.warmup_s),
+            format_duration(self.warmup_s),
             self.pilot_replications,
             self.decided_by
         )
     }
 
-    /// The warning to print when the choice cannot be trusted.
+    /// The warning to give when the choice cannot be trusted.
     pub fn warning(&self) -> Option<String> {
         self.at_limit.then(|| {
             format!(
                 "WARNING: MSER-5 deleted the largest share it may (half the horizon, {}) for layout {}: the \
                  plant's WIP had not settled. Lengthen the horizon (--horizon) or check the plant is not \
                  overloaded before trusting these results.",
-                dur_plain(self.warmup_s),
+                format_duration(self.warmup_s),
                 self.decided_by
             )
         })
     }
 }
 
-/// Run the pilots and choose the warm-up. `None` when the horizon is too
-/// short for a series MSER-5 can read (fewer than two batches).
+/// Run the pilots (on the current rayon pool) and choose the warm-up.
+/// `None` when the horizon is too short for a series MSER-5 can read (fewer than two batches).
 pub fn choose(
     plant: &Plant,
     layouts: &[usize],
@@ -108,35 +106,4 @@ pub fn choose(
         }
     }
     best
-}
-
-/// The warm-up in seconds from `--warmup` (a duration, or `auto`), else the
-/// scenario's; with `auto`, also what MSER-5 chose.
-#[allow(clippy::too_many_arguments)]
-pub fn resolve(
-    arg: &Option<String>,
-    plant: &Plant,
-    layouts: &[usize],
-    horizon_s: f64,
-    demand_factor: f64,
-    seed: u64,
-    pool: &rayon::ThreadPool,
-    quiet: bool,
-) -> Result<(f64, Option<WarmupChoice>), Failure> {
-    if arg.as_deref().map(str::trim) != Some("auto") {
-        return Ok((duration_arg("--warmup", arg, plant.run.warmup_s)?, None));
-    }
-    if !quiet {
-        eprintln!(
-            "choosing the warm-up: MSER-5 on {PILOT_REPLICATIONS} pilot replications per layout at demand ×{}",
-            num(demand_factor)
-        );
-    }
-    let choice = pool
-        .install(|| choose(plant, layouts, horizon_s, demand_factor, seed))
-        .ok_or_else(|| Failure::input("--warmup auto: the horizon is too short for MSER-5"))?;
-    if let Some(w) = choice.warning() {
-        eprintln!("{w}");
-    }
-    Ok((choice.warmup_s, Some(choice)))
 }

@@ -8,14 +8,19 @@ use clap::{Args, ValueEnum};
 use rayon::prelude::*;
 
 use layflow_models::experiment::journal::{self, Contents, Writer};
-use layflow_models::experiment::results::{self, PointSummary, Summary};
+use layflow_models::experiment::results;
 use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
-use layflow_models::report::Estimate;
+use layflow_models::results::experiment as folder;
+use layflow_models::results::{prepare, write_atomic, Kind};
 use layflow_models::sim::{simulate, Plan};
+use layflow_models::study::replication_deadlock;
+use layflow_models::study::Progress as _;
 
-use crate::progress::Progress;
-use crate::table::{dur, num, pm, Table};
-use crate::{output, Failure};
+use crate::failure::Failure;
+use crate::render::experiment::{point_line, render};
+use crate::render::progress::Progress;
+use crate::render::table::count;
+use crate::settings::pool;
 
 /// Arguments of `layflow experiment`.
 #[derive(Args, Debug)]
@@ -81,26 +86,14 @@ pub struct SummarizeArgs {
 /// Set by Ctrl-C: start no new unit.
 static STOP: AtomicBool = AtomicBool::new(false);
 
-fn journal_path(dir: &Path) -> PathBuf {
-    dir.join(journal::FILE)
-}
-
-/// Read a folder's results file, reporting a torn tail on stderr.
+/// Read a folder's units through the results module, reporting a torn tail on stderr.
 fn read_journal(dir: &Path) -> Result<Contents, Failure> {
-    let path = journal_path(dir);
-    if !path.is_file() {
-        return Err(Failure::input(format!(
-            "{}: no results file ({}) here; is this an experiment's --out folder?",
-            dir.display(),
-            journal::FILE
-        )));
-    }
-    let c = journal::read(&path).map_err(Failure::input)?;
+    let c = folder::read(dir)?;
     if c.torn_bytes > 0 {
         eprintln!(
             "note: {}: the last {} bytes were a line cut off mid-write (the run stopped while writing it); \
              kept the {} complete units before it",
-            path.display(),
+            folder::journal_path(dir).display(),
             c.torn_bytes,
             c.units.len()
         );
@@ -115,11 +108,11 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         None => Shard::ALL,
         Some(s) => Shard::parse(s).map_err(Failure::input)?,
     };
-    output::prepare_dir(&args.out)?;
+    prepare(&args.out, Kind::Experiment)?;
     let header = Header::new(&plan, shard);
-    let path = journal_path(&args.out);
+    let path = folder::journal_path(&args.out);
     let (writer, done) = open_journal(&path, &header, args)?;
-    let pool = crate::run::pool(args.threads)?;
+    let pool = pool(args.threads)?;
     let mine: Vec<u64> = (0..plan.units()).filter(|&u| shard.owns(u)).collect();
     let mut is_done = vec![false; plan.units() as usize];
     for u in &done {
@@ -129,8 +122,8 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     eprintln!(
         "{}: {} × {} = {} units{}; {} done, {} to run",
         plan.file.display(),
-        crate::table::count(plan.points.len(), "design point"),
-        crate::table::count(plan.replications as usize, "replication"),
+        count(plan.points.len(), "design point"),
+        count(plan.replications as usize, "replication"),
         plan.units(),
         if shard == Shard::ALL { String::new() } else { format!(", shard {shard} has {}", mine.len()) },
         mine.len() - pending.len(),
@@ -164,7 +157,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
             if st.error.is_some() {
                 return;
             }
-            if let Some(why) = layflow_models::report::replication_deadlock(&plan.setups[p].plant, &rep, r) {
+            if let Some(why) = replication_deadlock(&plan.setups[p].plant, &rep, r) {
                 // A jammed plant's numbers mean nothing: keep them out of the results.
                 let levels: Vec<String> = plan
                     .factors
@@ -206,12 +199,13 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     }
     let units = results::canonical(st.units).map_err(Failure::run)?;
     if shard == Shard::ALL {
-        write_outputs(&args.out, &header, &units)?;
+        folder::write(&args.out, &header, &units)?;
         let summary = results::summarize(&header, &units).map_err(Failure::run)?;
         print!("{}", render(&summary, plan.units()));
         eprintln!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
     } else {
-        output::write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
+        write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
+        layflow_models::results::folder::write_manifest(&args.out, Kind::Experiment, &[journal::FILE])?;
         eprintln!(
             "shard {shard} complete: {} units in {}. When every shard is done: layflow merge DIR... --out DIR",
             units.len(),
@@ -277,95 +271,6 @@ fn open_journal(path: &Path, header: &Header, args: &ExperimentArgs) -> Result<(
     Ok((w, c.units))
 }
 
-/// The per-point line shown when a design point's last unit finishes.
-fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> String {
-    let mine: Vec<Unit> = units.iter().filter(|u| u.point == p).cloned().collect();
-    let levels: Vec<String> =
-        plan.factors.iter().zip(&header.points[p]).map(|(f, l)| format!("{}={l}", f.name)).collect();
-    let mut s = format!(
-        "point {}/{} done ({}): {} replications",
-        p + 1,
-        plan.points.len(),
-        levels.join(", "),
-        mine.len()
-    );
-    if let Ok(sum) = results::summarize(header, &mine) {
-        let pt = &sum.points[p];
-        if let Some(e) = estimate(pt, "flow_time_s") {
-            s.push_str(&format!(", flow time {}", dur(&e)));
-        }
-        if let Some(e) = estimate(pt, "throughput_per_h") {
-            s.push_str(&format!(", throughput {}/h", pm(&e, 1.0)));
-        }
-    }
-    s
-}
-
-/// A plant-level metric of a point as an estimate.
-fn estimate(p: &PointSummary, metric: &str) -> Option<Estimate> {
-    let m = p.metrics.iter().find(|m| m.scope == "plant" && m.metric == metric)?;
-    Some(Estimate { mean: m.mean?, half_width: m.half_width, n: m.n })
-}
-
-/// Write the whole plan's results: canonical units file, tidy CSV, summaries (each atomically).
-fn write_outputs(dir: &Path, header: &Header, units: &[Unit]) -> Result<(), Failure> {
-    let whole = Header { shard: Shard::ALL, ..header.clone() };
-    let summary = results::summarize(&whole, units).map_err(Failure::run)?;
-    output::write_atomic(dir, journal::FILE, &results::units_jsonl(&whole, units))?;
-    output::write_atomic(dir, "results.csv", &results::results_csv(&whole, units))?;
-    output::write_atomic(dir, "summary.csv", &results::summary_csv(&summary))?;
-    output::write_atomic(dir, "summary.json", &results::summary_json(&summary))?;
-    Ok(())
-}
-
-/// One table row per design point: the headline metrics with 95% intervals.
-fn render(s: &Summary, total_units: u64) -> String {
-    let done: usize = s.points.iter().map(|p| p.replications).sum();
-    let mut out = format!(
-        "Experiment {}…: {} design points, {done} of {total_units} units; ± is the 95% confidence half-width\n",
-        &s.plan_hash[..12],
-        s.points.len()
-    );
-    let mut head: Vec<String> = vec!["point".into()];
-    head.extend(s.factors.iter().cloned());
-    head.extend(
-        [
-            "reps",
-            "throughput (lots/h)",
-            "flow time",
-            "flow time p95",
-            "WIP (lots)",
-            "wait for a mover",
-            "handling cost (/h)",
-        ]
-        .map(String::from),
-    );
-    let mut t = Table::new(&head);
-    for p in &s.points {
-        let mut row = vec![p.point.to_string()];
-        row.extend(p.levels.iter().cloned());
-        row.push(p.replications.to_string());
-        let number = |m: &str| estimate(p, m).map_or("-".into(), |e| pm(&e, 1.0));
-        let duration = |m: &str| estimate(p, m).map_or("-".into(), |e| dur(&e));
-        row.push(number("throughput_per_h"));
-        row.push(duration("flow_time_s"));
-        let p95 = p.percentiles.iter().find(|q| q.metric == "flow_time_s" && q.percentile == "p95");
-        row.push(p95.filter(|q| q.observations > 0).map_or("-".into(), |q| {
-            let (u, sc) = crate::table::time_unit(q.value_s);
-            format!("{} {u}", num(q.value_s / sc))
-        }));
-        row.push(number("wip_mean"));
-        row.push(duration("move_wait_s"));
-        row.push(number("handling_cost_per_h"));
-        t.row(row);
-    }
-    out.push_str(&t.render(2));
-    out.push_str(
-        "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
-    );
-    out
-}
-
 /// Run `layflow merge`.
 pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
     let mut first: Option<(PathBuf, Header)> = None;
@@ -407,8 +312,8 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
             missing[0]
         )));
     }
-    output::prepare_dir(&args.out)?;
-    write_outputs(&args.out, &header, &units)?;
+    prepare(&args.out, Kind::Experiment)?;
+    folder::write(&args.out, &header, &units)?;
     let summary = results::summarize(&header, &units).map_err(Failure::run)?;
     print!("{}", render(&summary, header.units));
     eprintln!("merged {} folders into {}", args.dirs.len(), args.out.display());

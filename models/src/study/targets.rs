@@ -1,44 +1,21 @@
-//! Fleet-sizing targets: `METRIC OP VALUE`, e.g. `move_wait_p95 <= 5 min`, judged with 95% confidence.
+//! Targets a study must meet, `METRIC OP VALUE` (e.g. `move_wait_p95_s <= 5 min`), judged with 95% confidence.
 //!
-//! The language is deliberately tiny: one metric name, one comparison
-//! (`<=`, `<`, `>=`, `>`), one value. Durations need a unit (s, min, h, d);
-//! shares are a fraction or a percentage (`0.85`, `85%`); other values are
-//! plain numbers in the unit the metric's name states.
+//! The language is deliberately tiny: one metric name from the registry, one
+//! comparison (`<=`, `<`, `>=`, `>`), one value. Durations need a unit (s,
+//! min, h, d); shares are a fraction or a percentage (`0.85`, `85%`); other
+//! values are plain numbers in the unit the metric's name states.
 
 use layflow_engine::t_quantile;
-use layflow_models::report::Estimate;
-use layflow_models::units::parse_duration;
 use serde::Serialize;
 
-use crate::Failure;
+use crate::metrics::estimate::Estimate;
+use crate::metrics::list::{find_metric, Metric};
+use crate::metrics::registry::{canonical, Scope, Unit};
+use crate::suggest::did_you_mean;
+use crate::text::num;
+use crate::units::{format_duration, parse_duration};
 
-/// What a target's value is measured in.
-#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
-#[serde(rename_all = "lowercase")]
-pub enum Unit {
-    /// Seconds; written with a unit.
-    Duration,
-    /// A fraction; written `0.85` or `85%`.
-    Share,
-    /// A plain number (lots per hour, lots, money per hour, money per load).
-    Number,
-}
-
-/// Metrics a target may name: (name, unit, what it is).
-pub const TARGET_METRICS: &[(&str, Unit, &str)] = &[
-    ("move_wait", Unit::Duration, "mean wait from move request to pick-up, this fleet's moves"),
-    ("move_wait_p50", Unit::Duration, "median wait for this fleet (per replication, then averaged)"),
-    ("move_wait_p90", Unit::Duration, "90th-percentile wait for this fleet"),
-    ("move_wait_p95", Unit::Duration, "95th-percentile wait for this fleet"),
-    ("move_wait_p99", Unit::Duration, "99th-percentile wait for this fleet"),
-    ("utilization", Unit::Share, "share of mover time busy (loaded, empty or handling)"),
-    ("empty_share", Unit::Share, "share of mover time travelling empty"),
-    ("flow_time", Unit::Duration, "mean flow time, receiving to shipping, every product"),
-    ("throughput", Unit::Number, "lots shipped per hour"),
-    ("wip", Unit::Number, "time-average lots in the plant"),
-    ("cost_per_h", Unit::Number, "this fleet's cost per hour"),
-    ("cost_per_load", Unit::Number, "this fleet's cost per load moved"),
-];
+use super::progress::StudyError;
 
 /// A comparison.
 #[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
@@ -76,24 +53,47 @@ impl Op {
 pub struct Target {
     /// As the user wrote it.
     pub text: String,
-    /// Index into [`TARGET_METRICS`].
+    /// Index of the metric in the list it was parsed against.
     #[serde(skip)]
     pub metric: usize,
-    /// The metric's name.
-    pub name: &'static str,
+    /// The metric judged, by its full label (`forklifts/move_wait_p95_s`).
+    pub name: String,
     /// The comparison.
     pub op: Op,
     /// The value in base units (seconds, a fraction, or the number).
     pub value: f64,
+    /// The metric's unit.
+    #[serde(skip)]
+    pub unit: Unit,
+    /// What the metric is, in one sentence.
+    #[serde(skip)]
+    pub what: &'static str,
 }
 
-/// Parse `METRIC OP VALUE`.
-pub fn parse(text: &str) -> Result<Target, Failure> {
+/// Parse `METRIC OP VALUE` against `list` (a plant's metrics). A name
+/// without a subject means `fleet`'s metric where that fleet has one, else
+/// the plant's. Also returns the note to show when an old name was read.
+pub fn parse(
+    text: &str,
+    list: &[Metric],
+    fleet: Option<&str>,
+) -> Result<(Target, Option<String>), StudyError> {
+    let names = || {
+        let mut n: Vec<&str> = list
+            .iter()
+            .filter(|m| {
+                m.scope == Scope::Plant || (m.scope == Scope::Fleet && Some(m.subject.as_str()) == fleet)
+            })
+            .map(|m| m.name)
+            .collect();
+        n.dedup();
+        n
+    };
     let bad = |why: String| {
-        Failure::input(format!(
-            "--target {text:?}: {why}. Write METRIC OP VALUE, e.g. 'move_wait_p95 <= 5 min' or \
-             'utilization <= 85%'; metrics: {}",
-            TARGET_METRICS.iter().map(|m| m.0).collect::<Vec<_>>().join(", ")
+        StudyError::Input(format!(
+            "--target {text:?}: {why}. Write METRIC OP VALUE, e.g. 'move_wait_p95_s <= 5 min' or \
+             'utilization <= 85%'; metrics: {}; or SUBJECT/METRIC for a product, department or other fleet",
+            names().join(", ")
         ))
     };
     let t = text.trim();
@@ -109,23 +109,24 @@ pub fn parse(text: &str) -> Result<Target, Failure> {
     };
     let name = t[..pos].trim();
     let value_text = t[pos + len..].trim();
-    let metric = TARGET_METRICS.iter().position(|m| m.0 == name).ok_or_else(|| {
-        let near = TARGET_METRICS
-            .iter()
-            .map(|m| (strsim::jaro_winkler(m.0, name), m.0))
-            .filter(|(s, _)| *s > 0.8)
-            .max_by(|a, b| a.0.total_cmp(&b.0))
-            .map(|(_, m)| format!(" (did you mean {m:?}?)"))
-            .unwrap_or_default();
-        bad(format!("unknown metric {name:?}{near}"))
-    })?;
+    let found = if name.contains('/') {
+        find_metric(list, name)
+    } else {
+        let (canon, note) = canonical(name);
+        let own = fleet.and_then(|f| find_metric(list, &format!("{f}/{canon}")));
+        own.or_else(|| find_metric(list, &canon)).map(|(i, _)| (i, note))
+    };
+    let (metric, note) =
+        found.ok_or_else(|| bad(format!("unknown metric {name:?}{}", did_you_mean(name, names()))))?;
     if value_text.is_empty() {
         return Err(bad("no value after the comparison".into()));
     }
-    let (mname, unit, _) = TARGET_METRICS[metric];
+    let m = &list[metric];
+    let label = m.label();
+    let unit = m.def.unit;
     let value = match unit {
-        Unit::Duration => {
-            parse_duration(value_text).map_err(|e| bad(format!("{mname} is a duration: {e}")))?
+        Unit::Seconds => {
+            parse_duration(value_text).map_err(|e| bad(format!("{label} is a duration: {e}")))?
         }
         Unit::Share => {
             let (num, scale) = match value_text.strip_suffix('%') {
@@ -133,24 +134,24 @@ pub fn parse(text: &str) -> Result<Target, Failure> {
                 None => (value_text, 1.0),
             };
             let v: f64 = num.parse().map_err(|_| {
-                bad(format!("{mname} is a share: write a fraction such as 0.85 or a percentage such as 85%"))
+                bad(format!("{label} is a share: write a fraction such as 0.85 or a percentage such as 85%"))
             })?;
             v * scale
         }
-        Unit::Number => value_text
+        _ => value_text
             .parse()
-            .map_err(|_| bad(format!("{mname} takes a plain number, e.g. {mname} >= 5.5")))?,
+            .map_err(|_| bad(format!("{label} takes a plain number, e.g. {label} >= 5.5")))?,
     };
     if !value.is_finite() || value < 0.0 {
         return Err(bad("the value must be a number of zero or more".into()));
     }
     if unit == Unit::Share && value > 1.0 {
-        return Err(bad(format!("{mname} is a share between 0 and 1 (or 0% and 100%)")));
+        return Err(bad(format!("{label} is a share between 0 and 1 (or 0% and 100%)")));
     }
-    Ok(Target { text: t.to_string(), metric, name: mname, op, value })
+    Ok((Target { text: t.to_string(), metric, name: label, op, value, unit, what: m.def.what }, note))
 }
 
-/// How one size fares against one target.
+/// How one alternative fares against one target.
 #[derive(Debug, Clone, Serialize)]
 pub struct Verdict {
     /// The target as written.
@@ -188,12 +189,12 @@ pub fn judge(t: &Target, e: &Estimate, sd_over_root_n: Option<f64>) -> Verdict {
 }
 
 impl Target {
-    /// What the target says, e.g. `move_wait_p95 <= 5 min`.
+    /// What the target says, e.g. `forklifts/move_wait_p95_s <= 5 min`.
     pub fn describe(&self) -> String {
-        let v = match TARGET_METRICS[self.metric].1 {
-            Unit::Duration => crate::table::dur_plain(self.value),
+        let v = match self.unit {
+            Unit::Seconds => format_duration(self.value),
             Unit::Share => format!("{}%", (self.value * 1e4).round() / 100.0),
-            Unit::Number => crate::table::num(self.value),
+            _ => num(self.value),
         };
         format!("{} {} {v}", self.name, self.op.symbol())
     }
@@ -202,22 +203,39 @@ impl Target {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::metrics::list::every_metric;
+
+    fn list() -> Vec<Metric> {
+        let plant = crate::parse_scenario(
+            include_str!("../../../scenarios/validation/tiny-forklift.yaml"),
+            std::path::Path::new("tiny-forklift.yaml"),
+        )
+        .expect("the validation scenario compiles");
+        every_metric(&plant)
+    }
+
+    fn parse_one(text: &str) -> Result<Target, StudyError> {
+        let l = list();
+        let fleet = l.iter().find(|m| m.scope == Scope::Fleet).map(|m| m.subject.clone());
+        parse(text, &l, fleet.as_deref()).map(|(t, _)| t)
+    }
 
     #[test]
     fn targets_parse_with_units() {
-        let t = parse("move_wait_p95 <= 5 min").ok().unwrap();
-        assert_eq!((t.name, t.op, t.value), ("move_wait_p95", Op::AtMost, 300.0));
-        let t = parse("utilization<85%").ok().unwrap();
+        let t = parse_one("move_wait_p95 <= 5 min").ok().unwrap();
+        assert!(t.name.ends_with("/move_wait_p95_s") && t.op == Op::AtMost && t.value == 300.0, "{t:?}");
+        let t = parse_one("utilization<85%").ok().unwrap();
         assert_eq!((t.op, t.value), (Op::Below, 0.85));
-        assert_eq!(parse("utilization <= 0.85").ok().unwrap().value, 0.85);
-        assert_eq!(parse("throughput >= 5.5").ok().unwrap().op, Op::AtLeast);
+        assert_eq!(parse_one("utilisation <= 0.85").ok().unwrap().value, 0.85);
+        assert_eq!(parse_one("throughput >= 5.5").ok().unwrap().op, Op::AtLeast);
+        assert_eq!(parse_one("throughput_per_h >= 5.5").ok().unwrap().name, "throughput_per_h");
     }
 
     #[test]
     fn wrong_targets_say_why() {
         for (text, needle) in [
             ("move_wait_p95 5 min", "no comparison"),
-            ("move_wiat <= 5 min", "did you mean \"move_wait\""),
+            ("move_wiat_s <= 5 min", "did you mean \"move_wait_s\""),
             ("move_wait <= 5", "needs a unit"),
             ("utilization <= 5 min", "is a share"),
             ("utilization <= 120%", "between 0 and 1"),
@@ -225,8 +243,8 @@ mod tests {
             ("wip <= -3", "zero or more"),
             ("wip <=", "no value"),
         ] {
-            let e = parse(text).err().unwrap_or_else(|| panic!("{text} should fail"));
-            assert!(e.message().contains(needle), "{text}: {}", e.message());
+            let e = parse_one(text).err().unwrap_or_else(|| panic!("{text} should fail"));
+            assert!(e.to_string().contains(needle), "{text}: {e}");
         }
     }
 
@@ -234,14 +252,14 @@ mod tests {
     fn judged_on_the_one_sided_bound() {
         // n = 10, s/√n = 1: the one-sided 95% margin is t(0.95, 9) = 1.833113
         // (NIST/SEMATECH e-Handbook §1.3.6.7.2, 0.95 column: 1.833).
-        let t = parse("wip <= 12").ok().unwrap();
+        let t = parse_one("wip <= 12").ok().unwrap();
         let e = Estimate { mean: 10.0, half_width: None, n: 10 };
         let v = judge(&t, &e, Some(1.0));
         assert!((v.bound.unwrap() - 11.833113).abs() < 1e-5);
         assert!(v.met && !v.unsure);
         let v = judge(&t, &Estimate { mean: 11.0, ..e }, Some(1.0));
         assert!(!v.met && v.unsure, "mean meets it, the bound does not");
-        let t = parse("throughput >= 9").ok().unwrap();
+        let t = parse_one("throughput >= 9").ok().unwrap();
         assert!(judge(&t, &e, Some(0.5)).met);
         // One replication: no bound, never met with confidence.
         assert!(!judge(&t, &Estimate { n: 1, ..e }, None).met);

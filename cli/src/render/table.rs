@@ -1,6 +1,7 @@
 //! Plain aligned text tables and number formatting for the terminal.
 
-use layflow_models::report::{DurationEstimate, Estimate};
+use layflow_models::metrics::{DurationEstimate, Estimate};
+pub use layflow_models::text::{num, time_unit};
 
 /// A table of text cells; the first column is left-aligned, the rest right-aligned.
 pub struct Table {
@@ -55,31 +56,6 @@ impl Table {
     }
 }
 
-/// A number with about four significant digits, thousands not separated.
-pub fn num(x: f64) -> String {
-    if !x.is_finite() {
-        return "-".to_string();
-    }
-    // Adding +0.0 turns -0.0 into 0.0, so a zero never prints as "-0.000".
-    let x = x + 0.0;
-    let a = x.abs();
-    if a < 5e-4 {
-        return "0".to_string();
-    }
-    if a >= 1e9 {
-        return format!("{x:.3e}");
-    }
-    if a >= 1000.0 {
-        format!("{x:.0}")
-    } else if a >= 100.0 {
-        format!("{x:.1}")
-    } else if a >= 10.0 {
-        format!("{x:.2}")
-    } else {
-        format!("{x:.3}")
-    }
-}
-
 /// A whole number (for load-metres and the like), or scientific when huge.
 pub fn whole(x: f64) -> String {
     if x.is_finite() && x.abs() < 1e9 {
@@ -119,20 +95,6 @@ pub fn pct(e: &Estimate) -> String {
     match e.half_width {
         Some(h) => format!("{:.1} ± {:.1}%", e.mean * 100.0, h * 100.0),
         None => format!("{:.1}%", e.mean * 100.0),
-    }
-}
-
-/// The unit (and its length in seconds) that reads best for a duration.
-pub fn time_unit(seconds: f64) -> (&'static str, f64) {
-    let a = seconds.abs();
-    if a >= 2.0 * 86400.0 {
-        ("d", 86400.0)
-    } else if a >= 2.0 * 3600.0 {
-        ("h", 3600.0)
-    } else if a >= 120.0 {
-        ("min", 60.0)
-    } else {
-        ("s", 1.0)
     }
 }
 

@@ -5,6 +5,7 @@ use std::time::Instant;
 
 use indicatif::{ProgressBar, ProgressStyle};
 use layflow_models::sim::RepStats;
+use layflow_models::study;
 
 /// A progress bar over replications that also shows the simulation speed.
 ///
@@ -50,26 +51,28 @@ impl Progress {
         }
     }
 
+    /// Remove the bar.
+    pub fn finish(&self) {
+        self.bar.finish_and_clear();
+    }
+}
+
+impl study::Progress for Progress {
     /// What is running now, e.g. `layout proposed, demand ×1.2`.
-    pub fn stage(&self, what: String) {
+    fn stage(&self, what: String) {
         self.bar.set_prefix(what);
     }
 
     /// Grow the total (sequential selection adds replications as it goes).
-    pub fn add_total(&self, n: u64) {
+    fn add_total(&self, n: u64) {
         self.bar.inc_length(n);
     }
 
     /// One replication finished.
-    pub fn done(&self, rep: &RepStats) {
+    fn done(&self, rep: &RepStats) {
         let events = self.events.fetch_add(rep.events, Ordering::Relaxed) + rep.events;
         let rate = events as f64 / self.started.elapsed().as_secs_f64().max(1e-9);
         self.bar.set_message(format!("{:.1} M events/s", rate / 1e6));
         self.bar.inc(1);
-    }
-
-    /// Remove the bar.
-    pub fn finish(&self) {
-        self.bar.finish_and_clear();
     }
 }

@@ -5,21 +5,23 @@ use std::time::Duration;
 
 use clap::{Args, ValueEnum};
 use indicatif::{ProgressBar, ProgressStyle};
-use serde::Serialize;
 
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{Layout, Plant};
 use layflow_models::search::qaplib::{self, Instance, Solution};
 use layflow_models::search::{
-    self, AnnealParams, LayoutCost, Limits, Method, Outcome, PlantProblem, Problem, Ranked, Settings,
-    TabuParams, TracePoint,
+    self, AnnealParams, Limits, Method, PlantProblem, Problem, Ranked, Settings, TabuParams,
 };
 
-use crate::compare::{CompareArgs, CompareFormat};
-use crate::run::{duration_arg, SimOptions};
-use crate::select::SelectArgs;
-use crate::table::{num, whole, Table};
-use crate::{load, output, plot, Failure, Format};
+use crate::commands::compare::{compare_plant, CompareArgs, CompareFormat, SelectArgs};
+use crate::failure::Failure;
+use crate::render::plot;
+use crate::render::search::{
+    cost_value, json_output, layouts_yaml, limits_text, objective_text, pp_value, render, secs, trace_series,
+    Found, MethodRun, Report,
+};
+use crate::render::table::{whole, Table};
+use crate::settings::{duration_arg, layout, load, Format, SimOptions};
 
 /// How long each method runs when neither --time-limit nor --iterations is given.
 const DEFAULT_TIME_LIMIT_S: f64 = 10.0;
@@ -140,26 +142,6 @@ fn methods(asked: &[MethodName]) -> Vec<MethodName> {
     all.into_iter().filter(|m| asked.contains(m)).collect()
 }
 
-/// One method's run.
-pub struct MethodRun {
-    /// Which method.
-    pub name: MethodName,
-    /// What it found.
-    pub outcome: Outcome,
-}
-
-impl MethodRun {
-    /// The method's short name (`tabu`, `anneal`, `exchange`).
-    pub fn key(&self) -> &'static str {
-        self.name.key()
-    }
-
-    /// When its best was first reached.
-    fn found_at(&self) -> Option<&TracePoint> {
-        self.outcome.trace.last()
-    }
-}
-
 fn limits(args: &SearchArgs) -> Result<Limits, Failure> {
     let time_s = match (&args.time_limit, args.iterations) {
         (None, Some(_)) => None,
@@ -195,7 +177,7 @@ fn run_methods(
             search::search(problem, &name.method(), settings, |_, best| bar.set_message(shown(best)))
                 .map_err(|e| Failure::input(format!("the {} search cannot start: {e}", name.key())))?;
         bar.finish_and_clear();
-        runs.push(MethodRun { name, outcome });
+        runs.push(MethodRun { key: name.key(), title: name.title(), outcome });
     }
     Ok(runs)
 }
@@ -241,8 +223,9 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
     }
     let from = match &args.from {
         None => 0,
-        Some(name) => crate::run::layouts(&plant, std::slice::from_ref(name))
-            .map_err(|f| Failure::input(f.message().replace("--layout ", "--from ")))?[0],
+        Some(name) => {
+            layout(&plant, name).map_err(|f| Failure::input(f.message().replace("--layout ", "--from ")))?
+        }
     };
     let picture = StaticPicture::new(&plant, factor);
     let pp = PlantProblem::new(&plant, &picture)
@@ -292,7 +275,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
         write_file(file, layouts_yaml(&report, path, &found, file).as_bytes(), "--out")?;
     }
     match args.format {
-        Format::Table => print!("{}", render(&report, &found, args)),
+        Format::Table => print!("{}", render(&report, &found, args.out.as_deref(), args.validate)),
         Format::Json => {
             let json = json_output(&report, &found, args.sim.no_wall_clock);
             println!("{}", serde_json::to_string_pretty(&json).expect("plain data serializes"));
@@ -302,331 +285,6 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
         validate(&plant, path, from, &found, args)?;
     }
     Ok(())
-}
-
-/// A layout the search found, named.
-struct Found {
-    name: String,
-    layout: Vec<usize>,
-    cost: LayoutCost,
-    /// The scenario layout it equals, if any.
-    same_as: Option<usize>,
-}
-
-/// What every rendering needs.
-struct Report<'a> {
-    plant: &'a Plant,
-    pp: &'a PlantProblem,
-    factor: f64,
-    /// Loads per hour between departments (the from-to chart's total).
-    loads_per_h: f64,
-    from: usize,
-    start_cost: LayoutCost,
-    starts_there: bool,
-    seed: u64,
-    limits: Limits,
-    runs: &'a [MethodRun],
-}
-
-/// The figure a layout is ranked by: cost per hour when priced, else load-metres per hour.
-fn cost_value(c: &LayoutCost, pp: &PlantProblem) -> f64 {
-    if pp.per_load_metre > 0.0 {
-        c.total_cost_per_h
-    } else {
-        c.load_distance_m_per_h
-    }
-}
-
-/// A search objective (load-metre equivalents) in the same figure; `None` when it counts broken rules.
-fn pp_value(objective: f64, pp: &PlantProblem) -> Option<f64> {
-    let rules_ok = pp.problem.rules() == 0 || objective < pp.problem.penalty();
-    let scale = if pp.per_load_metre > 0.0 { pp.per_load_metre } else { 1.0 };
-    (objective.is_finite() && rules_ok).then_some(objective * scale)
-}
-
-fn objective_text(objective: f64, pp: &PlantProblem) -> String {
-    match pp_value(objective, pp) {
-        Some(v) if pp.per_load_metre > 0.0 => format!("{} per hour", num(v)),
-        Some(v) => format!("{} load-m/h", whole(v)),
-        None => {
-            let broken = (objective / pp.problem.penalty()).floor();
-            format!("still breaking {broken} adjacency rule(s)")
-        }
-    }
-}
-
-fn trace_series<'a>(
-    runs: &'a [MethodRun],
-    value: impl Fn(f64) -> Option<f64>,
-) -> Vec<plot::SearchSeries<'a>> {
-    runs.iter()
-        .map(|r| plot::SearchSeries {
-            label: r.name.title(),
-            points: r.outcome.trace.iter().filter_map(|t| Some((t.elapsed_s, value(t.objective)?))).collect(),
-            end_s: r.outcome.elapsed_s,
-        })
-        .collect()
-}
-
-fn limits_text(l: &Limits) -> String {
-    match (l.time_s, l.iterations) {
-        (Some(t), Some(n)) => {
-            format!("{} or {n} iterations, whichever came first", crate::table::dur_plain(t))
-        }
-        (Some(t), None) => crate::table::dur_plain(t),
-        (None, Some(n)) => format!("{n} iterations"),
-        (None, None) => "no limit".into(),
-    }
-}
-
-fn moved(layout: &[usize], from: &[usize]) -> usize {
-    layout.iter().zip(from).filter(|(a, b)| a != b).count()
-}
-
-fn change(value: f64, base: f64) -> String {
-    if base > 0.0 && base.is_finite() {
-        format!("{:+.1}%", (value / base - 1.0) * 100.0)
-    } else {
-        "-".into()
-    }
-}
-
-fn render(r: &Report, found: &[Found], args: &SearchArgs) -> String {
-    let plant = r.plant;
-    let rules = &plant.search;
-    let mut out = format!("Layout search: {}\n", plant.name);
-    let pinned = rules.pinned.iter().filter(|p| p.is_some()).count();
-    let empty = rules.keep_empty.iter().filter(|&&e| e).count();
-    out.push_str(&format!(
-        "  {} departments on {} locations; {pinned} pinned (docks stay where they are unless search.pinned \
-         moves them),\n  {} kept empty, {}, {}\n",
-        plant.departments.len(),
-        plant.locations.len(),
-        crate::table::count(empty, "location"),
-        crate::table::count(rules.adjacent.len() + rules.apart.len(), "adjacency rule"),
-        crate::table::count(rules.floor_costs.len(), "floor cost"),
-    ));
-    out.push_str(&format!(
-        "  flows: the from-to chart at demand ×{:.2} ({} loads/h between departments); distances: {}\n",
-        r.factor,
-        num(r.loads_per_h),
-        plant.distance_rule.describe()
-    ));
-    let priced = r.pp.per_load_metre > 0.0;
-    if priced {
-        out.push_str(&format!(
-            "  cost: load-distance × {} per load-metre{}\n",
-            num(r.pp.per_load_metre),
-            if rules.floor_costs.is_empty() { "" } else { " + floor costs" }
-        ));
-    } else {
-        out.push_str("  cost: load-distance only (set costs.per_load_metre to price it)\n");
-    }
-    out.push_str(&format!("  each method ran for {}, seed {}\n", limits_text(&r.limits), r.seed));
-    let start = &plant.layouts[r.from];
-    if !r.starts_there {
-        out.push_str(&format!(
-            "  note: layout \"{}\" breaks the search rules (a department on a location pinned to another or \
-             kept empty), so the methods start from a random layout\n",
-            start.name
-        ));
-    }
-    out.push('\n');
-
-    let mut t = Table::new(&["method", "iterations", "ran for", "best found after", "best"]);
-    for run in r.runs {
-        let at = run.found_at();
-        t.row(vec![
-            run.name.title().into(),
-            run.outcome.iterations.to_string(),
-            secs(run.outcome.elapsed_s),
-            at.map_or("-".into(), |p| format!("{} (iteration {})", secs(p.elapsed_s), p.iteration)),
-            objective_text(run.outcome.evaluation.objective, r.pp),
-        ]);
-    }
-    out.push_str(&t.render(2));
-    out.push('\n');
-
-    let base = cost_value(&r.start_cost, r.pp);
-    let mut header = vec!["layout", "load-distance (load-m/h)"];
-    if priced {
-        header.extend(["handling /h", "floor /h", "total /h"]);
-    }
-    header.extend(["vs start", "departments moved", "rules"]);
-    let mut t = Table::new(&header);
-    let row = |name: String, c: &LayoutCost, vs: String, moves: String| {
-        let mut cells = vec![name, whole(c.load_distance_m_per_h)];
-        if priced {
-            cells.extend([num(c.handling_cost_per_h), num(c.floor_cost_per_h), num(c.total_cost_per_h)]);
-        }
-        let rules = if c.forbidden > 0 {
-            format!("{} on forbidden locations", c.forbidden)
-        } else if c.rules_broken > 0 {
-            format!("{} broken", c.rules_broken)
-        } else {
-            "met".into()
-        };
-        cells.extend([vs, moves, rules]);
-        cells
-    };
-    t.row(row(format!("{} (start)", start.name), &r.start_cost, "-".into(), "-".into()));
-    for (l, other) in plant.layouts.iter().enumerate() {
-        if l == r.from || found.iter().any(|f| f.same_as == Some(l)) {
-            continue;
-        }
-        let c = r.pp.cost(&other.location_of).expect("scenario layouts are checked on load");
-        let vs = change(cost_value(&c, r.pp), base);
-        t.row(row(
-            format!("{} (scenario)", other.name),
-            &c,
-            vs,
-            moved(&other.location_of, &start.location_of).to_string(),
-        ));
-    }
-    for f in found {
-        let name = match f.same_as {
-            Some(l) => format!("{} (= {})", f.name, plant.layouts[l].name),
-            None => f.name.clone(),
-        };
-        let vs = change(cost_value(&f.cost, r.pp), base);
-        t.row(row(name, &f.cost, vs, moved(&f.layout, &start.location_of).to_string()));
-    }
-    out.push_str(&t.render(2));
-
-    let ties = found
-        .iter()
-        .filter(|f| {
-            found.first().is_some_and(|b| {
-                b.cost.total_cost_per_h == f.cost.total_cost_per_h
-                    && b.cost.load_distance_m_per_h == f.cost.load_distance_m_per_h
-            })
-        })
-        .count();
-    if ties > 1 {
-        out.push_str(&format!(
-            "\n  {ties} layouts tie at the lowest cost (mirror images and swaps of departments with the same \
-             flows often do):\n  the static method cannot tell them apart; simulation can.\n"
-        ));
-    }
-    if let Some(best) = found.first() {
-        let moves: Vec<String> = best
-            .layout
-            .iter()
-            .zip(&start.location_of)
-            .enumerate()
-            .filter(|(_, (a, b))| a != b)
-            .map(|(d, (&to, &was))| {
-                format!(
-                    "{} {} → {}",
-                    plant.departments[d].id, plant.locations[was].id, plant.locations[to].id
-                )
-            })
-            .collect();
-        if moves.is_empty() {
-            out.push_str(&format!(
-                "\n  {} is the start layout: the search found nothing cheaper.\n",
-                best.name
-            ));
-        } else {
-            out.push_str(&format!(
-                "\n  {} moves {}:\n",
-                best.name,
-                crate::table::count(moves.len(), "department")
-            ));
-            for m in moves {
-                out.push_str(&format!("    {m}\n"));
-            }
-        }
-    }
-    out.push_str(
-        "\n  Static cost only: queues, waits for movers and congestion are not counted; the cheapest layout is \
-         not always the one that runs best.\n",
-    );
-    match (&args.out, args.validate) {
-        (_, true) => {}
-        (Some(file), false) => out.push_str(&format!(
-            "  Wrote {}. Add `layout_files: [{}]` to the scenario and run `layflow compare`, or rerun with \
-             --validate.\n",
-            file.display(),
-            file.file_name().map_or_else(|| file.display().to_string(), |n| n.to_string_lossy().into_owned())
-        )),
-        (None, false) => {
-            out.push_str("  Write them with --out FILE.yaml, or simulate them now with --validate.\n")
-        }
-    }
-    out
-}
-
-/// Seconds with enough digits for a search that improves within milliseconds.
-fn secs(s: f64) -> String {
-    if s < 0.01 {
-        format!("{:.2} ms", s * 1e3)
-    } else if s < 1.0 {
-        format!("{:.1} ms", s * 1e3)
-    } else if s < 120.0 {
-        format!("{s:.2} s")
-    } else {
-        crate::table::dur_plain(s)
-    }
-}
-
-/// A name or id as a YAML key or value: plain when that is unambiguous, else double-quoted.
-fn yaml_text(s: &str) -> String {
-    let plain = !s.is_empty()
-        && s.chars().all(|c| c.is_ascii_alphanumeric() || matches!(c, '-' | '_' | '.'))
-        && s.starts_with(|c: char| c.is_ascii_alphabetic())
-        && !matches!(
-            s.to_ascii_lowercase().as_str(),
-            "true" | "false" | "yes" | "no" | "on" | "off" | "null"
-        );
-    if plain {
-        s.to_string()
-    } else {
-        serde_json::to_string(s).expect("strings serialize")
-    }
-}
-
-fn layouts_yaml(r: &Report, scenario: &Path, found: &[Found], file: &Path) -> String {
-    let plant = r.plant;
-    let file_name =
-        file.file_name().map_or_else(|| file.display().to_string(), |n| n.to_string_lossy().into_owned());
-    let methods: Vec<&str> = r.runs.iter().map(MethodRun::key).collect();
-    let mut y = format!(
-        "# Layouts found by `layflow search` for {} ({}).\n\
-         # Include them with `layout_files: [{file_name}]` in the scenario, then run `layflow compare`.\n\
-         # Ranked by static cost only (load-distance and floor costs): queues, movers and congestion\n\
-         # are not counted until you simulate them.\n\
-         # Methods {}; seed {}; each ran for {}; demand ×{:.2}.\n\
-         # The start layout \"{}\" has load-distance {} load-m/h.\n\
-         layouts:\n",
-        plant.name,
-        scenario.display(),
-        methods.join(", "),
-        r.seed,
-        limits_text(&r.limits),
-        r.factor,
-        plant.layouts[r.from].name,
-        whole(r.start_cost.load_distance_m_per_h),
-    );
-    for (i, f) in found.iter().enumerate() {
-        let mut note =
-            format!("rank {}: load-distance {} load-m/h", i + 1, whole(f.cost.load_distance_m_per_h));
-        if r.pp.per_load_metre > 0.0 {
-            note.push_str(&format!(", total {} per hour", num(f.cost.total_cost_per_h)));
-        }
-        if let Some(l) = f.same_as {
-            note.push_str(&format!(", same as layout \"{}\"", plant.layouts[l].name));
-        }
-        y.push_str(&format!("  # {note}\n  {}:\n", yaml_text(&f.name)));
-        for (d, &l) in f.layout.iter().enumerate() {
-            y.push_str(&format!(
-                "    {}: {}\n",
-                yaml_text(&plant.departments[d].id),
-                yaml_text(&plant.locations[l].id)
-            ));
-        }
-    }
-    y
 }
 
 /// A file we are about to write: its folder exists and its name ends in `.ext`.
@@ -663,100 +321,7 @@ fn write_file(file: &Path, bytes: &[u8], flag: &str) -> Result<(), Failure> {
         .ok_or_else(|| Failure::input(format!("{flag} {}: not a file name", file.display())))?
         .to_string_lossy()
         .into_owned();
-    output::write_atomic(folder_of(file), &name, bytes)
-}
-
-#[derive(Serialize)]
-struct JsonOut<'a> {
-    plant: &'a str,
-    demand_factor: f64,
-    seed: u64,
-    cost_per_load_metre: f64,
-    start: JsonLayout,
-    methods: Vec<JsonMethod>,
-    layouts: Vec<JsonLayout>,
-}
-
-#[derive(Serialize)]
-struct JsonMethod {
-    method: &'static str,
-    iterations: u64,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    elapsed_s: Option<f64>,
-    best_objective: f64,
-}
-
-#[derive(Serialize)]
-struct JsonLayout {
-    name: String,
-    #[serde(skip_serializing_if = "Option::is_none")]
-    same_as: Option<String>,
-    load_distance_m_per_h: f64,
-    handling_cost_per_h: f64,
-    floor_cost_per_h: f64,
-    total_cost_per_h: f64,
-    rules_broken: usize,
-    departments_moved: usize,
-    /// Department id → location id, in scenario order.
-    assignment: Vec<[String; 2]>,
-}
-
-fn json_layout(
-    plant: &Plant,
-    name: String,
-    same_as: Option<usize>,
-    layout: &[usize],
-    c: &LayoutCost,
-    from: &[usize],
-) -> JsonLayout {
-    JsonLayout {
-        name,
-        same_as: same_as.map(|l| plant.layouts[l].name.clone()),
-        load_distance_m_per_h: c.load_distance_m_per_h,
-        handling_cost_per_h: c.handling_cost_per_h,
-        floor_cost_per_h: c.floor_cost_per_h,
-        total_cost_per_h: c.total_cost_per_h,
-        rules_broken: c.rules_broken,
-        departments_moved: moved(layout, from),
-        assignment: layout
-            .iter()
-            .enumerate()
-            .map(|(d, &l)| [plant.departments[d].id.clone(), plant.locations[l].id.clone()])
-            .collect(),
-    }
-}
-
-fn json_output<'a>(r: &Report<'a>, found: &[Found], no_wall_clock: bool) -> JsonOut<'a> {
-    let plant = r.plant;
-    let start = &plant.layouts[r.from];
-    JsonOut {
-        plant: &plant.name,
-        demand_factor: r.factor,
-        seed: r.seed,
-        cost_per_load_metre: r.pp.per_load_metre,
-        start: json_layout(
-            plant,
-            start.name.clone(),
-            None,
-            &start.location_of,
-            &r.start_cost,
-            &start.location_of,
-        ),
-        methods: r
-            .runs
-            .iter()
-            .map(|m| JsonMethod {
-                method: m.key(),
-                iterations: m.outcome.iterations,
-                elapsed_s: (!no_wall_clock).then_some(m.outcome.elapsed_s),
-                best_objective: m.outcome.evaluation.objective,
-            })
-            .collect(),
-        layouts: found
-            .iter()
-            .map(|f| json_layout(plant, f.name.clone(), f.same_as, &f.layout, &f.cost, &start.location_of))
-            .collect(),
-    }
+    Ok(layflow_models::results::write_atomic(folder_of(file), &name, bytes)?)
 }
 
 /// Simulate the start layout and the layouts found, as `compare` does.
@@ -808,7 +373,7 @@ fn validate(
         out: None,
         sim: args.sim.clone(),
     };
-    crate::compare::compare_plant(&plant, &compare)
+    compare_plant(&plant, &compare)
 }
 
 /// `--qaplib`: search a published instance and report the gap to its optimum.
@@ -876,7 +441,7 @@ fn search_qaplib(
             let mut t = Table::new(&["method", "iterations", "ran for", "best", "gap"]);
             for r in &runs {
                 t.row(vec![
-                    r.name.title().into(),
+                    r.title.into(),
                     r.outcome.iterations.to_string(),
                     secs(r.outcome.elapsed_s),
                     whole(r.outcome.evaluation.cost),

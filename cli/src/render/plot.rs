@@ -1,17 +1,23 @@
-//! Pictures as SVG: fleet size against mover wait and utilisation, and layout-search cost over time.
+//! Charts as SVG: fleet size against mover wait and utilisation, and layout-search cost over time.
 
-use layflow_models::report::Estimate;
+use layflow_models::metrics::{Estimate, Unit};
+use layflow_models::study::fleet::SizeResult;
+use layflow_models::study::targets::Target;
 use plotters::prelude::*;
 
-use crate::fleet::SizeResult;
-use crate::target::{Target, Unit, TARGET_METRICS};
-use crate::Failure;
+use super::palette;
+use crate::failure::Failure;
 
-/// Our palette: teal for means, amber for tails, slate for the analytic line, brick for targets.
-const TEAL: RGBColor = RGBColor(27, 127, 121);
-const AMBER: RGBColor = RGBColor(217, 140, 0);
-const SLATE: RGBColor = RGBColor(61, 74, 92);
-const BRICK: RGBColor = RGBColor(179, 64, 58);
+/// The palette's colours as the chart library wants them: teal for means,
+/// amber for tails, slate for the analytic line, brick for targets.
+const fn colour(c: (u8, u8, u8)) -> RGBColor {
+    RGBColor(c.0, c.1, c.2)
+}
+const TEAL: RGBColor = colour(palette::TEAL);
+const AMBER: RGBColor = colour(palette::AMBER);
+const SLATE: RGBColor = colour(palette::SLATE);
+const BRICK: RGBColor = colour(palette::BRICK);
+const GRID: RGBColor = colour(palette::GRID);
 
 fn plot_error(e: impl std::fmt::Display) -> Failure {
     Failure::run(format!("cannot draw the picture: {e}"))
@@ -25,7 +31,7 @@ where
 {
     c.configure_series_labels()
         .background_style(WHITE.mix(0.9))
-        .border_style(RGBColor(200, 200, 200))
+        .border_style(colour(palette::LEGEND_BORDER))
         .position(SeriesLabelPosition::UpperRight)
         .draw()
         .map_err(plot_error)
@@ -42,15 +48,15 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
         let xs: Vec<f64> = sizes.iter().map(|r| f64::from(r.movers)).collect();
         let (x0, x1) = (xs.first().copied().unwrap_or(1.0) - 0.5, xs.last().copied().unwrap_or(1.0) + 0.5);
 
-        let minutes = |e: &Estimate| e.mean / 60.0;
+        let minutes = |e: Option<&Estimate>| e.map_or(f64::NAN, |e| e.mean / 60.0);
         let wait_targets: Vec<(&Target, f64)> = targets
             .iter()
-            .filter(|t| TARGET_METRICS[t.metric].1 == Unit::Duration && t.name.starts_with("move_wait"))
+            .filter(|t| t.unit == Unit::Seconds && t.name.contains("move_wait"))
             .map(|t| (t, t.value / 60.0))
             .collect();
         let ymax = sizes
             .iter()
-            .flat_map(|r| [minutes(&r.move_wait_s), minutes(&r.move_wait_p95_s)])
+            .flat_map(|r| [minutes(r.metrics.get("move_wait_s")), minutes(r.metrics.get("move_wait_p95_s"))])
             .chain(wait_targets.iter().map(|t| t.1))
             .filter(|v| v.is_finite())
             .fold(0.0f64, f64::max)
@@ -68,7 +74,7 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
             .y_desc("wait (min)")
             .x_labels(sizes.len().min(20))
             .x_label_formatter(&|x| format!("{x:.0}"))
-            .light_line_style(RGBColor(235, 235, 235))
+            .light_line_style(GRID)
             .draw()
             .map_err(plot_error)?;
         for (label, color, pick) in [("mean wait", TEAL, 0usize), ("95th-percentile wait", AMBER, 1)] {
@@ -77,7 +83,7 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
                 .map(|r| {
                     (
                         f64::from(r.movers),
-                        if pick == 0 { minutes(&r.move_wait_s) } else { minutes(&r.move_wait_p95_s) },
+                        minutes(r.metrics.get(if pick == 0 { "move_wait_s" } else { "move_wait_p95_s" })),
                     )
                 })
                 .filter(|p| p.1.is_finite())
@@ -96,11 +102,8 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
         }
         legend(&mut c)?;
 
-        let util_targets: Vec<(&Target, f64)> = targets
-            .iter()
-            .filter(|t| TARGET_METRICS[t.metric].1 == Unit::Share)
-            .map(|t| (t, t.value * 100.0))
-            .collect();
+        let util_targets: Vec<(&Target, f64)> =
+            targets.iter().filter(|t| t.unit == Unit::Share).map(|t| (t, t.value * 100.0)).collect();
         let mut c = ChartBuilder::on(&bottom)
             .caption(format!("Fleet {fleet}: utilisation"), ("sans-serif", 22))
             .margin(14)
@@ -113,19 +116,20 @@ pub fn fleet_svg(fleet: &str, sizes: &[SizeResult], targets: &[Target]) -> Resul
             .y_desc("busy share (%)")
             .x_labels(sizes.len().min(20))
             .x_label_formatter(&|x| format!("{x:.0}"))
-            .light_line_style(RGBColor(235, 235, 235))
+            .light_line_style(GRID)
             .draw()
             .map_err(plot_error)?;
+        let util = |r: &SizeResult| *r.metrics.get("utilization").expect("every size has its utilization");
         let sim: Vec<(f64, f64)> =
-            sizes.iter().map(|r| (f64::from(r.movers), r.utilization.mean * 100.0)).collect();
+            sizes.iter().map(|r| (f64::from(r.movers), util(r).mean * 100.0)).collect();
         c.draw_series(LineSeries::new(sim.clone(), TEAL.stroke_width(3)))
             .map_err(plot_error)?
             .label("simulated (bars: 95% interval)")
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], TEAL.stroke_width(3)));
         c.draw_series(sizes.iter().filter_map(|r| {
-            let h = r.utilization.half_width? * 100.0;
+            let h = util(r).half_width? * 100.0;
             let x = f64::from(r.movers);
-            let m = r.utilization.mean * 100.0;
+            let m = util(r).mean * 100.0;
             Some(PathElement::new(vec![(x, m - h), (x, m + h)], TEAL.stroke_width(2)))
         }))
         .map_err(plot_error)?;
@@ -193,7 +197,7 @@ pub fn search_svg(
         c.configure_mesh()
             .x_desc("seconds since the search began (log scale)")
             .y_desc(format!("best so far ({unit})"))
-            .y_label_formatter(&|y| crate::table::num(*y))
+            .y_label_formatter(&|y| super::table::num(*y))
             .x_label_formatter(&|x| {
                 if *x >= 1.0 {
                     format!("{x:.0}")
@@ -201,7 +205,7 @@ pub fn search_svg(
                     format!("{x}")
                 }
             })
-            .light_line_style(RGBColor(235, 235, 235))
+            .light_line_style(GRID)
             .draw()
             .map_err(plot_error)?;
         // Narrower lines on top of wider ones, so methods that end at the same
@@ -237,7 +241,7 @@ pub fn search_svg(
                 BRICK.stroke_width(2),
             ))
             .map_err(plot_error)?
-            .label(format!("{name}: {}", crate::table::num(v)))
+            .label(format!("{name}: {}", super::table::num(v)))
             .legend(|(x, y)| PathElement::new(vec![(x, y), (x + 24, y)], BRICK.stroke_width(2)));
         }
         legend(&mut c)?;

@@ -1,0 +1,83 @@
+//! `layflow draw`: one layout of the plant as an SVG picture (see `render/plant.rs` for what is drawn).
+
+use std::path::PathBuf;
+
+use clap::Args;
+use layflow_models::analysis::StaticPicture;
+use layflow_models::results::segments::read_segments;
+use layflow_models::results::write_atomic;
+
+use crate::failure::Failure;
+use crate::render::plant::picture;
+use crate::settings::{demand_factor, layout, load};
+
+/// Arguments of `layflow draw`.
+#[derive(Args, Debug)]
+pub struct DrawArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// The layout to draw (default: the first).
+    #[arg(long, value_name = "NAME")]
+    pub layout: Option<String>,
+    /// A results folder (`compare --out`, or an experiment's folder): the
+    /// aisles are coloured by the simulated congestion delay per segment (or
+    /// by simulated traffic where nobody waited) from its summary.csv.
+    #[arg(long, value_name = "DIR")]
+    pub results: Option<PathBuf>,
+    /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// The SVG file to write.
+    #[arg(short = 'o', long = "out", value_name = "FILE.svg")]
+    pub out: PathBuf,
+}
+
+/// Draw `args.layout` of `args.scenario` to `args.out`.
+pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
+    let plant = load(&args.scenario)?;
+    let layout = match &args.layout {
+        None => 0,
+        Some(name) => layout(&plant, name)?,
+    };
+    let factor = demand_factor(&plant, args.demand)?;
+    let sim = match &args.results {
+        Some(dir) => {
+            if !dir.is_dir() {
+                return Err(Failure::input(format!("--results {}: not a directory", dir.display())));
+            }
+            let sim = read_segments(dir, &plant, layout)?;
+            if sim.is_none() {
+                eprintln!(
+                    "note: --results {}: no per-segment results there. They come from the segment-by-segment \
+                     simulation, which runs when the scenario's aisles have a capacity, a speed limit or a zone; \
+                     the aisles are coloured by static traffic (the from-to chart over the shortest paths) instead.",
+                    dir.display()
+                );
+            }
+            sim
+        }
+        None => None,
+    };
+    let pic = StaticPicture::new(&plant, factor);
+    let doc = picture(&plant, layout, &pic, &args.scenario, sim.as_ref());
+    let dir = match args.out.parent() {
+        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let name = args
+        .out
+        .file_name()
+        .ok_or_else(|| Failure::input(format!("-o {}: not a file name", args.out.display())))?
+        .to_string_lossy()
+        .into_owned();
+    if !dir.is_dir() {
+        return Err(Failure::input(format!(
+            "-o {}: the folder {} does not exist",
+            args.out.display(),
+            dir.display()
+        )));
+    }
+    write_atomic(&dir, &name, doc.to_string().as_bytes())?;
+    eprintln!("wrote {}", args.out.display());
+    Ok(())
+}

@@ -1,0 +1,174 @@
+//! `layflow fleet`: size one handling fleet by simulating every size with common random numbers.
+
+use std::path::PathBuf;
+use std::time::Instant;
+
+use clap::{Args, ValueEnum};
+use layflow_models::analysis::StaticPicture;
+use layflow_models::metrics::{every_metric, CONFIDENCE};
+use layflow_models::sim::RunSpec;
+use layflow_models::study::fleet::{self as study, Sweep};
+use layflow_models::study::targets::{self, Target};
+
+use crate::failure::Failure;
+use crate::render::fleet::{render, render_analytic, FleetOutput};
+use crate::render::progress::Progress;
+use crate::render::warnings::warn_overload;
+use crate::settings::{demand_factor, layout, load, SimOptions};
+
+/// Arguments of `layflow fleet`.
+#[derive(Args, Debug)]
+pub struct FleetArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// The fleet to size; may be left out when the scenario has one fleet.
+    #[arg(long, value_name = "NAME")]
+    pub fleet: Option<String>,
+    /// Fleet sizes to simulate: a range such as 2..8 (both ends included) or a list such as 2,3,5.
+    #[arg(long, value_name = "A..B|A,B,...")]
+    pub sizes: String,
+    /// Layout to run (default: the first in the scenario).
+    #[arg(long, value_name = "NAME")]
+    pub layout: Option<String>,
+    /// A target every acceptable size must meet with 95% confidence, e.g. 'move_wait_p95_s <= 5 min'
+    /// or 'utilization <= 85%' (repeat for several). Any metric name of `compare --metric`; a name
+    /// without SUBJECT/ means the sized fleet's where it has one (utilization, move_wait_s,
+    /// move_wait_p95_s, empty_travel_share, handling_cost_per_h, handling_cost_per_load, …),
+    /// else the plant's (throughput_per_h, wip_mean, flow_time_s, flow_time_p95_s, …).
+    #[arg(long, value_name = "'METRIC OP VALUE'")]
+    pub target: Vec<String>,
+    /// Scale every product's demand by this factor (overrides demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// Share of a mover's available time spent moving, for the analytic estimate only
+    /// (default: the fleet's operators.efficiency, else 1).
+    #[arg(long, value_name = "E")]
+    pub efficiency: Option<f64>,
+    /// Draw wait and utilisation against fleet size, with the target lines, into this SVG file.
+    #[arg(long, value_name = "FILE.svg")]
+    pub plot: Option<PathBuf>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = FleetFormat::Table)]
+    pub format: FleetFormat,
+    #[command(flatten)]
+    pub sim: SimOptions,
+}
+
+/// Output formats of `fleet`.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum FleetFormat {
+    /// Aligned tables for people.
+    Table,
+    /// JSON for programs.
+    Json,
+}
+
+/// Run the sweep and report it.
+pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
+    let plant = load(&args.scenario)?;
+    let f = study::which_fleet(&plant, args.fleet.as_deref())?;
+    let sizes = study::parse_sizes(&args.sizes)?;
+    let list = every_metric(&plant);
+    let fleet_id = plant.fleets()[f].id.clone();
+    let mut targets: Vec<Target> = Vec::with_capacity(args.target.len());
+    for text in &args.target {
+        let (t, note) = targets::parse(text, &list, Some(&fleet_id))?;
+        if let (Some(n), false) = (note, args.sim.quiet) {
+            eprintln!("{n}");
+        }
+        targets.push(t);
+    }
+    let layout = match &args.layout {
+        None => 0,
+        Some(n) => layout(&plant, n)?,
+    };
+    let settings = args.sim.resolve(&plant)?;
+    let factor = demand_factor(&plant, args.demand)?;
+    let efficiency = args.efficiency.unwrap_or_else(|| study::fleet_efficiency(&plant, f));
+    if !(efficiency > 0.0 && efficiency <= 1.0) {
+        return Err(Failure::input(format!(
+            "--efficiency {efficiency}: must be above 0 and at most 1, e.g. 0.85"
+        )));
+    }
+    if let Some(p) = &args.plot {
+        if p.extension().is_none_or(|e| e != "svg") {
+            return Err(Failure::input(format!(
+                "--plot {}: the picture is SVG; name a .svg file",
+                p.display()
+            )));
+        }
+    }
+    let pic = StaticPicture::new(&plant, factor);
+    warn_overload(&plant, &pic);
+    let analytic = study::analytic(&plant, &pic, layout, f, efficiency)?;
+    if args.format == FleetFormat::Table {
+        // Before the simulation: the planner's number, at once.
+        use std::io::Write as _;
+        print!("{}\n{}", plant.name, render_analytic(&fleet_id, &analytic));
+        let _ = std::io::stdout().flush();
+    }
+
+    let top = study::sized(&plant, f, *sizes.first().expect("at least one size"));
+    let (warmup_s, warmup_auto) = args.sim.warmup(&settings, &top, &[layout], factor)?;
+    let started = Instant::now();
+    let progress = Progress::new(sizes.len() as u64 * u64::from(settings.replications), settings.quiet);
+    let spec = RunSpec {
+        layout,
+        horizon_s: settings.horizon_s,
+        warmup_s,
+        demand_factor: factor,
+        seed: settings.seed,
+    };
+    let sweep = Sweep {
+        plant: &plant,
+        fleet: f,
+        sizes: &sizes,
+        targets: &targets,
+        spec,
+        replications: settings.replications,
+        analytic: &analytic.minimum_empty_flow,
+    };
+    let result = settings.pool.install(|| study::sweep(&sweep, &progress));
+    progress.finish();
+    let (results, events) = result?;
+    let wall_s = started.elapsed().as_secs_f64();
+    let smallest = results.iter().find(|r| r.meets_every_target).map(|r| r.movers);
+    let out = FleetOutput {
+        plant: plant.name.clone(),
+        scenario: args.scenario.display().to_string(),
+        fleet: fleet_id,
+        layout: plant.layouts[layout].name.clone(),
+        horizon_s: settings.horizon_s,
+        warmup_s,
+        warmup_auto,
+        replications: settings.replications,
+        seed: settings.seed,
+        demand_factor: factor,
+        confidence: CONFIDENCE,
+        analytic,
+        targets,
+        sizes: results,
+        smallest_meeting_targets: smallest,
+        events,
+        wall_s: (!settings.no_wall_clock).then_some(wall_s),
+    };
+    if let Some(path) = &args.plot {
+        let svg = crate::render::plot::fleet_svg(&out.fleet, &out.sizes, &out.targets)?;
+        let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(std::path::Path::new("."));
+        let name = path
+            .file_name()
+            .and_then(|n| n.to_str())
+            .ok_or_else(|| Failure::input("--plot: bad file name"))?;
+        layflow_models::results::write_atomic(dir, name, svg.as_bytes())?;
+    }
+    match args.format {
+        FleetFormat::Json => {
+            println!("{}", serde_json::to_string_pretty(&out).expect("results serialise"));
+        }
+        FleetFormat::Table => print!("{}", render(&out, wall_s)),
+    }
+    if let (Some(p), false) = (&args.plot, settings.quiet) {
+        eprintln!("wrote {}", p.display());
+    }
+    Ok(())
+}

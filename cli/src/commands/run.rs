@@ -1,0 +1,88 @@
+//! `layflow run`: simulate layouts over replications and report with confidence intervals.
+
+use std::path::PathBuf;
+use std::time::Instant;
+
+use clap::Args;
+use layflow_models::analysis::StaticPicture;
+use layflow_models::metrics::{summarize, CONFIDENCE};
+use layflow_models::sim::{Plan, RunSpec};
+use layflow_models::study::{deadlock_message, replicate};
+
+use crate::failure::Failure;
+use crate::render::progress::Progress;
+use crate::render::run::{render, RunOutput};
+use crate::render::warnings::warn_overload;
+use crate::settings::{demand_factor, layouts, load, Format, SimOptions};
+
+/// Arguments of `layflow run`.
+#[derive(Args, Debug)]
+pub struct RunArgs {
+    /// The scenario file (YAML).
+    pub scenario: PathBuf,
+    /// Layout to simulate (repeat, or separate by commas); default: every layout.
+    #[arg(long, value_name = "NAME", value_delimiter = ',')]
+    pub layout: Vec<String>,
+    /// Scale every product's demand by this factor (overrides demand_factor).
+    #[arg(long, value_name = "FACTOR")]
+    pub demand: Option<f64>,
+    /// Output format.
+    #[arg(long, value_enum, default_value_t = Format::Table)]
+    pub format: Format,
+    #[command(flatten)]
+    pub sim: SimOptions,
+}
+
+/// Simulate and report.
+pub fn run(args: &RunArgs) -> Result<(), Failure> {
+    let plant = load(&args.scenario)?;
+    let settings = args.sim.resolve(&plant)?;
+    let factor = demand_factor(&plant, args.demand)?;
+    let which = layouts(&plant, &args.layout)?;
+    let (warmup_s, warmup_auto) = args.sim.warmup(&settings, &plant, &which, factor)?;
+    let (horizon_s, replications, seed) = (settings.horizon_s, settings.replications, settings.seed);
+
+    let pic = StaticPicture::new(&plant, factor);
+    warn_overload(&plant, &pic);
+
+    let total = which.len() as u64 * u64::from(replications);
+    let progress = Progress::new(total, settings.quiet);
+    let started = Instant::now();
+    let mut summaries = Vec::with_capacity(which.len());
+    for &l in &which {
+        layflow_models::study::Progress::stage(&progress, format!("layout {}", plant.layouts[l].name));
+        let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
+        let plan = Plan::new(&plant, l);
+        let reps = settings.pool.install(|| {
+            replicate(&plan, &spec, replications, |r| layflow_models::study::Progress::done(&progress, r))
+        });
+        if let Some(why) = deadlock_message(&plant, &reps) {
+            progress.finish();
+            return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));
+        }
+        summaries.push(summarize(&plant, &spec, &pic, &reps));
+    }
+    progress.finish();
+    let wall_s = started.elapsed().as_secs_f64();
+    let events = summaries.iter().map(|s| s.events).sum();
+
+    let out = RunOutput {
+        plant: &plant.name,
+        scenario: args.scenario.display().to_string(),
+        horizon_s,
+        warmup_s,
+        warmup_auto,
+        replications,
+        seed,
+        demand_factor: factor,
+        confidence: CONFIDENCE,
+        layouts: summaries,
+        events,
+        wall_s: (!settings.no_wall_clock).then_some(wall_s),
+    };
+    match args.format {
+        Format::Json => println!("{}", serde_json::to_string_pretty(&out).expect("summaries serialise")),
+        Format::Table => print!("{}", render(&plant, &out, wall_s)),
+    }
+    Ok(())
+}

@@ -1,0 +1,85 @@
+//! `experiment`, `merge` and `summarize` drawn for people: a line per finished design point, a row per point.
+
+use layflow_models::experiment::results::{self, PointSummary, Summary};
+use layflow_models::experiment::{Experiment, Header, Unit};
+use layflow_models::metrics::Estimate;
+
+use super::table::{dur, num, pm, Table};
+
+/// The per-point line shown when a design point's last unit finishes.
+pub fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> String {
+    let mine: Vec<Unit> = units.iter().filter(|u| u.point == p).cloned().collect();
+    let levels: Vec<String> =
+        plan.factors.iter().zip(&header.points[p]).map(|(f, l)| format!("{}={l}", f.name)).collect();
+    let mut s = format!(
+        "point {}/{} done ({}): {} replications",
+        p + 1,
+        plan.points.len(),
+        levels.join(", "),
+        mine.len()
+    );
+    if let Ok(sum) = results::summarize(header, &mine) {
+        let pt = &sum.points[p];
+        if let Some(e) = estimate(pt, "flow_time_s") {
+            s.push_str(&format!(", flow time {}", dur(&e)));
+        }
+        if let Some(e) = estimate(pt, "throughput_per_h") {
+            s.push_str(&format!(", throughput {}/h", pm(&e, 1.0)));
+        }
+    }
+    s
+}
+
+/// A plant-level metric of a point as an estimate.
+fn estimate(p: &PointSummary, metric: &str) -> Option<Estimate> {
+    let m = p.metrics.iter().find(|m| m.scope == "plant" && m.metric == metric)?;
+    Some(Estimate { mean: m.mean?, half_width: m.half_width, n: m.n })
+}
+
+/// The summary as a table: one row per design point: the headline metrics with 95% intervals.
+pub fn render(s: &Summary, total_units: u64) -> String {
+    let done: usize = s.points.iter().map(|p| p.replications).sum();
+    let mut out = format!(
+        "Experiment {}…: {} design points, {done} of {total_units} units; ± is the 95% confidence half-width\n",
+        &s.plan_hash[..12],
+        s.points.len()
+    );
+    let mut head: Vec<String> = vec!["point".into()];
+    head.extend(s.factors.iter().cloned());
+    head.extend(
+        [
+            "reps",
+            "throughput (lots/h)",
+            "flow time",
+            "flow time p95",
+            "WIP (lots)",
+            "wait for a mover",
+            "handling cost (/h)",
+        ]
+        .map(String::from),
+    );
+    let mut t = Table::new(&head);
+    for p in &s.points {
+        let mut row = vec![p.point.to_string()];
+        row.extend(p.levels.iter().cloned());
+        row.push(p.replications.to_string());
+        let number = |m: &str| estimate(p, m).map_or("-".into(), |e| pm(&e, 1.0));
+        let duration = |m: &str| estimate(p, m).map_or("-".into(), |e| dur(&e));
+        row.push(number("throughput_per_h"));
+        row.push(duration("flow_time_s"));
+        let p95 = p.percentiles.iter().find(|q| q.metric == "flow_time_s" && q.percentile == "p95");
+        row.push(p95.filter(|q| q.observations > 0).map_or("-".into(), |q| {
+            let (u, sc) = super::table::time_unit(q.value_s);
+            format!("{} {u}", num(q.value_s / sc))
+        }));
+        row.push(number("wip_mean"));
+        row.push(duration("move_wait_s"));
+        row.push(number("handling_cost_per_h"));
+        t.row(row);
+    }
+    out.push_str(&t.render(2));
+    out.push_str(
+        "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
+    );
+    out
+}

@@ -1,0 +1,234 @@
+//! `fleet`'s report: what it prints as JSON, the analytic estimate in words, and the sweep as a table.
+
+use std::fmt::Write as _;
+
+use layflow_models::metrics::registry::find;
+use layflow_models::metrics::{Estimate, Scope};
+use layflow_models::study::fleet::{Analytic, SizeResult};
+use layflow_models::study::targets::Target;
+use layflow_models::study::warmup::WarmupChoice;
+use serde::Serialize;
+
+use super::table::{dur, dur_plain, num, pct, pm, share, Table};
+
+/// Everything `fleet` found, as written to JSON.
+#[derive(Serialize)]
+pub struct FleetOutput {
+    /// Plant.
+    pub plant: String,
+    /// Scenario.
+    pub scenario: String,
+    /// Fleet.
+    pub fleet: String,
+    /// Layout.
+    pub layout: String,
+    /// Horizon s.
+    pub horizon_s: f64,
+    /// Warmup s.
+    pub warmup_s: f64,
+    /// Warmup auto.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub warmup_auto: Option<WarmupChoice>,
+    /// Replications.
+    pub replications: u32,
+    /// Seed.
+    pub seed: u64,
+    /// Demand factor.
+    pub demand_factor: f64,
+    /// Confidence.
+    pub confidence: f64,
+    /// Analytic.
+    pub analytic: Analytic,
+    /// Targets.
+    pub targets: Vec<Target>,
+    /// Sizes.
+    pub sizes: Vec<SizeResult>,
+    /// The smallest size that met every target with 95% confidence.
+    pub smallest_meeting_targets: Option<u32>,
+    /// Events.
+    pub events: u64,
+    /// Wall s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub wall_s: Option<f64>,
+}
+
+/// The analytic estimate in words, with its arithmetic.
+pub fn render_analytic(fleet: &str, a: &Analytic) -> String {
+    let mut s = String::new();
+    let m = &a.minimum_empty_flow;
+    let c = &a.empty_equals_loaded;
+    let _ = writeln!(
+        s,
+        "Analytic estimate for fleet {} (facilities-planning formula): movers = trips/h × (loaded travel + empty \
+         travel + load/unload) ÷ (3600 s × availability {} × efficiency {})",
+        fleet,
+        num(a.availability),
+        a.efficiency
+    );
+    for (label, e) in [("minimum empty flow (empties sent from where loads end to where loads start, by a transportation problem)", m), ("empty travel = loaded travel (conservative)", c)] {
+        let _ = writeln!(
+            s,
+            "  {label}:\n    {} trips/h × ({} s + {} s + {} s per trip) = {} min of moving per hour → {} movers, so {}",
+            num(e.trips_per_h),
+            num(per_trip(e.loaded_travel_s_per_h, e.trips_per_h)),
+            num(per_trip(e.empty_travel_s_per_h, e.trips_per_h)),
+            num(per_trip(e.handling_s_per_h, e.trips_per_h)),
+            num(e.busy_s_per_h / 60.0),
+            num(e.vehicles),
+            e.vehicles_rounded_up
+        );
+    }
+    s
+}
+
+fn per_trip(total: f64, trips: f64) -> f64 {
+    if trips > 0.0 {
+        total / trips
+    } else {
+        0.0
+    }
+}
+
+/// The sweep as a table, and the advice.
+pub fn render(out: &FleetOutput, wall_s: f64) -> String {
+    let mut s = String::new();
+    let _ = writeln!(
+        s,
+        "\nSizing fleet {} under layout {}: {} replications × {} ({} warm-up), seed {}, demand ×{}; common random \
+         numbers: every size sees the same lots",
+        out.fleet,
+        out.layout,
+        out.replications,
+        dur_plain(out.horizon_s),
+        dur_plain(out.warmup_s),
+        out.seed,
+        out.demand_factor
+    );
+    if let Some(w) = &out.warmup_auto {
+        let _ = writeln!(s, "{}", w.describe());
+    }
+    let _ = writeln!(s, "{}; ± is the 95% confidence half-width\n", super::table::speed(out.events, wall_s));
+    let has = |name: &str| out.sizes.iter().any(|r| r.metrics.get(name).is_some());
+    let mut head = vec![
+        "movers",
+        "busy",
+        "analytic",
+        "loaded",
+        "empty",
+        "load/unload",
+        "idle",
+        "wait",
+        "wait p95",
+        "moves/h",
+        "throughput",
+        "WIP",
+        "flow time",
+        "cost/h",
+        "cost/load",
+    ];
+    let scheduled = has("utilization_scheduled");
+    if scheduled {
+        head.insert(2, "busy (on duty)");
+    }
+    // Optional columns, each where the plant has the feature, under the registry's label.
+    let optional: Vec<&str> =
+        ["blocked_share", "availability", "congestion_share"].into_iter().filter(|n| has(n)).collect();
+    for name in &optional {
+        head.push(find(Scope::Fleet, name).map_or(*name, |d| d.label));
+    }
+    let tnames: Vec<String> = (0..out.targets.len()).map(|i| format!("target {}", i + 1)).collect();
+    head.extend(tnames.iter().map(String::as_str));
+    let mut t = Table::new(&head);
+    let none = Estimate { mean: f64::NAN, half_width: None, n: 0 };
+    for r in &out.sizes {
+        let m = |name: &str| r.metrics.get(name).copied().unwrap_or(none);
+        let mut row = vec![
+            r.movers.to_string(),
+            pct(&m("utilization")),
+            share(r.utilization_analytic),
+            share(m("loaded_travel_share").mean),
+            share(m("empty_travel_share").mean),
+            share(m("handling_share").mean),
+            share(m("idle_share").mean),
+            dur(&m("move_wait_s")),
+            dur(&m("move_wait_p95_s")),
+            pm(&m("moves_per_h"), 1.0),
+            pm(&m("throughput_per_h"), 1.0),
+            pm(&m("wip_mean"), 1.0),
+            dur(&m("flow_time_s")),
+            pm(&m("handling_cost_per_h"), 1.0),
+            pm(&m("handling_cost_per_load"), 1.0),
+        ];
+        if scheduled {
+            row.insert(2, pct(&m("utilization_scheduled")));
+        }
+        for name in &optional {
+            row.push(pct(&m(name)));
+        }
+        for v in &r.targets {
+            row.push(
+                if v.met {
+                    "met"
+                } else if v.unsure {
+                    "unsure"
+                } else {
+                    "no"
+                }
+                .to_string(),
+            );
+        }
+        t.row(row);
+    }
+    s.push_str(&t.render(2));
+    let _ = writeln!(
+        s,
+        "  busy = loaded + empty + load/unload + waiting at a full area + held up in aisles (the same busy share \
+         `run` prints); analytic = the minimum-empty-flow estimate's busy share at that size; wait p95 = each \
+         replication's 95th percentile, averaged"
+    );
+    if optional.contains(&"congestion_share") {
+        let _ = writeln!(
+            s,
+            "  held up in aisles = waiting to enter a full aisle segment or a busy intersection (counted in busy)"
+        );
+    }
+    if scheduled {
+        let _ =
+            writeln!(s, "  busy (on duty) = busy time ÷ the operators' on-duty time (shifts less breaks)");
+    }
+    for (i, tg) in out.targets.iter().enumerate() {
+        let _ = writeln!(s, "  target {}: {} ({})", i + 1, tg.describe(), tg.what);
+    }
+    if !out.targets.is_empty() {
+        let _ = writeln!(
+            s,
+            "  met = the one-sided 95% confidence bound meets the target; unsure = the mean does, the bound does \
+             not (add replications)"
+        );
+    }
+    s.push('\n');
+    let analytic = out.analytic.minimum_empty_flow.vehicles_rounded_up;
+    let _ = match (out.targets.is_empty(), out.smallest_meeting_targets) {
+        (true, _) => writeln!(
+            s,
+            "No --target given, so no size is named; the analytic estimate is {analytic}. Add e.g. \
+             --target 'move_wait_p95_s <= 2 min' --target 'utilization <= 85%'."
+        ),
+        (false, Some(n)) => {
+            let nonmonotone = out.sizes.iter().any(|r| r.movers > n && !r.meets_every_target);
+            writeln!(
+                s,
+                "Smallest size meeting every target with 95% confidence: {n} movers (analytic estimate: {analytic}).{}",
+                if nonmonotone { " Note: a larger size misses a target; look at the table before deciding." } else { "" }
+            )
+        }
+        (false, None) => writeln!(
+            s,
+            "No size from {} to {} meets every target with 95% confidence (analytic estimate: {analytic}). \
+             Try larger sizes, more replications (for 'unsure'), or looser targets.",
+            out.sizes.first().map_or(0, |r| r.movers),
+            out.sizes.last().map_or(0, |r| r.movers)
+        ),
+    };
+    s
+}

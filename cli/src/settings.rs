@@ -1,0 +1,189 @@
+//! What every command resolves before it runs: scenario, layouts, horizon, warm-up, replications, seed, threads, demand.
+//!
+//! Raw flags become checked values here, once, over the scenario's `run:`
+//! settings, so every command reads the same numbers the same way.
+
+use std::path::Path;
+
+use clap::{Args, ValueEnum};
+use layflow_models::plant::Plant;
+use layflow_models::study::warmup::{choose, WarmupChoice, PILOT_REPLICATIONS};
+use layflow_models::suggest::did_you_mean;
+use layflow_models::text::num;
+use layflow_models::units::{format_duration, parse_duration};
+
+use crate::failure::Failure;
+
+/// Output format shared by the commands.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
+pub enum Format {
+    /// Aligned tables for people.
+    Table,
+    /// JSON for programs.
+    Json,
+}
+
+/// Run settings shared by the commands that simulate; each overrides the scenario's `run:` value.
+#[derive(Args, Debug, Clone)]
+pub struct SimOptions {
+    /// Replications (overrides run.replications).
+    #[arg(long, value_name = "N")]
+    pub replications: Option<u32>,
+    /// Base seed of every random stream (overrides run.seed).
+    #[arg(long, value_name = "S")]
+    pub seed: Option<u64>,
+    /// Simulated time per replication, warm-up included, e.g. "30 d" (overrides run.horizon).
+    #[arg(long, value_name = "DURATION")]
+    pub horizon: Option<String>,
+    /// Statistics are cleared at this time, e.g. "2 d", or "auto" to choose it with MSER-5
+    /// from pilot runs (overrides run.warmup).
+    #[arg(long, value_name = "DURATION|auto")]
+    pub warmup: Option<String>,
+    /// Worker threads for replications (default: every core). Results do not depend on it.
+    #[arg(long, value_name = "K")]
+    pub threads: Option<usize>,
+    /// No progress bar.
+    #[arg(long, short)]
+    pub quiet: bool,
+    /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
+    #[arg(long)]
+    pub no_wall_clock: bool,
+}
+
+/// Load a scenario, turning its error into a bad-input failure.
+pub fn load(path: &Path) -> Result<Plant, Failure> {
+    layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
+}
+
+/// A duration flag's value in seconds (never negative), or `default` when absent.
+pub fn duration_arg(flag: &str, v: &Option<String>, default: f64) -> Result<f64, Failure> {
+    match v {
+        None => Ok(default),
+        Some(text) => {
+            parse_duration(text).map_err(|e| Failure::input(format!("{flag} {text:?}: {e}"))).and_then(|s| {
+                if s >= 0.0 {
+                    Ok(s)
+                } else {
+                    Err(Failure::input(format!("{flag} {text:?}: must not be negative")))
+                }
+            })
+        }
+    }
+}
+
+/// Resolve layout names (default: all), with a did-you-mean on a miss.
+pub fn layouts(plant: &Plant, names: &[String]) -> Result<Vec<usize>, Failure> {
+    if names.is_empty() {
+        return Ok((0..plant.layouts.len()).collect());
+    }
+    names.iter().map(|n| layout(plant, n)).collect()
+}
+
+/// One layout by name, with a did-you-mean on a miss.
+pub fn layout(plant: &Plant, name: &str) -> Result<usize, Failure> {
+    plant.layout_index(name).ok_or_else(|| {
+        let known = || plant.layouts.iter().map(|l| l.name.as_str());
+        Failure::input(format!(
+            "--layout {name:?}: no such layout{}; the scenario has: {}",
+            did_you_mean(name, known()),
+            known().collect::<Vec<_>>().join(", ")
+        ))
+    })
+}
+
+/// The demand factor to use: the command line's, else the scenario's.
+pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
+    match arg {
+        None => Ok(plant.demand_factor),
+        Some(f) if f > 0.0 && f.is_finite() => Ok(f),
+        Some(f) => Err(Failure::input(format!(
+            "--demand {f}: the demand factor must be a positive number, e.g. 1.2"
+        ))),
+    }
+}
+
+/// A pool of `--threads` workers (default: every core) for the replications.
+pub fn pool(arg: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
+    let threads = match arg {
+        Some(0) => return Err(Failure::input("--threads must be at least 1")),
+        Some(k) => k,
+        None => std::thread::available_parallelism().map_or(1, usize::from),
+    };
+    rayon::ThreadPoolBuilder::new()
+        .num_threads(threads)
+        .build()
+        .map_err(|e| Failure::run(format!("cannot start {threads} worker threads: {e}")))
+}
+
+/// The run settings of a simulating command, checked.
+pub struct Settings {
+    /// Simulated time per replication, warm-up included, s.
+    pub horizon_s: f64,
+    /// Replications (at least 1).
+    pub replications: u32,
+    /// Base seed.
+    pub seed: u64,
+    /// The worker pool.
+    pub pool: rayon::ThreadPool,
+    /// No progress output.
+    pub quiet: bool,
+    /// Keep the wall-clock time out of JSON.
+    pub no_wall_clock: bool,
+}
+
+impl SimOptions {
+    /// `--horizon`, `--replications`, `--seed` and `--threads`, checked, over the scenario's values.
+    pub fn resolve(&self, plant: &Plant) -> Result<Settings, Failure> {
+        let horizon_s = duration_arg("--horizon", &self.horizon, plant.run.horizon_s)?;
+        let replications = self.replications.unwrap_or(plant.run.replications);
+        if replications == 0 {
+            return Err(Failure::input("--replications must be at least 1"));
+        }
+        Ok(Settings {
+            horizon_s,
+            replications,
+            seed: self.seed.unwrap_or(plant.run.seed),
+            pool: pool(self.threads)?,
+            quiet: self.quiet,
+            no_wall_clock: self.no_wall_clock,
+        })
+    }
+
+    /// The warm-up in seconds from `--warmup` (a duration, or `auto`), else the
+    /// scenario's; with `auto`, also what MSER-5 chose from pilots of `layouts`
+    /// at `demand_factor`. Checked to be shorter than the horizon.
+    pub fn warmup(
+        &self,
+        s: &Settings,
+        plant: &Plant,
+        layouts: &[usize],
+        demand_factor: f64,
+    ) -> Result<(f64, Option<WarmupChoice>), Failure> {
+        let (warmup_s, choice) = if self.warmup.as_deref().map(str::trim) != Some("auto") {
+            (duration_arg("--warmup", &self.warmup, plant.run.warmup_s)?, None)
+        } else {
+            if !s.quiet {
+                eprintln!(
+                    "choosing the warm-up: MSER-5 on {PILOT_REPLICATIONS} pilot replications per layout at demand ×{}",
+                    num(demand_factor)
+                );
+            }
+            let choice = s
+                .pool
+                .install(|| choose(plant, layouts, s.horizon_s, demand_factor, s.seed))
+                .ok_or_else(|| Failure::input("--warmup auto: the horizon is too short for MSER-5"))?;
+            if let Some(w) = choice.warning() {
+                eprintln!("{w}");
+            }
+            (choice.warmup_s, Some(choice))
+        };
+        if !(s.horizon_s > warmup_s) {
+            return Err(Failure::input(format!(
+                "the horizon ({}) must be longer than the warm-up ({})",
+                format_duration(s.horizon_s),
+                format_duration(warmup_s)
+            )));
+        }
+        Ok((warmup_s, choice))
+    }
+}

@@ -1,0 +1,310 @@
+//! What `run` reports for one layout: every metric across replications, named as in the registry.
+//!
+//! Field names are the JSON keys, and each is a registry name (see
+//! `registry.rs`); every value comes from [`value`], so `run`, `compare` and
+//! `fleet` cannot disagree. Percentiles come from the histograms of every
+//! replication merged (counts added exactly), so they describe the pooled
+//! lots, not a mean of percentiles.
+
+use layflow_engine::TickHistogram;
+use serde::Serialize;
+
+use crate::analysis::StaticPicture;
+use crate::plant::Plant;
+use crate::sim::{RepStats, RunSpec, TICK_S};
+use crate::study::deadlock::deadlock_message;
+
+use super::compute::value;
+use super::estimate::{dur, est, DurationEstimate, Estimate};
+use super::list::Features;
+use super::registry::Id;
+
+/// Per-product results.
+#[derive(Debug, Clone, Serialize)]
+pub struct ProductSummary {
+    /// Product id.
+    pub product: String,
+    /// Lots shipped per hour.
+    pub throughput_per_h: Estimate,
+    /// Mean flow time from receiving to shipping, s.
+    pub flow_time_s: Estimate,
+}
+
+/// Per-department results.
+#[derive(Debug, Clone, Serialize)]
+pub struct DepartmentSummary {
+    /// Department id.
+    pub department: String,
+    /// Time-average lots at the department (queued, in process, waiting for a mover).
+    pub wip_mean: Estimate,
+    /// Time-average share of machines busy (0 for docks).
+    pub utilization: Estimate,
+    /// Time-average lots waiting for a machine.
+    pub queue_mean: Estimate,
+    /// Predicted utilisation λ·E[S]/c from the static picture.
+    pub utilization_predicted: f64,
+    /// Share of machine time holding a finished lot that cannot leave (blocking
+    /// after service); present when the plant has finite staging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blocked_share: Option<Estimate>,
+    /// Share of machine time up; present when the department has breakdowns.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability: Option<Estimate>,
+    /// MTBF ÷ (MTBF + MTTR), with breakdowns.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability_predicted: Option<f64>,
+    /// Busy machine time ÷ scheduled machine time (the calendar's working
+    /// windows); present when the department has a calendar.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
+    /// Share of clock time the calendar schedules, with a calendar.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub scheduled_share: Option<f64>,
+    /// Share of machine time spent setting up (counted in `utilization`); present with setups.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub setup_share: Option<Estimate>,
+    /// The static estimate of the setup share (random mix of products), with setups.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub setup_share_predicted: Option<f64>,
+}
+
+/// Per-fleet results.
+#[derive(Debug, Clone, Serialize)]
+pub struct FleetSummary {
+    /// Fleet id.
+    pub fleet: String,
+    /// Movers in the fleet.
+    pub movers: u32,
+    /// Share of mover time busy (loaded + empty + handling).
+    pub utilization: Estimate,
+    /// Share of mover time travelling loaded.
+    pub loaded_travel_share: Estimate,
+    /// Share of mover time travelling empty.
+    pub empty_travel_share: Estimate,
+    /// Share of mover time loading and unloading.
+    pub handling_share: Estimate,
+    /// Share of mover time idle.
+    pub idle_share: Estimate,
+    /// Loads moved per hour.
+    pub moves_per_h: Estimate,
+    /// Mean wait from move request to pick-up, s.
+    pub move_wait_s: Estimate,
+    /// Metres travelled loaded per hour (all movers of the fleet).
+    pub distance_loaded_m_per_h: Estimate,
+    /// Metres travelled empty per hour.
+    pub distance_empty_m_per_h: Estimate,
+    /// Mover hours × cost per hour + km × cost per km, per hour.
+    pub handling_cost_per_h: Estimate,
+    /// Static lower bound on utilisation (no empty travel).
+    pub utilization_lower_bound: f64,
+    /// Share of mover time waiting at a full inbound area holding a load
+    /// (counted in `utilization`); present when the plant has finite staging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub blocked_share: Option<Estimate>,
+    /// Share of mover time in service (not under repair, not charging);
+    /// present when the fleet has breakdowns or charging.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub availability: Option<Estimate>,
+    /// Busy mover time ÷ on-duty mover time (the operators' shifts less
+    /// breaks); present when the operators have working hours.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
+    /// Share of mover time lost waiting to enter full aisle segments or busy
+    /// intersections (counted in `utilization`); present when the aisle
+    /// network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub congestion_share: Option<Estimate>,
+}
+
+/// What one aisle segment saw, across replications.
+#[derive(Debug, Clone, Serialize)]
+pub struct SegmentSummary {
+    /// Segment index in the scenario's `aisles.segments`.
+    pub segment: usize,
+    /// Node ids at its ends.
+    pub from: String,
+    /// Node id at its other end.
+    pub to: String,
+    /// Movers entering it per hour, both directions (traffic).
+    pub traversals_per_h: Estimate,
+    /// Time-average movers on it.
+    pub occupancy_mean: Estimate,
+    /// Mover-seconds of waiting to enter it, per hour (congestion delay).
+    pub congestion_delay_s_per_h: Estimate,
+    /// Congestion delay per traversal, s.
+    pub congestion_delay_per_traversal_s: Estimate,
+}
+
+/// Everything `run` reports for one layout.
+#[derive(Debug, Clone, Serialize)]
+pub struct LayoutSummary {
+    /// Layout name.
+    pub layout: String,
+    /// Lots shipped per hour, all products.
+    pub throughput_per_h: Estimate,
+    /// Flow time, receiving to shipping, s.
+    pub flow_time_s: DurationEstimate,
+    /// Time-average lots in the plant.
+    pub wip_mean: Estimate,
+    /// Time-average lots on movers.
+    pub wip_in_transit_mean: Estimate,
+    /// Wait from move request to pick-up, every fleet, s (empty with instant moves).
+    pub move_wait_s: DurationEstimate,
+    /// Metres travelled loaded per hour, every fleet.
+    pub distance_loaded_m_per_h: Estimate,
+    /// Metres travelled empty per hour, every fleet.
+    pub distance_empty_m_per_h: Estimate,
+    /// Handling cost per hour, every fleet.
+    pub handling_cost_per_h: Estimate,
+    /// The static load-distance of this layout, load-metres per hour.
+    pub load_distance_static_m_per_h: f64,
+    /// The static handling cost (load-distance × cost per load-metre), per hour.
+    pub handling_cost_static_per_h: f64,
+    /// Little's law check: |WIP − throughput × flow time| ÷ WIP, from the means.
+    pub little_relative_gap: f64,
+    /// Per product.
+    pub products: Vec<ProductSummary>,
+    /// Per department.
+    pub departments: Vec<DepartmentSummary>,
+    /// Per fleet.
+    pub fleets: Vec<FleetSummary>,
+    /// Events handled, all replications.
+    pub events: u64,
+    /// Loads taken to overflow areas per hour; present when a department has an overflow location.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub overflow_moves_per_h: Option<Estimate>,
+    /// Lots turned away at receiving docks per hour; present when a dock may turn lots away.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub turned_away_per_h: Option<Estimate>,
+    /// Why replications stopped early, when the plant deadlocked through blocking or in the aisles.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub deadlock: Option<String>,
+    /// Mover-seconds lost to congestion per hour, every segment; present when
+    /// the network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub congestion_delay_s_per_h: Option<Estimate>,
+    /// Per aisle segment, in scenario order; present when the network is simulated segment by segment.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub segments: Option<Vec<SegmentSummary>>,
+}
+
+/// Summarise the replications of layout `spec.layout`.
+pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &[RepStats]) -> LayoutSummary {
+    let mut flow_hist = TickHistogram::new(TICK_S);
+    let mut wait_hist = TickHistogram::new(TICK_S);
+    for r in reps {
+        flow_hist.merge(&r.flow_hist);
+        wait_hist.merge(&r.move_wait_hist);
+    }
+    // Every figure is the registry's per-replication value, averaged.
+    let of = |id: Id, i: usize| est(reps.iter().map(move |r| value(id, plant, r, i)));
+    let lp = &picture.layouts[spec.layout];
+    let features = Features::of(plant);
+    let throughput = of(Id::Throughput, 0);
+    let flow = dur(reps.iter().map(|r| value(Id::FlowTime, plant, r, 0)), &flow_hist);
+    let wip = of(Id::Wip, 0);
+    let little_relative_gap =
+        if wip.mean > 0.0 { (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean } else { 0.0 };
+    LayoutSummary {
+        layout: plant.layouts[spec.layout].name.clone(),
+        throughput_per_h: throughput,
+        flow_time_s: flow,
+        wip_mean: wip,
+        wip_in_transit_mean: of(Id::WipInTransit, 0),
+        move_wait_s: dur(reps.iter().map(|r| value(Id::MoveWait, plant, r, 0)), &wait_hist),
+        distance_loaded_m_per_h: of(Id::DistanceLoaded, 0),
+        distance_empty_m_per_h: of(Id::DistanceEmpty, 0),
+        handling_cost_per_h: of(Id::HandlingCost, 0),
+        load_distance_static_m_per_h: lp.load_distance_m_per_h,
+        handling_cost_static_per_h: lp.handling_cost_per_h,
+        little_relative_gap,
+        products: plant
+            .products
+            .iter()
+            .enumerate()
+            .map(|(p, prod)| ProductSummary {
+                product: prod.id.clone(),
+                throughput_per_h: of(Id::ProductThroughput, p),
+                flow_time_s: of(Id::ProductFlowTime, p),
+            })
+            .collect(),
+        departments: plant
+            .departments
+            .iter()
+            .enumerate()
+            .map(|(d, dep)| DepartmentSummary {
+                department: dep.id.clone(),
+                wip_mean: of(Id::DepartmentWip, d),
+                utilization: of(Id::DepartmentUtilization, d),
+                queue_mean: of(Id::DepartmentQueue, d),
+                utilization_predicted: picture.utilization[d],
+                blocked_share: features.staging.then(|| of(Id::DepartmentBlocked, d)),
+                availability: dep.breakdowns.as_ref().map(|_| of(Id::DepartmentAvailability, d)),
+                availability_predicted: dep.breakdowns.as_ref().map(|b| b.availability()),
+                utilization_scheduled: dep
+                    .calendar
+                    .as_ref()
+                    .map(|_| of(Id::DepartmentScheduledUtilization, d)),
+                scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
+                setup_share: dep.setups.as_ref().map(|_| of(Id::DepartmentSetup, d)),
+                setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
+            })
+            .collect(),
+        fleets: plant
+            .fleets()
+            .iter()
+            .enumerate()
+            .map(|(f, fl)| FleetSummary {
+                fleet: fl.id.clone(),
+                movers: fl.count,
+                utilization: of(Id::FleetUtilization, f),
+                loaded_travel_share: of(Id::FleetLoadedTravel, f),
+                empty_travel_share: of(Id::FleetEmptyTravel, f),
+                handling_share: of(Id::FleetHandling, f),
+                idle_share: of(Id::FleetIdle, f),
+                moves_per_h: of(Id::FleetMoves, f),
+                move_wait_s: of(Id::FleetMoveWait, f),
+                distance_loaded_m_per_h: of(Id::FleetDistanceLoaded, f),
+                distance_empty_m_per_h: of(Id::FleetDistanceEmpty, f),
+                handling_cost_per_h: of(Id::FleetHandlingCost, f),
+                utilization_lower_bound: lp.fleet_utilization_lower_bound[f],
+                blocked_share: features.staging.then(|| of(Id::FleetBlocked, f)),
+                availability: (fl.breakdowns.is_some() || fl.charging.is_some())
+                    .then(|| of(Id::FleetAvailability, f)),
+                utilization_scheduled: fl
+                    .operators
+                    .duty
+                    .as_ref()
+                    .map(|_| of(Id::FleetScheduledUtilization, f)),
+                congestion_share: features.aisles.then(|| of(Id::FleetCongestion, f)),
+            })
+            .collect(),
+        events: reps.iter().map(|r| r.events).sum(),
+        overflow_moves_per_h: features.overflow.then(|| of(Id::OverflowMoves, 0)),
+        turned_away_per_h: features.turn_away.then(|| of(Id::TurnedAway, 0)),
+        deadlock: deadlock_message(plant, reps),
+        congestion_delay_s_per_h: features.aisles.then(|| of(Id::CongestionDelay, 0)),
+        segments: segment_summaries(plant, reps),
+    }
+}
+
+/// Per-segment traffic, occupancy and congestion; `None` unless the network is simulated.
+fn segment_summaries(plant: &Plant, reps: &[RepStats]) -> Option<Vec<SegmentSummary>> {
+    let net = plant.aisles.as_ref().filter(|n| n.needs_simulation())?;
+    let of = |id: Id, s: usize| est(reps.iter().map(move |r| value(id, plant, r, s)));
+    Some(
+        net.segments
+            .iter()
+            .enumerate()
+            .map(|(s, g)| SegmentSummary {
+                segment: s,
+                from: net.nodes[g.from].id.clone(),
+                to: net.nodes[g.to].id.clone(),
+                traversals_per_h: of(Id::SegmentTraversals, s),
+                occupancy_mean: of(Id::SegmentOccupancy, s),
+                congestion_delay_s_per_h: of(Id::SegmentCongestionDelay, s),
+                congestion_delay_per_traversal_s: of(Id::SegmentDelayPerTraversal, s),
+            })
+            .collect(),
+    )
+}

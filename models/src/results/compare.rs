@@ -1,0 +1,106 @@
+//! The files of a comparison: summary.json, summary.csv (one row per level × layout × metric) and replications.csv.
+
+use std::path::Path;
+
+use crate::metrics::estimate::{Estimate, CONFIDENCE};
+use crate::metrics::list::Metric;
+use crate::study::compare::CompareOutput;
+
+use super::folder::{write_atomic, write_manifest, Kind, ResultsError};
+
+/// The files a comparison writes, in reading order.
+pub const FILES: &[&str] = &["summary.json", "summary.csv", "replications.csv"];
+
+/// The comparison as JSON, exactly as `compare --format json` prints it.
+pub fn summary_json(out: &CompareOutput) -> String {
+    serde_json::to_string_pretty(out).expect("summaries serialise") + "\n"
+}
+
+/// Write every file of the comparison into `dir` (prepared with [`super::folder::prepare`]).
+pub fn write(dir: &Path, out: &CompareOutput, metric_list: &[Metric]) -> Result<(), ResultsError> {
+    write_atomic(dir, "summary.json", summary_json(out).as_bytes())?;
+    write_atomic(dir, "summary.csv", &summary_csv(out, metric_list)?)?;
+    write_atomic(dir, "replications.csv", &replications_csv(out, metric_list)?)?;
+    write_manifest(dir, Kind::Compare, FILES)
+}
+
+/// One row per demand level × layout × metric: the layout's mean and the
+/// paired difference against the baseline.
+pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8>, ResultsError> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    let header = [
+        "demand_factor",
+        "layout",
+        "scope",
+        "subject",
+        "metric",
+        "mean",
+        "half_width",
+        "n",
+        "baseline",
+        "difference",
+        "difference_half_width",
+        "difference_n",
+        "difference_excludes_zero",
+    ];
+    w.write_record(header).map_err(csv_failure)?;
+    let opt = |x: Option<f64>| x.map_or(String::new(), |v| v.to_string());
+    for lv in &out.levels {
+        for (li, s) in lv.layouts.iter().enumerate() {
+            let mut diffs = lv.differences.iter().filter(|d| d.layout == s.layout);
+            for (m, metric) in metric_list.iter().enumerate() {
+                let col: Vec<f64> = lv.values[li].iter().map(|v| v[m]).filter(|x| x.is_finite()).collect();
+                let e: Estimate = layflow_engine::interval(&col, CONFIDENCE).into();
+                let d = if s.layout == out.baseline { None } else { diffs.next() };
+                w.write_record([
+                    lv.demand_factor.to_string(),
+                    s.layout.clone(),
+                    metric.scope.as_str().to_string(),
+                    metric.subject.clone(),
+                    metric.name.to_string(),
+                    if e.n == 0 { String::new() } else { e.mean.to_string() },
+                    opt(e.half_width),
+                    e.n.to_string(),
+                    out.baseline.clone(),
+                    d.map_or(String::new(), |d| if d.n == 0 { String::new() } else { d.mean.to_string() }),
+                    d.map_or(String::new(), |d| opt(d.half_width)),
+                    d.map_or(String::new(), |d| d.n.to_string()),
+                    d.map_or(String::new(), |d| d.excludes_zero.to_string()),
+                ])
+                .map_err(csv_failure)?;
+            }
+        }
+    }
+    w.into_inner().map_err(|e| ResultsError::Write(format!("cannot write CSV: {e}")))
+}
+
+/// Tidy data: one row per demand level × layout × replication × metric.
+pub fn replications_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8>, ResultsError> {
+    let mut w = csv::Writer::from_writer(Vec::new());
+    w.write_record(["demand_factor", "layout", "replication", "scope", "subject", "metric", "value"])
+        .map_err(csv_failure)?;
+    for lv in &out.levels {
+        for (li, s) in lv.layouts.iter().enumerate() {
+            for (r, vals) in lv.values[li].iter().enumerate() {
+                for (metric, v) in metric_list.iter().zip(vals) {
+                    w.write_record([
+                        lv.demand_factor.to_string(),
+                        s.layout.clone(),
+                        r.to_string(),
+                        metric.scope.as_str().to_string(),
+                        metric.subject.clone(),
+                        metric.name.to_string(),
+                        // Nothing observed (no lot shipped): an empty cell, read as missing.
+                        if v.is_finite() { v.to_string() } else { String::new() },
+                    ])
+                    .map_err(csv_failure)?;
+                }
+            }
+        }
+    }
+    w.into_inner().map_err(|e| ResultsError::Write(format!("cannot write CSV: {e}")))
+}
+
+fn csv_failure(e: csv::Error) -> ResultsError {
+    ResultsError::Write(format!("cannot write CSV: {e}"))
+}

@@ -1,0 +1,12 @@
+//! Results folders: the one place that writes and reads what a study leaves on disk.
+//!
+//! `folder.rs` creates a folder, writes each file atomically and labels the
+//! folder with a manifest; `compare.rs` and `experiment.rs` write each
+//! study's files; `segments.rs` reads per-segment figures back for drawing.
+
+pub mod compare;
+pub mod experiment;
+pub mod folder;
+pub mod segments;
+
+pub use folder::{prepare, read_manifest, write_atomic, Kind, Manifest, ResultsError, MANIFEST};

@@ -1,0 +1,316 @@
+//! Comparing layouts under common random numbers: each demand level's summaries, paired differences and ranks.
+//!
+//! Replication `r` of every layout sees the same lots, processing times and
+//! routing choices (common random numbers, see `sim`), so results are compared
+//! replication by replication: the paired difference `Y_l,r − Y_base,r` has a
+//! much smaller variance than two independent means whenever the two layouts'
+//! results move together (Law, *Simulation Modeling and Analysis*, chapter on
+//! comparing alternative systems; from memory).
+
+use layflow_engine::{paired_difference, Interval};
+use serde::Serialize;
+
+use crate::analysis::StaticPicture;
+use crate::metrics::estimate::CONFIDENCE;
+use crate::metrics::list::{values, values_mean, Metric};
+use crate::metrics::registry::{Better, Scope};
+use crate::metrics::summary::{summarize, LayoutSummary};
+use crate::plant::Plant;
+use crate::sim::{Plan, RepStats, RunSpec};
+use crate::text::num;
+
+use super::deadlock::deadlock_message;
+use super::progress::{Progress, StudyError};
+use super::replicate::replicate;
+use super::select::{self, Selection};
+use super::warmup::WarmupChoice;
+
+/// Everything `compare` found, as written to JSON.
+#[derive(Serialize)]
+pub struct CompareOutput {
+    /// plant.
+    pub plant: String,
+    /// scenario.
+    pub scenario: String,
+    /// horizon s.
+    pub horizon_s: f64,
+    /// warmup s.
+    pub warmup_s: f64,
+    /// Present when `--warmup auto` chose the warm-up.
+    pub warmup_auto: Option<WarmupChoice>,
+    /// replications.
+    pub replications: u32,
+    /// seed.
+    pub seed: u64,
+    /// confidence.
+    pub confidence: f64,
+    /// common random numbers.
+    pub common_random_numbers: bool,
+    /// baseline.
+    pub baseline: String,
+    /// ranked on.
+    pub ranked_on: String,
+    /// levels.
+    pub levels: Vec<Level>,
+    /// events.
+    pub events: u64,
+    /// wall s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub wall_s: Option<f64>,
+}
+
+/// The layouts at one demand level.
+#[derive(Serialize)]
+pub struct Level {
+    /// demand factor.
+    pub demand_factor: f64,
+    /// Departments predicted at or over capacity at this level (queues grow without bound).
+    pub overloaded: Vec<String>,
+    /// layouts.
+    pub layouts: Vec<LayoutSummary>,
+    /// differences.
+    pub differences: Vec<Difference>,
+    /// ranking.
+    pub ranking: Vec<Rank>,
+    /// selection.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub selection: Option<Selection>,
+    /// `values[layout][replication][metric]`, for the tidy CSV.
+    #[serde(skip)]
+    pub values: Vec<Vec<Vec<f64>>>,
+}
+
+/// A paired difference `layout − baseline` of one metric.
+#[derive(Serialize)]
+pub struct Difference {
+    /// layout.
+    pub layout: String,
+    /// scope.
+    pub scope: Scope,
+    /// subject.
+    pub subject: String,
+    /// metric.
+    pub metric: &'static str,
+    /// mean.
+    pub mean: f64,
+    /// half width.
+    pub half_width: Option<f64>,
+    /// n.
+    pub n: usize,
+    /// excludes zero.
+    pub excludes_zero: bool,
+}
+
+/// Static and simulated rank of one layout.
+#[derive(Serialize)]
+pub struct Rank {
+    /// layout.
+    pub layout: String,
+    /// load distance static m per h.
+    pub load_distance_static_m_per_h: f64,
+    /// static rank.
+    pub static_rank: usize,
+    /// simulated mean.
+    pub simulated_mean: f64,
+    /// simulated rank.
+    pub simulated_rank: usize,
+}
+
+/// What to compare: the layouts, the baseline among them, the demand levels and the run settings.
+pub struct Request<'a> {
+    /// The plant.
+    pub plant: &'a Plant,
+    /// Layout indices compared, in report order.
+    pub layouts: &'a [usize],
+    /// Position of the baseline in `layouts`.
+    pub baseline: usize,
+    /// Demand factors, one level each.
+    pub levels: &'a [f64],
+    /// The plant's listed metrics.
+    pub metrics: &'a [Metric],
+    /// Index in `metrics` of the metric that ranks (and selects).
+    pub ranked_on: usize,
+    /// Kim–Nelson selection instead of a fixed number of replications.
+    pub selection: Option<&'a select::Settings>,
+    /// Simulated time per replication, warm-up included, s.
+    pub horizon_s: f64,
+    /// Warm-up, s.
+    pub warmup_s: f64,
+    /// Replications per layout (without selection).
+    pub replications: u32,
+    /// Base seed.
+    pub seed: u64,
+}
+
+/// Replications each level needs without selection (for a progress total).
+pub fn planned_replications(req: &Request) -> u64 {
+    if req.selection.is_some() {
+        0
+    } else {
+        (req.layouts.len() as u64 * u64::from(req.replications)) * req.levels.len() as u64
+    }
+}
+
+/// Simulate every level on the current rayon pool and compare.
+pub fn run(req: &Request, progress: &dyn Progress) -> Result<Vec<Level>, StudyError> {
+    let plant = req.plant;
+    let which = req.layouts;
+    let mut out = Vec::with_capacity(req.levels.len());
+    for &factor in req.levels {
+        let pic = StaticPicture::new(plant, factor);
+        let (horizon_s, warmup_s, seed) = (req.horizon_s, req.warmup_s, req.seed);
+        let spec = |l: usize| RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
+        let plans: Vec<Plan> = which.iter().map(|&l| Plan::new(plant, l)).collect();
+        let (reps, chosen): (Vec<Vec<RepStats>>, Option<Selection>) = match req.selection {
+            Some(sel) => {
+                let (reps, s) =
+                    select::run(plant, which, &plans, &spec, req.ranked_on, sel, factor, progress)?;
+                (reps, Some(s))
+            }
+            None => {
+                let reps = which
+                    .iter()
+                    .zip(&plans)
+                    .map(|(&l, plan)| {
+                        progress.stage(format!("layout {}, demand ×{}", plant.layouts[l].name, num(factor)));
+                        replicate(plan, &spec(l), req.replications, |r| progress.done(r))
+                    })
+                    .collect();
+                (reps, None)
+            }
+        };
+        for (&l, r) in which.iter().zip(&reps) {
+            if let Some(why) = deadlock_message(plant, r) {
+                return Err(StudyError::Run(format!("layout {}: {why}", plant.layouts[l].name)));
+            }
+        }
+        out.push(level(
+            plant,
+            which,
+            req.baseline,
+            &pic,
+            factor,
+            &spec,
+            reps,
+            chosen,
+            req.metrics,
+            req.ranked_on,
+        ));
+    }
+    Ok(out)
+}
+
+#[allow(clippy::too_many_arguments)]
+/// One level's summaries, paired differences against the baseline, and ranks.
+pub fn level(
+    plant: &Plant,
+    which: &[usize],
+    baseline: usize,
+    pic: &StaticPicture,
+    factor: f64,
+    spec: &(dyn Fn(usize) -> RunSpec + Sync),
+    reps: Vec<Vec<RepStats>>,
+    selection: Option<Selection>,
+    metric_list: &[Metric],
+    ranked_on: usize,
+) -> Level {
+    let values: Vec<Vec<Vec<f64>>> =
+        reps.iter().map(|rs| rs.iter().map(|r| values(plant, r)).collect()).collect();
+    let column = |li: usize, m: usize| -> Vec<f64> { values[li].iter().map(|v| v[m]).collect() };
+    let mut differences = Vec::new();
+    for (li, &l) in which.iter().enumerate() {
+        if li == baseline {
+            continue;
+        }
+        for (m, metric) in metric_list.iter().enumerate() {
+            let iv = paired(&column(li, m), &column(baseline, m));
+            differences.push(Difference {
+                layout: plant.layouts[l].name.clone(),
+                scope: metric.scope,
+                subject: metric.subject.clone(),
+                metric: metric.name,
+                mean: iv.mean,
+                half_width: iv.half_width,
+                n: iv.n,
+                excludes_zero: iv.excludes_zero(),
+            });
+        }
+    }
+    let summaries: Vec<LayoutSummary> =
+        which.iter().zip(&reps).map(|(&l, rs)| summarize(plant, &spec(l), pic, rs)).collect();
+    let static_ld: Vec<f64> = summaries.iter().map(|s| s.load_distance_static_m_per_h).collect();
+    let sim_mean: Vec<f64> =
+        (0..which.len()).map(|li| values_mean(&values[li], ranked_on).unwrap_or(f64::NAN)).collect();
+    let static_rank = ranks(&static_ld, Better::Lower);
+    let sim_rank = ranks(&sim_mean, metric_list[ranked_on].better);
+    let ranking = which
+        .iter()
+        .enumerate()
+        .map(|(li, &l)| Rank {
+            layout: plant.layouts[l].name.clone(),
+            load_distance_static_m_per_h: static_ld[li],
+            static_rank: static_rank[li],
+            simulated_mean: sim_mean[li],
+            simulated_rank: sim_rank[li],
+        })
+        .collect();
+    Level {
+        demand_factor: factor,
+        overloaded: pic.overloaded().map(|d| plant.departments[d].id.clone()).collect(),
+        layouts: summaries,
+        differences,
+        ranking,
+        selection,
+        values,
+    }
+}
+
+/// Paired-t interval of `layout − baseline` for one metric, over the
+/// replications where both observed it (a replication with no observation
+/// on either side is left out of the pair). `n` says how many pairs counted.
+pub fn paired(layout: &[f64], baseline: &[f64]) -> Interval {
+    let (a, b): (Vec<f64>, Vec<f64>) = layout
+        .iter()
+        .zip(baseline)
+        .filter(|(x, y)| x.is_finite() && y.is_finite())
+        .map(|(&x, &y)| (x, y))
+        .unzip();
+    paired_difference(&a, &b, CONFIDENCE)
+}
+
+/// Ranks 1, 2, … of `scores` (best first); equal scores share the better rank.
+/// NaN scores (nothing observed) rank last.
+pub fn ranks(scores: &[f64], better: Better) -> Vec<usize> {
+    let key = |x: f64| match better {
+        Better::Higher => -x,
+        _ => x,
+    };
+    scores
+        .iter()
+        .map(|&s| {
+            if !s.is_finite() {
+                return scores.iter().filter(|x| x.is_finite()).count() + 1;
+            }
+            1 + scores.iter().filter(|&&o| o.is_finite() && key(o) < key(s)).count()
+        })
+        .collect()
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn pairs_with_a_missing_side_are_left_out() {
+        // Differences of the complete pairs: 1, 3 → mean 2 (hand-computed).
+        let iv = paired(&[5.0, f64::NAN, 7.0, 9.0], &[4.0, 3.0, 4.0, f64::NAN]);
+        assert_eq!((iv.mean, iv.n), (2.0, 2));
+    }
+
+    #[test]
+    fn ranks_follow_the_better_direction_and_share_ties() {
+        assert_eq!(ranks(&[3.0, 1.0, 2.0, 1.0], Better::Lower), vec![4, 1, 3, 1]);
+        assert_eq!(ranks(&[3.0, 1.0, 2.0], Better::Higher), vec![1, 3, 2]);
+        assert_eq!(ranks(&[f64::NAN, 1.0], Better::Lower), vec![2, 1]);
+    }
+}
