@@ -5,7 +5,7 @@ use super::demand;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{DistSpec, Scenario, StepSpec};
-use crate::dist::Dist;
+use crate::dist::{Dist, DistError};
 use crate::plant::{Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
 use crate::units::format_duration;
@@ -265,14 +265,13 @@ pub(crate) fn time_dist(
     ctx: &Ctx,
     what: &str,
 ) -> Result<Dist, ScenarioError> {
-    let in_seconds = |r: Result<Dist, String>, family: &str| {
+    let in_seconds = |r: Result<Dist, DistError>, family: &str| {
         r.map_err(|e| {
-            let not_a_time = ["probabilit", " cv ", " shape ", "erlang k"].iter().any(|w| e.contains(w));
-            let err = ctx.err(&tp.key(family), e.clone());
-            if not_a_time {
-                err
-            } else {
+            let err = ctx.err(&tp.key(family), e.to_string());
+            if quotes_a_time(&e) {
                 err.with_hint("times in this message are in seconds")
+            } else {
+                err
             }
         })
     };
@@ -325,4 +324,22 @@ pub(crate) fn time_dist(
         return Err(ctx.err(tp, format!("{what} must have a mean longer than 0")));
     }
     Ok(d)
+}
+
+/// Whether a distribution's message quotes a time, which it gives in
+/// seconds whatever unit the scenario used (so the hint says so).
+fn quotes_a_time(e: &DistError) -> bool {
+    match e {
+        DistError::NotNonNegative { param, .. } | DistError::NotPositive { param, .. } => param.has_units(),
+        DistError::MaxNotAboveMin { .. }
+        | DistError::ModeOutsideRange { .. }
+        | DistError::RowValue { .. } => true,
+        DistError::NoPhases
+        | DistError::EmptyTable
+        | DistError::RowProbability { .. }
+        | DistError::ProbabilitySum { .. } => false,
+        // Only reachable through overflow in derived parameters; the value
+        // that overflowed was given in the scenario's own terms.
+        DistError::Sampler { .. } => true,
+    }
 }
