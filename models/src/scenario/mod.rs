@@ -24,7 +24,7 @@ use std::path::Path;
 pub use error::{ErrorKind, ScenarioError};
 
 use crate::plant::Plant;
-use crate::suggest::{closest, name_list};
+use crate::suggest::{did_you_mean, name_list};
 
 /// Reads, checks and compiles the scenario file at `path`.
 pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {
@@ -132,10 +132,7 @@ fn rephrase(msg: &str, variant_word: &str) -> (String, Option<String>) {
         if msg.starts_with(prefix) {
             let q = quoted(msg);
             if let Some((given, options)) = q.split_first() {
-                let mut m = format!("unknown {what} \"{given}\"");
-                if let Some(c) = closest(given, options.iter().copied()) {
-                    m.push_str(&format!(" (did you mean \"{c}\"?)"));
-                }
+                let m = format!("unknown {what} \"{given}\"{}", did_you_mean(given, options.iter().copied()));
                 let hint = if options.is_empty() {
                     None
                 } else {
