@@ -7,6 +7,7 @@
 //! rule (with a path built by hand and its line found in the text).
 
 mod compile;
+mod context;
 mod demand;
 mod distance;
 mod error;
@@ -17,6 +18,7 @@ mod routing;
 mod schema;
 mod search;
 mod staging;
+mod times;
 mod work;
 
 use std::path::Path;
@@ -52,7 +54,7 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let de = serde_norway::Deserializer::from_str(text);
     let scenario: schema::Scenario =
         serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
-    let ctx = compile::Ctx { text, origin, file };
+    let ctx = context::Ctx { text, origin, file };
     compile::compile(scenario, &ctx)
 }
 
