@@ -48,9 +48,9 @@ fn no_file_imports_itself_through_others() {
     let mut found: Vec<Vec<String>> = Vec::new();
     let mut walks: Vec<String> = Vec::new();
     for krate in CRATES {
-        let graph = file_graph(&root, krate);
+        let (graph, reasons) = file_graph(&root, krate);
         for scc in loops(&graph) {
-            walks.push(walk(&graph, &scc));
+            walks.push(explained(&walk(&graph, &scc), &reasons));
             found.push(scc);
         }
     }
@@ -108,7 +108,7 @@ fn the_check_finds_a_loop_and_ignores_reexports() {
     for (path, text) in files {
         std::fs::write(dir.path().join(path), text).unwrap();
     }
-    let graph = file_graph(dir.path(), "src");
+    let (graph, reasons) = file_graph(dir.path(), "src");
     let edges = |from: &str| graph.get(from).cloned().unwrap_or_default();
     assert_eq!(edges("src/a.rs"), BTreeSet::from(["src/b.rs".to_string(), "src/shop/mod.rs".to_string()]));
     assert_eq!(edges("src/b.rs"), BTreeSet::from(["src/a.rs".to_string()]));
@@ -121,10 +121,17 @@ fn the_check_finds_a_loop_and_ignores_reexports() {
     let found = loops(&graph);
     assert_eq!(found, vec![vec!["src/a.rs".to_string(), "src/b.rs".to_string()]]);
     assert_eq!(walk(&graph, &found[0]), "src/a.rs → src/b.rs → src/a.rs");
+    assert_eq!(
+        explained(&walk(&graph, &found[0]), &reasons),
+        "src/a.rs → src/b.rs → src/a.rs\n    src/a.rs → src/b.rs: crate::b::Beam\n    src/b.rs → src/a.rs: crate::a::helper"
+    );
 }
 
 /// File → files it references, for one crate; every file of the crate is a key.
 type Graph = BTreeMap<String, BTreeSet<String>>;
+
+/// For each reference between two files, the paths that make it (`crate::a::Item`).
+type Reasons = BTreeMap<(String, String), BTreeSet<String>>;
 
 /// One parsed source file.
 struct Source {
@@ -150,7 +157,7 @@ struct Use {
 
 /// Reads every module file reachable from the crate root and links each
 /// file to the files defining what it references.
-fn file_graph(root: &Path, krate: &str) -> Graph {
+fn file_graph(root: &Path, krate: &str) -> (Graph, Reasons) {
     let dir = root.join(krate);
     let crate_root = ["lib.rs", "main.rs"]
         .iter()
@@ -193,22 +200,21 @@ fn file_graph(root: &Path, krate: &str) -> Graph {
         sources.push(Source { name, uses: parsed.uses, paths: parsed.paths });
     }
     let mut graph: Graph = sources.iter().map(|s| (s.name.clone(), BTreeSet::new())).collect();
+    let mut reasons = Reasons::new();
     for s in &sources {
-        let referenced = s
-            .uses
-            .iter()
-            .filter(|u| !u.public)
-            .filter_map(|u| u.target.as_ref())
-            .chain(&s.paths)
-            .filter_map(|p| defining_file(p, &modules, &sources, 0));
-        for f in referenced {
+        let referenced =
+            s.uses.iter().filter(|u| !u.public).filter_map(|u| u.target.as_ref()).chain(&s.paths);
+        for path in referenced {
+            let Some(f) = defining_file(path, &modules, &sources, 0) else { continue };
             let target = &sources[f].name;
             if *target != s.name {
                 graph.get_mut(&s.name).unwrap().insert(target.clone());
+                let why = reasons.entry((s.name.clone(), target.clone())).or_default();
+                why.insert(format!("crate::{}", path.join("::")));
             }
         }
     }
-    graph
+    (graph, reasons)
 }
 
 /// The file that defines the item (or module) at absolute `path`, following
@@ -696,4 +702,20 @@ fn walk(graph: &Graph, scc: &[String]) -> String {
     }
     steps.extend(path(at, &scc[0]));
     steps.join(" → ")
+}
+
+/// A walk followed by one line per step naming the paths that make it, so
+/// whoever breaks the loop sees what to move.
+fn explained(walk: &str, reasons: &Reasons) -> String {
+    let files: Vec<&str> = walk.split(" → ").collect();
+    let mut out = walk.to_string();
+    let mut shown = BTreeSet::new();
+    for pair in files.windows(2) {
+        let key = (pair[0].to_string(), pair[1].to_string());
+        if shown.insert(key.clone()) {
+            let why: Vec<&str> = reasons.get(&key).into_iter().flatten().map(String::as_str).collect();
+            out.push_str(&format!("\n    {} → {}: {}", pair[0], pair[1], why.join(", ")));
+        }
+    }
+    out
 }
