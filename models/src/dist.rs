@@ -2,10 +2,11 @@
 //!
 //! Each family lives in its own submodule with its constructor checks, its
 //! sampler and its moments; this file only dispatches. Constructors return
-//! `Result` and are written so that NaN fails every check, so a `Dist` that
+//! `Result<_, DistError>` and are written so that NaN fails every check, so a `Dist` that
 //! exists is valid: sampling cannot fail and never yields a negative value.
 
 mod empirical;
+mod error;
 mod exponential;
 mod gamma;
 mod lognormal;
@@ -15,6 +16,7 @@ mod uniform;
 mod weibull;
 
 pub use empirical::Empirical;
+pub use error::{DistError, Param};
 pub use exponential::Exponential;
 pub use gamma::{Erlang, Gamma};
 pub use lognormal::LogNormal;
@@ -24,6 +26,8 @@ pub use uniform::Uniform;
 pub use weibull::Weibull;
 
 use rand::Rng;
+
+use error::{non_negative, positive};
 
 /// A validated distribution of a non-negative quantity (seconds for times).
 ///
@@ -63,70 +67,52 @@ pub enum Dist {
     Empirical(Empirical),
 }
 
-/// Checks that a parameter is finite and at least zero (false for NaN).
-pub(crate) fn non_negative(name: &str, v: f64) -> Result<(), String> {
-    if v >= 0.0 && v.is_finite() {
-        Ok(())
-    } else {
-        Err(format!("{name} must be a finite number >= 0, got {v}"))
-    }
-}
-
-/// Checks that a parameter is finite and greater than zero (false for NaN).
-pub(crate) fn positive(name: &str, v: f64) -> Result<(), String> {
-    if v > 0.0 && v.is_finite() {
-        Ok(())
-    } else {
-        Err(format!("{name} must be a finite number > 0, got {v}"))
-    }
-}
-
 impl Dist {
     /// Always `value` (finite, >= 0).
-    pub fn constant(value: f64) -> Result<Dist, String> {
-        non_negative("constant value", value)?;
+    pub fn constant(value: f64) -> Result<Dist, DistError> {
+        non_negative(Param::ConstantValue, value)?;
         Ok(Dist::Constant(value))
     }
     /// Uniform on [min, max) with 0 <= min < max.
-    pub fn uniform(min: f64, max: f64) -> Result<Dist, String> {
+    pub fn uniform(min: f64, max: f64) -> Result<Dist, DistError> {
         Uniform::new(min, max).map(Dist::Uniform)
     }
     /// Triangular with 0 <= min <= mode <= max and min < max.
-    pub fn triangular(min: f64, mode: f64, max: f64) -> Result<Dist, String> {
+    pub fn triangular(min: f64, mode: f64, max: f64) -> Result<Dist, DistError> {
         Triangular::new(min, mode, max).map(Dist::Triangular)
     }
     /// Exponential with `mean` > 0.
-    pub fn exponential(mean: f64) -> Result<Dist, String> {
+    pub fn exponential(mean: f64) -> Result<Dist, DistError> {
         Exponential::new(mean).map(Dist::Exponential)
     }
     /// Normal with the given mean and sd (both > 0) *before* truncation at zero.
-    pub fn normal(mean: f64, sd: f64) -> Result<Dist, String> {
+    pub fn normal(mean: f64, sd: f64) -> Result<Dist, DistError> {
         TruncatedNormal::new(mean, sd).map(Dist::Normal)
     }
     /// Lognormal whose own mean is `mean` (> 0) and coefficient of variation `cv` (> 0).
-    pub fn lognormal(mean: f64, cv: f64) -> Result<Dist, String> {
+    pub fn lognormal(mean: f64, cv: f64) -> Result<Dist, DistError> {
         LogNormal::new(mean, cv).map(Dist::LogNormal)
     }
     /// Gamma with mean `mean` (> 0) and coefficient of variation `cv` (> 0).
-    pub fn gamma(mean: f64, cv: f64) -> Result<Dist, String> {
-        positive("gamma mean", mean)?;
-        positive("gamma cv", cv)?;
+    pub fn gamma(mean: f64, cv: f64) -> Result<Dist, DistError> {
+        positive(Param::GammaMean, mean)?;
+        positive(Param::GammaCv, cv)?;
         Gamma::new(1.0 / (cv * cv), mean * cv * cv).map(Dist::Gamma)
     }
     /// Gamma with `shape` and `scale` (both > 0); mean = shape × scale.
-    pub fn gamma_shape_scale(shape: f64, scale: f64) -> Result<Dist, String> {
+    pub fn gamma_shape_scale(shape: f64, scale: f64) -> Result<Dist, DistError> {
         Gamma::new(shape, scale).map(Dist::Gamma)
     }
     /// Erlang with `k` >= 1 phases and overall `mean` > 0.
-    pub fn erlang(k: u32, mean: f64) -> Result<Dist, String> {
+    pub fn erlang(k: u32, mean: f64) -> Result<Dist, DistError> {
         Erlang::new(k, mean).map(Dist::Erlang)
     }
     /// Weibull with `scale` > 0 and `shape` > 0.
-    pub fn weibull(scale: f64, shape: f64) -> Result<Dist, String> {
+    pub fn weibull(scale: f64, shape: f64) -> Result<Dist, DistError> {
         Weibull::new(scale, shape).map(Dist::Weibull)
     }
     /// A table of `(value, probability)` rows; values >= 0, probabilities >= 0 summing to 1 (±1e-9).
-    pub fn empirical(rows: &[(f64, f64)]) -> Result<Dist, String> {
+    pub fn empirical(rows: &[(f64, f64)]) -> Result<Dist, DistError> {
         Empirical::new(rows).map(Dist::Empirical)
     }
 

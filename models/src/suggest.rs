@@ -37,3 +37,40 @@ where
     }
     s
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_typo_gets_a_suggestion() {
+        let names = ["receiving", "painting", "shipping"];
+        assert_eq!(closest("paintng", names), Some("painting"));
+        assert_eq!(closest("PAINT", names), Some("painting"), "case and a shortened name still match");
+        assert_eq!(did_you_mean("shiping", names), " (did you mean \"shipping\"?)");
+    }
+
+    #[test]
+    fn an_unrelated_word_gets_none() {
+        let names = ["receiving", "painting", "shipping"];
+        assert_eq!(closest("forklift", names), None);
+        assert_eq!(did_you_mean("forklift", names), "");
+        assert_eq!(closest("x", std::iter::empty()), None);
+    }
+
+    #[test]
+    fn ties_are_deterministic() {
+        // Equal scores: the candidate listed last wins (the rule of
+        // `Iterator::max_by`), whatever the run, so messages never flicker.
+        assert_eq!(closest("weld", ["welda", "weldb"]), Some("weldb"));
+        assert_eq!(closest("weld", ["weldb", "welda"]), Some("welda"));
+        assert_eq!(closest("weld", ["Weld", "weld"]), Some("weld"));
+    }
+
+    #[test]
+    fn long_lists_are_cut_short() {
+        let names: Vec<String> = (0..14).map(|i| format!("d{i}")).collect();
+        let s = name_list(names.iter().map(String::as_str));
+        assert!(s.starts_with("d0, d1,") && s.ends_with("d11 and 2 more"), "{s}");
+    }
+}

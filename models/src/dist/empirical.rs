@@ -5,6 +5,8 @@
 
 use rand::{Rng, RngExt};
 
+use super::error::DistError;
+
 /// How far the probabilities may sum from 1: loose enough for decimal
 /// fractions typed by hand, tight enough to catch a forgotten row.
 pub const SUM_TOLERANCE: f64 = 1e-9;
@@ -20,24 +22,24 @@ pub struct Empirical {
 
 impl Empirical {
     /// Validates the rows: at least one, values finite and >= 0, probabilities >= 0 summing to 1.
-    pub fn new(rows: &[(f64, f64)]) -> Result<Empirical, String> {
+    pub fn new(rows: &[(f64, f64)]) -> Result<Empirical, DistError> {
         if rows.is_empty() {
-            return Err("an empirical table needs at least one [value, probability] row".into());
+            return Err(DistError::EmptyTable);
         }
         let mut cumulative = Vec::with_capacity(rows.len());
         let mut sum = 0.0;
         for (i, &(v, p)) in rows.iter().enumerate() {
             if !(v >= 0.0 && v.is_finite()) {
-                return Err(format!("empirical row {i}: value must be finite and >= 0, got {v}"));
+                return Err(DistError::RowValue { row: i, value: v });
             }
             if !(0.0..=1.0).contains(&p) {
-                return Err(format!("empirical row {i}: probability must lie in [0, 1], got {p}"));
+                return Err(DistError::RowProbability { row: i, probability: p });
             }
             sum += p;
             cumulative.push(sum);
         }
         if !((sum - 1.0).abs() <= SUM_TOLERANCE) {
-            return Err(format!("empirical probabilities sum to {sum}, not 1 (tolerance {SUM_TOLERANCE:e})"));
+            return Err(DistError::ProbabilitySum { sum, tolerance: SUM_TOLERANCE });
         }
         if let Some(last) = cumulative.last_mut() {
             *last = 1.0;

@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
-use super::positive;
+use super::error::{positive, sampler, DistError, Param};
 
 /// Exponential with a mean > 0.
 #[derive(Debug, Clone, PartialEq)]
@@ -14,9 +14,9 @@ pub struct Exponential {
 
 impl Exponential {
     /// Validates the mean.
-    pub fn new(mean: f64) -> Result<Exponential, String> {
-        positive("exponential mean", mean)?;
-        let sampler = rand_distr::Exp::new(1.0 / mean).map_err(|e| format!("exponential: {e}"))?;
+    pub fn new(mean: f64) -> Result<Exponential, DistError> {
+        positive(Param::ExponentialMean, mean)?;
+        let sampler = rand_distr::Exp::new(1.0 / mean).map_err(sampler("exponential"))?;
         Ok(Exponential { mean, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
-use super::positive;
+use super::error::{positive, sampler, DistError, Param};
 
 /// Gamma with shape k > 0 and scale θ > 0: mean kθ, variance kθ².
 #[derive(Debug, Clone, PartialEq)]
@@ -15,10 +15,10 @@ pub struct Gamma {
 
 impl Gamma {
     /// Validates shape and scale.
-    pub fn new(shape: f64, scale: f64) -> Result<Gamma, String> {
-        positive("gamma shape", shape)?;
-        positive("gamma scale", scale)?;
-        let sampler = rand_distr::Gamma::new(shape, scale).map_err(|e| format!("gamma: {e}"))?;
+    pub fn new(shape: f64, scale: f64) -> Result<Gamma, DistError> {
+        positive(Param::GammaShape, shape)?;
+        positive(Param::GammaScale, scale)?;
+        let sampler = rand_distr::Gamma::new(shape, scale).map_err(sampler("gamma"))?;
         Ok(Gamma { shape, scale, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {
@@ -48,11 +48,11 @@ pub struct Erlang {
 
 impl Erlang {
     /// Validates k >= 1 and the mean.
-    pub fn new(k: u32, mean: f64) -> Result<Erlang, String> {
+    pub fn new(k: u32, mean: f64) -> Result<Erlang, DistError> {
         if k == 0 {
-            return Err("erlang k must be a whole number >= 1, got 0".to_string());
+            return Err(DistError::NoPhases);
         }
-        positive("erlang mean", mean)?;
+        positive(Param::ErlangMean, mean)?;
         let inner = Gamma::new(f64::from(k), mean / f64::from(k))?;
         Ok(Erlang { k, inner })
     }

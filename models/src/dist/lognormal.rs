@@ -6,8 +6,8 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
+use super::error::{positive, sampler, DistError, Param};
 use super::normal::big_phi;
-use super::positive;
 
 /// Lognormal with mean > 0 and cv > 0.
 #[derive(Debug, Clone, PartialEq)]
@@ -21,13 +21,13 @@ pub struct LogNormal {
 
 impl LogNormal {
     /// Validates the mean and coefficient of variation.
-    pub fn new(mean: f64, cv: f64) -> Result<LogNormal, String> {
-        positive("lognormal mean", mean)?;
-        positive("lognormal cv", cv)?;
+    pub fn new(mean: f64, cv: f64) -> Result<LogNormal, DistError> {
+        positive(Param::LognormalMean, mean)?;
+        positive(Param::LognormalCv, cv)?;
         let sigma2 = cv.mul_add(cv, 1.0).ln();
         let sigma = sigma2.sqrt();
         let mu = mean.ln() - 0.5 * sigma2;
-        let sampler = rand_distr::LogNormal::new(mu, sigma).map_err(|e| format!("lognormal: {e}"))?;
+        let sampler = rand_distr::LogNormal::new(mu, sigma).map_err(sampler("lognormal"))?;
         Ok(LogNormal { mean, cv, mu, sigma, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

@@ -8,7 +8,7 @@
 use rand::{Rng, RngExt};
 use rand_distr::Distribution;
 
-use super::positive;
+use super::error::{positive, sampler, DistError, Param};
 
 /// Tries before the inversion fallback: with acceptance >= 1/2 all fail with
 /// probability at most 2^-64.
@@ -41,10 +41,10 @@ pub struct TruncatedNormal {
 
 impl TruncatedNormal {
     /// Validates the parameters of the untruncated normal.
-    pub fn new(mean: f64, sd: f64) -> Result<TruncatedNormal, String> {
-        positive("normal mean", mean)?;
-        positive("normal sd", sd)?;
-        let sampler = rand_distr::Normal::new(mean, sd).map_err(|e| format!("normal: {e}"))?;
+    pub fn new(mean: f64, sd: f64) -> Result<TruncatedNormal, DistError> {
+        positive(Param::NormalMean, mean)?;
+        positive(Param::NormalSd, sd)?;
+        let sampler = rand_distr::Normal::new(mean, sd).map_err(sampler("normal"))?;
         Ok(TruncatedNormal { mu: mean, sigma: sd, cut: big_phi(-mean / sd), sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
-use super::non_negative;
+use super::error::{non_negative, sampler, DistError, Param};
 
 /// Triangular with 0 <= min <= mode <= max and min < max.
 #[derive(Debug, Clone, PartialEq)]
@@ -16,15 +16,15 @@ pub struct Triangular {
 
 impl Triangular {
     /// Validates the three points.
-    pub fn new(min: f64, mode: f64, max: f64) -> Result<Triangular, String> {
-        non_negative("triangular min", min)?;
+    pub fn new(min: f64, mode: f64, max: f64) -> Result<Triangular, DistError> {
+        non_negative(Param::TriangularMin, min)?;
         if !(max > min && max.is_finite()) {
-            return Err(format!("triangular max ({max}) must be finite and greater than min ({min})"));
+            return Err(DistError::MaxNotAboveMin { family: "triangular", min, max });
         }
         if !(mode >= min && mode <= max) {
-            return Err(format!("triangular mode ({mode}) must lie between min ({min}) and max ({max})"));
+            return Err(DistError::ModeOutsideRange { min, mode, max });
         }
-        let sampler = rand_distr::Triangular::new(min, max, mode).map_err(|e| format!("triangular: {e}"))?;
+        let sampler = rand_distr::Triangular::new(min, max, mode).map_err(sampler("triangular"))?;
         Ok(Triangular { min, mode, max, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
-use super::non_negative;
+use super::error::{non_negative, sampler, DistError, Param};
 
 /// Uniform on [min, max) with 0 <= min < max.
 #[derive(Debug, Clone, PartialEq)]
@@ -15,12 +15,12 @@ pub struct Uniform {
 
 impl Uniform {
     /// Validates the bounds; a degenerate range is refused because a constant says it plainly.
-    pub fn new(min: f64, max: f64) -> Result<Uniform, String> {
-        non_negative("uniform min", min)?;
+    pub fn new(min: f64, max: f64) -> Result<Uniform, DistError> {
+        non_negative(Param::UniformMin, min)?;
         if !(max > min && max.is_finite()) {
-            return Err(format!("uniform max ({max}) must be finite and greater than min ({min})"));
+            return Err(DistError::MaxNotAboveMin { family: "uniform", min, max });
         }
-        let sampler = rand_distr::Uniform::new(min, max).map_err(|e| format!("uniform: {e}"))?;
+        let sampler = rand_distr::Uniform::new(min, max).map_err(sampler("uniform"))?;
         Ok(Uniform { min, max, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

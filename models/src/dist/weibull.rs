@@ -3,7 +3,7 @@
 use rand::Rng;
 use rand_distr::Distribution;
 
-use super::positive;
+use super::error::{positive, sampler, DistError, Param};
 use statrs::function::gamma::gamma;
 
 /// Weibull with scale λ > 0 and shape k > 0.
@@ -16,10 +16,10 @@ pub struct Weibull {
 
 impl Weibull {
     /// Validates scale and shape.
-    pub fn new(scale: f64, shape: f64) -> Result<Weibull, String> {
-        positive("weibull scale", scale)?;
-        positive("weibull shape", shape)?;
-        let sampler = rand_distr::Weibull::new(scale, shape).map_err(|e| format!("weibull: {e}"))?;
+    pub fn new(scale: f64, shape: f64) -> Result<Weibull, DistError> {
+        positive(Param::WeibullScale, scale)?;
+        positive(Param::WeibullShape, shape)?;
+        let sampler = rand_distr::Weibull::new(scale, shape).map_err(sampler("weibull"))?;
         Ok(Weibull { scale, shape, sampler })
     }
     pub(crate) fn sample<R: Rng + ?Sized>(&self, rng: &mut R) -> f64 {

@@ -11,7 +11,7 @@
 
 use std::path::Path;
 
-use super::compile::Ctx;
+use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{ProductSpec, Scenario};

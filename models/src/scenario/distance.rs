@@ -12,7 +12,7 @@
 //! location names its pick-up/drop-off `node`, and distances are shortest
 //! paths over the network's segments ([`crate::network`]).
 
-use super::compile::{check_unique, resolve, Ctx};
+use super::context::{check_unique, resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{AislesSpec, DistanceSpec, MatrixSource, Scenario};

@@ -1,6 +1,6 @@
 //! How loads move: instant moves, or fleets of forklifts, tow carts and walkers, and which fleet may serve which move.
 
-use super::compile::{check_unique, resolve, Ctx};
+use super::context::{check_unique, resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::operators::operators;

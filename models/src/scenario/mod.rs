@@ -7,6 +7,7 @@
 //! rule (with a path built by hand and its line found in the text).
 
 mod compile;
+mod context;
 mod demand;
 mod distance;
 mod error;
@@ -17,6 +18,7 @@ mod routing;
 mod schema;
 mod search;
 mod staging;
+mod times;
 mod work;
 
 use std::path::Path;
@@ -24,7 +26,7 @@ use std::path::Path;
 pub use error::{ErrorKind, ScenarioError};
 
 use crate::plant::Plant;
-use crate::suggest::{closest, name_list};
+use crate::suggest::{did_you_mean, name_list};
 
 /// Reads, checks and compiles the scenario file at `path`.
 pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {
@@ -52,7 +54,7 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let de = serde_norway::Deserializer::from_str(text);
     let scenario: schema::Scenario =
         serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
-    let ctx = compile::Ctx { text, origin, file };
+    let ctx = context::Ctx { text, origin, file };
     compile::compile(scenario, &ctx)
 }
 
@@ -132,10 +134,7 @@ fn rephrase(msg: &str, variant_word: &str) -> (String, Option<String>) {
         if msg.starts_with(prefix) {
             let q = quoted(msg);
             if let Some((given, options)) = q.split_first() {
-                let mut m = format!("unknown {what} \"{given}\"");
-                if let Some(c) = closest(given, options.iter().copied()) {
-                    m.push_str(&format!(" (did you mean \"{c}\"?)"));
-                }
+                let m = format!("unknown {what} \"{given}\"{}", did_you_mean(given, options.iter().copied()));
                 let hint = if options.is_empty() {
                     None
                 } else {

@@ -1,6 +1,6 @@
 //! A fleet's operators: efficiency, and the shifts and breaks that make up their working hours.
 
-use super::compile::Ctx;
+use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{OperatorsSpec, ShiftsSpec};

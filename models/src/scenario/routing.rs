@@ -1,14 +1,14 @@
 //! Products: demand (see `demand.rs`), entry dock, lot weight, and the routing of steps with branches, rework loops and processing times.
 
-use super::compile::{check_unique, resolve, Ctx};
+use super::context::{check_unique, resolve, Ctx};
 use super::demand;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{DistSpec, Scenario, StepSpec};
+use super::times::time_dist;
 use crate::dist::Dist;
 use crate::plant::{Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
-use crate::units::format_duration;
 
 /// How far branch probabilities may sum from 1 (hand-typed decimals).
 const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
@@ -255,74 +255,4 @@ fn check_exits(product: &str, ops: &[Operation], rp: &FieldPath, ctx: &Ctx) -> R
 /// parameters in seconds, so the hint says so unless the value was not a time.
 fn processing_time(spec: &DistSpec, tp: &FieldPath, ctx: &Ctx) -> Result<Dist, ScenarioError> {
     time_dist(spec, tp, ctx, "processing time")
-}
-
-/// Builds a distribution of a duration (`what` names it in messages: a
-/// processing time, a repair time).
-pub(crate) fn time_dist(
-    spec: &DistSpec,
-    tp: &FieldPath,
-    ctx: &Ctx,
-    what: &str,
-) -> Result<Dist, ScenarioError> {
-    let in_seconds = |r: Result<Dist, String>, family: &str| {
-        r.map_err(|e| {
-            let not_a_time = ["probabilit", " cv ", " shape ", "erlang k"].iter().any(|w| e.contains(w));
-            let err = ctx.err(&tp.key(family), e.clone());
-            if not_a_time {
-                err
-            } else {
-                err.with_hint("times in this message are in seconds")
-            }
-        })
-    };
-    let d = match spec {
-        DistSpec::Constant(v) => {
-            if !(v.0 > 0.0) {
-                return Err(
-                    ctx.err(tp, format!("{what} must be longer than 0, got {}", format_duration(v.0)))
-                );
-            }
-            in_seconds(Dist::constant(v.0), "constant")?
-        }
-        DistSpec::Uniform { min, max } => in_seconds(Dist::uniform(min.0, max.0), "uniform")?,
-        DistSpec::Triangular { min, mode, max } => {
-            in_seconds(Dist::triangular(min.0, mode.0, max.0), "triangular")?
-        }
-        DistSpec::Exponential { mean } => in_seconds(Dist::exponential(mean.0), "exponential")?,
-        DistSpec::Normal { mean, sd } => in_seconds(Dist::normal(mean.0, sd.0), "normal")?,
-        DistSpec::Lognormal { mean, cv, sd } => {
-            let cv = match (cv, sd) {
-                (Some(cv), None) => *cv,
-                (None, Some(sd)) => sd.0 / mean.0,
-                _ => {
-                    return Err(ctx
-                        .err(&tp.key("lognormal"), "give exactly one of `cv` and `sd`")
-                        .with_hint("e.g. `{ lognormal: { mean: 15 min, cv: 0.5 } }`"))
-                }
-            };
-            in_seconds(Dist::lognormal(mean.0, cv), "lognormal")?
-        }
-        DistSpec::Gamma { mean, cv, shape, scale } => match (mean, cv, shape, scale) {
-            (Some(m), Some(cv), None, None) => in_seconds(Dist::gamma(m.0, *cv), "gamma")?,
-            (None, None, Some(k), Some(th)) => in_seconds(Dist::gamma_shape_scale(*k, th.0), "gamma")?,
-            _ => {
-                return Err(ctx
-                    .err(&tp.key("gamma"), "give either `mean` and `cv`, or `shape` and `scale`")
-                    .with_hint(
-                    "e.g. `{ gamma: { mean: 22 min, cv: 0.35 } }` or `{ gamma: { shape: 8, scale: 3 min } }`",
-                ))
-            }
-        },
-        DistSpec::Erlang { k, mean } => in_seconds(Dist::erlang(*k, mean.0), "erlang")?,
-        DistSpec::Weibull { scale, shape } => in_seconds(Dist::weibull(scale.0, *shape), "weibull")?,
-        DistSpec::Empirical(rows) => {
-            let rows: Vec<(f64, f64)> = rows.iter().map(|(v, p)| (v.0, *p)).collect();
-            in_seconds(Dist::empirical(&rows), "empirical")?
-        }
-    };
-    if !(d.mean() > 0.0) {
-        return Err(ctx.err(tp, format!("{what} must have a mean longer than 0")));
-    }
-    Ok(d)
 }

@@ -1,6 +1,6 @@
 //! The scenario's `search:` section: pinned departments, empty locations, adjacency rules and floor costs.
 
-use super::compile::{resolve, Ctx};
+use super::context::{resolve, Ctx};
 use super::locate::FieldPath;
 use super::schema::Scenario;
 use super::ScenarioError;

@@ -1,17 +1,12 @@
 //! Finite staging, breakdowns and charging: the `staging`, `when_full`, `breakdowns` and `charging` fields of departments and fleets.
 
-use super::compile::{resolve, Ctx};
+use super::context::{resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
-use super::routing::time_dist;
-use super::schema::{BreakdownSpec, ChargingSpec, CountedInSpec, DistSpec, InterruptedSpec, StagingSpec};
+use super::schema::{BreakdownSpec, ChargingSpec, CountedInSpec, InterruptedSpec, StagingSpec};
+use super::times::duration;
 use crate::plant::{Breakdowns, Charging, FailureClock, Interrupted, Location, Staging};
 use crate::units::format_duration;
-
-/// Largest chance of a negative draw we accept from a normal repair or
-/// failure time: three standard deviations (0.13%). The simulation redraws
-/// negative values, so a wider normal silently becomes another distribution.
-const MAX_NEGATIVE_SHARE: f64 = 0.00135;
 
 /// Compiles a department's `staging` (`dept` is its id, for messages).
 pub(crate) fn staging(
@@ -89,38 +84,6 @@ pub(crate) fn breakdowns(
             Some(InterruptedSpec::Restart) => Interrupted::Restart,
         },
     })
-}
-
-/// A failure or repair time: any duration distribution, but not a normal that
-/// goes below zero more than [`MAX_NEGATIVE_SHARE`] of the time.
-pub(crate) fn duration(
-    spec: &DistSpec,
-    tp: &FieldPath,
-    what: &str,
-    ctx: &Ctx,
-) -> Result<crate::dist::Dist, ScenarioError> {
-    if let DistSpec::Normal { mean, sd } = spec {
-        if mean.0 > 0.0 && sd.0 > 0.0 {
-            use statrs::distribution::{ContinuousCDF, Normal};
-            let below = Normal::new(mean.0, sd.0).map_or(1.0, |n| n.cdf(0.0));
-            if below > MAX_NEGATIVE_SHARE {
-                return Err(ctx
-                    .err(
-                        &tp.key("normal"),
-                        format!(
-                            "a {what} can go negative: a normal with mean {} and sd {} is below zero {:.1}% of the time",
-                            format_duration(mean.0),
-                            format_duration(sd.0),
-                            100.0 * below
-                        ),
-                    )
-                    .with_hint(
-                        "use a lognormal or gamma with the same mean and cv, which cannot go negative, or keep sd <= mean/3",
-                    ));
-            }
-        }
-    }
-    time_dist(spec, tp, ctx, what)
 }
 
 /// Compiles a fleet's `charging`.

@@ -1,11 +1,11 @@
 //! How departments work and lots travel: a department's `calendar` and `setups`, and a product's `lot` (quantity, transfer batch, when the next operation starts).
 
-use super::compile::{resolve, Ctx};
+use super::context::{resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::operators::duty_calendar;
 use super::schema::{CalendarSpec, LoadStartSpec, LotSpec, SetupsSpec, ShiftEndSpec};
-use super::staging::duration;
+use super::times::duration;
 use crate::plant::{LoadStart, LotSplit, Setups, ShiftEnd, WorkCalendar};
 
 /// Compiles a department's `calendar` (`dp` is the department's path); `None`

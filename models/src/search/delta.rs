@@ -195,6 +195,20 @@ pub(crate) fn direct_delta(q: &Problem, p: &[usize], r: usize, s: usize) -> f64 
     d + q.c[r * m + ps] + q.c[s * m + pr] - q.c[r * m + pr] - q.c[s * m + ps]
 }
 
+// Here rather than beside the problem in `qap.rs`: the problem knows
+// nothing of deltas, and deltas build on the problem, not the other way.
+impl Problem {
+    /// Change in the objective (flows, fixed costs and penalties) when
+    /// facilities r and s swap, from scratch: O(m).
+    pub fn swap_delta(&self, p: &[usize], r: usize, s: usize) -> f64 {
+        let mut d = direct_delta(self, p, r, s);
+        if self.has_rules() && (self.has_rules_for(r) || self.has_rules_for(s)) {
+            d += self.penalty_delta(p, r, s);
+        }
+        d
+    }
+}
+
 /// Δ(φ, r, s) for every pair a search may swap, kept up to date across swaps
 /// (flows and fixed costs; no penalties). Pairs are stored for r < s with r
 /// a real department (two placeholders never swap).

@@ -692,16 +692,6 @@ impl Problem {
         self.penalty * change as f64
     }
 
-    /// Change in the objective (flows, fixed costs and penalties) when
-    /// facilities r and s swap, from scratch: O(m).
-    pub fn swap_delta(&self, p: &[usize], r: usize, s: usize) -> f64 {
-        let mut d = super::delta::direct_delta(self, p, r, s);
-        if self.has_rules() && (self.has_rules_for(r) || self.has_rules_for(s)) {
-            d += self.penalty_delta(p, r, s);
-        }
-        d
-    }
-
     /// The search objective of a permutation (m entries): cost plus penalties, from scratch.
     pub fn permutation_objective(&self, p: &[usize]) -> f64 {
         self.objective_of(p)

@@ -9,8 +9,8 @@ mod arrivals;
 mod model;
 mod stats;
 
-pub use model::{simulate, simulate_releases, simulate_wip_series, Deadlock};
-pub use stats::{FleetStats, RepStats, SegmentStats, TICK_S};
+pub use model::{simulate, simulate_releases, simulate_wip_series};
+pub use stats::{Deadlock, FleetStats, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, LoadStart,

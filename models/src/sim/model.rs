@@ -7,7 +7,7 @@ use rand::RngExt;
 use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
-use super::stats::{FleetStats, RepStats, TICK_S};
+use super::stats::{Deadlock, FleetStats, RepStats, TICK_S};
 use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
@@ -17,8 +17,6 @@ mod calendars;
 mod lots;
 mod movers;
 mod staging;
-
-pub use staging::Deadlock;
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product

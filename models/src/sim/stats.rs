@@ -106,8 +106,25 @@ pub struct RepStats {
     /// Lots turned away at their receiving dock, per product.
     pub turned_away: Vec<u64>,
     /// Set when the replication stopped because the plant deadlocked.
-    pub deadlock: Option<super::Deadlock>,
+    pub deadlock: Option<Deadlock>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,
+}
+
+/// Why a replication stopped early: loads stuck in a cycle of full staging
+/// areas, or movers stuck in the aisles, that no event can ever free.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Deadlock {
+    /// Simulated time, s.
+    pub time_s: f64,
+    /// The departments involved (indices), in department order (empty for an aisle deadlock).
+    pub departments: Vec<usize>,
+    /// Aisle deadlock: the movers that can never move on, as (fleet, number
+    /// within the fleet from 0), in mover order; empty for a staging deadlock.
+    pub movers: Vec<(usize, u32)>,
+    /// Aisle deadlock: the segments those movers hold or wait for, in segment order.
+    pub segments: Vec<usize>,
+    /// Aisle deadlock: the zone-controlled nodes they hold or wait for, in node order.
+    pub zones: Vec<usize>,
 }

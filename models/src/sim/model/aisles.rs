@@ -32,7 +32,8 @@ use std::collections::VecDeque;
 
 use layflow_engine::{Calendar, TimeWeighted};
 
-use super::{Deadlock, Event, PlantModel, NONE};
+use super::{Event, PlantModel, NONE};
+use crate::sim::stats::Deadlock;
 use crate::sim::{Plan, SegmentStats};
 
 /// A mover's trip in progress over the network.

@@ -14,27 +14,11 @@ use layflow_engine::Calendar;
 
 use super::{Blocked, Event, PlantModel, NONE};
 use crate::plant::DepartmentRole;
+use crate::sim::stats::Deadlock;
 use crate::sim::FleetSet;
 
 /// Marks a waiting lot (instant moves) still held on its machine upstream.
 const HELD: u32 = 1;
-
-/// Why a replication stopped early: loads stuck in a cycle of full staging
-/// areas, or movers stuck in the aisles, that no event can ever free.
-#[derive(Debug, Clone, PartialEq)]
-pub struct Deadlock {
-    /// Simulated time, s.
-    pub time_s: f64,
-    /// The departments involved (indices), in department order (empty for an aisle deadlock).
-    pub departments: Vec<usize>,
-    /// Aisle deadlock: the movers that can never move on, as (fleet, number
-    /// within the fleet from 0), in mover order; empty for a staging deadlock.
-    pub movers: Vec<(usize, u32)>,
-    /// Aisle deadlock: the segments those movers hold or wait for, in segment order.
-    pub segments: Vec<usize>,
-    /// Aisle deadlock: the zone-controlled nodes they hold or wait for, in node order.
-    pub zones: Vec<usize>,
-}
 
 impl PlantModel<'_> {
     /// Whether a lot arriving now at department `d` can be set down: a free

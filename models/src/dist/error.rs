@@ -1,0 +1,242 @@
+//! Why a distribution could not be built: one variant per rule its parameters must follow.
+//!
+//! Callers choose what to tell people by matching the variant (for example,
+//! whether the message quotes a time in seconds), never by reading the text.
+//! The text itself is the message shown to people, so it must stay stable.
+
+use std::fmt;
+
+/// A named parameter of a distribution family, as messages spell it.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Param {
+    /// The value of a constant.
+    ConstantValue,
+    /// The lower bound of a uniform.
+    UniformMin,
+    /// The lower bound of a triangular.
+    TriangularMin,
+    /// The mean of an exponential.
+    ExponentialMean,
+    /// The mean of a normal before truncation.
+    NormalMean,
+    /// The standard deviation of a normal before truncation.
+    NormalSd,
+    /// The mean of a lognormal.
+    LognormalMean,
+    /// The coefficient of variation of a lognormal.
+    LognormalCv,
+    /// The mean of a gamma given by mean and cv.
+    GammaMean,
+    /// The coefficient of variation of a gamma given by mean and cv.
+    GammaCv,
+    /// The shape of a gamma.
+    GammaShape,
+    /// The scale of a gamma.
+    GammaScale,
+    /// The overall mean of an Erlang.
+    ErlangMean,
+    /// The scale of a Weibull.
+    WeibullScale,
+    /// The shape of a Weibull.
+    WeibullShape,
+}
+
+impl Param {
+    /// The name used in messages, e.g. `gamma shape`.
+    pub fn name(self) -> &'static str {
+        match self {
+            Param::ConstantValue => "constant value",
+            Param::UniformMin => "uniform min",
+            Param::TriangularMin => "triangular min",
+            Param::ExponentialMean => "exponential mean",
+            Param::NormalMean => "normal mean",
+            Param::NormalSd => "normal sd",
+            Param::LognormalMean => "lognormal mean",
+            Param::LognormalCv => "lognormal cv",
+            Param::GammaMean => "gamma mean",
+            Param::GammaCv => "gamma cv",
+            Param::GammaShape => "gamma shape",
+            Param::GammaScale => "gamma scale",
+            Param::ErlangMean => "erlang mean",
+            Param::WeibullScale => "weibull scale",
+            Param::WeibullShape => "weibull shape",
+        }
+    }
+
+    /// Whether the parameter is in the unit of the variable itself (seconds
+    /// for a time), rather than a pure number such as a shape or a cv.
+    pub fn has_units(self) -> bool {
+        !matches!(self, Param::LognormalCv | Param::GammaCv | Param::GammaShape | Param::WeibullShape)
+    }
+}
+
+/// A rule that a distribution's parameters broke.
+///
+/// Every check is written so that NaN breaks it too. `Display` gives the
+/// message shown to people.
+#[derive(Debug, Clone, PartialEq)]
+pub enum DistError {
+    /// The parameter must be a finite number >= 0.
+    NotNonNegative {
+        /// Which parameter.
+        param: Param,
+        /// The value given.
+        value: f64,
+    },
+    /// The parameter must be a finite number > 0.
+    NotPositive {
+        /// Which parameter.
+        param: Param,
+        /// The value given.
+        value: f64,
+    },
+    /// The upper bound of a range (uniform, triangular) must be finite and greater than the lower.
+    MaxNotAboveMin {
+        /// The family, as messages spell it (`uniform`, `triangular`).
+        family: &'static str,
+        /// The lower bound given.
+        min: f64,
+        /// The upper bound given.
+        max: f64,
+    },
+    /// A triangular's mode must lie between its min and max.
+    ModeOutsideRange {
+        /// The lower bound given.
+        min: f64,
+        /// The mode given.
+        mode: f64,
+        /// The upper bound given.
+        max: f64,
+    },
+    /// An Erlang needs at least one phase (k >= 1).
+    NoPhases,
+    /// An empirical table needs at least one row.
+    EmptyTable,
+    /// Every value of an empirical table must be finite and >= 0.
+    RowValue {
+        /// The 0-based row.
+        row: usize,
+        /// The value given.
+        value: f64,
+    },
+    /// Every probability of an empirical table must lie in [0, 1].
+    RowProbability {
+        /// The 0-based row.
+        row: usize,
+        /// The probability given.
+        probability: f64,
+    },
+    /// The probabilities of an empirical table must sum to 1, within a tolerance.
+    ProbabilitySum {
+        /// What they sum to.
+        sum: f64,
+        /// How far from 1 the sum may be.
+        tolerance: f64,
+    },
+    /// The sampler refused parameters that passed the checks above (extreme
+    /// values whose derived parameters overflow, e.g. a huge lognormal cv).
+    Sampler {
+        /// The family, as messages spell it.
+        family: &'static str,
+        /// The sampler's own explanation.
+        reason: String,
+    },
+}
+
+impl fmt::Display for DistError {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        match self {
+            DistError::NotNonNegative { param, value } => {
+                write!(f, "{} must be a finite number >= 0, got {value}", param.name())
+            }
+            DistError::NotPositive { param, value } => {
+                write!(f, "{} must be a finite number > 0, got {value}", param.name())
+            }
+            DistError::MaxNotAboveMin { family, min, max } => {
+                write!(f, "{family} max ({max}) must be finite and greater than min ({min})")
+            }
+            DistError::ModeOutsideRange { min, mode, max } => {
+                write!(f, "triangular mode ({mode}) must lie between min ({min}) and max ({max})")
+            }
+            DistError::NoPhases => f.write_str("erlang k must be a whole number >= 1, got 0"),
+            DistError::EmptyTable => {
+                f.write_str("an empirical table needs at least one [value, probability] row")
+            }
+            DistError::RowValue { row, value } => {
+                write!(f, "empirical row {row}: value must be finite and >= 0, got {value}")
+            }
+            DistError::RowProbability { row, probability } => {
+                write!(f, "empirical row {row}: probability must lie in [0, 1], got {probability}")
+            }
+            DistError::ProbabilitySum { sum, tolerance } => {
+                write!(f, "empirical probabilities sum to {sum}, not 1 (tolerance {tolerance:e})")
+            }
+            DistError::Sampler { family, reason } => write!(f, "{family}: {reason}"),
+        }
+    }
+}
+
+impl std::error::Error for DistError {}
+
+/// Checks that a parameter is finite and at least zero (false for NaN).
+pub(crate) fn non_negative(param: Param, value: f64) -> Result<(), DistError> {
+    if value >= 0.0 && value.is_finite() {
+        Ok(())
+    } else {
+        Err(DistError::NotNonNegative { param, value })
+    }
+}
+
+/// Checks that a parameter is finite and greater than zero (false for NaN).
+pub(crate) fn positive(param: Param, value: f64) -> Result<(), DistError> {
+    if value > 0.0 && value.is_finite() {
+        Ok(())
+    } else {
+        Err(DistError::NotPositive { param, value })
+    }
+}
+
+/// Wraps a sampler's refusal, naming the family as messages do.
+pub(crate) fn sampler<E: fmt::Display>(family: &'static str) -> impl FnOnce(E) -> DistError {
+    move |e| DistError::Sampler { family, reason: e.to_string() }
+}
+
+#[cfg(test)]
+mod tests {
+    use crate::dist::Dist;
+
+    /// Messages are part of the interface (scenario errors quote them), so
+    /// each rule's text is pinned here.
+    #[test]
+    fn messages_are_stable() {
+        let msg = |r: Result<Dist, super::DistError>| r.unwrap_err().to_string();
+        assert_eq!(msg(Dist::constant(-1.0)), "constant value must be a finite number >= 0, got -1");
+        assert_eq!(msg(Dist::exponential(f64::NAN)), "exponential mean must be a finite number > 0, got NaN");
+        assert_eq!(msg(Dist::uniform(5.0, 5.0)), "uniform max (5) must be finite and greater than min (5)");
+        assert_eq!(
+            msg(Dist::triangular(1.0, 5.0, 4.0)),
+            "triangular mode (5) must lie between min (1) and max (4)"
+        );
+        assert_eq!(msg(Dist::erlang(0, 1.0)), "erlang k must be a whole number >= 1, got 0");
+        assert_eq!(
+            msg(Dist::empirical(&[])),
+            "an empirical table needs at least one [value, probability] row"
+        );
+        assert_eq!(
+            msg(Dist::empirical(&[(-1.0, 1.0)])),
+            "empirical row 0: value must be finite and >= 0, got -1"
+        );
+        assert_eq!(
+            msg(Dist::empirical(&[(1.0, 1.5)])),
+            "empirical row 0: probability must lie in [0, 1], got 1.5"
+        );
+        assert_eq!(
+            msg(Dist::empirical(&[(1.0, 0.5), (2.0, 0.4)])),
+            "empirical probabilities sum to 0.9, not 1 (tolerance 1e-9)"
+        );
+        assert_eq!(
+            msg(Dist::lognormal(1.0, 1e200)),
+            "lognormal: variation parameter is non-finite in (log)normal distribution"
+        );
+    }
+}
