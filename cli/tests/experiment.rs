@@ -300,7 +300,7 @@ fn the_gnu_parallel_one_liner_matches_a_single_run() {
     let whole = t.path().join("whole");
     run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
     let bin = env!("CARGO_BIN_EXE_layflow");
-    // The README's one-liner, with the binary's full path.
+    // The one-liner of docs/experiments.md, with the binary's full path.
     let script = format!(
         "cd {dir} && parallel --halt now,fail=1 {bin} experiment plan.yaml --shard {{}}/3 --out shards/{{}} --quiet ::: 1 2 3 \
          && {bin} merge shards/1 shards/2 shards/3 --out merged",
@@ -326,7 +326,7 @@ fn the_gnu_parallel_one_liner_matches_a_single_run() {
 fn the_slurm_scripts_are_valid_bash_with_known_directives() {
     // What the scripts can be checked for without a cluster: bash parses them,
     // and every #SBATCH line uses an option sbatch documents (from memory of
-    // sbatch(1); a single-node Slurm is not started here, see the README).
+    // sbatch(1); a single-node Slurm is not started here, see docs/experiments.md).
     const KNOWN: &[&str] = &[
         "--job-name",
         "--array",

@@ -34,7 +34,7 @@ fn the_layouts_written_load_into_the_scenario_and_compare_runs_them() {
     assert!(best < start, "search {best} vs current {start}");
     assert_eq!(v["layouts"].as_array().unwrap().len(), 2);
 
-    // The demo with the written file included, as the README tells a user to do.
+    // The demo with the written file included, as docs/layout-search.md tells a user to do.
     let demo = std::fs::read_to_string(root().join("scenarios/demo.yaml")).unwrap();
     let plant = dir.path().join("plant.yaml");
     std::fs::write(&plant, format!("{demo}\nlayout_files: [found.yaml]\n")).unwrap();

@@ -36,7 +36,7 @@ pub(crate) fn compile(
         (Some(DistanceSpec::Aisles), None) => {
             return Err(ctx
                 .err(&p, "`distance: aisles` needs an aisle network, and the scenario has no `aisles:` section")
-                .with_hint("add `aisles: { nodes: [...], segments: [...] }`; see the README's section on aisle networks"));
+                .with_hint("add `aisles: { nodes: [...], segments: [...] }`; see docs/aisles.md, section \"The aisle network\""));
         }
         (Some(_), Some(_)) => {
             return Err(ctx

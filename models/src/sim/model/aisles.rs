@@ -4,7 +4,7 @@
 //! speed limit, or some node has zone control); otherwise a trip is one leg
 //! of the shortest-path distance, exactly as before the network was simulated.
 //!
-//! The rules, as the README states them:
+//! The rules, as docs/aisles.md states them:
 //! - A trip follows the stored shortest path. One event per segment: the
 //!   mover enters a segment and drives it at min(its speed, the segment's
 //!   limit) × its operators' efficiency. With an acceleration, the whole
