@@ -1,4 +1,11 @@
 //! layflow-models: the plant — scenario format, layouts, routings, fleets, static analysis and the simulation model.
+//!
+//! Where each question lives: `scenario` reads a plant, `sim` runs it,
+//! `metrics` defines and computes every reported number, `study` holds the
+//! procedures over many replications (warm-up, compare, select, fleet
+//! sizing, targets), `results` writes and reads results folders,
+//! `analysis`, `sizing` and `search` are the static picture, the analytic
+//! fleet size and the layout search, and `experiment` runs plans durably.
 
 pub mod analysis;
 pub mod dist;

@@ -7,7 +7,7 @@ use clap::Args;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::metrics::{summarize, CONFIDENCE};
 use layflow_models::sim::{Plan, RunSpec};
-use layflow_models::study::{deadlock_message, replicate};
+use layflow_models::study::{deadlock_message, replicate, Progress as _};
 
 use crate::failure::Failure;
 use crate::render::progress::Progress;
@@ -50,12 +50,10 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let started = Instant::now();
     let mut summaries = Vec::with_capacity(which.len());
     for &l in &which {
-        layflow_models::study::Progress::stage(&progress, format!("layout {}", plant.layouts[l].name));
+        progress.stage(format!("layout {}", plant.layouts[l].name));
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
         let plan = Plan::new(&plant, l);
-        let reps = settings.pool.install(|| {
-            replicate(&plan, &spec, replications, |r| layflow_models::study::Progress::done(&progress, r))
-        });
+        let reps = settings.pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
         if let Some(why) = deadlock_message(&plant, &reps) {
             progress.finish();
             return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));

@@ -1,10 +1,8 @@
 //! `layflow search`: find layouts with a low load-distance cost, write them for `compare`, and check them by simulation.
 
 use std::path::{Path, PathBuf};
-use std::time::Duration;
 
 use clap::{Args, ValueEnum};
-use indicatif::{ProgressBar, ProgressStyle};
 
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::{Layout, Plant};
@@ -16,6 +14,7 @@ use layflow_models::search::{
 use crate::commands::compare::{compare_plant, CompareArgs, CompareFormat, SelectArgs};
 use crate::failure::Failure;
 use crate::render::plot;
+use crate::render::progress::Spinner;
 use crate::render::search::{
     cost_value, json_output, layouts_yaml, limits_text, objective_text, pp_value, render, secs, trace_series,
     Found, MethodRun, Report,
@@ -166,17 +165,10 @@ fn run_methods(
 ) -> Result<Vec<MethodRun>, Failure> {
     let mut runs = Vec::new();
     for &name in names {
-        let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new_spinner() };
-        bar.set_style(
-            ProgressStyle::with_template("{spinner} {prefix}: best {msg}, {elapsed} elapsed")
-                .expect("valid progress template"),
-        );
-        bar.set_prefix(name.key());
-        bar.enable_steady_tick(Duration::from_millis(120));
-        let outcome =
-            search::search(problem, &name.method(), settings, |_, best| bar.set_message(shown(best)))
-                .map_err(|e| Failure::input(format!("the {} search cannot start: {e}", name.key())))?;
-        bar.finish_and_clear();
+        let spinner = Spinner::new(name.key(), quiet);
+        let outcome = search::search(problem, &name.method(), settings, |_, best| spinner.best(shown(best)))
+            .map_err(|e| Failure::input(format!("the {} search cannot start: {e}", name.key())))?;
+        spinner.finish();
         runs.push(MethodRun { key: name.key(), title: name.title(), outcome });
     }
     Ok(runs)

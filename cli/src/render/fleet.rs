@@ -14,40 +14,40 @@ use super::table::{dur, dur_plain, num, pct, pm, share, Table};
 /// Everything `fleet` found, as written to JSON.
 #[derive(Serialize)]
 pub struct FleetOutput {
-    /// Plant.
+    /// The plant's name.
     pub plant: String,
-    /// Scenario.
+    /// The scenario file, as given.
     pub scenario: String,
-    /// Fleet.
+    /// The fleet sized.
     pub fleet: String,
-    /// Layout.
+    /// The layout it ran under.
     pub layout: String,
-    /// Horizon s.
+    /// Simulated time per replication, warm-up included, s.
     pub horizon_s: f64,
-    /// Warmup s.
+    /// Warm-up, s.
     pub warmup_s: f64,
-    /// Warmup auto.
+    /// What MSER-5 chose, with `--warmup auto`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub warmup_auto: Option<WarmupChoice>,
-    /// Replications.
+    /// Replications per layout or size.
     pub replications: u32,
-    /// Seed.
+    /// Base seed.
     pub seed: u64,
     /// Demand factor.
     pub demand_factor: f64,
-    /// Confidence.
+    /// Confidence of every interval.
     pub confidence: f64,
-    /// Analytic.
+    /// The analytic estimate under both empty-travel rules.
     pub analytic: Analytic,
-    /// Targets.
+    /// The targets, as parsed.
     pub targets: Vec<Target>,
-    /// Sizes.
+    /// One entry per size, in increasing order.
     pub sizes: Vec<SizeResult>,
     /// The smallest size that met every target with 95% confidence.
     pub smallest_meeting_targets: Option<u32>,
-    /// Events.
+    /// Events simulated.
     pub events: u64,
-    /// Wall s.
+    /// Wall-clock seconds (left out with --no-wall-clock).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub wall_s: Option<f64>,
 }

@@ -1,7 +1,7 @@
-//! The progress bar on stderr: replications done, events per second, time left.
+//! Progress on stderr: a bar over replications (done, events per second, time left) and a spinner for searches.
 
 use std::sync::atomic::{AtomicU64, Ordering};
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 use indicatif::{ProgressBar, ProgressStyle};
 use layflow_models::sim::RepStats;
@@ -74,5 +74,34 @@ impl study::Progress for Progress {
         let rate = events as f64 / self.started.elapsed().as_secs_f64().max(1e-9);
         self.bar.set_message(format!("{:.1} M events/s", rate / 1e6));
         self.bar.inc(1);
+    }
+}
+
+/// A spinner for work with no known length (a layout search): the best found so far, and the time taken.
+pub struct Spinner {
+    bar: ProgressBar,
+}
+
+impl Spinner {
+    /// A spinner labelled `what`; hidden with `quiet`.
+    pub fn new(what: &str, quiet: bool) -> Spinner {
+        let bar = if quiet { ProgressBar::hidden() } else { ProgressBar::new_spinner() };
+        bar.set_style(
+            ProgressStyle::with_template("{spinner} {prefix}: best {msg}, {elapsed} elapsed")
+                .expect("valid progress template"),
+        );
+        bar.set_prefix(what.to_string());
+        bar.enable_steady_tick(Duration::from_millis(120));
+        Spinner { bar }
+    }
+
+    /// The best so far, as the user reads it.
+    pub fn best(&self, shown: String) {
+        self.bar.set_message(shown);
+    }
+
+    /// Remove the spinner.
+    pub fn finish(&self) {
+        self.bar.finish_and_clear();
     }
 }

@@ -12,30 +12,30 @@ use super::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole
 /// Everything `run` found, as written to JSON.
 #[derive(Serialize)]
 pub struct RunOutput<'a> {
-    /// Plant.
+    /// The plant's name.
     pub plant: &'a str,
-    /// Scenario.
+    /// The scenario file, as given.
     pub scenario: String,
-    /// Horizon s.
+    /// Simulated time per replication, warm-up included, s.
     pub horizon_s: f64,
-    /// Warmup s.
+    /// Warm-up, s.
     pub warmup_s: f64,
     /// Present when `--warmup auto` chose the warm-up.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub warmup_auto: Option<WarmupChoice>,
-    /// Replications.
+    /// Replications per layout or size.
     pub replications: u32,
-    /// Seed.
+    /// Base seed.
     pub seed: u64,
     /// Demand factor.
     pub demand_factor: f64,
-    /// Confidence.
+    /// Confidence of every interval.
     pub confidence: f64,
-    /// Layouts.
+    /// Each layout's summary.
     pub layouts: Vec<LayoutSummary>,
-    /// Events.
+    /// Events simulated.
     pub events: u64,
-    /// Wall s.
+    /// Wall-clock seconds (left out with --no-wall-clock).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub wall_s: Option<f64>,
 }

@@ -32,11 +32,11 @@ impl MethodRun {
 
 /// A layout the search found, named.
 pub struct Found {
-    /// Name.
+    /// Its name, as written to the layout file.
     pub name: String,
-    /// Layout.
+    /// The layout it ran under.
     pub layout: Vec<usize>,
-    /// Cost.
+    /// Its static cost.
     pub cost: LayoutCost,
     /// The scenario layout it equals, if any.
     pub same_as: Option<usize>,
@@ -44,25 +44,25 @@ pub struct Found {
 
 /// What every rendering needs.
 pub struct Report<'a> {
-    /// Plant.
+    /// The plant's name.
     pub plant: &'a Plant,
-    /// Pp.
+    /// The search problem built from the scenario.
     pub pp: &'a PlantProblem,
-    /// Factor.
+    /// Demand factor of the from-to chart.
     pub factor: f64,
     /// Loads per hour between departments (the from-to chart's total).
     pub loads_per_h: f64,
-    /// From.
+    /// Index of the start layout.
     pub from: usize,
-    /// Start cost.
+    /// The start layout's static cost.
     pub start_cost: LayoutCost,
-    /// Starts there.
+    /// Whether the search could start from it (it keeps every pin and empty location).
     pub starts_there: bool,
-    /// Seed.
+    /// Base seed.
     pub seed: u64,
-    /// Limits.
+    /// Each method's limits.
     pub limits: Limits,
-    /// Runs.
+    /// Each method's run.
     pub runs: &'a [MethodRun],
 }
 

@@ -28,33 +28,33 @@ use super::warmup::WarmupChoice;
 /// Everything `compare` found, as written to JSON.
 #[derive(Serialize)]
 pub struct CompareOutput {
-    /// plant.
+    /// The plant's name.
     pub plant: String,
-    /// scenario.
+    /// The scenario file, as given.
     pub scenario: String,
-    /// horizon s.
+    /// Simulated time per replication, warm-up included, s.
     pub horizon_s: f64,
-    /// warmup s.
+    /// Warm-up, s.
     pub warmup_s: f64,
     /// Present when `--warmup auto` chose the warm-up.
     pub warmup_auto: Option<WarmupChoice>,
-    /// replications.
+    /// Replications per layout (without selection).
     pub replications: u32,
-    /// seed.
+    /// Base seed.
     pub seed: u64,
-    /// confidence.
+    /// Confidence of every interval.
     pub confidence: f64,
-    /// common random numbers.
+    /// Replication r of every layout saw the same lots (always true).
     pub common_random_numbers: bool,
-    /// baseline.
+    /// The layout every other is compared against.
     pub baseline: String,
-    /// ranked on.
+    /// The metric that ranks (and selects), by label.
     pub ranked_on: String,
-    /// levels.
+    /// One entry per demand level.
     pub levels: Vec<Level>,
-    /// events.
+    /// Events simulated, every layout and level.
     pub events: u64,
-    /// wall s.
+    /// Wall-clock seconds (left out with --no-wall-clock).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub wall_s: Option<f64>,
 }
@@ -62,17 +62,17 @@ pub struct CompareOutput {
 /// The layouts at one demand level.
 #[derive(Serialize)]
 pub struct Level {
-    /// demand factor.
+    /// The demand factor of this level.
     pub demand_factor: f64,
     /// Departments predicted at or over capacity at this level (queues grow without bound).
     pub overloaded: Vec<String>,
-    /// layouts.
+    /// Each layout's summary, in the order compared.
     pub layouts: Vec<LayoutSummary>,
-    /// differences.
+    /// Paired differences of every metric, each layout against the baseline.
     pub differences: Vec<Difference>,
-    /// ranking.
+    /// Static and simulated rank of each layout.
     pub ranking: Vec<Rank>,
-    /// selection.
+    /// What `--select` did, when asked.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub selection: Option<Selection>,
     /// `values[layout][replication][metric]`, for the tidy CSV.
@@ -83,36 +83,36 @@ pub struct Level {
 /// A paired difference `layout − baseline` of one metric.
 #[derive(Serialize)]
 pub struct Difference {
-    /// layout.
+    /// The layout compared with the baseline.
     pub layout: String,
-    /// scope.
+    /// The metric's scope.
     pub scope: Scope,
-    /// subject.
+    /// The product, department, fleet or segment; empty for the plant.
     pub subject: String,
-    /// metric.
+    /// The metric's registry name.
     pub metric: &'static str,
-    /// mean.
+    /// Mean of layout − baseline over the pairs.
     pub mean: f64,
-    /// half width.
+    /// Half-width of the 95% paired-t interval.
     pub half_width: Option<f64>,
-    /// n.
+    /// Pairs counted (replications where both observed the metric).
     pub n: usize,
-    /// excludes zero.
+    /// The interval excludes zero: a real difference, not noise.
     pub excludes_zero: bool,
 }
 
 /// Static and simulated rank of one layout.
 #[derive(Serialize)]
 pub struct Rank {
-    /// layout.
+    /// The layout.
     pub layout: String,
-    /// load distance static m per h.
+    /// Its static load-distance, load-metres per hour.
     pub load_distance_static_m_per_h: f64,
-    /// static rank.
+    /// Rank by static load-distance (1 = lowest).
     pub static_rank: usize,
-    /// simulated mean.
+    /// Its mean of the ranking metric over replications.
     pub simulated_mean: f64,
-    /// simulated rank.
+    /// Rank by that mean (1 = best).
     pub simulated_rank: usize,
 }
 

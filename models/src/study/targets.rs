@@ -116,8 +116,32 @@ pub fn parse(
         let own = fleet.and_then(|f| find_metric(list, &format!("{f}/{canon}")));
         own.or_else(|| find_metric(list, &canon)).map(|(i, _)| (i, note))
     };
-    let (metric, note) =
-        found.ok_or_else(|| bad(format!("unknown metric {name:?}{}", did_you_mean(name, names()))))?;
+    let (metric, note) = found.ok_or_else(|| match name.rsplit_once('/') {
+        Some((subject, _)) if !list.iter().any(|m| m.subject == subject.trim()) => {
+            let mut subjects: Vec<&str> = Vec::new();
+            for m in list.iter().filter(|m| !m.subject.is_empty()) {
+                if !subjects.contains(&m.subject.as_str()) {
+                    subjects.push(&m.subject);
+                }
+            }
+            bad(format!(
+                "no product, department, fleet or segment is called {:?}{}; the scenario has: {}",
+                subject.trim(),
+                did_you_mean(subject.trim(), subjects.iter().copied()),
+                crate::suggest::name_list(subjects.iter().copied())
+            ))
+        }
+        Some((subject, metric)) => {
+            let theirs = list.iter().filter(|m| m.subject == subject.trim()).map(|m| m.name);
+            bad(format!(
+                "{:?} has no metric {:?}{}",
+                subject.trim(),
+                metric.trim(),
+                did_you_mean(metric.trim(), theirs)
+            ))
+        }
+        None => bad(format!("unknown metric {name:?}{}", did_you_mean(name, names()))),
+    })?;
     if value_text.is_empty() {
         return Err(bad("no value after the comparison".into()));
     }
@@ -242,6 +266,7 @@ mod tests {
             ("throughput >= fast", "plain number"),
             ("wip <= -3", "zero or more"),
             ("wip <=", "no value"),
+            ("nowhere/utilization <= 50%", "no product, department, fleet or segment is called \"nowhere\""),
         ] {
             let e = parse_one(text).err().unwrap_or_else(|| panic!("{text} should fail"));
             assert!(e.to_string().contains(needle), "{text}: {e}");
