@@ -39,6 +39,12 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
 struct Cli {
     #[command(subcommand)]
     command: Command,
+    /// Show every table column, however wide (default tables fit 100 characters).
+    #[arg(long, global = true)]
+    wide: bool,
+    /// Show the statistical working: procedure constants, pilot-run details.
+    #[arg(long, short = 'v', global = true)]
+    verbose: bool,
 }
 
 #[derive(Subcommand, Debug)]
@@ -94,6 +100,8 @@ fn quiet_on_broken_pipe() {
 fn main() -> ExitCode {
     quiet_on_broken_pipe();
     let cli = Cli::parse();
+    render::table::set_wide(cli.wide);
+    render::table::set_verbose(cli.verbose);
     let result = match cli.command {
         Command::Check(a) => check::check(&a),
         Command::Run(a) => run::run(&a),

@@ -245,3 +245,78 @@ fleets:
     assert!(!err.contains("panicked"), "{err}");
     assert!(err.contains("WARNING"), "expected an overload warning:\n{err}");
 }
+
+/// Issue "answers a plant can act on": default tables fit 100 columns and say
+/// what they hid; `--wide` shows every column; a column of durations has one
+/// unit (here the fleet table's waits, from a few seconds to many minutes).
+#[test]
+fn tables_fit_100_columns_with_one_unit_per_column_and_wide_shows_all() {
+    let args = [
+        "fleet",
+        "scenarios/demo.yaml",
+        "--fleet",
+        "forklifts",
+        "--sizes",
+        "1..3",
+        "--replications",
+        "3",
+        "--horizon",
+        "3 d",
+        "--warmup",
+        "12 h",
+        "--quiet",
+    ];
+    let out = layflow(&args);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    let lines: Vec<&str> = s.lines().collect();
+    let head = lines.iter().position(|l| l.trim_start().starts_with("movers")).expect("the size table");
+    let table: Vec<&str> = lines[head..].iter().take_while(|l| !l.trim().is_empty()).copied().collect();
+    let rows: Vec<&str> =
+        table.iter().copied().filter(|l| l.trim_start().starts_with(char::is_numeric)).collect();
+    assert_eq!(rows.len(), 3, "{s}");
+    assert!(table[0].chars().count() <= 100 && rows.iter().all(|l| l.chars().count() <= 100), "{s}");
+    assert!(s.contains("shown by --wide") && !table[0].contains("load/unload"), "{s}");
+    // The wait column: every cell ends in the same unit.
+    let units: Vec<&str> = rows
+        .iter()
+        .map(|r| {
+            let cells: Vec<&str> = r.split("  ").map(str::trim).filter(|c| !c.is_empty()).collect();
+            cells[3].rsplit(' ').next().unwrap()
+        })
+        .collect();
+    assert!(units.windows(2).all(|w| w[0] == w[1]), "wait units {units:?}\n{s}");
+    let mut wide = args.to_vec();
+    wide.push("--wide");
+    let out = layflow(&wide);
+    let s = text(&out.stdout);
+    assert!(s.contains("load/unload") && !s.contains("shown by --wide"), "{s}");
+}
+
+/// The statistical working of a selection is behind `--verbose`; the default
+/// states the conclusion and its guarantee in words.
+#[test]
+fn selection_constants_only_with_verbose() {
+    let args = [
+        "compare",
+        "scenarios/demo.yaml",
+        "--select",
+        "--indifference",
+        "10 min",
+        "--max-replications",
+        "12",
+        "--horizon",
+        "3 d",
+        "--warmup",
+        "12 h",
+        "--quiet",
+    ];
+    let out = layflow(&args);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("to within 10 min with 95% confidence") && !s.contains("h² ="), "{s}");
+    let mut verbose = args.to_vec();
+    verbose.push("--verbose");
+    let s = text(&layflow(&verbose).stdout);
+    assert!(s.contains("h² =") && s.contains("n₀ = 10"), "{s}");
+}

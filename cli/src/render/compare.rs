@@ -6,11 +6,11 @@ use layflow_models::metrics::{find_metric, Estimate, Kind, LayoutSummary, Metric
 use layflow_models::plant::Plant;
 use layflow_models::study::compare::{CompareOutput, Difference};
 
-use super::table::{dur, dur_plain, num, pm, time_unit, whole, Table};
+use super::table::{dur_in, dur_plain, num, pm, unit_for, whole, Table};
 
-/// A signed difference in the metric's unit, with its half-width and a mark
-/// when the interval excludes zero.
-fn diff_cell(d: &Difference, kind: Kind) -> String {
+/// A signed difference in the metric's unit (durations in `unit`, shared by
+/// the row), with its half-width and a mark when the interval excludes zero.
+fn diff_cell(d: &Difference, kind: Kind, unit: (&str, f64)) -> String {
     if d.n == 0 {
         return "-".to_string();
     }
@@ -19,11 +19,7 @@ fn diff_cell(d: &Difference, kind: Kind) -> String {
     let mark = if d.excludes_zero { " *" } else { "" };
     let e = Estimate { mean: d.mean, half_width: d.half_width, n: d.n };
     let body = match kind {
-        Kind::Duration => {
-            // The unit that suits the difference itself: minutes for a few minutes' gain.
-            let (u, s) = time_unit(d.mean.abs().max(d.half_width.unwrap_or(0.0)));
-            format!("{}{} {u}", sign(d.mean), pm(&e, 1.0 / s))
-        }
+        Kind::Duration => format!("{}{} {}", sign(d.mean), pm(&e, 1.0 / unit.1), unit.0),
         Kind::Number => format!("{}{}", sign(d.mean), pm(&e, 1.0)),
     };
     format!("{}{mark}", body.replace('-', "−"))
@@ -62,7 +58,7 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
         out.seed
     );
     if let Some(w) = &out.warmup_auto {
-        let _ = writeln!(s, "{}", w.describe());
+        let _ = writeln!(s, "{}", super::warnings::warmup_line(w));
     }
     let _ = writeln!(s, "{}; ± is the 95% confidence half-width", super::table::speed(out.events, wall_s));
     let ranked = &metric_list[find_metric(metric_list, &out.ranked_on).expect("ranked metric exists").0];
@@ -78,8 +74,10 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
         let mut header = super::run::headline_header(fleets);
         header.extend(["static load-distance (load-m/h)", "static rank", "simulated rank"]);
         let mut t = Table::new(&header);
+        t.optional(&["fleet cost (/h)", "WIP (lots)", "static load-distance (load-m/h)"]);
+        let units = super::run::headline_units(&lv.layouts);
         for (l, r) in lv.layouts.iter().zip(&lv.ranking) {
-            let mut row = super::run::headline_cells(l, fleets);
+            let mut row = super::run::headline_cells(l, fleets, units);
             row.extend([
                 whole(l.load_distance_static_m_per_h),
                 r.static_rank.to_string(),
@@ -142,13 +140,21 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
         for (label, m) in rows {
             let metric = &metric_list[m];
             let mut row = vec![label];
-            for o in &others {
-                let d = lv
-                    .differences
-                    .iter()
-                    .find(|d| d.layout == o.layout && d.metric == metric.name && d.subject == metric.subject)
-                    .expect("a difference per metric");
-                row.push(diff_cell(d, metric.kind));
+            let ds: Vec<&Difference> = others
+                .iter()
+                .map(|o| {
+                    lv.differences
+                        .iter()
+                        .find(|d| {
+                            d.layout == o.layout && d.metric == metric.name && d.subject == metric.subject
+                        })
+                        .expect("a difference per metric")
+                })
+                .collect();
+            // One unit per row: the one that suits the largest difference in it.
+            let unit = unit_for(ds.iter().flat_map(|d| [d.mean, d.half_width.unwrap_or(0.0)]));
+            for d in ds {
+                row.push(diff_cell(d, metric.kind, unit));
             }
             t.row(row);
         }
@@ -184,12 +190,13 @@ fn sweep(out: &CompareOutput) -> String {
         let mut h = heads.clone();
         h[0] = format!("{title}: layout");
         let mut t = Table::new(&h);
+        let flow_u = unit_for(out.levels.iter().flat_map(|lv| lv.layouts.iter().map(|x| x.flow_time_s.mean)));
         for (li, l) in out.levels[0].layouts.iter().enumerate() {
             let mut row = vec![l.layout.clone()];
             for lv in &out.levels {
                 let x = &lv.layouts[li];
                 row.push(match pick {
-                    0 => dur(&x.flow_time_s.estimate()),
+                    0 => dur_in(&x.flow_time_s.estimate(), flow_u),
                     1 => pm(&x.throughput_per_h, 1.0),
                     _ => pm(&x.wip_mean, 1.0),
                 });

@@ -1,10 +1,10 @@
 //! `experiment`, `merge` and `summarize` drawn for people: a line per finished design point, a row per point.
 
-use layflow_models::experiment::results::{self, PointSummary, Summary};
+use layflow_models::experiment::results::{self, Percentile, PointSummary, Summary};
 use layflow_models::experiment::{Experiment, Header, Unit};
 use layflow_models::metrics::Estimate;
 
-use super::table::{dur, num, pm, Table};
+use super::table::{dur, dur_in, num, pm, unit_for, Table};
 
 /// The per-point line shown when a design point's last unit finishes.
 pub fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> String {
@@ -59,21 +59,27 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         .map(String::from),
     );
     let mut t = Table::new(&head);
+    t.optional(&["handling cost (/h)", "WIP (lots)", "flow time p95"]);
+    // One unit per column, chosen from the column's values.
+    let unit = |m: &str| unit_for(s.points.iter().filter_map(|p| estimate(p, m)).map(|e| e.mean));
+    fn p95_of(p: &PointSummary) -> Option<&Percentile> {
+        p.percentiles
+            .iter()
+            .find(|q| q.metric == "flow_time_s" && q.percentile == "p95" && q.observations > 0)
+    }
+    let (flow_u, wait_u) = (unit("flow_time_s"), unit("move_wait_s"));
+    let p95_u = unit_for(s.points.iter().filter_map(p95_of).map(|q| q.value_s));
     for p in &s.points {
         let mut row = vec![p.point.to_string()];
         row.extend(p.levels.iter().cloned());
         row.push(p.replications.to_string());
         let number = |m: &str| estimate(p, m).map_or("-".into(), |e| pm(&e, 1.0));
-        let duration = |m: &str| estimate(p, m).map_or("-".into(), |e| dur(&e));
+        let duration = |m: &str, u| estimate(p, m).map_or("-".into(), |e| dur_in(&e, u));
         row.push(number("throughput_per_h"));
-        row.push(duration("flow_time_s"));
-        let p95 = p.percentiles.iter().find(|q| q.metric == "flow_time_s" && q.percentile == "p95");
-        row.push(p95.filter(|q| q.observations > 0).map_or("-".into(), |q| {
-            let (u, sc) = super::table::time_unit(q.value_s);
-            format!("{} {u}", num(q.value_s / sc))
-        }));
+        row.push(duration("flow_time_s", flow_u));
+        row.push(p95_of(p).map_or("-".into(), |q| format!("{} {}", num(q.value_s / p95_u.1), p95_u.0)));
         row.push(number("wip_mean"));
-        row.push(duration("move_wait_s"));
+        row.push(duration("move_wait_s", wait_u));
         row.push(number("handling_cost_per_h"));
         t.row(row);
     }

@@ -9,7 +9,7 @@ use layflow_models::study::targets::Target;
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
-use super::table::{dur, dur_plain, num, pct, pm, share, Table};
+use super::table::{dur_in, dur_plain, num, pct, pm, share, unit_for, Table};
 
 /// Everything `fleet` found, as written to JSON.
 #[derive(Serialize)]
@@ -105,7 +105,7 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
         out.demand_factor
     );
     if let Some(w) = &out.warmup_auto {
-        let _ = writeln!(s, "{}", w.describe());
+        let _ = writeln!(s, "{}", super::warnings::warmup_line(w));
     }
     let _ = writeln!(s, "{}; ± is the 95% confidence half-width\n", super::table::speed(out.events, wall_s));
     let has = |name: &str| out.sizes.iter().any(|r| r.metrics.get(name).is_some());
@@ -139,7 +139,24 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
     let tnames: Vec<String> = (0..out.targets.len()).map(|i| format!("target {}", i + 1)).collect();
     head.extend(tnames.iter().map(String::as_str));
     let mut t = Table::new(&head);
+    // What to leave out, first to last, when the table would not fit.
+    t.optional(&[
+        "loaded",
+        "empty",
+        "load/unload",
+        "moves/h",
+        "idle",
+        "WIP",
+        "throughput",
+        "cost/load",
+        "flow time",
+    ]);
+    t.optional(&["busy (on duty)"]);
+    t.optional(&optional.iter().map(|n| find(Scope::Fleet, n).map_or(*n, |d| d.label)).collect::<Vec<_>>());
     let none = Estimate { mean: f64::NAN, half_width: None, n: 0 };
+    // One unit per column, chosen from the column's values.
+    let unit = |name: &str| unit_for(out.sizes.iter().filter_map(|r| r.metrics.get(name)).map(|e| e.mean));
+    let (wait_u, p95_u, flow_u) = (unit("move_wait_s"), unit("move_wait_p95_s"), unit("flow_time_s"));
     for r in &out.sizes {
         let m = |name: &str| r.metrics.get(name).copied().unwrap_or(none);
         let mut row = vec![
@@ -150,12 +167,12 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
             share(m("empty_travel_share").mean),
             share(m("handling_share").mean),
             share(m("idle_share").mean),
-            dur(&m("move_wait_s")),
-            dur(&m("move_wait_p95_s")),
+            dur_in(&m("move_wait_s"), wait_u),
+            dur_in(&m("move_wait_p95_s"), p95_u),
             pm(&m("moves_per_h"), 1.0),
             pm(&m("throughput_per_h"), 1.0),
             pm(&m("wip_mean"), 1.0),
-            dur(&m("flow_time_s")),
+            dur_in(&m("flow_time_s"), flow_u),
             pm(&m("handling_cost_per_h"), 1.0),
             pm(&m("handling_cost_per_load"), 1.0),
         ];

@@ -7,7 +7,7 @@ use layflow_models::plant::{DepartmentRole, Plant};
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
-use super::table::{coverage, dur, dur_pct, dur_plain, num, pct, pm, share, whole, Table};
+use super::table::{coverage, dur_in, dur_pct, dur_plain, num, pct, pm, share, unit_for, whole, Table};
 
 /// Everything `run` found, as written to JSON.
 #[derive(Serialize)]
@@ -54,7 +54,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         num(out.demand_factor)
     );
     if let Some(w) = &out.warmup_auto {
-        let _ = writeln!(s, "{}", w.describe());
+        let _ = writeln!(s, "{}", super::warnings::warmup_line(w));
     }
     let _ = writeln!(s, "{}", super::table::speed(out.events, wall_s));
     for l in &out.layouts {
@@ -102,11 +102,12 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         s.push_str(&t.render(2));
 
         let mut t = Table::new(&["product", "throughput (lots/h)", "flow time"]);
+        let flow_u = unit_for(l.products.iter().map(|p| p.flow_time_s.mean));
         for p in &l.products {
             t.row(vec![
                 p.product.clone(),
                 pm(&p.throughput_per_h, 1.0),
-                dur(&p.flow_time_s) + &coverage(p.flow_time_s.n, out.replications),
+                dur_in(&p.flow_time_s, flow_u) + &coverage(p.flow_time_s.n, out.replications),
             ]);
         }
         s.push('\n');
@@ -131,6 +132,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             header.extend(["availability", "MTBF/(MTBF+MTTR)"]);
         }
         let mut t = Table::new(&header);
+        t.optional(&["MTBF/(MTBF+MTTR)", "setup predicted", "scheduled", "predicted", "WIP (lots)"]);
         for (d, dep) in l.departments.iter().enumerate() {
             if plant.departments[d].role == DepartmentRole::Shipping {
                 continue; // lots leave on arrival: nothing to show
@@ -206,6 +208,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 header.push("held up in aisles");
             }
             let mut t = Table::new(&header);
+            t.optional(&["loaded", "empty", "load/unload", "moves/h", "idle", "cost/h"]);
+            let wait_u = unit_for(l.fleets.iter().map(|f| f.move_wait_s.mean));
             for f in &l.fleets {
                 let mut row = vec![
                     f.fleet.clone(),
@@ -216,7 +220,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     share(f.handling_share.mean),
                     share(f.idle_share.mean),
                     pm(&f.moves_per_h, 1.0),
-                    dur(&f.move_wait_s),
+                    dur_in(&f.move_wait_s, wait_u),
                     pm(&f.handling_cost_per_h, 1.0),
                 ];
                 if blocked {
@@ -246,6 +250,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "congestion (mover-s/h)",
                 "per traversal",
             ]);
+            t.optional(&["mean occupancy"]);
             for g in segments {
                 t.row(vec![
                     g.segment.to_string(),
@@ -272,8 +277,10 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         let mut header = headline_header(fleets);
         header.push("static load-distance");
         let mut t = Table::new(&header);
+        t.optional(&["fleet cost (/h)", "WIP (lots)"]);
+        let units = headline_units(&out.layouts);
         for l in &out.layouts {
-            let mut row = headline_cells(l, fleets);
+            let mut row = headline_cells(l, fleets, units);
             row.push(format!("{} load-m/h", whole(l.load_distance_static_m_per_h)));
             t.row(row);
         }
@@ -291,16 +298,24 @@ pub fn headline_header(fleets: bool) -> Vec<&'static str> {
     header
 }
 
-/// A layout's cells under [`headline_header`].
-pub fn headline_cells(l: &LayoutSummary, fleets: bool) -> Vec<String> {
+/// The units of the headline's flow-time and wait columns, one each for every layout shown.
+pub fn headline_units(layouts: &[LayoutSummary]) -> [(&'static str, f64); 2] {
+    [
+        unit_for(layouts.iter().map(|l| l.flow_time_s.mean)),
+        unit_for(layouts.iter().map(|l| l.move_wait_s.mean)),
+    ]
+}
+
+/// A layout's cells under [`headline_header`], durations in `units` (from [`headline_units`]).
+pub fn headline_cells(l: &LayoutSummary, fleets: bool, units: [(&'static str, f64); 2]) -> Vec<String> {
     let mut row = vec![
         l.layout.clone(),
         pm(&l.throughput_per_h, 1.0),
-        dur(&l.flow_time_s.estimate()),
+        dur_in(&l.flow_time_s.estimate(), units[0]),
         pm(&l.wip_mean, 1.0),
     ];
     if fleets {
-        row.push(dur(&l.move_wait_s.estimate()));
+        row.push(dur_in(&l.move_wait_s.estimate(), units[1]));
         row.push(pm(&l.handling_cost_per_h, 1.0));
     }
     row

@@ -1,18 +1,50 @@
 //! Plain aligned text tables and number formatting for the terminal.
 
+use std::sync::atomic::{AtomicBool, Ordering};
+
 use layflow_models::metrics::{DurationEstimate, Estimate};
 pub use layflow_models::text::{num, time_unit};
 
+/// The width default tables fit in, characters; `--wide` lifts it.
+pub const WIDTH: usize = 100;
+
+static WIDE: AtomicBool = AtomicBool::new(false);
+static VERBOSE: AtomicBool = AtomicBool::new(false);
+
+/// `--wide`: show every column, however wide the table gets.
+pub fn set_wide(on: bool) {
+    WIDE.store(on, Ordering::Relaxed);
+}
+
+/// `--verbose`: show the statistical working (procedure constants, pilot details).
+pub fn set_verbose(on: bool) {
+    VERBOSE.store(on, Ordering::Relaxed);
+}
+
+/// Whether `--verbose` was given.
+pub fn verbose() -> bool {
+    VERBOSE.load(Ordering::Relaxed)
+}
+
 /// A table of text cells; the first column is left-aligned, the rest right-aligned.
+///
+/// Columns marked optional are hidden, in the order marked, while the table
+/// is wider than [`WIDTH`]; a note under it names them and says `--wide`
+/// shows them.
 pub struct Table {
     header: Vec<String>,
     rows: Vec<Vec<String>>,
+    optional: Vec<String>,
 }
 
 impl Table {
     /// A table with these column headings.
     pub fn new<S: AsRef<str>>(header: &[S]) -> Table {
-        Table { header: header.iter().map(|s| s.as_ref().to_string()).collect(), rows: Vec::new() }
+        Table {
+            header: header.iter().map(|s| s.as_ref().to_string()).collect(),
+            rows: Vec::new(),
+            optional: Vec::new(),
+        }
     }
 
     /// Add a row (cells beyond the header are dropped, missing ones blank).
@@ -20,22 +52,45 @@ impl Table {
         self.rows.push(cells);
     }
 
+    /// Columns (by heading) that may be hidden to fit [`WIDTH`], the first named hidden first.
+    pub fn optional<S: AsRef<str>>(&mut self, headings: &[S]) {
+        self.optional.extend(headings.iter().map(|h| h.as_ref().to_string()));
+    }
+
+    /// Column widths of the columns `keep`.
+    fn widths(&self, keep: &[usize]) -> Vec<usize> {
+        keep.iter()
+            .map(|&i| {
+                let cells = self.rows.iter().filter_map(|r| r.get(i)).map(|c| c.chars().count());
+                cells.fold(self.header[i].chars().count(), usize::max)
+            })
+            .collect()
+    }
+
     /// Render with two spaces between columns and an indent.
     pub fn render(&self, indent: usize) -> String {
-        let n = self.header.len();
-        let mut width: Vec<usize> = self.header.iter().map(|h| h.chars().count()).collect();
-        for r in &self.rows {
-            for (i, c) in r.iter().take(n).enumerate() {
-                width[i] = width[i].max(c.chars().count());
+        let mut keep: Vec<usize> = (0..self.header.len()).collect();
+        let mut hidden: Vec<&str> = Vec::new();
+        let total = |w: &[usize]| indent + w.iter().sum::<usize>() + 2 * w.len().saturating_sub(1);
+        if !WIDE.load(Ordering::Relaxed) {
+            for name in &self.optional {
+                if total(&self.widths(&keep)) <= WIDTH {
+                    break;
+                }
+                if let Some(pos) = keep.iter().position(|&i| self.header[i] == *name) {
+                    keep.remove(pos);
+                    hidden.push(name);
+                }
             }
         }
+        let width = self.widths(&keep);
         let mut out = String::new();
         let line = |cells: &[String], out: &mut String| {
             out.push_str(&" ".repeat(indent));
-            for (i, w) in width.iter().enumerate() {
+            for (k, (&i, w)) in keep.iter().zip(&width).enumerate() {
                 let c = cells.get(i).map_or("", String::as_str);
                 let pad = w - c.chars().count();
-                if i == 0 {
+                if k == 0 {
                     out.push_str(c);
                     out.push_str(&" ".repeat(pad));
                 } else {
@@ -52,8 +107,30 @@ impl Table {
         for r in &self.rows {
             line(r, &mut out);
         }
+        if !hidden.is_empty() {
+            let note = format!("(hidden to fit {WIDTH} columns, shown by --wide: {})", hidden.join(", "));
+            out.push_str(&wrap(&note, indent));
+        }
         out
     }
+}
+
+/// `text` in lines of at most [`WIDTH`] characters, each indented by `indent`.
+pub fn wrap(text: &str, indent: usize) -> String {
+    let mut out = String::new();
+    let mut line = String::new();
+    for word in text.split(' ') {
+        if !line.is_empty() && indent + line.chars().count() + 1 + word.chars().count() > WIDTH {
+            out.push_str(&format!("{}{line}\n", " ".repeat(indent)));
+            line.clear();
+        }
+        if !line.is_empty() {
+            line.push(' ');
+        }
+        line.push_str(word);
+    }
+    out.push_str(&format!("{}{line}\n", " ".repeat(indent)));
+    out
 }
 
 /// A whole number (for load-metres and the like), or scientific when huge.
@@ -107,6 +184,21 @@ pub fn count(n: usize, thing: &str) -> String {
     }
 }
 
+/// The unit that reads best for a set of durations, so that a column (or a
+/// row) shares one unit: the largest magnitude decides.
+pub fn unit_for(seconds: impl IntoIterator<Item = f64>) -> (&'static str, f64) {
+    let largest = seconds.into_iter().filter(|x| x.is_finite()).map(f64::abs).fold(0.0, f64::max);
+    time_unit(largest)
+}
+
+/// A duration estimate in `unit` (from [`unit_for`]), e.g. `0.521 ± 0.010 h`.
+pub fn dur_in(e: &Estimate, unit: (&str, f64)) -> String {
+    if !e.mean.is_finite() {
+        return "-".to_string();
+    }
+    format!("{} {}", pm(e, 1.0 / unit.1), unit.0)
+}
+
 /// A duration estimate in a readable unit, e.g. `5.21 ± 0.10 h`.
 pub fn dur(e: &Estimate) -> String {
     if !e.mean.is_finite() {
@@ -151,4 +243,40 @@ pub fn speed(events: u64, wall_s: f64) -> String {
         "{events} events in {wall_s:.2} s ({:.1} million events/s)",
         events as f64 / wall_s.max(1e-9) / 1e6
     )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn a_column_of_durations_shares_the_unit_of_its_largest_value() {
+        let u = unit_for([300.0, 3.0 * 3600.0, f64::NAN]);
+        assert_eq!(u.0, "h");
+        let five_min = Estimate { mean: 300.0, half_width: Some(30.0), n: 5 };
+        assert_eq!(dur_in(&five_min, u), "0.083 ± 0.008 h");
+        assert_eq!(unit_for([30.0, 50.0]).0, "s");
+    }
+
+    #[test]
+    fn optional_columns_hide_only_while_the_table_is_too_wide() {
+        let mut t = Table::new(&["name", "wide one", "keep"]);
+        t.row(vec!["a".into(), "x".repeat(WIDTH), "1".into()]);
+        t.optional(&["wide one"]);
+        let out = t.render(2);
+        assert!(!out.contains(&"x".repeat(WIDTH)) && out.contains("shown by --wide: wide one"), "{out}");
+        assert!(out.lines().all(|l| l.chars().count() <= WIDTH), "{out}");
+        let mut narrow = Table::new(&["name", "wide one"]);
+        narrow.row(vec!["a".into(), "b".into()]);
+        narrow.optional(&["wide one"]);
+        assert!(narrow.render(2).contains("wide one") && !narrow.render(2).contains("--wide"));
+    }
+
+    #[test]
+    fn wrapped_notes_keep_every_word_within_the_width() {
+        let text = "word ".repeat(60);
+        let out = wrap(text.trim(), 2);
+        assert!(out.lines().all(|l| l.chars().count() <= WIDTH && l.starts_with("  ")));
+        assert_eq!(out.split_whitespace().count(), 60);
+    }
 }

@@ -1,9 +1,12 @@
-//! Loud warnings on stderr before a run: departments or fleets the static picture says cannot keep up.
+//! What a report says before its tables: loud warnings when the plant cannot keep up, and how the warm-up was chosen.
 
 use layflow_models::analysis::StaticPicture;
 use layflow_models::plant::Plant;
 
-use super::table::share;
+use layflow_models::study::warmup::WarmupChoice;
+use layflow_models::units::format_duration;
+
+use super::table::{share, verbose};
 
 /// Print a loud warning on stderr for every department predicted at or over capacity.
 pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
@@ -40,4 +43,24 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
             }
         }
     }
+}
+
+/// How the warm-up was chosen, in one line; with `--verbose`, the MSER-5 working too.
+pub fn warmup_line(w: &WarmupChoice) -> String {
+    let mut line = format!(
+        "warm-up {} chosen from pilot runs: statistics start once the plant's WIP has settled (decided by layout {})",
+        format_duration(w.warmup_s),
+        w.decided_by
+    );
+    if verbose() {
+        line.push_str(&format!(
+            "\n  {} on the WIP, averaged over {} pilot replications per layout in intervals of {}, at demand ×{}{}",
+            w.method,
+            w.pilot_replications,
+            format_duration(w.interval_s),
+            w.demand_factor,
+            if w.at_limit { "; it deleted the most it may (half the horizon)" } else { "" }
+        ));
+    }
+    line
 }

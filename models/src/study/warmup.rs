@@ -44,16 +44,6 @@ pub struct WarmupChoice {
 }
 
 impl WarmupChoice {
-    /// One line for a report's header.
-    pub fn describe(&self) -> String {
-        format!(
-            "warm-up {} chosen by MSER-5 on the WIP of {} pilot replications per layout (decided by layout {})",
-            format_duration(self.warmup_s),
-            self.pilot_replications,
-            self.decided_by
-        )
-    }
-
     /// The warning to give when the choice cannot be trusted.
     pub fn warning(&self) -> Option<String> {
         self.at_limit.then(|| {
