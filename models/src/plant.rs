@@ -417,13 +417,20 @@ pub enum DispatchRule {
     },
 }
 
-/// What a mover does when it has no request to serve.
+/// What a mover does after a delivery when no request is waiting, and, for
+/// [`IdleRule::AlwaysHome`], even when one is.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum IdleRule {
     /// Wait where it dropped its last load.
     Stay,
-    /// Drive empty back to its home; it takes no request until it arrives.
+    /// Take a waiting request straight from where it set its last load
+    /// down; only when none is waiting, drive empty back to its home. On the
+    /// way home it takes no request; it takes one when it gets there.
     GoHome,
+    /// After every delivery drive empty back to its home, even when requests
+    /// are waiting, and take no request until it gets there: every move
+    /// starts from home.
+    AlwaysHome,
     /// Drive empty to the nearest of the fleet's parking locations (equally
     /// near: the first listed); it takes no request until it arrives.
     Park,
@@ -474,7 +481,8 @@ pub struct DutyCalendar {
     pub on: Vec<(f64, f64)>,
 }
 
-/// Where a fleet's movers start and, with [`IdleRule::GoHome`], return.
+/// Where a fleet's movers start and, with [`IdleRule::GoHome`] or
+/// [`IdleRule::AlwaysHome`], return.
 #[derive(Debug, Clone, Copy, PartialEq, Eq)]
 pub enum Home {
     /// A fixed location, whatever the layout.

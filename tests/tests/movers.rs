@@ -16,8 +16,10 @@ use layflow_tests::{
 /// Half-widths allowed.
 const K: f64 = 3.0;
 /// Bias allowance relative to theory: the warm-up (50 h) is 18 relaxation
-/// times 1/(μ(1−√ρ)²) = 2.8 h of the mover (Morse, from memory) and the edge
-/// and ratio-estimator terms are O(W/T) ≈ 2e-5; 1e-3 bounds both.
+/// times 1/(μ(1−√ρ)²) = 2.8 h of the mover (Morse, from memory; 17 times the
+/// 2.96 h of the `always-home` plant, ρ = 0.733, τ = 220 s, and more for its
+/// `go-home` twin, busy 66%) and the edge and ratio-estimator terms are
+/// O(W/T) ≈ 2e-5; 1e-3 bounds both.
 const BIAS_REL: f64 = 1e-3;
 /// Largest tolerance allowed for waits and WIP, relative to theory.
 const POWER: f64 = 0.04;
@@ -131,6 +133,190 @@ fn single_mover_going_home_is_an_md1_server() {
 #[test]
 fn single_mover_staying_at_the_drop_off_is_an_md1_server() {
     mover_md1("validation/mover-md1-stay.yaml", true);
+}
+
+/// The plant of `validation/mover-always-home.yaml` and its twin
+/// `mover-go-home-away.yaml`: one mover, one move per lot (receiving →
+/// shipping, 12 lots/h), home at a truck bay away from both docks.
+struct HomeAway {
+    /// Requests per second.
+    lambda: f64,
+    /// Empty trips, s: bay → receiving, shipping → receiving, shipping → bay.
+    bay_recv: f64,
+    ship_recv: f64,
+    ship_bay: f64,
+    /// Load + loaded trip + unload, s.
+    carry: f64,
+    /// Load + unload, s.
+    handling: f64,
+    /// Loaded trip, s.
+    loaded: f64,
+}
+
+fn home_away(c: &mut Checks, plant: &Plant) -> HomeAway {
+    let fl = &plant.fleets()[0];
+    let loc = |id: &str| plant.locations.iter().position(|l| l.id == id).expect("location");
+    let (recv, ship, bay) = (loc("inbound-door"), loc("outbound-door"), loc("truck-bay"));
+    let e = |a: usize, b: usize| plant.distance(a, b) / fl.speed_empty;
+    let h = HomeAway {
+        lambda: 12.0 / HOUR,
+        bay_recv: e(bay, recv),
+        ship_recv: e(ship, recv),
+        ship_bay: e(ship, bay),
+        carry: fl.load_s + plant.distance(recv, ship) / fl.speed_loaded + fl.unload_s,
+        handling: fl.load_s + fl.unload_s,
+        loaded: plant.distance(recv, ship) / fl.speed_loaded,
+    };
+    // Rectilinear distances at 2.25 m/s empty, 1.5 m/s loaded (the YAML header).
+    c.relative("bay → receiving: 45 m empty = 20 s", 20.0, h.bay_recv, 1e-12);
+    c.relative("shipping → receiving: 90 m empty = 40 s", 40.0, h.ship_recv, 1e-12);
+    c.relative("shipping → bay: 135 m empty = 60 s", 60.0, h.ship_bay, 1e-12);
+    c.relative("load + 90 m loaded + unload = 45 + 60 + 35 s", 140.0, h.carry, 1e-12);
+    h
+}
+
+/// `when_idle: always-home`, home away from both docks: every request starts
+/// from home and ends with the drive back, so the mover is an M/D/1 server
+/// with τ = bay → receiving + carry + shipping → bay = 220 s
+/// (docs/formulas.md §21 and §15; Pollaczek–Khinchine, §2, Cooper 1981).
+#[test]
+fn always_home_with_home_off_the_docks_is_an_md1_server_holding_the_return_trip() {
+    let file = "validation/mover-always-home.yaml";
+    let plant = load(file);
+    let mut c = Checks::new(file);
+    let h = home_away(&mut c, &plant);
+    let tau = h.bay_recv + h.carry + h.ship_bay;
+    let th = pollaczek_khinchine(h.lambda, tau, 0.0);
+    c.relative("theory: ρ = 12/h × 220 s = 0.733333", 11.0 / 15.0, th.rho, 1e-12);
+    c.relative("theory: Wq = λτ²/(2(1−ρ)) = 302.5 s", 302.5, th.wq, 1e-12);
+    // The reported move wait runs to the mover's arrival at the pick-up:
+    // the wait to set off from home plus the drive from home.
+    let wait = th.wq + h.bay_recv;
+    let flow = wait + h.carry;
+
+    let run = run_layout(&plant, 0);
+    let s = &run.summary;
+    let f = &s.fleets[0];
+    let b = |x: f64| BIAS_REL * x;
+    c.estimate("mean move wait = Wq + 20 s = 322.5 s", wait, &f.move_wait_s, K, b(wait), POWER);
+    c.estimate("mean flow time = wait + 140 s = 462.5 s", flow, &plain(&s.flow_time_s), K, b(flow), POWER);
+    c.estimate("fleet utilisation = ρ", th.rho, &f.utilization, K, b(th.rho), POWER_TIGHT);
+    let shares = [
+        ("empty travel share = (20 + 60) s × λ", (h.bay_recv + h.ship_bay) * h.lambda, &f.empty_travel_share),
+        ("loaded travel share = 60 s × λ", h.loaded * h.lambda, &f.loaded_travel_share),
+        ("handling share = 80 s × λ", h.handling * h.lambda, &f.handling_share),
+    ];
+    for (what, want, est) in shares {
+        c.estimate(what, want, est, K, b(want), POWER_TIGHT);
+    }
+    check_little(&mut c, file, &run, little_edge_bound(&run));
+    c.finish();
+}
+
+/// Welch's mean wait in queue for an M/G/1 queue whose request opening a busy
+/// period needs S₀ and every other S (docs/formulas.md §20: Welch 1964, from memory):
+/// Wq = λE[S²]/(2(1−ρ)) + λ(E[S₀²] − E[S²])/(2(1 − ρ + λE[S₀])), ρ = λE[S].
+/// Also returns P₀ = (1−ρ)/(1 − ρ + λE[S₀]), the share of requests that open a
+/// busy period (they wait 0).
+fn welch(lambda: f64, s1: f64, s2: f64, s0_1: f64, s0_2: f64) -> (f64, f64) {
+    let rho = lambda * s1;
+    let wq = lambda * s2 / (2.0 * (1.0 - rho)) + lambda * (s0_2 - s2) / (2.0 * (1.0 - rho + lambda * s0_1));
+    (wq, (1.0 - rho) / (1.0 - rho + lambda * s0_1))
+}
+
+/// `when_idle: go-home`, home away from both docks: a request waiting at a
+/// delivery is taken straight from shipping (S = 40 + 140 = 180 s); with none
+/// waiting the mover drives home (T = 60 s) and takes no request on the way.
+/// Counting the system empty from that delivery, the next request arrives
+/// A ~ Exp(λ) later and needs S₀ = max(T − A, 0) + 20 + 140 s: Welch's
+/// M/G/1 with an exceptional first service (docs/formulas.md §20, §21).
+#[test]
+fn go_home_with_home_off_the_docks_is_welchs_exceptional_first_service() {
+    let file = "validation/mover-go-home-away.yaml";
+    let plant = load(file);
+    let mut c = Checks::new(file);
+    let h = home_away(&mut c, &plant);
+    let (lambda, t) = (h.lambda, h.ship_bay);
+    let s = h.ship_recv + h.carry;
+    let s_home = h.bay_recv + h.carry;
+    // X = max(T − A, 0), the rest of the drive home, for A ~ Exp(λ):
+    // E[X] = T − (1 − e^{−λT})/λ, E[X²] = T² − 2T/λ + 2(1 − e^{−λT})/λ².
+    let q = 1.0 - (-lambda * t).exp();
+    let ex = t - q / lambda;
+    let ex2 = t * t - 2.0 * t / lambda + 2.0 * q / (lambda * lambda);
+    c.relative("E[X] = 5.619226 s (YAML header)", 5.619226, ex, 1e-6);
+    c.relative("E[X²] = 228.4644 s² (YAML header)", 228.4644, ex2, 1e-6);
+    let (s0_1, s0_2) = (ex + s_home, ex2 + 2.0 * s_home * ex + s_home * s_home);
+    // The worked numbers of docs/formulas.md §20: λ = 36/h, S = 60 s, S₀ = 90 s.
+    c.relative(
+        "Welch, §20's worked numbers: Wq = 62.3077 s",
+        62.3077,
+        welch(0.01, 60.0, 3600.0, 90.0, 8100.0).0,
+        1e-6,
+    );
+    let (wq, p0) = welch(lambda, s, s * s, s0_1, s0_2);
+    c.relative("theory: Welch Wq = 135 − 8.356201 = 126.6438 s", 126.6438, wq, 1e-6);
+    c.relative("theory: P₀ = 0.4201398", 0.4201398, p0, 1e-6);
+    // Reported wait: to the mover at the pick-up. From shipping: Wq + 40 s;
+    // a request opening a busy period: the rest of the drive home + 20 s.
+    let wait = wq + (1.0 - p0) * h.ship_recv + p0 * (ex + h.bay_recv);
+    let flow = wait + h.carry;
+    c.relative("theory: move wait = 160.6019 s", 160.6019, wait, 1e-6);
+    // Busy: 180 s per request from shipping; the whole drive home (60 s) + 160 s
+    // per request opening a busy period.
+    let util = lambda * ((1.0 - p0) * s + p0 * (t + s_home));
+    let empty = lambda * ((1.0 - p0) * h.ship_recv + p0 * (t + h.bay_recv));
+    c.relative("theory: utilisation = 0.6560186", 0.6560186, util, 1e-6);
+
+    let run = run_layout(&plant, 0);
+    let sm = &run.summary;
+    let f = &sm.fleets[0];
+    let b = |x: f64| BIAS_REL * x;
+    c.estimate("mean move wait (Welch)", wait, &f.move_wait_s, K, b(wait), POWER);
+    c.estimate("mean flow time = wait + 140 s", flow, &plain(&sm.flow_time_s), K, b(flow), POWER);
+    c.estimate("fleet utilisation", util, &f.utilization, K, b(util), POWER_TIGHT);
+    c.estimate("empty travel share", empty, &f.empty_travel_share, K, b(empty), POWER_TIGHT);
+    c.estimate(
+        "loaded travel share = 60 s × λ",
+        h.loaded * lambda,
+        &f.loaded_travel_share,
+        K,
+        b(0.2),
+        POWER_TIGHT,
+    );
+    // The check has power: the nearest wrong models are outside the interval.
+    // A mover waiting at shipping would give Wq(P-K) + 40 = 175 s; one that took
+    // no work at the drop-off (always-home) 322.5 s; plain P-K with S = 180 s
+    // and the drive from shipping every time, likewise 175 s.
+    let stay = lambda * s * s / (2.0 * (1.0 - lambda * s)) + h.ship_recv;
+    c.holds(
+        "the stay model's 175 s is more than 3 half-widths away",
+        (f.move_wait_s.mean - stay).abs() > K * hw(&f.move_wait_s),
+    );
+    check_little(&mut c, file, &run, little_edge_bound(&run));
+    c.finish();
+}
+
+/// With home at the pick-up dock the two rules are one: the mover is home
+/// whenever it would take a request from the drop-off after driving there
+/// first, so `always-home` gives `go-home`'s replications number for number.
+#[test]
+fn with_home_at_the_pick_up_always_home_and_go_home_coincide() {
+    let file = "validation/mover-md1.yaml";
+    let path = layflow_tests::scenario_path(file);
+    let text = std::fs::read_to_string(&path).expect("read");
+    assert!(text.contains("when_idle: go-home"));
+    let always = text.replace("when_idle: go-home", "when_idle: always-home");
+    let a = layflow_models::parse_scenario(&always, &path).expect("always-home parses");
+    let g = load(file);
+    let mut c = Checks::new(file);
+    c.holds("always-home parsed", a.fleets()[0].idle == layflow_models::plant::IdleRule::AlwaysHome);
+    let (ra, rg) = (run_layout_reps(&a, 0, 4), run_layout_reps(&g, 0, 4));
+    let (fa, fg) = (&ra.summary.fleets[0], &rg.summary.fleets[0]);
+    c.exact("move wait, same to the bit", fg.move_wait_s.mean, fa.move_wait_s.mean, 0.0);
+    c.exact("utilisation, same to the bit", fg.utilization.mean, fa.utilization.mean, 0.0);
+    c.exact("empty share, same to the bit", fg.empty_travel_share.mean, fa.empty_travel_share.mean, 0.0);
+    c.finish();
 }
 
 /// Mover-seconds and metres of one replication are consistent with speed:

@@ -244,6 +244,7 @@ fn idle(f: &FleetSpec, fp: &FieldPath, ctx: &Ctx) -> Result<IdleRule, ScenarioEr
             .with_hint("set `when_idle: park`, or remove `parking`")),
         (None | Some(IdleSpec::Stay), None) => Ok(IdleRule::Stay),
         (Some(IdleSpec::GoHome), None) => Ok(IdleRule::GoHome),
+        (Some(IdleSpec::AlwaysHome), None) => Ok(IdleRule::AlwaysHome),
     }
 }
 

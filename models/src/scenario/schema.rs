@@ -508,6 +508,7 @@ pub(crate) enum DispatchSpec {
 pub(crate) enum IdleSpec {
     Stay,
     GoHome,
+    AlwaysHome,
     Park,
 }
 

@@ -384,7 +384,9 @@ impl PlantModel<'_> {
     }
 
     /// A mover has finished a delivery or reached where it was going: off
-    /// duty, serve a waiting request, take up the reserve, or follow the idle rule.
+    /// duty, drive home first (`always-home`), serve a waiting request, take
+    /// up the reserve, or follow the idle rule (`go-home` goes home only
+    /// here, when no request is waiting).
     pub(super) fn mover_free(&mut self, mover: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let f = self.movers[mover as usize].fleet as usize;
@@ -398,6 +400,11 @@ impl PlantModel<'_> {
         let plan = self.plan;
         let fl = &plan.fleets[f];
         let here = self.movers[mover as usize].location as usize;
+        if fl.idle == IdleRule::AlwaysHome && here != fl.home_location {
+            // Home before any request, waiting or not; `Event::Home` brings it back here.
+            self.reposition(mover, fl.home_location, cal, Event::Home { mover });
+            return;
+        }
         let taken = match fl.dispatch {
             DispatchRule::NearestRequest => self.take_nearest(f, here),
             _ => self.take_oldest(f),
