@@ -509,6 +509,9 @@ fn folders_of_other_studies_are_refused_and_force_replaces_them_whole() {
     }
     run(&["merge", s(&shards[0]), s(&shards[1]), "--out", s(&shards[0])]);
     same_outputs(&shards[0], &whole);
+    // And merging again into a folder that holds this plan's results (a merge script rerun).
+    run(&["merge", s(&shards[1]), s(&whole), "--out", s(&o)]);
+    same_outputs(&o, &whole);
 }
 
 #[test]

@@ -399,14 +399,17 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
             missing[0]
         )));
     }
-    // Merging into one of the shard folders replaces that shard's units with
-    // the whole plan's, which include them; any other folder holding results is refused.
+    // Merging into one of the shard folders, or again into a folder holding
+    // this plan's results (a rerun of a merge script), replaces units with
+    // the whole plan's, which include them; a folder holding anything else is refused.
     let same = |d: &PathBuf| {
         std::fs::canonicalize(d).ok().is_some_and(|d| std::fs::canonicalize(&args.out).ok() == Some(d))
     };
+    let this_plan = folder::journal_path(&args.out).is_file()
+        && folder::read(&args.out).is_ok_and(|c| c.header.same_plan(&header));
     let mode = if args.force {
         Mode::Force
-    } else if args.dirs.iter().any(same) {
+    } else if args.dirs.iter().any(same) || this_plan {
         Mode::Continue
     } else {
         Mode::Fresh
