@@ -214,3 +214,51 @@ fn layouts_from_a_layout_file_are_compared_too() {
         v["levels"][0]["layouts"].as_array().unwrap().iter().map(|l| l["layout"].as_str().unwrap()).collect();
     assert_eq!(names, ["baseline", "swapped", "mirrored"]);
 }
+
+/// The names in a folder, sorted.
+fn names_in(d: &std::path::Path) -> Vec<String> {
+    let mut v: Vec<String> = std::fs::read_dir(d)
+        .unwrap()
+        .map(|e| e.unwrap().file_name().to_string_lossy().into_owned())
+        .collect();
+    v.sort();
+    v
+}
+
+#[test]
+fn a_folder_holding_any_study_is_refused_and_force_replaces_only_our_files() {
+    let dir = tempfile::tempdir().unwrap();
+    // An experiment's files without a manifest (an older folder, or files a user put there).
+    let d = dir.path().join("old");
+    std::fs::create_dir(&d).unwrap();
+    std::fs::write(d.join("units.jsonl"), "{\"layflow_experiment\":1}\n").unwrap();
+    std::fs::write(d.join("results.csv"), "point,layout\n").unwrap();
+    std::fs::write(d.join("notes.txt"), "mine").unwrap();
+    let out = compare(&["--out", d.to_str().unwrap(), "--quiet"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("units.jsonl") && err.contains("results.csv") && err.contains("--force"), "{err}");
+    assert_eq!(names_in(&d), ["notes.txt", "results.csv", "units.jsonl"], "nothing was touched");
+
+    // A previous comparison (of any scenario) is refused too: a rerun replaces it only with --force.
+    let c = dir.path().join("cmp");
+    let out = compare(&["--out", c.to_str().unwrap(), "--quiet"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    std::fs::write(c.join("notes.txt"), "mine").unwrap();
+    let out = compare(&["--out", c.to_str().unwrap(), "--quiet", "--demand", "1.2"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("layflow compare --out") && err.contains("summary.json"), "{err}");
+    let out = compare(&["--out", c.to_str().unwrap(), "--quiet", "--demand", "1.2", "--force"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert!(std::fs::read_to_string(c.join("summary.csv")).unwrap().contains("\n1.2,"));
+
+    // --force on the experiment's folder: its study files go, the user's file stays, nothing is mixed.
+    let out = compare(&["--out", d.to_str().unwrap(), "--quiet", "--force"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert_eq!(
+        names_in(&d),
+        ["layflow-results.json", "notes.txt", "replications.csv", "summary.csv", "summary.json"]
+    );
+    assert_eq!(std::fs::read_to_string(d.join("notes.txt")).unwrap(), "mine");
+}

@@ -265,3 +265,39 @@ fn run_stops_on_an_aisle_deadlock_with_a_clear_message() {
     let err = text(&o.stderr);
     assert!(err.contains("west-trucks #1") && err.contains("segment 1 (mid - east)"), "{err}");
 }
+
+/// `-o` never overwrites a file silently, and `--results` refuses a folder
+/// whose files come from two studies (a comparison's beside an experiment's).
+#[test]
+fn draw_refuses_an_existing_file_and_a_mixed_results_folder() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = dir.path().join("kept.svg");
+    std::fs::write(&out, "mine").unwrap();
+    let o = layflow(&["draw", "scenarios/demo.yaml", "-o", out.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2), "{}", text(&o.stderr));
+    assert!(text(&o.stderr).contains("--force"), "{}", text(&o.stderr));
+    assert_eq!(std::fs::read_to_string(&out).unwrap(), "mine");
+    let o = layflow(&["draw", "scenarios/demo.yaml", "-o", out.to_str().unwrap(), "--force"]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    assert!(std::fs::read_to_string(&out).unwrap().starts_with("<svg"));
+
+    let mixed = dir.path().join("mixed");
+    std::fs::create_dir(&mixed).unwrap();
+    std::fs::write(mixed.join("summary.csv"), "demand_factor,layout,scope,subject,metric,mean\n").unwrap();
+    std::fs::write(mixed.join("results.csv"), "point,layout,replication,scope,subject,metric,value\n")
+        .unwrap();
+    let o = layflow(&[
+        "draw",
+        "scenarios/aisles-demo.yaml",
+        "--results",
+        mixed.to_str().unwrap(),
+        "-o",
+        dir.path().join("m.svg").to_str().unwrap(),
+    ]);
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("summary.csv") && err.contains("results.csv") && err.contains("two studies"),
+        "{err}"
+    );
+}

@@ -246,7 +246,12 @@ fn bad_plans_and_mixed_results_are_refused() {
     let out = layflow(&["merge", s(&a), s(&b), "--out", s(&t.path().join("m"))]);
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("different plans or scenario versions"), "{}", text(&out.stderr));
-    let out = layflow(&["experiment", s(&other), "--out", s(&a), "--resume", "--quiet"]);
+    // (`other` differs in its replications alone, which --resume may raise;
+    // a longer horizon is another version.)
+    let longer_dir = t.path().join("longer");
+    std::fs::create_dir(&longer_dir).unwrap();
+    let longer = plan(&longer_dir, 2, "3 d");
+    let out = layflow(&["experiment", s(&longer), "--out", s(&a), "--resume", "--quiet"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(text(&out.stderr).contains("another plan or scenario version"), "{}", text(&out.stderr));
 }
@@ -380,4 +385,156 @@ fn a_reader_that_stops_early_gets_no_backtrace() {
     let err = text(&out.stderr);
     assert!(!err.contains("panicked"), "{err}");
     assert!(matches!(out.status.code(), Some(0) | Some(141)), "{:?}", out.status);
+}
+
+/// The plan of [`plan`] with `edit` applied to its text, in its own folder under `dir`.
+fn edited(dir: &Path, name: &str, reps: u32, edit: impl Fn(String) -> String) -> PathBuf {
+    let d = dir.join(name);
+    std::fs::create_dir_all(&d).unwrap();
+    let p = plan(&d, reps, "2 d");
+    std::fs::write(&p, edit(std::fs::read_to_string(&p).unwrap())).unwrap();
+    p
+}
+
+#[test]
+fn raising_replications_on_resume_runs_only_the_new_units_and_matches_a_fresh_run() {
+    let t = tempfile::tempdir().unwrap();
+    let small = edited(t.path(), "small", 2, |s| s);
+    let big = edited(t.path(), "big", 3, |s| s);
+    let grown = t.path().join("grown");
+    run(&["experiment", s(&small), "--out", s(&grown), "--quiet"]);
+    let out = run(&["experiment", s(&big), "--out", s(&grown), "--resume", "--quiet"]);
+    let err = text(&out.stderr);
+    // 4 design points: 8 units kept, the 4 third replications run.
+    assert!(err.contains("8 done, 4 to run") && err.contains("not 2"), "{err}");
+    let fresh = t.path().join("fresh");
+    let f = run(&["experiment", s(&big), "--out", s(&fresh), "--quiet"]);
+    same_outputs(&grown, &fresh);
+    assert_eq!(out.stdout, f.stdout, "the same table");
+    assert_eq!(run(&["summarize", s(&grown)]).stdout, f.stdout);
+    // Lowering them is refused, and says so.
+    let out = layflow(&["experiment", s(&small), "--out", s(&grown), "--resume", "--quiet"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("replications (3 there, 2 now)") && err.contains("only be raised"), "{err}");
+}
+
+/// A change to a plan's text.
+type Edit = fn(String) -> String;
+
+#[test]
+fn a_refused_resume_names_the_setting_that_changed() {
+    let t = tempfile::tempdir().unwrap();
+    let base = edited(t.path(), "base", 2, |s| s);
+    let d = t.path().join("d");
+    run(&["experiment", s(&base), "--out", s(&d), "--quiet"]);
+    let cases: [(&str, Edit, &str); 4] = [
+        ("seed", |s| s.replace("seed: 11", "seed: 12"), "seed (11 there, 12 now)"),
+        ("horizon", |s| s.replace("horizon: 2 d", "horizon: 3 d"), "horizon (172800 s there, 259200 s now)"),
+        ("warmup", |s| s.replace("warmup: 1 d", "warmup: 12 h"), "warm-up (86400 s there, 43200 s now)"),
+        (
+            "levels",
+            |s| s.replace("count: [1, 2]", "count: [1, 3]"),
+            "levels of factor `fleets.forklifts.count` (1, 2 there, 1, 3 now)",
+        ),
+    ];
+    for (name, edit, needle) in cases {
+        let p = edited(t.path(), name, 2, edit);
+        let out = layflow(&["experiment", s(&p), "--out", s(&d), "--resume", "--quiet"]);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{name}: {err}");
+        assert!(err.contains("another plan or scenario version") && err.contains(needle), "{name}: {err}");
+    }
+    // The scenario's content: a copy of the demo whose own seed is then edited.
+    let sc = t.path().join("scenario.yaml");
+    let demo = std::fs::read_to_string(root().join("scenarios/demo.yaml")).unwrap();
+    std::fs::write(&sc, &demo).unwrap();
+    let on_copy = |name: &str| {
+        edited(t.path(), name, 2, |s| {
+            let first = s.lines().next().unwrap().to_string();
+            s.replace(&first, &format!("scenario: {}", sc.display()))
+        })
+    };
+    let p = on_copy("copy");
+    let e = t.path().join("e");
+    run(&["experiment", s(&p), "--out", s(&e), "--quiet"]);
+    std::fs::write(&sc, demo.replace("seed: 20261201", "seed: 20261202")).unwrap();
+    let out = layflow(&["experiment", s(&p), "--out", s(&e), "--resume", "--quiet"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("the scenario file's content"), "{err}");
+}
+
+#[test]
+fn folders_of_other_studies_are_refused_and_force_replaces_them_whole() {
+    let t = tempfile::tempdir().unwrap();
+    let p = plan(t.path(), 2, "2 d");
+    // A comparison's files without a manifest.
+    let d = t.path().join("d");
+    std::fs::create_dir(&d).unwrap();
+    std::fs::write(d.join("replications.csv"), "demand_factor,layout\n").unwrap();
+    std::fs::write(d.join("keep.txt"), "mine").unwrap();
+    for extra in [&[][..], &["--resume"][..]] {
+        let mut args = vec!["experiment", s(&p), "--out", s(&d), "--quiet"];
+        args.extend_from_slice(extra);
+        let out = layflow(&args);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{extra:?}: {err}");
+        assert!(err.contains("replications.csv") && err.contains("--force"), "{err}");
+    }
+    let out = run(&["experiment", s(&p), "--out", s(&d), "--quiet", "--force"]);
+    assert!(text(&out.stderr).contains("deleted replications.csv"), "{}", text(&out.stderr));
+    assert!(!d.join("replications.csv").exists() && d.join("keep.txt").exists());
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&p), "--out", s(&whole), "--quiet"]);
+    same_outputs(&d, &whole);
+    // A finished run of the same plan is replaced only with --force.
+    run(&["experiment", s(&p), "--out", s(&d), "--quiet", "--force"]);
+    same_outputs(&d, &whole);
+
+    // merge --out into a folder holding another experiment: refused, then replaced with --force.
+    let other = edited(t.path(), "other", 2, |s| s.replace("seed: 11", "seed: 5"));
+    let o = t.path().join("o");
+    run(&["experiment", s(&other), "--out", s(&o), "--quiet"]);
+    let out = layflow(&["merge", s(&whole), "--out", s(&o)]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("units.jsonl") && err.contains("--force"), "{err}");
+    run(&["merge", s(&whole), "--out", s(&o), "--force"]);
+    same_outputs(&o, &whole);
+    // Merging into one of the shard folders themselves is allowed.
+    let shards: Vec<PathBuf> = (1..=2).map(|k| t.path().join(format!("s{k}"))).collect();
+    for (k, d) in shards.iter().enumerate() {
+        run(&["experiment", s(&p), "--shard", &format!("{}/2", k + 1), "--out", s(d), "--quiet"]);
+    }
+    run(&["merge", s(&shards[0]), s(&shards[1]), "--out", s(&shards[0])]);
+    same_outputs(&shards[0], &whole);
+    // And merging again into a folder that holds this plan's results (a merge script rerun).
+    run(&["merge", s(&shards[1]), s(&whole), "--out", s(&o)]);
+    same_outputs(&o, &whole);
+}
+
+#[test]
+fn summarize_refuses_a_folder_mixing_two_studies() {
+    let t = tempfile::tempdir().unwrap();
+    let a = t.path().join("a");
+    run(&["experiment", s(&plan(t.path(), 2, "2 d")), "--out", s(&a), "--quiet"]);
+    let b = t.path().join("b");
+    let other = edited(t.path(), "other", 2, |s| s.replace("seed: 11", "seed: 5"));
+    run(&["experiment", s(&other), "--out", s(&b), "--quiet"]);
+    // Another experiment's summary.csv beside a's units.
+    let mixed = t.path().join("mixed");
+    std::fs::create_dir(&mixed).unwrap();
+    std::fs::copy(a.join("units.jsonl"), mixed.join("units.jsonl")).unwrap();
+    std::fs::copy(b.join("summary.csv"), mixed.join("summary.csv")).unwrap();
+    let out = layflow(&["summarize", s(&mixed)]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("summary.csv") && err.contains("units.jsonl"), "{err}");
+    // A comparison's file beside an experiment's manifest.
+    std::fs::write(a.join("replications.csv"), "demand_factor,layout\n").unwrap();
+    let out = layflow(&["summarize", s(&a)]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("replications.csv") && err.contains("layflow-results.json"), "{err}");
 }

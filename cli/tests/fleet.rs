@@ -57,6 +57,10 @@ fn draws_the_picture_as_svg() {
     let p = dir.path().join("sizes.svg");
     let out = fleet(&["--sizes", "2,3", "--target", "utilization <= 85%", "--plot", p.to_str().unwrap()]);
     assert!(out.status.success(), "{}", text(&out.stderr));
+    // A second run does not overwrite the picture without --force (refused before anything runs).
+    let again = fleet(&["--sizes", "2,3", "--plot", p.to_str().unwrap()]);
+    assert_eq!(again.status.code(), Some(2), "{}", text(&again.stderr));
+    assert!(text(&again.stderr).contains("already exists"), "{}", text(&again.stderr));
     let svg = std::fs::read_to_string(&p).unwrap();
     assert!(
         svg.starts_with("<svg")

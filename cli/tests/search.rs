@@ -96,6 +96,18 @@ fn the_picture_has_a_line_per_method() {
     let s = std::fs::read_to_string(&svg).unwrap();
     assert!(s.starts_with("<svg") && s.contains("robust tabu search") && s.contains("pairwise exchange"));
     assert!(!s.contains("simulated annealing"), "only the methods run are drawn");
+    // Neither the picture nor a layout file is overwritten without --force.
+    let yaml = dir.path().join("found.yaml");
+    std::fs::write(&yaml, "mine").unwrap();
+    for args in [vec!["--plot", svg.to_str().unwrap()], vec!["--out", yaml.to_str().unwrap()]] {
+        let out = search(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {}", text(&out.stderr));
+        assert!(text(&out.stderr).contains("already exists"), "{}", text(&out.stderr));
+    }
+    assert_eq!(std::fs::read_to_string(&yaml).unwrap(), "mine");
+    let out = search(&["--method", "exchange", "--plot", svg.to_str().unwrap(), "--force"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    assert!(!std::fs::read_to_string(&svg).unwrap().contains("robust tabu search"), "replaced");
 }
 
 #[test]

@@ -46,6 +46,11 @@ pub struct CompareArgs {
     /// and summary.json into this directory (created if missing).
     #[arg(long, value_name = "DIR")]
     pub out: Option<PathBuf>,
+    /// With --out: replace the results the folder holds (its summary.json, summary.csv,
+    /// replications.csv, units.jsonl, results.csv and manifest; nothing else). Without it,
+    /// a folder holding any study's results is refused.
+    #[arg(long, requires = "out")]
+    pub force: bool,
     #[command(flatten)]
     pub sim: SimOptions,
 }
@@ -144,7 +149,11 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     }
     let selection = args.select.settings(&metric_list[ranked_on], args.sim.replications)?;
     if let Some(dir) = &args.out {
-        results::prepare(dir, results::Kind::Compare)?;
+        let mode = if args.force { results::Mode::Force } else { results::Mode::Fresh };
+        let held = results::prepare(dir, results::Kind::Compare, mode)?;
+        if args.force && !held.is_empty() && !settings.quiet {
+            eprintln!("--force: deleted {} from {}", held.names(), dir.display());
+        }
     }
 
     let started = Instant::now();

@@ -30,10 +30,14 @@ pub struct DrawArgs {
     /// The SVG file to write.
     #[arg(short = 'o', long = "out", value_name = "FILE.svg")]
     pub out: PathBuf,
+    /// Replace the -o file if it exists (without it, an existing file is refused, never overwritten).
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// Draw `args.layout` of `args.scenario` to `args.out`.
 pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
+    layflow_models::results::folder::check_new_file(&args.out, "-o", args.force)?;
     let plant = load(&args.scenario)?;
     let layout = match &args.layout {
         None => 0,

@@ -10,8 +10,9 @@ use rayon::prelude::*;
 use layflow_models::experiment::journal::{self, Contents, Writer};
 use layflow_models::experiment::results;
 use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
+use layflow_models::results::check::one_study;
 use layflow_models::results::experiment as folder;
-use layflow_models::results::{prepare, write_atomic, Kind};
+use layflow_models::results::{prepare, write_atomic, Kind, Mode};
 use layflow_models::sim::{simulate, Plan};
 use layflow_models::study::replication_deadlock;
 use layflow_models::study::Progress as _;
@@ -38,8 +39,15 @@ pub struct ExperimentArgs {
     #[arg(long, value_name = "DIR")]
     pub out: PathBuf,
     /// Continue a run that stopped: keep the units already in DIR, run the rest.
+    /// Also continues a finished run whose plan now asks for more replications
+    /// (and nothing else changed): only the new units run.
     #[arg(long)]
     pub resume: bool,
+    /// Replace what DIR holds: delete its study files (units.jsonl, results.csv,
+    /// summary.csv, summary.json, replications.csv and the manifest; nothing
+    /// else) and run afresh.
+    #[arg(long, conflicts_with = "resume")]
+    pub force: bool,
     /// Run only shard K of N (units are dealt round-robin); combine the shards with `layflow merge`.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
@@ -57,9 +65,14 @@ pub struct MergeArgs {
     /// Output folders of the shards (each holding units.jsonl).
     #[arg(required = true, num_args = 1..)]
     pub dirs: Vec<PathBuf>,
-    /// Folder for the merged results (created if missing).
+    /// Folder for the merged results (created if missing; one of the shard
+    /// folders itself is allowed).
     #[arg(long, value_name = "DIR")]
     pub out: PathBuf,
+    /// Replace another study's results in the --out folder: delete its study
+    /// files (and nothing else), then write the merge.
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// Output formats of `summarize`.
@@ -108,10 +121,29 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         None => Shard::ALL,
         Some(s) => Shard::parse(s).map_err(Failure::input)?,
     };
-    prepare(&args.out, Kind::Experiment)?;
+    let mode = if args.force {
+        Mode::Force
+    } else if args.resume {
+        Mode::Continue
+    } else {
+        Mode::Fresh
+    };
+    let held = prepare(&args.out, Kind::Experiment, mode)?;
+    if args.force && !held.is_empty() {
+        eprintln!("--force: deleted {} from {}", held.names(), args.out.display());
+    }
     let header = Header::new(&plan, shard);
     let path = folder::journal_path(&args.out);
-    let (writer, done) = open_journal(&path, &header, args)?;
+    if args.resume && !path.exists() && !held.is_empty() {
+        return Err(Failure::input(format!(
+            "--out {}: holds {} but no {}, so there is no run to resume; add --force (instead of --resume) to \
+             replace those files, or choose another folder",
+            args.out.display(),
+            held.names(),
+            journal::FILE
+        )));
+    }
+    let (writer, done) = open_journal(&path, &header, &plan, args)?;
     let pool = pool(args.threads)?;
     let mine: Vec<u64> = (0..plan.units()).filter(|&u| shard.owns(u)).collect();
     let mut is_done = vec![false; plan.units() as usize];
@@ -234,7 +266,14 @@ fn point_counts(plan: &Experiment, mine: &[u64], is_done: &[bool]) -> Vec<std::s
 }
 
 /// Open (or create) the results file; returns the units already done.
-fn open_journal(path: &Path, header: &Header, args: &ExperimentArgs) -> Result<(Writer, Vec<Unit>), Failure> {
+/// A finished or stopped run whose plan now has more replications (and
+/// nothing else changed) is renumbered to the larger plan first.
+fn open_journal(
+    path: &Path,
+    header: &Header,
+    plan: &Experiment,
+    args: &ExperimentArgs,
+) -> Result<(Writer, Vec<Unit>), Failure> {
     let fail = |e: std::io::Error| Failure::run(format!("cannot write {}: {e}", path.display()));
     if !path.exists() {
         if args.resume {
@@ -244,21 +283,13 @@ fn open_journal(path: &Path, header: &Header, args: &ExperimentArgs) -> Result<(
     }
     if !args.resume {
         return Err(Failure::input(format!(
-            "{} already holds results ({}); add --resume to finish that run, or choose another --out",
+            "{} already holds results ({}); add --resume to finish that run, --force to replace it, or choose \
+             another --out",
             args.out.display(),
             journal::FILE
         )));
     }
     let c = read_journal(&args.out)?;
-    if !c.header.same_plan(header) {
-        return Err(Failure::input(format!(
-            "{}: these results are of another plan or scenario version (hash {} here, {} now); results of \
-             different versions cannot be mixed: choose another --out, or move the old results away",
-            path.display(),
-            &c.header.hash[..16],
-            &header.hash[..16]
-        )));
-    }
     if c.header.shard != header.shard {
         return Err(Failure::input(format!(
             "{} holds shard {} of this plan, not {}; give the same --shard to resume it",
@@ -267,8 +298,64 @@ fn open_journal(path: &Path, header: &Header, args: &ExperimentArgs) -> Result<(
             header.shard
         )));
     }
-    let w = Writer::append(path, c.intact_bytes).map_err(fail)?;
-    Ok((w, c.units))
+    if c.header.same_plan(header) {
+        let w = Writer::append(path, c.intact_bytes).map_err(fail)?;
+        return Ok((w, c.units));
+    }
+    if c.header.fewer_replications_of(plan) {
+        if header.shard != Shard::ALL {
+            return Err(Failure::input(format!(
+                "{}: the plan now has {} replications, not {}; a shard's units are renumbered when replications \
+                 grow, so raise them on the whole run: `layflow merge` the shards into one folder, then run \
+                 `layflow experiment PLAN --out THAT_FOLDER --resume` without --shard",
+                path.display(),
+                header.replications,
+                c.header.replications
+            )));
+        }
+        // The derived files describe the smaller plan; they go first, so a
+        // crash from here on leaves a folder that simply resumes.
+        for f in ["results.csv", "summary.csv", "summary.json"] {
+            let p = args.out.join(f);
+            if p.is_file() {
+                std::fs::remove_file(&p)
+                    .map_err(|e| Failure::run(format!("cannot delete {}: {e}", p.display())))?;
+            }
+        }
+        let units = results::canonical(c.header.rekeyed(header, c.units)).map_err(Failure::input)?;
+        write_atomic(&args.out, journal::FILE, &results::units_jsonl(header, &units))?;
+        eprintln!(
+            "note: the plan now has {} replications per design point, not {}: keeping the {} units done, \
+             running only the new ones",
+            header.replications,
+            c.header.replications,
+            units.len()
+        );
+        let len = std::fs::metadata(path).map_err(fail)?.len();
+        let w = Writer::append(path, len).map_err(fail)?;
+        return Ok((w, units));
+    }
+    let changes = c.header.differences(header);
+    let what = if changes.is_empty() {
+        format!(
+            "the plan or scenario content (hash {} there, {} now)",
+            &c.header.hash[..16],
+            &header.hash[..16]
+        )
+    } else {
+        changes.join("; ")
+    };
+    let hint = if c.header.replications > header.replications && changes.len() == 1 {
+        " (replications may only be raised on --resume)"
+    } else {
+        ""
+    };
+    Err(Failure::input(format!(
+        "{}: these results are of another plan or scenario version: changed: {what}{hint}. Results of different \
+         versions cannot be mixed: undo the change, choose another --out, or add --force (instead of --resume) \
+         to replace them",
+        path.display()
+    )))
 }
 
 /// Run `layflow merge`.
@@ -312,7 +399,22 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
             missing[0]
         )));
     }
-    prepare(&args.out, Kind::Experiment)?;
+    // Merging into one of the shard folders, or again into a folder holding
+    // this plan's results (a rerun of a merge script), replaces units with
+    // the whole plan's, which include them; a folder holding anything else is refused.
+    let same = |d: &PathBuf| {
+        std::fs::canonicalize(d).ok().is_some_and(|d| std::fs::canonicalize(&args.out).ok() == Some(d))
+    };
+    let this_plan = folder::journal_path(&args.out).is_file()
+        && folder::read(&args.out).is_ok_and(|c| c.header.same_plan(&header));
+    let mode = if args.force {
+        Mode::Force
+    } else if args.dirs.iter().any(same) || this_plan {
+        Mode::Continue
+    } else {
+        Mode::Fresh
+    };
+    prepare(&args.out, Kind::Experiment, mode)?;
     folder::write(&args.out, &header, &units)?;
     let summary = results::summarize(&header, &units).map_err(Failure::run)?;
     print!("{}", render(&summary, header.units));
@@ -322,6 +424,7 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
 
 /// Run `layflow summarize`.
 pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
+    one_study(&args.dir)?;
     let c = read_journal(&args.dir)?;
     let units = results::canonical(c.units).map_err(Failure::input)?;
     let summary = results::summarize(&c.header, &units).map_err(Failure::input)?;

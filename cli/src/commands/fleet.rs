@@ -47,6 +47,9 @@ pub struct FleetArgs {
     /// Draw wait and utilisation against fleet size, with the target lines, into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
+    /// Replace the --plot file if it exists (without it, an existing file is refused, never overwritten).
+    #[arg(long)]
+    pub force: bool,
     /// Output format.
     #[arg(long, value_enum, default_value_t = FleetFormat::Table)]
     pub format: FleetFormat,
@@ -97,6 +100,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
                 p.display()
             )));
         }
+        layflow_models::results::folder::check_new_file(p, "--plot", args.force)?;
     }
     let pic = StaticPicture::new(&plant, factor);
     warn_overload(&plant, &pic);

@@ -84,6 +84,9 @@ pub struct SearchArgs {
     /// Draw the best-so-far cost over time for each method to this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
+    /// Replace the --out and --plot files if it exists (without it, an existing file is refused, never overwritten).
+    #[arg(long)]
+    pub force: bool,
     /// Output format on stdout (the --validate comparison is a table).
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -205,7 +208,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
     // Check where results go before searching, so a typo costs a second, not the search.
     for (flag, file, ext) in [("--out", &args.out, "yaml"), ("--plot", &args.plot, "svg")] {
         if let Some(f) = file {
-            check_target(f, flag, ext)?;
+            check_target(f, flag, ext, args.force)?;
         }
     }
     let plant = load(path)?;
@@ -280,7 +283,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
 }
 
 /// A file we are about to write: its folder exists and its name ends in `.ext`.
-fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
+fn check_target(file: &Path, flag: &str, ext: &str, force: bool) -> Result<(), Failure> {
     let fits =
         |e: &std::ffi::OsStr| e.eq_ignore_ascii_case(ext) || (ext == "yaml" && e.eq_ignore_ascii_case("yml"));
     if !file.extension().is_some_and(fits) {
@@ -294,7 +297,7 @@ fn check_target(file: &Path, flag: &str, ext: &str) -> Result<(), Failure> {
             dir.display()
         )));
     }
-    Ok(())
+    Ok(layflow_models::results::folder::check_new_file(file, flag, force)?)
 }
 
 /// The folder a file goes in (`.` for a bare name).
@@ -363,6 +366,7 @@ fn validate(
         select: args.select.clone(),
         format: CompareFormat::Table,
         out: None,
+        force: false,
         sim: args.sim.clone(),
     };
     compare_plant(&plant, &compare)
@@ -384,7 +388,7 @@ fn search_qaplib(
         ))
     })?;
     if let Some(f) = &args.plot {
-        check_target(f, "--plot", "svg")?;
+        check_target(f, "--plot", "svg", args.force)?;
     }
     let sln_path = file.with_extension("sln");
     let solution: Option<Solution> =

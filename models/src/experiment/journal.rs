@@ -84,6 +84,27 @@ pub struct Header {
     pub points: Vec<Vec<String>>,
     /// Metric labels (`flow_time_s`, `pump-housing/flow_time_s`, …), with scope and subject.
     pub metrics: Vec<MetricName>,
+    /// The settings behind the hash, so a refused resume can say which one
+    /// changed (absent in files written before they were recorded).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub settings: Option<Settings>,
+}
+
+/// What decides the results besides the factors, recorded to explain a changed hash.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct Settings {
+    /// The layflow version that ran the units.
+    pub layflow_version: String,
+    /// The plan's base seed.
+    pub seed: u64,
+    /// Whether replication r of every design point sees the same random numbers.
+    pub common_random_numbers: bool,
+    /// Simulated horizon of design point 1, seconds.
+    pub horizon_s: f64,
+    /// Warm-up of design point 1, seconds.
+    pub warmup_s: f64,
+    /// SHA-256 of the scenario file's text.
+    pub scenario_sha256: String,
 }
 
 /// A metric's identity in the file.
@@ -116,6 +137,14 @@ impl Header {
                     name: m.name.into(),
                 })
                 .collect(),
+            settings: Some(Settings {
+                layflow_version: env!("CARGO_PKG_VERSION").to_string(),
+                seed: exp.seed,
+                common_random_numbers: exp.common_random_numbers,
+                horizon_s: exp.setups[0].spec.horizon_s,
+                warmup_s: exp.setups[0].spec.warmup_s,
+                scenario_sha256: exp.scenario_sha256.clone(),
+            }),
         }
     }
 
@@ -124,9 +153,101 @@ impl Header {
         unit_of(u, self.replications)
     }
 
-    /// The same plan, whatever the shard.
+    /// The same plan, whatever the shard. The recorded settings only explain
+    /// a difference (the hash covers them), so an edit that leaves every
+    /// compiled plant alone, such as a comment in the scenario, changes nothing.
     pub fn same_plan(&self, other: &Header) -> bool {
-        Header { shard: Shard::ALL, ..self.clone() } == Header { shard: Shard::ALL, ..other.clone() }
+        Header { shard: Shard::ALL, settings: None, ..self.clone() }
+            == Header { shard: Shard::ALL, settings: None, ..other.clone() }
+    }
+
+    /// Whether `self` (a folder's header) is `exp`'s plan with fewer
+    /// replications and nothing else changed: its hash is the one `exp`
+    /// would have with that count, and factors, points and metrics agree.
+    /// Such a folder can be continued to `exp`'s size (see [`Header::rekeyed`]).
+    pub fn fewer_replications_of(&self, exp: &Experiment) -> bool {
+        let now = Header::new(exp, self.shard);
+        self.replications < now.replications
+            && exp.content_hash(self.replications) == self.hash
+            && Header {
+                replications: now.replications,
+                units: now.units,
+                hash: now.hash.clone(),
+                ..self.clone()
+            }
+            .same_plan(&now)
+    }
+
+    /// The settings that differ between `self` (a folder's header) and
+    /// `now`, in words (`seed (11 there, 12 now)`); empty when none that
+    /// the header records differs (then something else the hash covers did).
+    pub fn differences(&self, now: &Header) -> Vec<String> {
+        let mut out = Vec::new();
+        let differ = |out: &mut Vec<String>, what: &str, there: String, here: String| {
+            if there != here {
+                out.push(format!("{what} ({there} there, {here} now)"));
+            }
+        };
+        if let (Some(a), Some(b)) = (&self.settings, &now.settings) {
+            differ(&mut out, "layflow version", a.layflow_version.clone(), b.layflow_version.clone());
+            differ(&mut out, "seed", a.seed.to_string(), b.seed.to_string());
+            differ(
+                &mut out,
+                "common_random_numbers",
+                a.common_random_numbers.to_string(),
+                b.common_random_numbers.to_string(),
+            );
+            differ(&mut out, "horizon", format!("{} s", a.horizon_s), format!("{} s", b.horizon_s));
+            differ(&mut out, "warm-up", format!("{} s", a.warmup_s), format!("{} s", b.warmup_s));
+            if a.scenario_sha256 != b.scenario_sha256 {
+                out.push("the scenario file's content (it was edited since)".to_string());
+            }
+        }
+        differ(&mut out, "replications", self.replications.to_string(), now.replications.to_string());
+        if self.factors != now.factors {
+            differ(&mut out, "factors", self.factors.join(", "), now.factors.join(", "));
+        } else {
+            for (i, f) in self.factors.iter().enumerate() {
+                let levels = |h: &Header| {
+                    let mut seen: Vec<String> = Vec::new();
+                    for p in &h.points {
+                        if let Some(l) = p.get(i) {
+                            if !seen.contains(l) {
+                                seen.push(l.clone());
+                            }
+                        }
+                    }
+                    seen.join(", ")
+                };
+                differ(&mut out, &format!("the levels of factor `{f}`"), levels(self), levels(now));
+            }
+            if out.is_empty() && self.points != now.points {
+                out.push(format!(
+                    "the design points ({} there, {} now)",
+                    self.points.len(),
+                    now.points.len()
+                ));
+            }
+        }
+        if self.metrics != now.metrics {
+            out.push("the scenario's products, departments or fleets (the metrics differ)".to_string());
+        }
+        out
+    }
+
+    /// `units` (done under `self`) renumbered for the same plan with
+    /// `now.replications` per point: replication r of point p becomes unit
+    /// p × replications + r, as a run planned that size from the start numbers it.
+    pub fn rekeyed(&self, now: &Header, units: Vec<Unit>) -> Vec<Unit> {
+        let plan = now.hash[..16].to_string();
+        units
+            .into_iter()
+            .map(|u| Unit {
+                unit: u.point as u64 * u64::from(now.replications) + u.replication,
+                plan: plan.clone(),
+                ..u
+            })
+            .collect()
     }
 }
 

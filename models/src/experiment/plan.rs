@@ -89,6 +89,8 @@ pub struct Experiment {
     pub file: PathBuf,
     /// The scenario file, resolved against the plan's folder.
     pub scenario: PathBuf,
+    /// SHA-256 of the scenario file's text, hex: tells "the scenario changed" apart from other changes.
+    pub scenario_sha256: String,
     /// Replications of every design point.
     pub replications: u32,
     /// Base seed of every stream.
@@ -131,6 +133,24 @@ impl Experiment {
     /// (design point, replication) of unit `u`: replications of a point are consecutive.
     pub fn unit(&self, u: u64) -> (usize, u64) {
         unit_of(u, self.replications)
+    }
+
+    /// The content hash this plan would have with `replications` per design
+    /// point: everything that decides the results (plan settings, every
+    /// design point's compiled plant, the layflow version), hex. With the
+    /// plan's own count it is [`Experiment::hash`]; with another it tells
+    /// whether a folder differs from this plan in its replications alone.
+    pub fn content_hash(&self, replications: u32) -> String {
+        let mut h = Sha256::new();
+        h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
+        h.update(format!("{:?}\n{}\n{}\n", replications, self.seed, self.common_random_numbers));
+        for (s, f) in self.factors.iter().enumerate() {
+            h.update(format!("factor {s} {:?}\n", f));
+        }
+        for (p, s) in self.points.iter().zip(&self.setups) {
+            h.update(format!("{:?}\n{:?}\n{:?}\n", p.levels, s.spec, s.plant));
+        }
+        h.finalize().iter().map(|b| format!("{b:02x}")).collect()
     }
 }
 
@@ -359,27 +379,22 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
             ));
         }
     }
-    let mut h = Sha256::new();
-    h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
-    h.update(format!("{:?}\n{seed}\n{}\n", spec.replications, spec.common_random_numbers));
-    for (s, f) in factors.iter().enumerate() {
-        h.update(format!("factor {s} {:?}\n", f));
-    }
-    for (p, s) in points.iter().zip(&setups) {
-        h.update(format!("{:?}\n{:?}\n{:?}\n", p.levels, s.spec, s.plant));
-    }
-    let hash = h.finalize().iter().map(|b| format!("{b:02x}")).collect();
-    Ok(Experiment {
+    let scenario_sha256 =
+        Sha256::digest(scenario_text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
+    let mut exp = Experiment {
         file: file.to_path_buf(),
         scenario,
+        scenario_sha256,
         replications: spec.replications,
         seed,
         common_random_numbers: spec.common_random_numbers,
         factors,
         points,
         setups,
-        hash,
-    })
+        hash: String::new(),
+    };
+    exp.hash = exp.content_hash(spec.replications);
+    Ok(exp)
 }
 
 /// SplitMix64 of (seed, point): independent streams per design point when

@@ -64,25 +64,215 @@ impl std::fmt::Display for ResultsError {
 
 impl std::error::Error for ResultsError {}
 
+/// Every file name a study writes into a folder (besides the manifest):
+/// the only files `--force` ever deletes.
+pub const STUDY_FILES: &[&str] =
+    &["summary.json", "summary.csv", "replications.csv", "units.jsonl", "results.csv"];
+
+/// What a folder holds of ours: its manifest, and each study file present
+/// with the kind of study its content shows (`None` where it cannot tell).
+#[derive(Debug, Clone, Default)]
+pub struct Holding {
+    /// The manifest, if there is one.
+    pub manifest: Option<Manifest>,
+    /// Study files present, in [`STUDY_FILES`] order, each with the kind that wrote it.
+    pub files: Vec<(String, Option<Kind>)>,
+}
+
+impl Holding {
+    /// Nothing of ours: neither a manifest nor a study file.
+    pub fn is_empty(&self) -> bool {
+        self.manifest.is_none() && self.files.is_empty()
+    }
+
+    /// The kind of study the folder holds: the manifest's, else the files'
+    /// (`None` when empty, mixed, or the files do not say).
+    pub fn kind(&self) -> Option<Kind> {
+        if let Some(m) = &self.manifest {
+            return Some(m.kind);
+        }
+        let mut kinds = self.files.iter().filter_map(|(_, k)| *k);
+        let first = kinds.next()?;
+        kinds.all(|k| k == first).then_some(first)
+    }
+
+    /// The study files present, for messages: `summary.json, summary.csv`.
+    pub fn names(&self) -> String {
+        let mut v: Vec<&str> = self.files.iter().map(|(f, _)| f.as_str()).collect();
+        if self.manifest.is_some() {
+            v.push(MANIFEST);
+        }
+        v.join(", ")
+    }
+
+    /// Why the folder's files cannot all come from one study: files of two
+    /// kinds, or files of another kind than the manifest says. `None` when consistent.
+    pub fn mixed(&self, dir: &Path) -> Option<String> {
+        let of = |k: Kind| -> Vec<&str> {
+            self.files.iter().filter(|(_, f)| *f == Some(k)).map(|(n, _)| n.as_str()).collect()
+        };
+        let (c, e) = (of(Kind::Compare), of(Kind::Experiment));
+        if let Some(m) = &self.manifest {
+            let other = if m.kind == Kind::Compare { &e } else { &c };
+            if !other.is_empty() {
+                return Some(format!(
+                    "{}: {MANIFEST} says the folder holds results of `{}`, but {} {} from {}",
+                    dir.display(),
+                    m.kind.command(),
+                    other.join(", "),
+                    if other.len() == 1 { "comes" } else { "come" },
+                    if m.kind == Kind::Compare {
+                        "an experiment"
+                    } else {
+                        "a comparison (`layflow compare --out`)"
+                    }
+                ));
+            }
+        } else if !c.is_empty() && !e.is_empty() {
+            return Some(format!(
+                "{}: the files come from two studies: {} from a comparison (`layflow compare --out`), {} from an \
+                 experiment",
+                dir.display(),
+                c.join(", "),
+                e.join(", ")
+            ));
+        }
+        None
+    }
+}
+
+/// Which kind of study wrote `name` in `dir`, from its name or its first
+/// line (`summary.csv` and `summary.json` are written by both).
+fn kind_of_file(dir: &Path, name: &str) -> Option<Kind> {
+    match name {
+        "units.jsonl" | "results.csv" => Some(Kind::Experiment),
+        "replications.csv" => Some(Kind::Compare),
+        "summary.csv" => {
+            let text = std::fs::read_to_string(dir.join(name)).ok()?;
+            match text.lines().next()?.split(',').next()? {
+                "point" => Some(Kind::Experiment),
+                "demand_factor" => Some(Kind::Compare),
+                _ => None,
+            }
+        }
+        "summary.json" => {
+            let text = std::fs::read_to_string(dir.join(name)).ok()?;
+            let v: serde_json::Value = serde_json::from_str(&text).ok()?;
+            let o = v.as_object()?;
+            if o.contains_key("plan_hash") {
+                Some(Kind::Experiment)
+            } else if o.contains_key("baseline") {
+                Some(Kind::Compare)
+            } else {
+                None
+            }
+        }
+        _ => None,
+    }
+}
+
+/// What `dir` holds of ours (nothing if it does not exist).
+pub fn survey(dir: &Path) -> Result<Holding, ResultsError> {
+    if !dir.is_dir() {
+        return Ok(Holding::default());
+    }
+    let manifest = read_manifest(dir)?;
+    let files = STUDY_FILES
+        .iter()
+        .filter(|f| dir.join(f).is_file())
+        .map(|f| (f.to_string(), kind_of_file(dir, f)))
+        .collect();
+    Ok(Holding { manifest, files })
+}
+
+/// How a command may use a folder that already holds results.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum Mode {
+    /// Only an empty folder, or one holding nothing of ours (the default).
+    Fresh,
+    /// `--force`: delete the study files there (and only those), then write afresh.
+    Force,
+    /// `experiment --resume` (or a merge into one of its own inputs): a
+    /// folder of the same kind is continued; one of another kind is refused.
+    Continue,
+}
+
 /// Create `dir` (and parents) if missing, before any simulation runs, so a
 /// bad path fails in a second rather than after an hour; refuse a folder
-/// that holds another kind of study's results.
-pub fn prepare(dir: &Path, kind: Kind) -> Result<(), ResultsError> {
+/// that holds another study's results (by its manifest, or without one by
+/// the files a study writes), unless `mode` is [`Mode::Force`], which
+/// deletes them first. Returns what the folder held.
+pub fn prepare(dir: &Path, kind: Kind, mode: Mode) -> Result<Holding, ResultsError> {
     std::fs::create_dir_all(dir).map_err(|e| {
         ResultsError::Input(format!("--out {}: cannot create the directory: {e}", dir.display()))
     })?;
     if !dir.is_dir() {
         return Err(ResultsError::Input(format!("--out {}: not a directory", dir.display())));
     }
-    if let Some(m) = read_manifest(dir)? {
-        if m.kind != kind {
-            return Err(ResultsError::Input(format!(
-                "--out {}: the folder holds results of `{}`; write these to another folder so neither is mixed \
-                 with the other",
-                dir.display(),
-                m.kind.command()
-            )));
-        }
+    let held = survey(dir)?;
+    if held.is_empty() {
+        return Ok(held);
+    }
+    if mode == Mode::Force {
+        clear(dir, &held)?;
+        return Ok(held);
+    }
+    let how = "choose another folder, or add --force to replace them (it deletes only these files)";
+    if let Some(why) = held.mixed(dir) {
+        return Err(ResultsError::Input(format!("--out {why}; {how}")));
+    }
+    let what = match held.kind() {
+        Some(k) => format!("results of `{}`", k.command()),
+        None => "a study's results".to_string(),
+    };
+    let same = held.kind() == Some(kind);
+    if mode == Mode::Continue && same {
+        return Ok(held);
+    }
+    let mut msg =
+        format!("--out {}: the folder already holds {what} ({}); {how}", dir.display(), held.names());
+    if !same {
+        msg.push_str("; two studies are never mixed in one folder");
+    }
+    if same && kind == Kind::Experiment {
+        msg.push_str(
+            "; an experiment that stopped continues with `layflow experiment PLAN --out DIR --resume`",
+        );
+    }
+    Err(ResultsError::Input(msg))
+}
+
+/// Refuse to overwrite `file` (given with `flag`) unless `force`: a picture
+/// or layout file a user kept is not silently replaced by the next run.
+/// Called before any simulation or search runs.
+pub fn check_new_file(file: &Path, flag: &str, force: bool) -> Result<(), ResultsError> {
+    if file.is_dir() {
+        return Err(ResultsError::Input(format!("{flag} {}: a folder, not a file name", file.display())));
+    }
+    if file.exists() && !force {
+        return Err(ResultsError::Input(format!(
+            "{flag} {}: the file already exists; add --force to replace it, or name another file",
+            file.display()
+        )));
+    }
+    Ok(())
+}
+
+/// Delete the study files and the manifest `held` found in `dir`, nothing else.
+pub fn clear(dir: &Path, held: &Holding) -> Result<(), ResultsError> {
+    let mut names: Vec<&str> = held.files.iter().map(|(f, _)| f.as_str()).collect();
+    if held.manifest.is_some() {
+        names.push(MANIFEST);
+    }
+    for name in names {
+        let path = dir.join(name);
+        std::fs::remove_file(&path).or_else(|e| {
+            if e.kind() == std::io::ErrorKind::NotFound {
+                Ok(())
+            } else {
+                Err(ResultsError::Write(format!("--force: cannot delete {}: {e}", path.display())))
+            }
+        })?;
     }
     Ok(())
 }

@@ -2,11 +2,14 @@
 //!
 //! `folder.rs` creates a folder, writes each file atomically and labels the
 //! folder with a manifest; `compare.rs` and `experiment.rs` write each
-//! study's files; `segments.rs` reads per-segment figures back for drawing.
+//! study's files; `check.rs` refuses a folder mixing two studies; `segments.rs` reads per-segment figures back for drawing.
 
+pub mod check;
 pub mod compare;
 pub mod experiment;
 pub mod folder;
 pub mod segments;
 
-pub use folder::{prepare, read_manifest, write_atomic, Kind, Manifest, ResultsError, MANIFEST};
+pub use folder::{
+    prepare, read_manifest, survey, write_atomic, Holding, Kind, Manifest, Mode, ResultsError, MANIFEST,
+};

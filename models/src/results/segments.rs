@@ -5,6 +5,7 @@ use std::path::Path;
 use crate::metrics::registry::{def_of, Id};
 use crate::plant::Plant;
 
+use super::check::one_study;
 use super::folder::{read_manifest, Kind, ResultsError};
 
 /// Per-segment figures of a simulation, read from a results folder.
@@ -37,6 +38,7 @@ pub fn read_segments(
     plant: &Plant,
     layout: usize,
 ) -> Result<Option<SegmentFigures>, ResultsError> {
+    one_study(dir).map_err(|e| ResultsError::Input(format!("--results {e}")))?;
     let Some(net) = plant.aisles.as_ref() else {
         return Ok(None);
     };
