@@ -62,13 +62,45 @@ fn short(x: f64) -> String {
     }
 }
 
+/// `n` of a rate per hour with its noun, singular at exactly 1: "1 load/h", "2.5 loads/h".
+fn per_h(v: f64, one: &str, many: &str) -> String {
+    let s = short(v);
+    if s == "1" {
+        format!("1 {one}/h")
+    } else {
+        format!("{s} {many}/h")
+    }
+}
+
+/// A conservative average advance of a bold sans-serif letter, in em: DejaVu
+/// Sans Bold, the widest of the listed fonts, averages about 0.63 em over
+/// lower-case letters and 0.72 em over capitals (from memory of its metrics,
+/// rounded up for mixed names with hyphens and digits).
+const BOLD_EM: f64 = 0.68;
+/// Smallest and largest department label, px.
+const LABEL_MIN_PX: f64 = 9.0;
+const LABEL_MAX_PX: f64 = 15.0;
+
+/// Where a department's name goes and how big: inside its box when it fits
+/// there at [`LABEL_MIN_PX`] or more, else below the box at a readable size.
+/// Returns (font size px, placement).
+fn label_fit(name: &str, box_px: f64) -> (f64, &'static str) {
+    let letters = name.chars().count().max(1) as f64;
+    let fitting = box_px / (BOLD_EM * letters);
+    if fitting >= LABEL_MIN_PX {
+        (fitting.min(LABEL_MAX_PX), "inside")
+    } else {
+        (11.0, "below")
+    }
+}
+
 /// A text element with a white halo, so it stays readable over lines.
 fn label(x: f64, y: f64, size: f64, content: &str) -> Text {
     Text::new(content)
         .set("x", x)
         .set("y", y)
         .set("font-size", size)
-        .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+        .set("font-family", super::plot::FONT_FAMILY)
         .set("text-anchor", "middle")
         .set("stroke", "white")
         .set("stroke-width", size * 0.28)
@@ -147,7 +179,7 @@ pub fn picture(
                 .set("y", 30)
                 .set("font-size", 20)
                 .set("font-weight", "bold")
-                .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+                .set("font-family", super::plot::FONT_FAMILY)
                 .set("fill", rgb(SLATE))
                 .set("class", "title"),
         )
@@ -162,7 +194,7 @@ pub fn picture(
             .set("x", MARGIN)
             .set("y", 52)
             .set("font-size", 13)
-            .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+            .set("font-family", super::plot::FONT_FAMILY)
             .set("fill", rgb(SLATE)),
         );
 
@@ -207,7 +239,11 @@ fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Segm
         let (bx, by) = (frame.px(b.x, b.y).0, frame.px(b.x, b.y).1);
         let share = if max > 0.0 { colour_by[i] / max } else { 0.0 };
         let simulated = sim.map_or(String::new(), |s| {
-            format!("; simulated {} movers/h, {} mover-s/h held up", short(s.traffic[i]), short(s.delay[i]))
+            format!(
+                "; simulated {}, {} mover-s/h held up",
+                per_h(s.traffic[i], "mover", "movers"),
+                short(s.delay[i])
+            )
         });
         let mut seg = Group::new()
             .set("class", "aisle")
@@ -222,11 +258,11 @@ fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Segm
         }
         seg = seg
             .add(Title::new(format!(
-                "aisle {} – {}: {} m, {} loads/h{}{}{}{simulated}",
+                "aisle {} – {}: {} m, {}{}{}{}{simulated}",
                 a.id,
                 b.id,
                 short(s.length_m),
-                short(traffic[i]),
+                per_h(traffic[i], "load", "loads"),
                 if s.one_way { ", one-way" } else { "" },
                 s.capacity.map_or(String::new(), |c| format!(", capacity {c}")),
                 s.speed_limit_mps.map_or(String::new(), |v| format!(", limit {:.0} km/h", v * 3.6)),
@@ -419,7 +455,7 @@ fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: 
                 .set("data-from", from.clone())
                 .set("data-to", to.clone())
                 .set("data-loads-per-h", format!("{f:.6}"))
-                .add(Title::new(format!("{from} → {to}: {} loads/h", short(f))))
+                .add(Title::new(format!("{from} → {to}: {}", per_h(f, "load", "loads"))))
                 .add(
                     SvgPath::new()
                         .set("d", d)
@@ -457,13 +493,19 @@ fn names(plant: &Plant, layout: usize, frame: &Frame, half_px: f64) -> Group {
         match holder[l] {
             Some(d) => {
                 let name = &plant.departments[d].id;
-                // Fit the name in about the box's width (DejaVu Sans is about 0.6 em a letter).
-                let size = (2.1 * half_px / (0.62 * name.chars().count() as f64)).clamp(9.0, 15.0);
-                // A dock's box is narrow: its name goes above it.
-                let y = if plant.departments[d].role == DepartmentRole::Work {
-                    y
+                // The box is 2 × half_px wide; keep a small margin on each side.
+                let box_px = 2.0 * half_px * 0.92;
+                let (size, placement) = if plant.departments[d].role == DepartmentRole::Work {
+                    label_fit(name, box_px)
                 } else {
-                    y - half_px * 0.9 - 20.0
+                    // A dock's box is narrow: its name goes above it.
+                    let letters = name.chars().count().max(1) as f64;
+                    ((2.1 * half_px / (0.62 * letters)).clamp(LABEL_MIN_PX, LABEL_MAX_PX), "above")
+                };
+                let y = match placement {
+                    "inside" => y,
+                    "below" => y + half_px + size + 4.0,
+                    _ => y - half_px * 0.9 - 20.0,
                 };
                 g = g
                     .add(
@@ -471,7 +513,9 @@ fn names(plant: &Plant, layout: usize, frame: &Frame, half_px: f64) -> Group {
                             .set("font-weight", "bold")
                             .set("fill", rgb(SLATE))
                             .set("class", "department-label")
-                            .set("data-department", name.clone()),
+                            .set("data-department", name.clone())
+                            .set("data-placement", placement)
+                            .set("data-box-px", format!("{box_px:.1}")),
                     )
                     .add(
                         label(x, y + size * 0.1 + 13.0, 10.0, &loc.id)
@@ -510,7 +554,7 @@ fn legend_text(x: f64, y: f64, size: f64, content: &str) -> Text {
         .set("x", x)
         .set("y", y)
         .set("font-size", size)
-        .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+        .set("font-family", super::plot::FONT_FAMILY)
         .set("fill", rgb(SLATE))
 }
 
@@ -548,7 +592,7 @@ fn legend(
                     .set("stroke-linecap", "round")
                     .set("class", "legend-flow"),
             )
-            .add(legend_text(x + 74.0, y + 4.0, 12.0, &format!("{} loads/h", short(v))));
+            .add(legend_text(x + 74.0, y + 4.0, 12.0, &per_h(v, "load", "loads")));
         y += 24.0;
     }
     if let (Some(tmax), Some(net)) = (traffic_max, net) {
