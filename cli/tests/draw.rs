@@ -347,3 +347,27 @@ fn run_stops_on_an_aisle_deadlock_with_a_clear_message() {
     let err = text(&o.stderr);
     assert!(err.contains("west-trucks #1") && err.contains("segment 1 (mid - east)"), "{err}");
 }
+
+/// Issue 14: `--flows aisle` draws each flow along the aisles it uses (the
+/// network's shortest path: a polyline through the aisle nodes) instead of a
+/// curve; the default stays the curve, and a plant without aisles is refused.
+#[test]
+fn flows_can_be_drawn_along_the_aisles_they_use() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = draw("scenarios/aisles-demo.yaml", "current", dir.path(), &["--flows", "aisle"]);
+    let svg = std::fs::read_to_string(&out).unwrap();
+    let flows: Vec<&str> = svg.split("<g class=\"flow\"").skip(1).collect();
+    assert!(flows.len() >= 10, "{} flows", flows.len());
+    for f in &flows {
+        assert!(f.contains("data-route=\"aisle\""), "{}", &f[..f.len().min(300)]);
+        // Location → its node → … → location: straight legs, at least two.
+        let d = f.split(" d=\"").nth(1).and_then(|d| d.split('"').next()).unwrap();
+        assert!(d.matches('L').count() >= 2 && !d.contains('Q'), "{d}");
+    }
+    let curves = draw("scenarios/aisles-demo.yaml", "proposed", dir.path(), &[]);
+    assert!(std::fs::read_to_string(curves).unwrap().contains("data-route=\"curve\""));
+    let o = layflow(&["draw", "scenarios/demo.yaml", "--flows", "aisle", "-o", "/dev/null"]);
+    assert_eq!(o.status.code(), Some(2), "{}", text(&o.stderr));
+    assert!(text(&o.stderr).contains("no aisle network"), "{}", text(&o.stderr));
+    render_png_if_possible(&out);
+}

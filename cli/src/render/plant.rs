@@ -133,14 +133,25 @@ fn typical_spacing(plant: &Plant) -> f64 {
     nn[nn.len() / 2]
 }
 
-/// The whole picture.
-/// The whole picture: plant, aisles, flows, names and legend.
+/// How flows are drawn.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum FlowStyle {
+    /// A curve from department to department, bent to the right of its direction.
+    Curve,
+    /// Along the aisles the flow uses (the network's shortest path), kept to
+    /// the right of its direction so the two directions stay apart.
+    Aisle,
+}
+
+/// The whole picture: plant, aisles, flows, names and legend. `style` is
+/// [`FlowStyle::Aisle`] only when the plant has an aisle network.
 pub fn picture(
     plant: &Plant,
     layout: usize,
     pic: &StaticPicture,
     scenario: &Path,
     sim: Option<&SegmentFigures>,
+    style: FlowStyle,
 ) -> Document {
     let lay = &plant.layouts[layout];
     let net = plant.aisles.as_ref();
@@ -217,7 +228,7 @@ pub fn picture(
         doc = doc.add(g);
     }
     let flow_max = pic.from_to.iter().copied().fold(0.0, f64::max);
-    doc = doc.add(flows(plant, layout, pic, &frame, flow_max));
+    doc = doc.add(flows(plant, layout, pic, &frame, flow_max, net.filter(|_| style == FlowStyle::Aisle)));
     doc = doc.add(names(plant, layout, &frame, half * scale));
     let legend_x = MARGIN + (x1 - x0) * scale + MARGIN;
     doc.add(legend(legend_x, TOP, flow_max, net.map(|_| traffic_max), scale, net, sim))
@@ -413,7 +424,51 @@ fn locations(plant: &Plant, layout: usize, frame: &Frame, half_px: f64, net: Opt
 }
 
 /// Flow curves, widest first so the thin ones stay visible on top.
-fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: f64) -> Group {
+/// The flow from location `a` to `b` along the aisles, in pixels: the
+/// location, its node, the shortest path's nodes, the far node and the far
+/// location; each leg shifted `shift` px to the right of its direction.
+fn aisle_route(
+    net: &AisleNetwork,
+    plant: &Plant,
+    frame: &Frame,
+    a: usize,
+    b: usize,
+    shift: f64,
+) -> Vec<(f64, f64)> {
+    let mut pts = vec![frame.px(plant.locations[a].x, plant.locations[a].y)];
+    for n in net.path_nodes(a, b) {
+        pts.push(frame.px(net.nodes[n].x, net.nodes[n].y));
+    }
+    pts.push(frame.px(plant.locations[b].x, plant.locations[b].y));
+    pts.dedup_by(|p, q| (p.0 - q.0).hypot(p.1 - q.1) < 1e-6);
+    // Each point moves by the mean of the right-hand normals of its legs.
+    let normal = |p: (f64, f64), q: (f64, f64)| {
+        let len = (q.0 - p.0).hypot(q.1 - p.1).max(1e-9);
+        (-(q.1 - p.1) / len, (q.0 - p.0) / len)
+    };
+    let n = pts.len();
+    (0..n)
+        .map(|i| {
+            let before = (i > 0).then(|| normal(pts[i - 1], pts[i]));
+            let after = (i + 1 < n).then(|| normal(pts[i], pts[i + 1]));
+            let (nx, ny) = match (before, after) {
+                (Some(u), Some(v)) => ((u.0 + v.0) / 2.0, (u.1 + v.1) / 2.0),
+                (Some(u), None) | (None, Some(u)) => u,
+                (None, None) => (0.0, 0.0),
+            };
+            (pts[i].0 + nx * shift, pts[i].1 + ny * shift)
+        })
+        .collect()
+}
+
+fn flows(
+    plant: &Plant,
+    layout: usize,
+    pic: &StaticPicture,
+    frame: &Frame,
+    max: f64,
+    along: Option<&AisleNetwork>,
+) -> Group {
     let lay = &plant.layouts[layout];
     let nd = plant.departments.len();
     let mut list: Vec<(usize, usize, f64)> = Vec::new();
@@ -435,13 +490,33 @@ fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: 
         let w = flow_width(f, max);
         let len = (bx - ax).hypot(by - ay).max(1e-9);
         // Bend to the right of the direction of travel (screen coordinates).
-        let (nx, ny) = (-(by - ay) / len, (bx - ax) / len);
+        let (mut nx, mut ny) = (-(by - ay) / len, (bx - ax) / len);
         let bow = 0.16 * len + 6.0;
         let (cx, cy) = ((ax + bx) / 2.0 + nx * bow, (ay + by) / 2.0 + ny * bow);
-        let d = Data::new().move_to((ax, ay)).quadratic_curve_to((cx, cy, bx, by));
+        let mut d = Data::new().move_to((ax, ay)).quadratic_curve_to((cx, cy, bx, by));
         // The curve's midpoint and direction there (a quadratic Bézier at t = ½).
-        let (mx, my) = (0.25 * ax + 0.5 * cx + 0.25 * bx, 0.25 * ay + 0.5 * cy + 0.25 * by);
-        let (tx, ty) = ((bx - ax) / len, (by - ay) / len);
+        let (mut mx, mut my) = (0.25 * ax + 0.5 * cx + 0.25 * bx, 0.25 * ay + 0.5 * cy + 0.25 * by);
+        let (mut tx, mut ty) = ((bx - ax) / len, (by - ay) / len);
+        if let Some(net) = along {
+            // Along the aisles: a polyline, its arrow on the middle of its longest leg.
+            let route = aisle_route(net, plant, frame, lay.location_of[i], lay.location_of[j], w / 2.0 + 1.5);
+            d = Data::new().move_to(route[0]);
+            for &p in &route[1..] {
+                d = d.line_to(p);
+            }
+            let longest = route
+                .windows(2)
+                .max_by(|p, q| {
+                    let l = |w: &[(f64, f64)]| (w[1].0 - w[0].0).hypot(w[1].1 - w[0].1);
+                    l(p).total_cmp(&l(q))
+                })
+                .map_or([(ax, ay), (bx, by)], |w| [w[0], w[1]]);
+            let [p, q] = longest;
+            let l = (q.0 - p.0).hypot(q.1 - p.1).max(1e-9);
+            (mx, my) = ((p.0 + q.0) / 2.0, (p.1 + q.1) / 2.0);
+            (tx, ty) = ((q.0 - p.0) / l, (q.1 - p.1) / l);
+            (nx, ny) = (-ty, tx);
+        }
         let k = 4.0 + 0.7 * w;
         let arrow = Data::new()
             .move_to((mx + tx * k, my + ty * k))
@@ -455,6 +530,7 @@ fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: 
                 .set("data-from", from.clone())
                 .set("data-to", to.clone())
                 .set("data-loads-per-h", format!("{f:.6}"))
+                .set("data-route", if along.is_some() { "aisle" } else { "curve" })
                 .add(Title::new(format!("{from} → {to}: {}", per_h(f, "load", "loads"))))
                 .add(
                     SvgPath::new()
