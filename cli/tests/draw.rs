@@ -107,10 +107,16 @@ fn the_aisle_demo_draws_with_every_part_and_flows_ordered_by_width() {
             assert!((w - want).abs() < 1e-2, "flow {f}: width {w}, expected {want}");
         }
     }
+    fonts_are_listed(&svg_path);
     render_png_if_possible(&svg_path);
 }
 
-/// A PNG render proves the file is well-formed enough for a real renderer;
+/// A PNG render proves the file is well-formed enough for a real renderer,
+/// and, rendered again without its `<text>` elements, that the text was
+/// drawn: resvg maps plain `sans-serif` to Arial, absent on most Linux
+/// machines, so the picture must name fonts that are there (DejaVu Sans,
+/// Liberation Sans, Noto Sans). No `--sans-serif-family` is passed: a user
+/// running plain `resvg plant.svg plant.png` gets the text too.
 /// resvg is optional, so without it the check is skipped with a notice.
 fn render_png_if_possible(svg_path: &Path) {
     let on_path = std::env::var_os("PATH")
@@ -127,16 +133,92 @@ fn render_png_if_possible(svg_path: &Path) {
         );
         return;
     };
-    let png = svg_path.with_extension("png");
-    let o = std::process::Command::new(resvg)
-        .args(["--sans-serif-family", "DejaVu Sans"])
-        .arg(svg_path)
-        .arg(&png)
-        .output()
-        .expect("resvg runs");
-    assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
-    let bytes = std::fs::read(&png).expect("the PNG was written");
+    let render = |svg: &Path| {
+        let png = svg.with_extension("png");
+        let o = std::process::Command::new(&resvg).arg(svg).arg(&png).output().expect("resvg runs");
+        assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
+        std::fs::read(&png).expect("the PNG was written")
+    };
+    let bytes = render(svg_path);
     assert!(bytes.starts_with(b"\x89PNG") && bytes.len() > 10_000, "PNG of {} bytes", bytes.len());
+    let svg = std::fs::read_to_string(svg_path).expect("the picture reads");
+    let mut bare = String::new();
+    let mut rest = svg.as_str();
+    while let Some(i) = rest.find("<text") {
+        bare.push_str(&rest[..i]);
+        let end = rest[i..].find("</text>").expect("closed text") + i + "</text>".len();
+        rest = &rest[end..];
+    }
+    bare.push_str(rest);
+    let bare_path = svg_path.with_file_name("without-text.svg");
+    std::fs::write(&bare_path, bare).expect("written");
+    assert_ne!(bytes, render(&bare_path), "resvg drew no text: no font of the list was found");
+}
+
+/// Every text of the picture names the open-font list (issue 14).
+fn fonts_are_listed(svg_path: &Path) {
+    let svg = std::fs::read_to_string(svg_path).expect("the picture reads");
+    for t in svg.split("<text").skip(1) {
+        assert!(
+            t.contains("font-family=\"DejaVu Sans, Liberation Sans, Noto Sans, sans-serif\""),
+            "a text without the font list: {}",
+            &t[..t.len().min(200)]
+        );
+    }
+}
+
+/// Issue 14: department names overflowed their boxes (the size was clamped
+/// at 9 px whatever the name's length), and a flow of one load an hour read
+/// "1 loads/h". A name now fits inside its box at 9 px or more, measured at
+/// a conservative 0.68 em a letter (DejaVu Sans Bold), or goes below it; a
+/// rate of one is singular. The rules check has flows of exactly 1 load/h
+/// (cut → press, press → paint; see the scenario's comment).
+#[test]
+fn labels_fit_their_boxes_or_go_below_and_one_load_is_singular() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let scenario = std::fs::read_to_string(root().join("scenarios/validation/search-rules.yaml")).unwrap();
+    let long = dir.path().join("long-names.yaml");
+    std::fs::write(&long, scenario.replace("press", "pressing-and-forming-line")).unwrap();
+    let out = draw(long.to_str().unwrap(), "current", dir.path(), &[]);
+    let svg = std::fs::read_to_string(&out).unwrap();
+    assert!(svg.contains("cut → pressing-and-forming-line: 1 load/h"), "{svg}");
+    assert!(!svg.contains(" 1 loads/h"));
+    let mut placements = HashMap::new();
+    let mut content = String::new();
+    let mut pending: Option<(String, String, f64, f64)> = None;
+    for event in svg::open(&out, &mut content).expect("the picture parses as SVG") {
+        match event {
+            Event::Tag("text", _, attrs)
+                if attrs.get("class").is_some_and(|c| **c == *"department-label") =>
+            {
+                pending = Some((
+                    attrs["data-department"].to_string(),
+                    attrs["data-placement"].to_string(),
+                    attrs["font-size"].parse().unwrap(),
+                    attrs["data-box-px"].parse().unwrap(),
+                ));
+            }
+            Event::Text(t) => {
+                if let Some((name, placement, size, box_px)) = pending.take() {
+                    assert_eq!(t.trim(), name);
+                    if placement == "inside" {
+                        let width = 0.68 * size * name.chars().count() as f64;
+                        assert!(
+                            size >= 9.0 && width <= box_px + 1e-9,
+                            "{name}: {width} px in a {box_px} px box"
+                        );
+                    }
+                    placements.insert(name, placement);
+                }
+            }
+            _ => {}
+        }
+    }
+    assert_eq!(placements["pressing-and-forming-line"], "below", "{placements:?}");
+    assert_eq!(placements["cut"], "inside", "{placements:?}");
+    assert_eq!(placements["in"], "above", "a dock's name goes above its box: {placements:?}");
+    fonts_are_listed(&out);
+    render_png_if_possible(&out);
 }
 
 #[test]
@@ -300,4 +382,29 @@ fn draw_refuses_an_existing_file_and_a_mixed_results_folder() {
         err.contains("summary.csv") && err.contains("results.csv") && err.contains("two studies"),
         "{err}"
     );
+}
+
+/// Issue 14: `--flows aisle` draws each flow along the aisles it uses (the
+/// network's shortest path: a polyline through the aisle nodes) instead of a
+/// curve; the default stays the curve, and a plant without aisles is refused.
+#[test]
+fn flows_can_be_drawn_along_the_aisles_they_use() {
+    let dir = tempfile::tempdir().expect("temp dir");
+    let out = draw("scenarios/aisles-demo.yaml", "current", dir.path(), &["--flows", "aisle"]);
+    let svg = std::fs::read_to_string(&out).unwrap();
+    let flows: Vec<&str> = svg.split("<g class=\"flow\"").skip(1).collect();
+    assert!(flows.len() >= 10, "{} flows", flows.len());
+    for f in &flows {
+        assert!(f.contains("data-route=\"aisle\""), "{}", &f[..f.len().min(300)]);
+        // Location → its node → … → location: straight legs, at least two.
+        let d = f.split(" d=\"").nth(1).and_then(|d| d.split('"').next()).unwrap();
+        assert!(d.matches('L').count() >= 2 && !d.contains('Q'), "{d}");
+    }
+    let curves = draw("scenarios/aisles-demo.yaml", "proposed", dir.path(), &[]);
+    assert!(std::fs::read_to_string(curves).unwrap().contains("data-route=\"curve\""));
+    let nowhere = dir.path().join("no-aisles.svg");
+    let o = layflow(&["draw", "scenarios/demo.yaml", "--flows", "aisle", "-o", nowhere.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(2), "{}", text(&o.stderr));
+    assert!(text(&o.stderr).contains("no aisle network"), "{}", text(&o.stderr));
+    render_png_if_possible(&out);
 }

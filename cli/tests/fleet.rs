@@ -151,3 +151,123 @@ fn fleet_at_the_scenarios_own_size_reports_what_run_reports() {
     }
     assert!(shared.len() >= 14, "{shared:?}");
 }
+
+/// The `<text>` elements of an SVG: (font-family, content).
+fn svg_texts(svg: &str) -> Vec<(String, String)> {
+    svg.split("<text")
+        .skip(1)
+        .map(|t| {
+            let family = t.split("font-family=\"").nth(1).and_then(|f| f.split('"').next()).unwrap_or("");
+            let content = t.split_once('>').map_or("", |x| x.1).split("</text>").next().unwrap_or("");
+            (family.to_string(), content.trim().to_string())
+        })
+        .collect()
+}
+
+/// Issue 14: the fleet chart drew the wait on a linear scale where one
+/// forklift's hour-long queue flattened every size near the target, marked no
+/// recommended size, drew only wait and share targets, and printed ticks such
+/// as "30.00". Now: wait on a log scale, the recommended size on every panel,
+/// a cost-per-hour panel, each target on the panel of its unit.
+#[test]
+fn the_chart_shows_the_wait_on_a_log_scale_the_recommended_size_and_every_target() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("sizes.svg");
+    let out = fleet(&[
+        "--sizes",
+        "1..4",
+        "--target",
+        "move_wait_p95 <= 2.5 min",
+        "--target",
+        "utilization <= 85%",
+        "--target",
+        "handling_cost_per_h <= 400",
+        "--target",
+        "throughput_per_h >= 5",
+        "--format",
+        "json",
+        "--plot",
+        p.to_str().unwrap(),
+    ]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let named = v["smallest_meeting_targets"].as_u64().expect("a size meets every target");
+    let svg = std::fs::read_to_string(&p).unwrap();
+    for needle in [
+        "wait for a mover (log scale)".to_string(),
+        format!("recommended: {named} movers"),
+        "handling cost per hour".into(),
+        "target: forklifts/move_wait_p95_s &lt;= 2.5 min".into(),
+        "target: forklifts/utilization &lt;= 85%".into(),
+        "target: forklifts/handling_cost_per_h &lt;= 400".into(),
+        "target: throughput_per_h &gt;= 5".into(),
+    ] {
+        assert!(svg.contains(&needle), "{needle:?} missing");
+    }
+    let texts = svg_texts(&svg);
+    // The recommended size is marked on each of the four panels (wait, share, cost, throughput).
+    let marks = texts.iter().filter(|t| t.1 == format!("recommended: {named} movers")).count();
+    assert_eq!(marks, 4);
+    for (_, content) in &texts {
+        if content.parse::<f64>().is_ok() && content.contains('.') {
+            assert!(!content.ends_with('0'), "tick label {content:?} has a useless decimal");
+        }
+    }
+}
+
+/// Issue 14: `resvg chart.svg chart.png` drew no text, because the charts
+/// named only `sans-serif`, which resvg maps to Arial, absent on most Linux
+/// machines. Every text now names DejaVu Sans, Liberation Sans, Noto Sans,
+/// then sans-serif. Without a PNG decoder, "text is drawn" is checked by
+/// rendering the chart with and without its `<text>` elements: the PNGs
+/// differ only if resvg found a font.
+#[test]
+fn the_chart_names_open_fonts_and_resvg_draws_its_text() {
+    let dir = tempfile::tempdir().unwrap();
+    let p = dir.path().join("fonts.svg");
+    let out = fleet(&["--sizes", "2,3", "--target", "utilization <= 85%", "--plot", p.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let svg = std::fs::read_to_string(&p).unwrap();
+    let texts = svg_texts(&svg);
+    assert!(texts.len() > 20);
+    for (family, content) in &texts {
+        assert_eq!(family, "DejaVu Sans, Liberation Sans, Noto Sans, sans-serif", "{content}");
+    }
+    let Some(resvg) = resvg() else { return };
+    let bare: String = {
+        let mut s = String::new();
+        let mut rest = svg.as_str();
+        while let Some(i) = rest.find("<text") {
+            s.push_str(&rest[..i]);
+            let end = rest[i..].find("</text>").expect("closed text") + i + "</text>".len();
+            rest = &rest[end..];
+        }
+        s.push_str(rest);
+        s
+    };
+    let q = dir.path().join("bare.svg");
+    std::fs::write(&q, bare).unwrap();
+    let png = |svg: &std::path::Path| {
+        let png = svg.with_extension("png");
+        let o = std::process::Command::new(&resvg).arg(svg).arg(&png).output().expect("resvg runs");
+        assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
+        std::fs::read(&png).unwrap()
+    };
+    assert_ne!(png(&p), png(&q), "resvg drew no text: no font of the list was found");
+}
+
+/// resvg on PATH or in ~/.cargo/bin; CI sets LAYFLOW_REQUIRE_RESVG so there the check always runs.
+fn resvg() -> Option<std::path::PathBuf> {
+    let on_path = std::env::var_os("PATH")
+        .and_then(|paths| std::env::split_paths(&paths).map(|d| d.join("resvg")).find(|p| p.is_file()));
+    let found = on_path.or_else(|| {
+        std::env::var_os("HOME")
+            .map(|h| std::path::PathBuf::from(h).join(".cargo/bin/resvg"))
+            .filter(|p| p.exists())
+    });
+    if found.is_none() {
+        assert!(std::env::var_os("LAYFLOW_REQUIRE_RESVG").is_none(), "resvg is required but not found");
+        eprintln!("notice: resvg not found; skipping the PNG render of the fleet chart");
+    }
+    found
+}

@@ -231,3 +231,103 @@ fn selection_stops_when_layouts_simulate_identically() {
     let s = text(&out.stdout);
     assert!(s.contains("tied: identical results") && s.contains("Treat them as equally good"), "{s}");
 }
+
+/// The `<text>` elements of an SVG: (font-family, content).
+fn svg_texts(svg: &str) -> Vec<(String, String)> {
+    svg.split("<text")
+        .skip(1)
+        .map(|t| {
+            let family = t.split("font-family=\"").nth(1).and_then(|f| f.split('"').next()).unwrap_or("");
+            let content = t.split_once('>').map_or("", |x| x.1).split("</text>").next().unwrap_or("");
+            (family.to_string(), content.trim().to_string())
+        })
+        .collect()
+}
+
+/// Issue 14: the search picture drew only the start layout's level and a
+/// time axis fixed at 0.1 ms; it now draws the scenario's other layouts too
+/// and begins just before the first improvement, in a font list that renders
+/// with common open fonts.
+#[test]
+fn the_picture_draws_every_scenario_layout_and_starts_at_the_first_improvement() {
+    let dir = tempfile::tempdir().unwrap();
+    let svg = dir.path().join("s.svg");
+    let out = search(&["--method", "all", "--plot", svg.to_str().unwrap()]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = std::fs::read_to_string(&svg).unwrap();
+    // The demo's two layouts both break its apart rule, and are named so.
+    assert!(s.contains("start layout current, breaks the rules"), "{s}");
+    assert!(s.contains("scenario layout proposed, breaks the rules"), "{s}");
+    assert!(s.contains("from just before the first improvement"));
+    let texts = svg_texts(&s);
+    assert!(!texts.is_empty());
+    for (family, content) in &texts {
+        assert_eq!(family, "DejaVu Sans, Liberation Sans, Noto Sans, sans-serif", "{content}");
+    }
+    // Tick labels carry no useless decimals (no "30.00").
+    for (_, content) in &texts {
+        if content.parse::<f64>().is_ok() && content.contains('.') {
+            assert!(!content.ends_with('0'), "tick label {content:?}");
+        }
+    }
+}
+
+/// Issue 14: the tables and JSON gave only a count of broken rules. The
+/// current layout of the rules check puts cut (bay-a3, x 40 m) and weld
+/// (bay-a1, x 0 m) 40 m apart, beyond the 20 m neighbour distance.
+#[test]
+fn each_broken_rule_is_named_in_the_table_and_the_json() {
+    let args = ["search", "scenarios/validation/search-rules.yaml", "--iterations", "2000", "-q"];
+    let v = json(&layflow(&[&args[..], &["--format", "json"]].concat()));
+    assert_eq!(
+        v["start"]["broken_rules"],
+        serde_json::json!(["adjacent: cut and weld are 40 m apart (neighbours are within 20 m)"])
+    );
+    assert_eq!(v["layouts"][0]["broken_rules"], serde_json::json!([]));
+    let out = layflow(&args);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(
+        s.contains("current breaks: adjacent: cut and weld are 40 m apart (neighbours are within 20 m)"),
+        "{s}"
+    );
+}
+
+/// Issue 14: two layouts tied because they were mirror images, and the
+/// report said "simulation can" tell them apart; `--validate` then gave the
+/// same numbers for both. On the demo the two best layouts found with this
+/// budget are mirror images, and the demo's one fixed home (runners at
+/// bay-b2) is the same distance from each department in both.
+#[test]
+fn mirror_image_ties_are_called_so_and_not_left_to_simulation() {
+    let out = search(&["--method", "all"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("search-1, search-2 tie at the lowest cost because they are mirror images"), "{s}");
+    assert!(s.contains("with the\n  same seed they give the same numbers"), "{s}");
+    assert!(!s.contains("simulation can"), "{s}");
+}
+
+/// Issue 14: `--method all --time-limit T` did not say whether T was per
+/// method or in total, and ran every method to its limit. The help and the
+/// report now say it is per method and state the stall rule; under
+/// --iterations alone no method stops on a stall, so two runs agree exactly.
+#[test]
+fn the_time_limit_is_per_method_and_stalls_stop_only_timed_runs() {
+    let help = text(&layflow(&["search", "--help"]).stdout);
+    assert!(help.contains("EACH method, not in total"), "{help}");
+    let out = layflow(&["search", "scenarios/demo.yaml", "--method", "all", "--time-limit", "0.4s", "-q"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("each method ran for 0.4 s (the limit is per method, not in total)"), "{s}");
+    assert!(
+        s.contains("a method stops early once 50% of its time (0.2 s) passes with no improvement"),
+        "{s}"
+    );
+    let run = || json(&search(&["--method", "all", "--format", "json", "--no-wall-clock"]));
+    let (a, b) = (run(), run());
+    assert_eq!(a, b, "iterations alone: the same seed gives the same report");
+    assert!(a["methods"].as_array().unwrap().iter().all(|m| m["stopped_on_stall"] == false));
+    let s = text(&search(&["--method", "all"]).stdout);
+    assert!(!s.contains("stops early"), "{s}");
+}

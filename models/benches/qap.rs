@@ -38,7 +38,12 @@ fn main() {
         for seed in 0..10u64 {
             let settings = Settings {
                 seed,
-                limits: Limits { iterations: Some(ITERATIONS), time_s: Some(SECONDS), target: Some(opt) },
+                limits: Limits {
+                    iterations: Some(ITERATIONS),
+                    time_s: Some(SECONDS),
+                    target: Some(opt),
+                    stall_share: None,
+                },
                 ..Settings::default()
             };
             let out = robust_tabu(&q, &settings, &params, |_, _| {}).expect("a valid search");

@@ -8,7 +8,7 @@ use layflow_models::results::segments::read_segments;
 use layflow_models::results::write_atomic;
 
 use crate::failure::Failure;
-use crate::render::plant::picture;
+use crate::render::plant::{picture, FlowStyle};
 use crate::settings::{demand_factor, layout, load};
 
 /// Arguments of `layflow draw`.
@@ -27,6 +27,10 @@ pub struct DrawArgs {
     /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
     #[arg(long, value_name = "FACTOR")]
     pub demand: Option<f64>,
+    /// How to draw the flows: curves from department to department, or along
+    /// the aisles they use (the aisle network's shortest paths).
+    #[arg(long, value_enum, default_value_t = FlowStyle::Curve)]
+    pub flows: FlowStyle,
     /// The SVG file to write.
     #[arg(short = 'o', long = "out", value_name = "FILE.svg")]
     pub out: PathBuf,
@@ -44,6 +48,13 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
         Some(name) => layout(&plant, name)?,
     };
     let factor = demand_factor(&plant, args.demand)?;
+    if args.flows == FlowStyle::Aisle && plant.aisles.is_none() {
+        return Err(Failure::input(format!(
+            "--flows aisle: {} has no aisle network to draw the flows along; describe one under `aisles:` \
+             (see docs/aisles.md) or leave out --flows",
+            args.scenario.display()
+        )));
+    }
     let sim = match &args.results {
         Some(dir) => {
             if !dir.is_dir() {
@@ -63,7 +74,7 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
         None => None,
     };
     let pic = StaticPicture::new(&plant, factor);
-    let doc = picture(&plant, layout, &pic, &args.scenario, sim.as_ref());
+    let doc = picture(&plant, layout, &pic, &args.scenario, sim.as_ref(), args.flows);
     let dir = match args.out.parent() {
         Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
         _ => PathBuf::from("."),

@@ -44,7 +44,8 @@ pub struct FleetArgs {
     /// (default: the fleet's operators.efficiency, else 1).
     #[arg(long, value_name = "E")]
     pub efficiency: Option<f64>,
-    /// Draw wait and utilisation against fleet size, with the target lines, into this SVG file.
+    /// Draw wait (log scale), utilisation, cost per hour (when priced) and every target's metric
+    /// against fleet size, with the target lines and the recommended size, into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
     /// Replace the --plot file if it exists (without it, an existing file is refused, never overwritten).
@@ -157,7 +158,12 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         wall_s: (!settings.no_wall_clock).then_some(wall_s),
     };
     if let Some(path) = &args.plot {
-        let svg = crate::render::plot::fleet_svg(&out.fleet, &out.sizes, &out.targets)?;
+        let svg = crate::render::plot::fleet_svg(
+            &out.fleet,
+            &out.sizes,
+            &out.targets,
+            out.smallest_meeting_targets,
+        )?;
         let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(std::path::Path::new("."));
         let name = path
             .file_name()

@@ -16,14 +16,19 @@ use crate::failure::Failure;
 use crate::render::plot;
 use crate::render::progress::Spinner;
 use crate::render::search::{
-    cost_value, json_output, layouts_yaml, limits_text, objective_text, pp_value, render, secs, trace_series,
-    Found, MethodRun, Report,
+    cost_value, json_output, layouts_yaml, limits_text, objective_text, pp_value, render, stall_text,
+    trace_series, Found, MethodRun, Report,
 };
 use crate::render::table::{whole, Table};
 use crate::settings::{duration_arg, layout, load, Format, SimOptions};
 
 /// How long each method runs when neither --time-limit nor --iterations is given.
 const DEFAULT_TIME_LIMIT_S: f64 = 10.0;
+
+/// Under a time limit, a method stops once this share of its time has passed
+/// since its last improvement: the searches here find their best early, and
+/// the rest of the time is better spent on the next method.
+pub const STALL_SHARE: f64 = 0.5;
 
 /// Arguments of `layflow search`.
 #[derive(Args, Debug)]
@@ -48,7 +53,9 @@ pub struct SearchArgs {
     /// (simulated annealing), exchange (steepest-descent pairwise exchange with random restarts), or all.
     #[arg(long, value_enum, value_delimiter = ',', default_value = "tabu")]
     pub method: Vec<MethodName>,
-    /// Wall-clock time for each method, e.g. "10s" or "2 min" [default: 10s unless --iterations is given].
+    /// Wall-clock time for EACH method, not in total (--method all --time-limit 5s runs up to 15 s),
+    /// e.g. "10s" or "2 min" [default: 10s unless --iterations is given]. A method stops early once
+    /// half of its time has passed with no improvement; --iterations alone never stops early.
     #[arg(long, value_name = "DURATION")]
     pub time_limit: Option<String>,
     /// Stop each method after this many iterations: the same seed then gives the same layouts on any
@@ -155,7 +162,9 @@ fn limits(args: &SearchArgs) -> Result<Limits, Failure> {
     if args.iterations == Some(0) {
         return Err(Failure::input("--iterations must be at least 1"));
     }
-    Ok(Limits { iterations: args.iterations, time_s, target: None })
+    // The stall rule is a time rule: iterations alone stay deterministic.
+    let stall_share = time_s.map(|_| STALL_SHARE);
+    Ok(Limits { iterations: args.iterations, time_s, target: None, stall_share })
 }
 
 /// Run each method with a spinner that shows the best so far.
@@ -261,9 +270,18 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
     if let Some(file) = &args.plot {
         let series = trace_series(&runs, |o| pp_value(o, &pp));
         let unit = if pp.per_load_metre > 0.0 { "cost per hour" } else { "load-metres per hour" };
-        let current = (start_cost.forbidden == 0 && start_cost.rules_broken == 0)
-            .then(|| (plant.layouts[from].name.as_str(), cost_value(&start_cost, &pp)));
-        let svg = plot::search_svg(&plant.name, &series, unit, current)?;
+        // The start layout first, then the scenario's other layouts, each at
+        // its static cost; a layout breaking a rule is marked so.
+        let order = std::iter::once(from).chain((0..plant.layouts.len()).filter(|&l| l != from));
+        let references: Vec<(String, f64)> = order
+            .filter_map(|l| {
+                let c = if l == from { start_cost } else { pp.cost(&plant.layouts[l].location_of).ok()? };
+                let role = if l == from { "start layout" } else { "scenario layout" };
+                let broken = if c.forbidden + c.rules_broken > 0 { ", breaks the rules" } else { "" };
+                Some((format!("{role} {}{broken}", plant.layouts[l].name), cost_value(&c, &pp)))
+            })
+            .collect();
+        let svg = plot::search_svg(&plant.name, &series, unit, &references)?;
         write_file(file, svg.as_bytes(), "--plot")?;
     }
     if let Some(file) = &args.out {
@@ -401,8 +419,8 @@ fn search_qaplib(
     if let Some(svg_file) = &args.plot {
         let series = trace_series(&runs, Some);
         let title = file.file_stem().map_or_else(|| "instance".into(), |s| s.to_string_lossy().into_owned());
-        let svg =
-            plot::search_svg(&title, &series, "objective", solution.as_ref().map(|s| ("optimum", s.value)))?;
+        let optimum: Vec<(String, f64)> = solution.iter().map(|s| ("optimum".to_string(), s.value)).collect();
+        let svg = plot::search_svg(&title, &series, "objective", &optimum)?;
         write_file(svg_file, svg.as_bytes(), "--plot")?;
     }
     let gap =
@@ -418,6 +436,7 @@ fn search_qaplib(
                     "method": r.key(),
                     "iterations": r.outcome.iterations,
                     "elapsed_s": (!args.sim.no_wall_clock).then_some(r.outcome.elapsed_s),
+                    "stopped_on_stall": r.outcome.stalled,
                     "best": r.outcome.evaluation.cost,
                     "gap_percent": gap(r.outcome.evaluation.cost),
                     "permutation_1_based": r.outcome.layout.iter().map(|&k| k + 1).collect::<Vec<_>>(),
@@ -433,13 +452,17 @@ fn search_qaplib(
                 }
                 None => println!("  no {} beside it: no gap to report", sln_path.display()),
             }
-            println!("  each method ran for {} (stopping early at the optimum)\n", limits_text(&limits));
+            println!("  {} (stopping early at the optimum)", limits_text(&limits));
+            if let Some(s) = stall_text(&limits) {
+                println!("  {s}");
+            }
+            println!();
             let mut t = Table::new(&["method", "iterations", "ran for", "best", "gap"]);
             for r in &runs {
                 t.row(vec![
                     r.title.into(),
                     r.outcome.iterations.to_string(),
-                    secs(r.outcome.elapsed_s),
+                    crate::render::search::ran_for(&r.outcome),
                     whole(r.outcome.evaluation.cost),
                     gap(r.outcome.evaluation.cost).map_or("-".into(), |g| format!("{g:.2}%")),
                 ]);

@@ -62,13 +62,45 @@ fn short(x: f64) -> String {
     }
 }
 
+/// `n` of a rate per hour with its noun, singular at exactly 1: "1 load/h", "2.5 loads/h".
+fn per_h(v: f64, one: &str, many: &str) -> String {
+    let s = short(v);
+    if s == "1" {
+        format!("1 {one}/h")
+    } else {
+        format!("{s} {many}/h")
+    }
+}
+
+/// A conservative average advance of a bold sans-serif letter, in em: DejaVu
+/// Sans Bold, the widest of the listed fonts, averages about 0.63 em over
+/// lower-case letters and 0.72 em over capitals (from memory of its metrics,
+/// rounded up for mixed names with hyphens and digits).
+const BOLD_EM: f64 = 0.68;
+/// Smallest and largest department label, px.
+const LABEL_MIN_PX: f64 = 9.0;
+const LABEL_MAX_PX: f64 = 15.0;
+
+/// Where a department's name goes and how big: inside its box when it fits
+/// there at [`LABEL_MIN_PX`] or more, else below the box at a readable size.
+/// Returns (font size px, placement).
+fn label_fit(name: &str, box_px: f64) -> (f64, &'static str) {
+    let letters = name.chars().count().max(1) as f64;
+    let fitting = box_px / (BOLD_EM * letters);
+    if fitting >= LABEL_MIN_PX {
+        (fitting.min(LABEL_MAX_PX), "inside")
+    } else {
+        (11.0, "below")
+    }
+}
+
 /// A text element with a white halo, so it stays readable over lines.
 fn label(x: f64, y: f64, size: f64, content: &str) -> Text {
     Text::new(content)
         .set("x", x)
         .set("y", y)
         .set("font-size", size)
-        .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+        .set("font-family", super::plot::FONT_FAMILY)
         .set("text-anchor", "middle")
         .set("stroke", "white")
         .set("stroke-width", size * 0.28)
@@ -101,14 +133,25 @@ fn typical_spacing(plant: &Plant) -> f64 {
     nn[nn.len() / 2]
 }
 
-/// The whole picture.
-/// The whole picture: plant, aisles, flows, names and legend.
+/// How flows are drawn.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, clap::ValueEnum)]
+pub enum FlowStyle {
+    /// A curve from department to department, bent to the right of its direction.
+    Curve,
+    /// Along the aisles the flow uses (the network's shortest path), kept to
+    /// the right of its direction so the two directions stay apart.
+    Aisle,
+}
+
+/// The whole picture: plant, aisles, flows, names and legend. `style` is
+/// [`FlowStyle::Aisle`] only when the plant has an aisle network.
 pub fn picture(
     plant: &Plant,
     layout: usize,
     pic: &StaticPicture,
     scenario: &Path,
     sim: Option<&SegmentFigures>,
+    style: FlowStyle,
 ) -> Document {
     let lay = &plant.layouts[layout];
     let net = plant.aisles.as_ref();
@@ -147,7 +190,7 @@ pub fn picture(
                 .set("y", 30)
                 .set("font-size", 20)
                 .set("font-weight", "bold")
-                .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+                .set("font-family", super::plot::FONT_FAMILY)
                 .set("fill", rgb(SLATE))
                 .set("class", "title"),
         )
@@ -162,7 +205,7 @@ pub fn picture(
             .set("x", MARGIN)
             .set("y", 52)
             .set("font-size", 13)
-            .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+            .set("font-family", super::plot::FONT_FAMILY)
             .set("fill", rgb(SLATE)),
         );
 
@@ -185,7 +228,7 @@ pub fn picture(
         doc = doc.add(g);
     }
     let flow_max = pic.from_to.iter().copied().fold(0.0, f64::max);
-    doc = doc.add(flows(plant, layout, pic, &frame, flow_max));
+    doc = doc.add(flows(plant, layout, pic, &frame, flow_max, net.filter(|_| style == FlowStyle::Aisle)));
     doc = doc.add(names(plant, layout, &frame, half * scale));
     let legend_x = MARGIN + (x1 - x0) * scale + MARGIN;
     doc.add(legend(legend_x, TOP, flow_max, net.map(|_| traffic_max), scale, net, sim))
@@ -207,7 +250,11 @@ fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Segm
         let (bx, by) = (frame.px(b.x, b.y).0, frame.px(b.x, b.y).1);
         let share = if max > 0.0 { colour_by[i] / max } else { 0.0 };
         let simulated = sim.map_or(String::new(), |s| {
-            format!("; simulated {} movers/h, {} mover-s/h held up", short(s.traffic[i]), short(s.delay[i]))
+            format!(
+                "; simulated {}, {} mover-s/h held up",
+                per_h(s.traffic[i], "mover", "movers"),
+                short(s.delay[i])
+            )
         });
         let mut seg = Group::new()
             .set("class", "aisle")
@@ -222,11 +269,11 @@ fn aisles(net: &AisleNetwork, frame: &Frame, loc_flow: &[f64], sim: Option<&Segm
         }
         seg = seg
             .add(Title::new(format!(
-                "aisle {} – {}: {} m, {} loads/h{}{}{}{simulated}",
+                "aisle {} – {}: {} m, {}{}{}{}{simulated}",
                 a.id,
                 b.id,
                 short(s.length_m),
-                short(traffic[i]),
+                per_h(traffic[i], "load", "loads"),
                 if s.one_way { ", one-way" } else { "" },
                 s.capacity.map_or(String::new(), |c| format!(", capacity {c}")),
                 s.speed_limit_mps.map_or(String::new(), |v| format!(", limit {:.0} km/h", v * 3.6)),
@@ -377,7 +424,51 @@ fn locations(plant: &Plant, layout: usize, frame: &Frame, half_px: f64, net: Opt
 }
 
 /// Flow curves, widest first so the thin ones stay visible on top.
-fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: f64) -> Group {
+/// The flow from location `a` to `b` along the aisles, in pixels: the
+/// location, its node, the shortest path's nodes, the far node and the far
+/// location; each leg shifted `shift` px to the right of its direction.
+fn aisle_route(
+    net: &AisleNetwork,
+    plant: &Plant,
+    frame: &Frame,
+    a: usize,
+    b: usize,
+    shift: f64,
+) -> Vec<(f64, f64)> {
+    let mut pts = vec![frame.px(plant.locations[a].x, plant.locations[a].y)];
+    for n in net.path_nodes(a, b) {
+        pts.push(frame.px(net.nodes[n].x, net.nodes[n].y));
+    }
+    pts.push(frame.px(plant.locations[b].x, plant.locations[b].y));
+    pts.dedup_by(|p, q| (p.0 - q.0).hypot(p.1 - q.1) < 1e-6);
+    // Each point moves by the mean of the right-hand normals of its legs.
+    let normal = |p: (f64, f64), q: (f64, f64)| {
+        let len = (q.0 - p.0).hypot(q.1 - p.1).max(1e-9);
+        (-(q.1 - p.1) / len, (q.0 - p.0) / len)
+    };
+    let n = pts.len();
+    (0..n)
+        .map(|i| {
+            let before = (i > 0).then(|| normal(pts[i - 1], pts[i]));
+            let after = (i + 1 < n).then(|| normal(pts[i], pts[i + 1]));
+            let (nx, ny) = match (before, after) {
+                (Some(u), Some(v)) => ((u.0 + v.0) / 2.0, (u.1 + v.1) / 2.0),
+                (Some(u), None) | (None, Some(u)) => u,
+                (None, None) => (0.0, 0.0),
+            };
+            (pts[i].0 + nx * shift, pts[i].1 + ny * shift)
+        })
+        .collect()
+}
+
+fn flows(
+    plant: &Plant,
+    layout: usize,
+    pic: &StaticPicture,
+    frame: &Frame,
+    max: f64,
+    along: Option<&AisleNetwork>,
+) -> Group {
     let lay = &plant.layouts[layout];
     let nd = plant.departments.len();
     let mut list: Vec<(usize, usize, f64)> = Vec::new();
@@ -399,13 +490,33 @@ fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: 
         let w = flow_width(f, max);
         let len = (bx - ax).hypot(by - ay).max(1e-9);
         // Bend to the right of the direction of travel (screen coordinates).
-        let (nx, ny) = (-(by - ay) / len, (bx - ax) / len);
+        let (mut nx, mut ny) = (-(by - ay) / len, (bx - ax) / len);
         let bow = 0.16 * len + 6.0;
         let (cx, cy) = ((ax + bx) / 2.0 + nx * bow, (ay + by) / 2.0 + ny * bow);
-        let d = Data::new().move_to((ax, ay)).quadratic_curve_to((cx, cy, bx, by));
+        let mut d = Data::new().move_to((ax, ay)).quadratic_curve_to((cx, cy, bx, by));
         // The curve's midpoint and direction there (a quadratic Bézier at t = ½).
-        let (mx, my) = (0.25 * ax + 0.5 * cx + 0.25 * bx, 0.25 * ay + 0.5 * cy + 0.25 * by);
-        let (tx, ty) = ((bx - ax) / len, (by - ay) / len);
+        let (mut mx, mut my) = (0.25 * ax + 0.5 * cx + 0.25 * bx, 0.25 * ay + 0.5 * cy + 0.25 * by);
+        let (mut tx, mut ty) = ((bx - ax) / len, (by - ay) / len);
+        if let Some(net) = along {
+            // Along the aisles: a polyline, its arrow on the middle of its longest leg.
+            let route = aisle_route(net, plant, frame, lay.location_of[i], lay.location_of[j], w / 2.0 + 1.5);
+            d = Data::new().move_to(route[0]);
+            for &p in &route[1..] {
+                d = d.line_to(p);
+            }
+            let longest = route
+                .windows(2)
+                .max_by(|p, q| {
+                    let l = |w: &[(f64, f64)]| (w[1].0 - w[0].0).hypot(w[1].1 - w[0].1);
+                    l(p).total_cmp(&l(q))
+                })
+                .map_or([(ax, ay), (bx, by)], |w| [w[0], w[1]]);
+            let [p, q] = longest;
+            let l = (q.0 - p.0).hypot(q.1 - p.1).max(1e-9);
+            (mx, my) = ((p.0 + q.0) / 2.0, (p.1 + q.1) / 2.0);
+            (tx, ty) = ((q.0 - p.0) / l, (q.1 - p.1) / l);
+            (nx, ny) = (-ty, tx);
+        }
         let k = 4.0 + 0.7 * w;
         let arrow = Data::new()
             .move_to((mx + tx * k, my + ty * k))
@@ -419,7 +530,8 @@ fn flows(plant: &Plant, layout: usize, pic: &StaticPicture, frame: &Frame, max: 
                 .set("data-from", from.clone())
                 .set("data-to", to.clone())
                 .set("data-loads-per-h", format!("{f:.6}"))
-                .add(Title::new(format!("{from} → {to}: {} loads/h", short(f))))
+                .set("data-route", if along.is_some() { "aisle" } else { "curve" })
+                .add(Title::new(format!("{from} → {to}: {}", per_h(f, "load", "loads"))))
                 .add(
                     SvgPath::new()
                         .set("d", d)
@@ -457,13 +569,19 @@ fn names(plant: &Plant, layout: usize, frame: &Frame, half_px: f64) -> Group {
         match holder[l] {
             Some(d) => {
                 let name = &plant.departments[d].id;
-                // Fit the name in about the box's width (DejaVu Sans is about 0.6 em a letter).
-                let size = (2.1 * half_px / (0.62 * name.chars().count() as f64)).clamp(9.0, 15.0);
-                // A dock's box is narrow: its name goes above it.
-                let y = if plant.departments[d].role == DepartmentRole::Work {
-                    y
+                // The box is 2 × half_px wide; keep a small margin on each side.
+                let box_px = 2.0 * half_px * 0.92;
+                let (size, placement) = if plant.departments[d].role == DepartmentRole::Work {
+                    label_fit(name, box_px)
                 } else {
-                    y - half_px * 0.9 - 20.0
+                    // A dock's box is narrow: its name goes above it.
+                    let letters = name.chars().count().max(1) as f64;
+                    ((2.1 * half_px / (0.62 * letters)).clamp(LABEL_MIN_PX, LABEL_MAX_PX), "above")
+                };
+                let y = match placement {
+                    "inside" => y,
+                    "below" => y + half_px + size + 4.0,
+                    _ => y - half_px * 0.9 - 20.0,
                 };
                 g = g
                     .add(
@@ -471,7 +589,9 @@ fn names(plant: &Plant, layout: usize, frame: &Frame, half_px: f64) -> Group {
                             .set("font-weight", "bold")
                             .set("fill", rgb(SLATE))
                             .set("class", "department-label")
-                            .set("data-department", name.clone()),
+                            .set("data-department", name.clone())
+                            .set("data-placement", placement)
+                            .set("data-box-px", format!("{box_px:.1}")),
                     )
                     .add(
                         label(x, y + size * 0.1 + 13.0, 10.0, &loc.id)
@@ -510,7 +630,7 @@ fn legend_text(x: f64, y: f64, size: f64, content: &str) -> Text {
         .set("x", x)
         .set("y", y)
         .set("font-size", size)
-        .set("font-family", "DejaVu Sans, Verdana, sans-serif")
+        .set("font-family", super::plot::FONT_FAMILY)
         .set("fill", rgb(SLATE))
 }
 
@@ -548,7 +668,7 @@ fn legend(
                     .set("stroke-linecap", "round")
                     .set("class", "legend-flow"),
             )
-            .add(legend_text(x + 74.0, y + 4.0, 12.0, &format!("{} loads/h", short(v))));
+            .add(legend_text(x + 74.0, y + 4.0, 12.0, &per_h(v, "load", "loads")));
         y += 24.0;
     }
     if let (Some(tmax), Some(net)) = (traffic_max, net) {

@@ -2,7 +2,7 @@
 
 use std::path::Path;
 
-use layflow_models::plant::Plant;
+use layflow_models::plant::{Home, Plant};
 use layflow_models::search::{LayoutCost, Limits, Outcome, PlantProblem, TracePoint};
 use serde::Serialize;
 
@@ -106,14 +106,35 @@ pub fn trace_series<'a>(
         .collect()
 }
 
+/// The limits in words, saying they are per method.
 pub fn limits_text(l: &Limits) -> String {
-    match (l.time_s, l.iterations) {
+    let budget = match (l.time_s, l.iterations) {
         (Some(t), Some(n)) => {
             format!("{} or {n} iterations, whichever came first", super::table::dur_plain(t))
         }
         (Some(t), None) => super::table::dur_plain(t),
         (None, Some(n)) => format!("{n} iterations"),
         (None, None) => "no limit".into(),
+    };
+    format!("each method ran for {budget} (the limit is per method, not in total)")
+}
+
+/// The stall rule in words, when the limits have one (a time limit).
+pub fn stall_text(l: &Limits) -> Option<String> {
+    let (t, s) = (l.time_s?, l.stall_share?);
+    Some(format!(
+        "a method stops early once {}% of its time ({}) passes with no improvement",
+        (s * 100.0).round(),
+        super::table::dur_plain(t * s)
+    ))
+}
+
+/// How long a method ran, marked when it stopped on a stall.
+pub fn ran_for(o: &Outcome) -> String {
+    if o.stalled {
+        format!("{} (stalled)", secs(o.elapsed_s))
+    } else {
+        secs(o.elapsed_s)
     }
 }
 
@@ -161,7 +182,10 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
     } else {
         out.push_str("  cost: load-distance only (set costs.per_load_metre to price it)\n");
     }
-    out.push_str(&format!("  each method ran for {}, seed {}\n", limits_text(&r.limits), r.seed));
+    out.push_str(&format!("  {}; seed {}\n", limits_text(&r.limits), r.seed));
+    if let Some(s) = stall_text(&r.limits) {
+        out.push_str(&format!("  {s}\n"));
+    }
     let start = &plant.layouts[r.from];
     if !r.starts_there {
         out.push_str(&format!(
@@ -178,7 +202,7 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
         t.row(vec![
             run.title.into(),
             run.outcome.iterations.to_string(),
-            secs(run.outcome.elapsed_s),
+            ran_for(&run.outcome),
             at.map_or("-".into(), |p| format!("{} (iteration {})", secs(p.elapsed_s), p.iteration)),
             objective_text(run.outcome.evaluation.objective, r.pp),
         ]);
@@ -208,12 +232,22 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
         cells.extend([vs, moves, rules]);
         cells
     };
+    // Every broken rule, named under the table (the column keeps its count).
+    let mut broken: Vec<(String, Vec<String>)> = Vec::new();
+    let mut name_broken = |name: &str, layout: &[usize]| {
+        let b = PlantProblem::broken_rules(plant, layout);
+        if !b.is_empty() {
+            broken.push((name.to_string(), b));
+        }
+    };
+    name_broken(&start.name, &start.location_of);
     t.row(row(format!("{} (start)", start.name), &r.start_cost, "-".into(), "-".into()));
     for (l, other) in plant.layouts.iter().enumerate() {
         if l == r.from || found.iter().any(|f| f.same_as == Some(l)) {
             continue;
         }
         let c = r.pp.cost(&other.location_of).expect("scenario layouts are checked on load");
+        name_broken(&other.name, &other.location_of);
         let vs = change(cost_value(&c, r.pp), base);
         t.row(row(
             format!("{} (scenario)", other.name),
@@ -228,11 +262,15 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
             None => f.name.clone(),
         };
         let vs = change(cost_value(&f.cost, r.pp), base);
+        name_broken(&f.name, &f.layout);
         t.row(row(name, &f.cost, vs, moved(&f.layout, &start.location_of).to_string()));
     }
     out.push_str(&t.render(2));
+    for (name, rules) in &broken {
+        out.push_str(&format!("  {name} breaks: {}\n", rules.join("; ")));
+    }
 
-    let ties = found
+    let tied: Vec<&Found> = found
         .iter()
         .filter(|f| {
             found.first().is_some_and(|b| {
@@ -240,12 +278,9 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
                     && b.cost.load_distance_m_per_h == f.cost.load_distance_m_per_h
             })
         })
-        .count();
-    if ties > 1 {
-        out.push_str(&format!(
-            "\n  {ties} layouts tie at the lowest cost (mirror images and swaps of departments with the same \
-             flows often do):\n  the static method cannot tell them apart; simulation can.\n"
-        ));
+        .collect();
+    if tied.len() > 1 {
+        out.push_str(&ties_text(plant, &tied));
     }
     if let Some(best) = found.first() {
         let moves: Vec<String> = best
@@ -296,6 +331,83 @@ pub fn render(r: &Report, found: &[Found], out_file: Option<&Path>, validate: bo
     out
 }
 
+/// Whether two layouts put every pair of departments the same distance apart
+/// (both ways): mirror images, rotations, or swaps of interchangeable
+/// places. The static cost is then equal for any flows, not only these.
+fn same_distances(plant: &Plant, a: &[usize], b: &[usize]) -> bool {
+    let n = a.len();
+    (0..n).all(|i| (0..n).all(|j| plant.distance(a[i], a[j]) == plant.distance(b[i], b[j])))
+}
+
+/// The places movers drive to or from that stay put whatever the layout
+/// (homes and parking places at a location), named.
+fn fixed_places(plant: &Plant) -> Vec<(String, usize)> {
+    let mut v = Vec::new();
+    for f in plant.fleets() {
+        if let Home::Location(l) = f.home {
+            v.push((format!("{}'s home {}", f.id, plant.locations[l].id), l));
+        }
+        for &l in &f.parking {
+            v.push((format!("{}'s parking place {}", f.id, plant.locations[l].id), l));
+        }
+    }
+    v
+}
+
+/// What a tie at the lowest cost means, in words. Layouts that put every
+/// pair of departments the same distance apart are mirror images to the
+/// static method; simulation sees them as equal too unless a mover's trip
+/// differs between them through something the static method ignores: a
+/// home or parking place fixed at a location, or traffic in the aisles.
+fn ties_text(plant: &Plant, tied: &[&Found]) -> String {
+    let names: Vec<&str> = tied.iter().map(|f| f.name.as_str()).collect();
+    let names = names.join(", ");
+    let first = &tied[0].layout;
+    if !tied[1..].iter().all(|f| same_distances(plant, first, &f.layout)) {
+        return format!(
+            "\n  {names} tie at the lowest cost, but the distances between departments differ (departments \
+             with the same\n  flows swapped): the static method cannot tell them apart; simulation can, \
+             through the queues and\n  mover trips each arrangement makes.\n"
+        );
+    }
+    let mut differs: Vec<String> = fixed_places(plant)
+        .into_iter()
+        .filter(|(_, p)| {
+            tied[1..].iter().any(|f| {
+                first.iter().zip(&f.layout).any(|(&a, &b)| {
+                    plant.distance(*p, a) != plant.distance(*p, b)
+                        || plant.distance(a, *p) != plant.distance(b, *p)
+                })
+            })
+        })
+        .map(|(name, _)| format!("{name} is at different distances from the departments in each"))
+        .collect();
+    if plant.aisles.is_some() {
+        differs.push(
+            "trips follow mirrored paths through the aisles, where one-way aisles, intersections and \
+                      passing rules need not be symmetric"
+                .into(),
+        );
+    }
+    let head = format!(
+        "\n  {names} tie at the lowest cost because they are mirror images: every department is the same \
+         distance\n  from every other in each, so the static method sees them as equal."
+    );
+    if differs.is_empty() {
+        format!(
+            "{head} So does simulation: every trip a mover\n  makes (between departments, homes and parking \
+             places) has the same length in each, so with the\n  same seed they give the same numbers. Pick \
+             either.\n"
+        )
+    } else {
+        format!(
+            "{head} Simulation sees them as equal too\n  except through what the static method ignores, \
+             which differs here: {}.\n  Simulate them (--validate) to see whether that matters.\n",
+            differs.join("; ")
+        )
+    }
+}
+
 /// Seconds with enough digits for a search that improves within milliseconds.
 pub fn secs(s: f64) -> String {
     if s < 0.01 {
@@ -335,7 +447,7 @@ pub fn layouts_yaml(r: &Report, scenario: &Path, found: &[Found], file: &Path) -
          # Include them with `layout_files: [{file_name}]` in the scenario, then run `layflow compare`.\n\
          # Ranked by static cost only (load-distance and floor costs): queues, movers and congestion\n\
          # are not counted until you simulate them.\n\
-         # Methods {}; seed {}; each ran for {}; demand ×{:.2}.\n\
+         # Methods {}; seed {}; {}{}; demand ×{:.2}.\n\
          # The start layout \"{}\" has load-distance {} load-m/h.\n\
          layouts:\n",
         plant.name,
@@ -343,6 +455,7 @@ pub fn layouts_yaml(r: &Report, scenario: &Path, found: &[Found], file: &Path) -
         methods.join(", "),
         r.seed,
         limits_text(&r.limits),
+        stall_text(&r.limits).map_or(String::new(), |s| format!("; {s}")),
         r.factor,
         plant.layouts[r.from].name,
         whole(r.start_cost.load_distance_m_per_h),
@@ -385,6 +498,8 @@ struct JsonMethod {
     iterations: u64,
     #[serde(skip_serializing_if = "Option::is_none")]
     elapsed_s: Option<f64>,
+    /// It stopped early: half its time limit passed with no improvement.
+    stopped_on_stall: bool,
     best_objective: f64,
 }
 
@@ -398,6 +513,8 @@ struct JsonLayout {
     floor_cost_per_h: f64,
     total_cost_per_h: f64,
     rules_broken: usize,
+    /// Each broken rule (adjacency pair, pin, empty location) in words.
+    broken_rules: Vec<String>,
     departments_moved: usize,
     /// Department id → location id, in scenario order.
     assignment: Vec<[String; 2]>,
@@ -419,6 +536,7 @@ fn json_layout(
         floor_cost_per_h: c.floor_cost_per_h,
         total_cost_per_h: c.total_cost_per_h,
         rules_broken: c.rules_broken,
+        broken_rules: PlantProblem::broken_rules(plant, layout),
         departments_moved: moved(layout, from),
         assignment: layout
             .iter()
@@ -451,6 +569,7 @@ pub fn json_output<'a>(r: &Report<'a>, found: &[Found], no_wall_clock: bool) -> 
                 method: m.key(),
                 iterations: m.outcome.iterations,
                 elapsed_s: (!no_wall_clock).then_some(m.outcome.elapsed_s),
+                stopped_on_stall: m.outcome.stalled,
                 best_objective: m.outcome.evaluation.objective,
             })
             .collect(),

@@ -17,6 +17,12 @@ pub struct Limits {
     pub time_s: Option<f64>,
     /// Stop as soon as the best objective is at or below this (a known optimum).
     pub target: Option<f64>,
+    /// With a time limit only: stop once this share of `time_s` has passed
+    /// since the last improvement (a stalled search rarely improves again,
+    /// and the next method gets the machine sooner). Iteration limits never
+    /// stop on a stall, so a run limited by iterations alone stays
+    /// deterministic for its seed.
+    pub stall_share: Option<f64>,
 }
 
 impl Limits {
@@ -30,6 +36,11 @@ impl Limits {
         Limits { time_s: Some(s), ..Limits::default() }
     }
 
+    /// The same limits, also stopping after `share` of the time limit without improvement.
+    pub fn with_stall(self, share: f64) -> Limits {
+        Limits { stall_share: Some(share), ..self }
+    }
+
     /// The same limits, also stopping at `target`.
     pub fn with_target(self, target: f64) -> Limits {
         Limits { target: Some(target), ..self }
@@ -39,6 +50,11 @@ impl Limits {
         if let Some(t) = self.time_s {
             if !(t >= 0.0) || !t.is_finite() {
                 return Err(format!("the time limit must be a finite number of seconds ≥ 0, got {t}"));
+            }
+        }
+        if let Some(s) = self.stall_share {
+            if !(s > 0.0 && s <= 1.0) {
+                return Err(format!("the stall share must be above 0 and at most 1, got {s}"));
             }
         }
         if self.target.is_some_and(f64::is_nan) {
@@ -102,6 +118,8 @@ pub struct Outcome {
     /// Up to [`Settings::keep`] distinct layouts, best first (ties in
     /// objective ordered by layout); the best layout is among them.
     pub top: Vec<Ranked>,
+    /// It stopped early because [`Limits::stall_share`] of its time passed without improvement.
+    pub stalled: bool,
 }
 
 /// Keys of the random streams (one per use, so a change in one method's draws never shifts another's).
@@ -192,6 +210,9 @@ pub(crate) struct Tracker<'a> {
     progress: &'a mut dyn FnMut(f64, f64),
     pub(crate) iteration: u64,
     out_of_time: bool,
+    /// Seconds since the start at the last improvement.
+    last_improved_s: f64,
+    stalled: bool,
 }
 
 impl<'a> Tracker<'a> {
@@ -222,6 +243,8 @@ impl<'a> Tracker<'a> {
             progress,
             iteration: 0,
             out_of_time: false,
+            last_improved_s: 0.0,
+            stalled: false,
         };
         t.top_threshold = t.top.threshold();
         let obj = problem.objective_of(&perm);
@@ -259,6 +282,7 @@ impl<'a> Tracker<'a> {
         self.best = obj;
         self.best_perm.copy_from_slice(perm);
         let t = self.elapsed_s();
+        self.last_improved_s = t;
         self.trace.push(TracePoint { elapsed_s: t, iteration: self.iteration, objective: obj });
         (self.progress)(t, obj);
         // A new best is below every layout kept so far, so it always gets in.
@@ -290,8 +314,14 @@ impl<'a> Tracker<'a> {
             }
         }
         if let Some(t) = self.limits.time_s {
-            if self.iteration & clock_mask == 0 && self.elapsed_s() >= t {
-                self.out_of_time = true;
+            if self.iteration & clock_mask == 0 {
+                let now = self.elapsed_s();
+                if now >= t {
+                    self.out_of_time = true;
+                } else if self.limits.stall_share.is_some_and(|s| now - self.last_improved_s >= s * t) {
+                    self.out_of_time = true;
+                    self.stalled = true;
+                }
             }
         }
         self.out_of_time
@@ -328,6 +358,7 @@ impl<'a> Tracker<'a> {
             elapsed_s: self.elapsed_s(),
             trace: self.trace,
             top,
+            stalled: self.stalled,
         }
     }
 }

@@ -95,6 +95,74 @@ impl PlantProblem {
             forbidden: e.forbidden,
         })
     }
+
+    /// Each search rule `layout` breaks, named in the scenario's words:
+    /// which pair for `adjacent`/`apart`, which pin, which empty location.
+    /// Pins and empty locations are the layout's `forbidden` departments;
+    /// pairs are its `rules_broken`.
+    pub fn broken_rules(plant: &Plant, layout: &[usize]) -> Vec<String> {
+        let rules = &plant.search;
+        let dept = |d: usize| plant.departments[d].id.as_str();
+        let loc = |l: usize| plant.locations[l].id.as_str();
+        let mut out = Vec::new();
+        for (d, pin) in rules.pinned.iter().enumerate() {
+            if let Some(l) = *pin {
+                if layout.get(d).is_some_and(|&at| at != l) {
+                    let holder = layout.iter().position(|&at| at == l);
+                    let there = holder.map_or(String::new(), |h| format!("; {} holds {}", loc(l), dept(h)));
+                    out.push(format!(
+                        "pinned: {} must be on {} (is on {}{there})",
+                        dept(d),
+                        loc(l),
+                        loc(layout[d])
+                    ));
+                }
+            }
+        }
+        for (l, &empty) in rules.keep_empty.iter().enumerate() {
+            if let (true, Some(d)) = (empty, layout.iter().position(|&at| at == l)) {
+                out.push(format!("kept empty: {} holds {}", loc(l), dept(d)));
+            }
+        }
+        if let Some(reach) = rules.neighbour_distance_m {
+            // As in `new`: neighbours are symmetric even where distances are not.
+            let gap = |a: usize, b: usize| {
+                let (k, l) = (layout[a], layout[b]);
+                plant.distance(k, l).min(plant.distance(l, k))
+            };
+            for &(a, b) in &rules.adjacent {
+                let g = gap(a, b);
+                if g > reach {
+                    out.push(format!(
+                        "adjacent: {} and {} are {} m apart (neighbours are within {} m)",
+                        dept(a),
+                        dept(b),
+                        metres(g),
+                        metres(reach)
+                    ));
+                }
+            }
+            for &(a, b) in &rules.apart {
+                let g = gap(a, b);
+                if g <= reach {
+                    out.push(format!(
+                        "apart: {} and {} are neighbours, {} m apart (must be more than {} m)",
+                        dept(a),
+                        dept(b),
+                        metres(g),
+                        metres(reach)
+                    ));
+                }
+            }
+        }
+        out
+    }
+}
+
+/// Metres without useless decimals.
+fn metres(m: f64) -> String {
+    let s = format!("{m:.1}");
+    s.strip_suffix(".0").map_or(s.clone(), str::to_string)
 }
 
 #[cfg(test)]
@@ -155,6 +223,42 @@ search:
         // Docks are pinned: swapping the receiving dock with cutting puts both
         // on forbidden locations (in is pinned to door, and door is reserved for it).
         assert_eq!(pp.cost(&[1, 0, 2, 4]).unwrap().forbidden, 2);
+    }
+
+    /// Each broken rule is named: the pin, the empty location, the pair.
+    /// Hand check on the line of bays (door 0, a 10, b 20, c 30, out 40 m):
+    /// in at door, cut at a, weld at b puts weld off its pin at a, into b
+    /// which is kept empty, and in and cut 10 m apart (neighbours within 10 m)
+    /// although they must be apart; cut and weld are 10 m apart, so their
+    /// adjacency rule holds. (No layout meets all four rules: cut would have
+    /// to sit in b.)
+    #[test]
+    fn broken_rules_are_named_pair_by_pair_and_pin_by_pin() {
+        let text = PLANT.replace(
+            "search:\n  floor_costs:\n    - { department: weld, location: b, per_hour: 3 }\n",
+            "search:\n  pinned: { weld: a }\n  keep_empty: [b]\n  neighbour_distance: 10\n  \
+             adjacent: [[cut, weld]]\n  apart: [[in, cut]]\n",
+        );
+        let plant =
+            crate::parse_scenario(&text, std::path::Path::new("four-bays.yaml")).expect("valid scenario");
+        let pp = PlantProblem::new(&plant, &StaticPicture::new(&plant, 1.0)).expect("problem");
+        let layout = [0, 1, 2, 4];
+        let c = pp.cost(&layout).unwrap();
+        assert_eq!(c.rules_broken, 1);
+        let named = PlantProblem::broken_rules(&plant, &layout);
+        assert_eq!(
+            named,
+            vec![
+                "pinned: weld must be on a (is on b; a holds cut)".to_string(),
+                "kept empty: b holds weld".into(),
+                "apart: in and cut are neighbours, 10 m apart (must be more than 10 m)".into(),
+            ]
+        );
+        // cut at c (30 m), weld on its pin at a (10 m): only the pair breaks.
+        assert_eq!(
+            PlantProblem::broken_rules(&plant, &[0, 3, 1, 4]),
+            vec!["adjacent: cut and weld are 20 m apart (neighbours are within 10 m)".to_string()]
+        );
     }
 
     #[test]

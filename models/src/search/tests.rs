@@ -198,3 +198,30 @@ fn pinned_departments_never_move_and_rules_are_met_when_possible() {
         }
     }
 }
+
+/// The stall rule: with iterations alone it never fires, so a run is the same
+/// with or without it (deterministic for its seed); with a time limit, a
+/// method on a 5-department problem (120 layouts, its best found within
+/// microseconds) stops on the stall long before the generous limit. The
+/// stall window, 1% of 60 s, is 0.6 s; nothing here asserts a duration, only
+/// which rule stopped the run.
+#[test]
+fn a_stalled_search_stops_early_only_under_a_time_limit() {
+    let q = instance(5, 5, 7, true, true, false);
+    for method in [
+        Method::Exchange { restarts: true },
+        Method::Anneal(AnnealParams::default()),
+        Method::Tabu(TabuParams::default()),
+    ] {
+        let plain = Settings { seed: 3, limits: Limits::iterations(3000), keep: 3, ..Settings::default() };
+        let stall = Settings { limits: Limits::iterations(3000).with_stall(0.01), ..plain.clone() };
+        let (a, b) = (
+            search(&q, &method, &plain, |_, _| ()).unwrap(),
+            search(&q, &method, &stall, |_, _| ()).unwrap(),
+        );
+        assert_eq!((a.layout, a.iterations, a.stalled), (b.layout, b.iterations, false), "{method:?}");
+        let timed = Settings { limits: Limits::seconds(60.0).with_stall(0.01), ..plain.clone() };
+        let c = search(&q, &method, &timed, |_, _| ()).unwrap();
+        assert!(c.stalled, "{method:?} ran {} s without stalling", c.elapsed_s);
+    }
+}
