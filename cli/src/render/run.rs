@@ -77,6 +77,17 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         if fleets {
             let (mw, mwp) = dur_pct(&l.move_wait_s);
             t.row(vec!["wait for a mover".into(), mw, mwp]);
+            // The wait in its two parts: only the first shrinks with more movers.
+            t.row(vec![
+                "  waiting to be assigned".into(),
+                dur(&l.move_wait_assign_s),
+                "part 1: request → a mover sets off (more movers shorten it)".into(),
+            ]);
+            t.row(vec![
+                "  drive to pick-up".into(),
+                dur(&l.move_wait_drive_s),
+                "part 2: the assigned mover's drive (more movers do not remove it)".into(),
+            ]);
             t.row(vec![
                 "distance loaded".into(),
                 format!("{} m/h", pm(&l.distance_loaded_m_per_h, 1.0)),
@@ -189,6 +200,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "idle",
                 "moves/h",
                 "wait",
+                "assign",
+                "drive",
                 "cost/h",
             ];
             if blocked {
@@ -217,6 +230,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     share(f.idle_share.mean),
                     pm(&f.moves_per_h, 1.0),
                     dur(&f.move_wait_s),
+                    dur(&f.move_wait_assign_s),
+                    dur(&f.move_wait_drive_s),
                     pm(&f.handling_cost_per_h, 1.0),
                 ];
                 if blocked {
@@ -235,6 +250,10 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             }
             s.push('\n');
             s.push_str(&t.render(2));
+            let _ = writeln!(
+                s,
+                "  (wait = assign + drive: waiting for a mover to be assigned, then its drive to the pick-up)"
+            );
         }
         if let Some(segments) = &l.segments {
             let mut t = Table::new(&[
