@@ -306,6 +306,11 @@ fn render_advice(out: &FleetOutput) -> String {
         AdviceKind::MoreReplications => {
             writeln!(s, "Only 'unsure' verdicts stand in the way: add replications (--replications) to settle them.")
         }
+        AdviceKind::AddSizes => writeln!(
+            s,
+            "Only one size was simulated, so nothing shows yet whether more movers help: add larger sizes to \
+             --sizes."
+        ),
         AdviceKind::TryLargerSizes => writeln!(
             s,
             "The failing metrics were still improving at the largest sizes: try larger sizes (above {large}), or \
@@ -342,8 +347,8 @@ fn movers(n: u64) -> String {
 fn render_agreement(out: &FleetOutput) -> String {
     let c = &out.advice.analytic;
     let busy = format!(
-        "at {} movers the formula puts the fleet {} busy and the simulation {}",
-        c.at_movers,
+        "at {} the formula puts the fleet {} busy and the simulation {}",
+        movers(u64::from(c.at_movers)),
         share(c.utilization_analytic),
         share(c.utilization_simulated)
     );

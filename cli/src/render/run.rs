@@ -81,12 +81,12 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             t.row(vec![
                 "  waiting to be assigned".into(),
                 dur(&l.move_wait_assign_s),
-                "part 1: request → a mover sets off (more movers shorten it)".into(),
+                "more movers shorten it".into(),
             ]);
             t.row(vec![
                 "  drive to pick-up".into(),
                 dur(&l.move_wait_drive_s),
-                "part 2: the assigned mover's drive (more movers do not remove it)".into(),
+                "set by where idle movers wait".into(),
             ]);
             t.row(vec![
                 "distance loaded".into(),

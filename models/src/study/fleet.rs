@@ -317,6 +317,8 @@ pub enum AdviceKind {
     Met,
     /// Only 'unsure' verdicts stand in the way: more replications may settle them.
     MoreReplications,
+    /// One size only: nothing shows yet whether more movers help.
+    AddSizes,
     /// A failing metric was still improving between the two largest sizes.
     TryLargerSizes,
     /// A failing metric did not improve between the two largest sizes:
@@ -467,6 +469,8 @@ fn advise(
         AdviceKind::SizeCannotMeet
     } else if only_unsure {
         AdviceKind::MoreReplications
+    } else if before_last.is_empty() {
+        AdviceKind::AddSizes
     } else if failing
         .iter()
         .filter(|f| !top.targets.iter().any(|v| v.target == f.target && v.unsure))
@@ -494,8 +498,12 @@ fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
     } else {
         results.iter().find(|r| r.meets_every_target).map(|r| r.movers)
     };
-    let at =
-        simulated_movers.and_then(|n| results.iter().find(|r| r.movers == n)).or_else(|| results.first());
+    // Compare busy shares where the formula says the fleet is enough, if that
+    // size was simulated; else at the smallest adequate size, else the smallest.
+    let find = |n: u64| results.iter().find(|r| u64::from(r.movers) == n);
+    let at = find(analytic_movers)
+        .or_else(|| simulated_movers.and_then(|n| find(u64::from(n))))
+        .or_else(|| results.first());
     let get = |r: &SizeResult, name: &str| r.metrics.get(name).map_or(f64::NAN, |e| e.mean);
     let (at_movers, ua, us) =
         at.map_or((0, f64::NAN, f64::NAN), |r| (r.movers, r.utilization_analytic, get(r, "utilization")));
@@ -517,8 +525,6 @@ fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
                  the pick-up), which the wait targets judge"
                     .to_string(),
             );
-        } else {
-            reasons.push("the targets judge more than the busy time the formula sizes for".to_string());
         }
     }
     if busy_differs {
@@ -544,12 +550,18 @@ fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
             if get(r, "congestion_share") > 0.01 {
                 reasons.push("movers are held up in the aisles".to_string());
             }
-            if reasons.len() == usize::from(size_differs) {
+            if reasons.is_empty() {
                 reasons.push(
                     "the simulated trips and distances differ from the from-to chart's averages".to_string(),
                 );
             }
         }
+    }
+    if size_differs && reasons.is_empty() {
+        reasons.push(
+            "the formula sizes the fleet to be fully busy, and the targets ask for more than that"
+                .to_string(),
+        );
     }
     AnalyticCheck {
         analytic_movers,
