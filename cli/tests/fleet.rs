@@ -271,3 +271,71 @@ fn resvg() -> Option<std::path::PathBuf> {
     }
     found
 }
+
+fn runners(extra: &[&str]) -> Output {
+    let mut a = vec!["fleet", "scenarios/demo.yaml", "--fleet", "runners"];
+    a.extend_from_slice(SHORT);
+    a.extend_from_slice(extra);
+    layflow(&a)
+}
+
+/// The demo's runners walk home after every delivery and every pick-up is a
+/// walk from there: the p95 of that walk alone is over a minute (62.5 s), so a
+/// one-minute p95 wait cannot be met by any number of runners.
+#[test]
+fn a_wait_set_by_the_drive_to_the_pick_up_is_not_a_matter_of_size() {
+    let args = ["--sizes", "2,4,8,16", "--target", "move_wait_p95_s <= 1 min"];
+    let out = runners(&args);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("cannot be met by fleet size alone"), "{s}");
+    assert!(s.contains("runners/move_wait_drive_p95_s"), "the floor is named:\n{s}");
+    assert!(s.contains("when_idle: park"), "the levers are named:\n{s}");
+    assert!(!s.to_lowercase().contains("try larger sizes"), "{s}");
+    assert!(s.contains("Analytic and simulation differ"), "{s}");
+
+    let mut json = args.to_vec();
+    json.extend(["--format", "json", "--no-wall-clock"]);
+    let out = runners(&json);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["advice"]["kind"], "size_cannot_meet", "{}", v["advice"]);
+    let floor = v["advice"]["floor_s"].as_f64().unwrap();
+    assert!(floor > 60.0, "{floor}");
+    assert!(!v["advice"]["levers"].as_array().unwrap().is_empty());
+    assert_eq!(v["advice"]["failing"][0]["below_floor"], true);
+    assert_eq!(v["advice"]["analytic"]["agree"], false);
+    // Every size carries the two parts; they add up to the wait.
+    for size in v["sizes"].as_array().unwrap() {
+        let m = |k: &str| size[k]["mean"].as_f64().unwrap();
+        let (w, a, d) = (m("move_wait_s"), m("move_wait_assign_s"), m("move_wait_drive_s"));
+        assert!((a + d - w).abs() <= 1e-9 * w, "{a} + {d} vs {w}");
+        assert!(size["move_wait_assign_p95_s"]["mean"].is_f64());
+    }
+}
+
+/// Between 8 and 16 runners nothing changes (every lot already finds a free
+/// runner), so a throughput target they miss is no reason to try more.
+#[test]
+fn never_advises_larger_sizes_when_the_last_ones_did_not_improve() {
+    let out = runners(&["--sizes", "8,16", "--target", "throughput_per_h >= 100", "--format", "json"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["advice"]["kind"], "not_improving_with_size", "{}", v["advice"]);
+    assert_eq!(v["advice"]["failing"][0]["improving"], false);
+    let out = runners(&["--sizes", "8,16", "--target", "throughput_per_h >= 100"]);
+    let s = text(&out.stdout);
+    assert!(s.contains("Larger sizes are unlikely to help"), "{s}");
+    assert!(!s.to_lowercase().contains("try larger sizes"), "{s}");
+}
+
+/// Busy share falls from one forklift to two: a busy-share target missed at
+/// both is still improving, and only then are larger sizes suggested.
+#[test]
+fn advises_larger_sizes_only_while_the_metric_still_improves() {
+    let out = fleet(&["--sizes", "1,2", "--target", "utilization <= 10%"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let s = text(&out.stdout);
+    assert!(s.contains("still improving"), "{s}");
+    assert!(s.contains("try larger sizes"), "{s}");
+}

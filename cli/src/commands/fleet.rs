@@ -135,7 +135,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     };
     let result = settings.pool.install(|| study::sweep(&sweep, &progress));
     progress.finish();
-    let (results, events) = result?;
+    let study::SweepResult { sizes: results, advice, events } = result?;
     let wall_s = started.elapsed().as_secs_f64();
     let smallest = results.iter().find(|r| r.meets_every_target).map(|r| r.movers);
     let out = FleetOutput {
@@ -154,6 +154,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         targets,
         sizes: results,
         smallest_meeting_targets: smallest,
+        advice,
         events,
         wall_s: (!settings.no_wall_clock).then_some(wall_s),
     };

@@ -32,6 +32,8 @@ const SHOWN: &[&str] = &[
     "wip_mean",
     "wip_in_transit_mean",
     "move_wait_s",
+    "move_wait_assign_s",
+    "move_wait_drive_s",
     "distance_loaded_m_per_h",
     "distance_empty_m_per_h",
     "handling_cost_per_h",
@@ -128,7 +130,9 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
         let mut t = Table::new(&heads);
         let mut rows: Vec<(String, usize)> = SHOWN
             .iter()
-            .filter(|name| fleets || !matches!(**name, "wip_in_transit_mean" | "move_wait_s"))
+            .filter(|name| {
+                fleets || !matches!(**name, "wip_in_transit_mean") && !name.starts_with("move_wait")
+            })
             .filter(|name| fleets || !name.contains("distance") && !name.contains("cost"))
             .filter_map(|name| find_metric(metric_list, name).map(|(m, _)| (metric_list[m].human(), m)))
             .collect();

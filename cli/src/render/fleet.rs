@@ -3,8 +3,8 @@
 use std::fmt::Write as _;
 
 use layflow_models::metrics::registry::find;
-use layflow_models::metrics::{Estimate, Scope};
-use layflow_models::study::fleet::{Analytic, SizeResult};
+use layflow_models::metrics::{Estimate, Scope, Unit};
+use layflow_models::study::fleet::{Advice, AdviceKind, Analytic, SizeResult};
 use layflow_models::study::targets::Target;
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
@@ -45,6 +45,8 @@ pub struct FleetOutput {
     pub sizes: Vec<SizeResult>,
     /// The smallest size that met every target with 95% confidence.
     pub smallest_meeting_targets: Option<u32>,
+    /// What to do next, and whether the analytic estimate and the simulation agree.
+    pub advice: Advice,
     /// Events simulated.
     pub events: u64,
     /// Wall-clock seconds (left out with --no-wall-clock).
@@ -118,6 +120,8 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
         "load/unload",
         "idle",
         "wait",
+        "assign",
+        "drive",
         "wait p95",
         "moves/h",
         "throughput",
@@ -153,10 +157,13 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
     ]);
     t.optional(&["busy (on duty)"]);
     t.optional(&optional.iter().map(|n| find(Scope::Fleet, n).map_or(*n, |d| d.label)).collect::<Vec<_>>());
+    // The drive stays: it is the floor more movers cannot remove; assign = wait − drive.
+    t.optional(&["assign"]);
     let none = Estimate { mean: f64::NAN, half_width: None, n: 0 };
     // One unit per column, chosen from the column's values.
     let unit = |name: &str| unit_for(out.sizes.iter().filter_map(|r| r.metrics.get(name)).map(|e| e.mean));
     let (wait_u, p95_u, flow_u) = (unit("move_wait_s"), unit("move_wait_p95_s"), unit("flow_time_s"));
+    let (assign_u, drive_u) = (unit("move_wait_assign_s"), unit("move_wait_drive_s"));
     for r in &out.sizes {
         let m = |name: &str| r.metrics.get(name).copied().unwrap_or(none);
         let mut row = vec![
@@ -168,6 +175,8 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
             share(m("handling_share").mean),
             share(m("idle_share").mean),
             dur_in(&m("move_wait_s"), wait_u),
+            dur_in(&m("move_wait_assign_s"), assign_u),
+            dur_in(&m("move_wait_drive_s"), drive_u),
             dur_in(&m("move_wait_p95_s"), p95_u),
             pm(&m("moves_per_h"), 1.0),
             pm(&m("throughput_per_h"), 1.0),
@@ -200,8 +209,9 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
     let _ = writeln!(
         s,
         "  busy = loaded + empty + load/unload + waiting at a full area + held up in aisles (the same busy share \
-         `run` prints); analytic = the minimum-empty-flow estimate's busy share at that size; wait p95 = each \
-         replication's 95th percentile, averaged"
+         `run` prints); analytic = the minimum-empty-flow estimate's busy share at that size; wait = assign \
+         (waiting for a mover to be assigned; more movers shorten it) + drive (the assigned mover's drive to the \
+         pick-up; more movers shorten it only by leaving an idle one nearer); wait p95 = each replication's 95th percentile, averaged"
     );
     if optional.contains(&"congestion_share") {
         let _ = writeln!(
@@ -241,11 +251,143 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
         }
         (false, None) => writeln!(
             s,
-            "No size from {} to {} meets every target with 95% confidence (analytic estimate: {analytic}). \
-             Try larger sizes, more replications (for 'unsure'), or looser targets.",
+            "No size from {} to {} meets every target with 95% confidence (analytic estimate: {analytic}).",
             out.sizes.first().map_or(0, |r| r.movers),
             out.sizes.last().map_or(0, |r| r.movers)
         ),
     };
+    s.push_str(&render_advice(out));
+    s.push_str(&render_agreement(out));
     s
+}
+
+/// A target's value in its own unit: a duration, a percentage or a number.
+fn in_unit(t: Option<&Target>, x: f64) -> String {
+    match t.map(|t| t.unit) {
+        // Seconds up to ten minutes, as the table's wait columns print them.
+        Some(Unit::Seconds) if x.abs() < 600.0 => format!("{} s", num(x)),
+        Some(Unit::Seconds) => dur_plain(x),
+        Some(Unit::Share) => format!("{} points", num(x * 100.0)),
+        _ => num(x),
+    }
+}
+
+/// A signed change in the target's unit, e.g. "+0.000 s ± 0.000 s".
+fn change(t: Option<&Target>, e: &Estimate) -> String {
+    let sign = if e.mean >= 0.0 { "+" } else { "−" };
+    let hw = e.half_width.map_or(String::new(), |h| format!(" ± {}", in_unit(t, h)));
+    format!("{sign}{}{hw}", in_unit(t, e.mean.abs()))
+}
+
+/// The advice in words: what the sizes show for each failing target, and what to do.
+fn render_advice(out: &FleetOutput) -> String {
+    let mut s = String::new();
+    let a = &out.advice;
+    let n = out.sizes.len();
+    let (small, large) = if n >= 2 { (out.sizes[n - 2].movers, out.sizes[n - 1].movers) } else { (0, 0) };
+    let target_of = |text: &str| out.targets.iter().position(|t| t.text == text);
+    for f in &a.failing {
+        let i = target_of(&f.target);
+        let t = i.map(|i| &out.targets[i]);
+        let name =
+            i.map_or(f.target.clone(), |i| format!("target {} ({})", i + 1, out.targets[i].describe()));
+        let step = f.last_step_change.as_ref().map(|d| {
+            format!(
+                "from {small} to {large} movers it changed by {} (paired, common random numbers)",
+                change(t, d)
+            )
+        });
+        if f.below_floor {
+            let fl = f.floor.as_ref().expect("below a floor");
+            let _ = writeln!(
+                s,
+                "  {name} cannot be met by fleet size alone: at {large} movers the assigned mover's drive to the \
+                 pick-up alone is {} ({}), and a wait is never shorter than its drive; more movers only shorten \
+                 the wait to be assigned a mover.{}",
+                in_unit(t, fl.estimate.mean),
+                fl.metric,
+                step.map_or(String::new(), |x| format!(" Last step: {x}."))
+            );
+        } else if f.improving {
+            let _ = writeln!(s, "  {name}: still improving; {}.", step.unwrap_or_default());
+        } else if let Some(step) = step {
+            let floor = f.floor.as_ref().map_or(String::new(), |fl| {
+                format!(
+                    "; the drive to the pick-up at {large} movers is {} ({})",
+                    in_unit(t, fl.estimate.mean),
+                    fl.metric
+                )
+            });
+            let _ = writeln!(s, "  {name}: not improving with size: {step}{floor}.");
+        }
+    }
+    let _ = match a.kind {
+        AdviceKind::NoTargets | AdviceKind::Met => Ok(()),
+        AdviceKind::MoreReplications => {
+            writeln!(s, "Only 'unsure' verdicts stand in the way: add replications (--replications) to settle them.")
+        }
+        AdviceKind::AddSizes => writeln!(
+            s,
+            "Only one size was simulated, so nothing shows yet whether more movers help: add larger sizes to \
+             --sizes."
+        ),
+        AdviceKind::TryLargerSizes => writeln!(
+            s,
+            "The failing metrics were still improving at the largest sizes: try larger sizes (above {large}), or \
+             looser targets."
+        ),
+        AdviceKind::NotImprovingWithSize => writeln!(
+            s,
+            "Larger sizes are unlikely to help: the failing metrics did not improve between the two largest sizes. \
+             Loosen the targets or change what the fleet does{}",
+            if a.levers.is_empty() { "." } else { ":" }
+        ),
+        AdviceKind::SizeCannotMeet => writeln!(
+            s,
+            "Do not buy more movers for this: the wait cannot go below the drive to the pick-up (floor {}). \
+             What lowers the floor:",
+            a.floor_s.map_or(String::new(), |x| format!("{} s", num(x)))
+        ),
+    };
+    for l in &a.levers {
+        let _ = writeln!(s, "  - {l}");
+    }
+    s
+}
+
+fn movers(n: u64) -> String {
+    if n == 1 {
+        "1 mover".into()
+    } else {
+        format!("{n} movers")
+    }
+}
+
+/// One sentence: do the analytic estimate and the simulation say the same thing?
+fn render_agreement(out: &FleetOutput) -> String {
+    let c = &out.advice.analytic;
+    let busy = format!(
+        "at {} the formula puts the fleet {} busy and the simulation {}",
+        movers(u64::from(c.at_movers)),
+        share(c.utilization_analytic),
+        share(c.utilization_simulated)
+    );
+    let sizes = match c.simulated_movers {
+        Some(n) => format!(
+            "the analytic estimate asks for {} and the simulation's smallest adequate size is {n}",
+            movers(c.analytic_movers)
+        ),
+        None if out.targets.is_empty() => {
+            format!("the analytic estimate asks for {}", movers(c.analytic_movers))
+        }
+        None => format!(
+            "the analytic estimate asks for {} and no size simulated met the targets",
+            movers(c.analytic_movers)
+        ),
+    };
+    if c.agree {
+        format!("Analytic and simulation agree: {sizes}; {busy}.\n")
+    } else {
+        format!("Analytic and simulation differ: {sizes}; {busy}. Why: {}.\n", c.reasons.join("; "))
+    }
 }

@@ -77,6 +77,18 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         if fleets {
             let (mw, mwp) = dur_pct(&l.move_wait_s);
             t.row(vec!["wait for a mover".into(), mw, mwp]);
+            // The wait in its two parts, in the wait's own unit: only the first shrinks with more movers.
+            let wait_u = unit_for([l.move_wait_s.mean]);
+            t.row(vec![
+                "  waiting to be assigned".into(),
+                dur_in(&l.move_wait_assign_s, wait_u),
+                "more movers shorten it".into(),
+            ]);
+            t.row(vec![
+                "  drive to pick-up".into(),
+                dur_in(&l.move_wait_drive_s, wait_u),
+                "set by where idle movers wait".into(),
+            ]);
             t.row(vec![
                 "distance loaded".into(),
                 format!("{} m/h", pm(&l.distance_loaded_m_per_h, 1.0)),
@@ -191,6 +203,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "idle",
                 "moves/h",
                 "wait",
+                "assign",
+                "drive",
                 "cost/h",
             ];
             if blocked {
@@ -210,6 +224,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             let mut t = Table::new(&header);
             t.optional(&["loaded", "empty", "load/unload", "moves/h", "idle", "cost/h"]);
             let wait_u = unit_for(l.fleets.iter().map(|f| f.move_wait_s.mean));
+            let assign_u = unit_for(l.fleets.iter().map(|f| f.move_wait_assign_s.mean));
+            let drive_u = unit_for(l.fleets.iter().map(|f| f.move_wait_drive_s.mean));
             for f in &l.fleets {
                 let mut row = vec![
                     f.fleet.clone(),
@@ -221,6 +237,8 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     share(f.idle_share.mean),
                     pm(&f.moves_per_h, 1.0),
                     dur_in(&f.move_wait_s, wait_u),
+                    dur_in(&f.move_wait_assign_s, assign_u),
+                    dur_in(&f.move_wait_drive_s, drive_u),
                     pm(&f.handling_cost_per_h, 1.0),
                 ];
                 if blocked {
@@ -239,6 +257,10 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             }
             s.push('\n');
             s.push_str(&t.render(2));
+            let _ = writeln!(
+                s,
+                "  (wait = assign + drive: waiting for a mover to be assigned, then its drive to the pick-up)"
+            );
         }
         if let Some(segments) = &l.segments {
             let mut t = Table::new(&[

@@ -55,6 +55,8 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
         Id::Wip => r.wip_total,
         Id::WipInTransit => r.wip_transit,
         Id::MoveWait => observed(&r.move_wait_all),
+        Id::MoveWaitAssign => observed(&r.move_wait_assign_all),
+        Id::MoveWaitDrive => observed(&r.move_wait_drive_all),
         Id::DistanceLoaded => per_h(r.fleets.iter().map(|f| f.distance_loaded_m).sum(), r),
         Id::DistanceEmpty => per_h(r.fleets.iter().map(|f| f.distance_empty_m).sum(), r),
         Id::HandlingCost => (0..fleets.len()).map(|f| fleet_cost_per_h(plant, r, f)).sum(),
@@ -89,6 +91,8 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
         }
         Id::FleetMoves => per_h(r.fleets[i].moves as f64, r),
         Id::FleetMoveWait => observed(&r.move_wait[i]),
+        Id::FleetMoveWaitAssign => observed(&r.move_wait_assign[i]),
+        Id::FleetMoveWaitDrive => observed(&r.move_wait_drive[i]),
         Id::FleetDistanceLoaded => per_h(r.fleets[i].distance_loaded_m, r),
         Id::FleetDistanceEmpty => per_h(r.fleets[i].distance_empty_m, r),
         Id::FleetHandlingCost => fleet_cost_per_h(plant, r, i),
@@ -105,6 +109,8 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
         }
         Id::FleetCongestion => share(r.fleets[i].congestion_s),
         Id::FleetMoveWaitQuantile(p) => quantile(&r.move_wait_hist_fleet[i], p.q()),
+        Id::FleetMoveWaitAssignQuantile(p) => quantile(&r.move_wait_assign_hist_fleet[i], p.q()),
+        Id::FleetMoveWaitDriveQuantile(p) => quantile(&r.move_wait_drive_hist_fleet[i], p.q()),
         Id::FleetCostPerLoad => {
             let moves = r.fleets[i].moves;
             if moves == 0 {

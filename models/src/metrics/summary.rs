@@ -89,6 +89,10 @@ pub struct FleetSummary {
     pub moves_per_h: Estimate,
     /// Mean wait from move request to pick-up, s.
     pub move_wait_s: Estimate,
+    /// Its first part: request → a mover assigned and setting off, s.
+    pub move_wait_assign_s: Estimate,
+    /// Its second part: the assigned mover's drive to the pick-up, s.
+    pub move_wait_drive_s: Estimate,
     /// Metres travelled loaded per hour (all movers of the fleet).
     pub distance_loaded_m_per_h: Estimate,
     /// Metres travelled empty per hour.
@@ -150,6 +154,11 @@ pub struct LayoutSummary {
     pub wip_in_transit_mean: Estimate,
     /// Wait from move request to pick-up, every fleet, s (empty with instant moves).
     pub move_wait_s: DurationEstimate,
+    /// The first part of that wait: request → a mover assigned and setting off, s.
+    pub move_wait_assign_s: Estimate,
+    /// The second part: the assigned mover's drive to the pick-up, s
+    /// (assign + drive = `move_wait_s`).
+    pub move_wait_drive_s: Estimate,
     /// Metres travelled loaded per hour, every fleet.
     pub distance_loaded_m_per_h: Estimate,
     /// Metres travelled empty per hour, every fleet.
@@ -212,6 +221,8 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
         wip_mean: wip,
         wip_in_transit_mean: of(Id::WipInTransit, 0),
         move_wait_s: dur(reps.iter().map(|r| value(Id::MoveWait, plant, r, 0)), &wait_hist),
+        move_wait_assign_s: of(Id::MoveWaitAssign, 0),
+        move_wait_drive_s: of(Id::MoveWaitDrive, 0),
         distance_loaded_m_per_h: of(Id::DistanceLoaded, 0),
         distance_empty_m_per_h: of(Id::DistanceEmpty, 0),
         handling_cost_per_h: of(Id::HandlingCost, 0),
@@ -264,6 +275,8 @@ pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &
                 idle_share: of(Id::FleetIdle, f),
                 moves_per_h: of(Id::FleetMoves, f),
                 move_wait_s: of(Id::FleetMoveWait, f),
+                move_wait_assign_s: of(Id::FleetMoveWaitAssign, f),
+                move_wait_drive_s: of(Id::FleetMoveWaitDrive, f),
                 distance_loaded_m_per_h: of(Id::FleetDistanceLoaded, f),
                 distance_empty_m_per_h: of(Id::FleetDistanceEmpty, f),
                 handling_cost_per_h: of(Id::FleetHandlingCost, f),

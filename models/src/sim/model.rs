@@ -112,6 +112,9 @@ struct Mover {
     /// fetching or setting down.
     lot: u32,
     idle_since: f64,
+    /// When it was given the request it is fetching (the end of that
+    /// request's wait for a mover; the start of its drive to the pick-up).
+    assigned: f64,
     /// First of this mover's `capacity` slots in `PlantModel::onboard`.
     slots: u32,
     /// Loads on board a train (always 0 for a single-load mover).
@@ -208,6 +211,11 @@ struct FleetState {
     requests: VecDeque<Request>,
     wait: Tally,
     wait_hist: TickHistogram,
+    /// The move wait in two parts: request → assignment, assignment → pick-up.
+    wait_assign: Tally,
+    wait_drive: Tally,
+    assign_hist: TickHistogram,
+    drive_hist: TickHistogram,
     acc: FleetStats,
     /// The operators are on duty now.
     on_duty: bool,
@@ -246,6 +254,8 @@ struct PlantModel<'a> {
     flow_hist: TickHistogram,
     wait_all: Tally,
     wait_hist: TickHistogram,
+    wait_assign_all: Tally,
+    wait_drive_all: Tally,
     /// Interval and cumulative WIP areas of a warm-up series (pilot runs only).
     series_step: f64,
     series_area: Vec<f64>,
@@ -409,6 +419,7 @@ impl<'a> PlantModel<'a> {
                     location: fleet.home_location as u32,
                     lot: NONE,
                     idle_since: 0.0,
+                    assigned: 0.0,
                     slots,
                     loads: 0,
                     blocked_since: f64::NAN,
@@ -429,6 +440,10 @@ impl<'a> PlantModel<'a> {
                 requests: VecDeque::with_capacity(16),
                 wait: Tally::new(),
                 wait_hist: TickHistogram::new(TICK_S),
+                wait_assign: Tally::new(),
+                wait_drive: Tally::new(),
+                assign_hist: TickHistogram::new(TICK_S),
+                drive_hist: TickHistogram::new(TICK_S),
                 acc: FleetStats::default(),
                 on_duty: true,
                 off: Vec::with_capacity(fleet.count as usize),
@@ -462,6 +477,8 @@ impl<'a> PlantModel<'a> {
             flow_hist: TickHistogram::new(TICK_S),
             wait_all: Tally::new(),
             wait_hist: TickHistogram::new(TICK_S),
+            wait_assign_all: Tally::new(),
+            wait_drive_all: Tally::new(),
             series_step: 0.0,
             series_area: Vec::new(),
             order_play: 0,
@@ -500,6 +517,10 @@ impl<'a> PlantModel<'a> {
         for f in &mut self.fleets {
             f.wait.reset();
             f.wait_hist.reset();
+            f.wait_assign.reset();
+            f.wait_drive.reset();
+            f.assign_hist.reset();
+            f.drive_hist.reset();
             // Fleet activity is clipped to the window when recorded, so it is not reset.
         }
         self.shipped.iter_mut().for_each(|s| *s = 0);
@@ -508,6 +529,8 @@ impl<'a> PlantModel<'a> {
         self.flow_hist.reset();
         self.wait_all.reset();
         self.wait_hist.reset();
+        self.wait_assign_all.reset();
+        self.wait_drive_all.reset();
     }
 
     /// Schedule the next arrival of product `p` after `now`, if it comes by the horizon.
@@ -815,6 +838,12 @@ impl<'a> PlantModel<'a> {
             move_wait_hist_fleet: self.fleets.iter().map(|f| f.wait_hist.clone()).collect(),
             move_wait_all: self.wait_all,
             move_wait_hist: self.wait_hist,
+            move_wait_assign: self.fleets.iter().map(|f| f.wait_assign).collect(),
+            move_wait_drive: self.fleets.iter().map(|f| f.wait_drive).collect(),
+            move_wait_assign_all: self.wait_assign_all,
+            move_wait_drive_all: self.wait_drive_all,
+            move_wait_assign_hist_fleet: self.fleets.iter().map(|f| f.assign_hist.clone()).collect(),
+            move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
         }
     }

@@ -89,6 +89,24 @@ pub struct RepStats {
     pub move_wait_hist: TickHistogram,
     /// Move-wait histogram per fleet, for a fleet's percentiles.
     pub move_wait_hist_fleet: Vec<TickHistogram>,
+    /// The first part of each move wait, per fleet: from the request to the
+    /// moment a mover is assigned and sets off towards the load. More movers
+    /// shorten it.
+    pub move_wait_assign: Vec<Tally>,
+    /// The second part, per fleet: from the assignment to the mover reaching
+    /// the pick-up (its drive there, empty or a train's loaded, with any
+    /// aisle hold-ups). More movers do not remove it; where idle movers wait does.
+    /// For every pick-up, assign + drive = the whole wait.
+    pub move_wait_drive: Vec<Tally>,
+    /// The assignment part, every fleet.
+    pub move_wait_assign_all: Tally,
+    /// The drive part, every fleet.
+    pub move_wait_drive_all: Tally,
+    /// Histogram of the assignment part per fleet, for its percentiles.
+    pub move_wait_assign_hist_fleet: Vec<TickHistogram>,
+    /// Histogram of the drive part per fleet: since wait ≥ drive for every
+    /// pick-up, each percentile of it is a floor under the wait's.
+    pub move_wait_drive_hist_fleet: Vec<TickHistogram>,
     /// Activity per fleet.
     pub fleets: Vec<FleetStats>,
     /// Time-average share of machines holding a finished lot they cannot pass

@@ -235,11 +235,26 @@ pub struct Sweep<'a> {
     pub analytic: &'a Estimated,
 }
 
-/// Simulate every size on the current rayon pool. Also returns the events simulated.
-pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<(Vec<SizeResult>, u64), StudyError> {
+/// What a sweep found: every size, the advice, and the events simulated.
+pub struct SweepResult {
+    /// One entry per size, in increasing order.
+    pub sizes: Vec<SizeResult>,
+    /// What to do next, judged from the sizes.
+    pub advice: Advice,
+    /// Events simulated, every size.
+    pub events: u64,
+}
+
+/// Simulate every size on the current rayon pool, then judge what to advise.
+pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyError> {
     let mut results = Vec::with_capacity(s.sizes.len());
     let mut events = 0;
     let id = &s.plant.fleets()[s.fleet].id;
+    // Each target's per-replication values at the two largest sizes so far,
+    // for the paired difference (common random numbers) of the last step.
+    let mut last: Vec<Vec<f64>> = Vec::new();
+    let mut before_last: Vec<Vec<f64>> = Vec::new();
+    let mut floors = Vec::new();
     for &n in s.sizes {
         let p = sized(s.plant, s.fleet, n);
         progress.stage(format!("{id} × {n}"));
@@ -250,8 +265,313 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<(Vec<SizeResult>, u64
         }
         events += reps.iter().map(|r| r.events).sum::<u64>();
         results.push(size_result(&p, s, n, &reps));
+        let list = every_metric(&p);
+        before_last = std::mem::take(&mut last);
+        last = s.targets.iter().map(|t| reps.iter().map(|r| list[t.metric].value(&p, r)).collect()).collect();
+        floors = s.targets.iter().map(|t| floor_of(&p, &list, &list[t.metric], &reps)).collect();
     }
-    Ok((results, events))
+    let advice = advise(s, &results, &before_last, &last, &floors);
+    Ok(SweepResult { sizes: results, advice, events })
+}
+
+/// The part of a wait metric that more movers cannot remove, as the metric
+/// naming it: a wait for a mover is at least its drive part for every
+/// pick-up, so each mean or percentile of the drive is a floor under the
+/// same figure of the wait. `None` for metrics that are not waits.
+pub fn floor_metric(name: &str) -> Option<&'static str> {
+    Some(match name {
+        "move_wait_s" | "move_wait_drive_s" => "move_wait_drive_s",
+        "move_wait_p50_s" | "move_wait_drive_p50_s" => "move_wait_drive_p50_s",
+        "move_wait_p90_s" | "move_wait_drive_p90_s" => "move_wait_drive_p90_s",
+        "move_wait_p95_s" | "move_wait_drive_p95_s" => "move_wait_drive_p95_s",
+        "move_wait_p99_s" | "move_wait_drive_p99_s" => "move_wait_drive_p99_s",
+        _ => return None,
+    })
+}
+
+/// The floor of target metric `m` at this size: (floor metric's label, its
+/// estimate), when `m` is a wait with a drive part of the same subject.
+fn floor_of(plant: &Plant, list: &[Metric], m: &Metric, reps: &[RepStats]) -> Option<Floor> {
+    let name = floor_metric(m.name)?;
+    let f = list.iter().find(|x| x.scope == m.scope && x.subject == m.subject && x.name == name)?;
+    let (e, _) = est_with_se(reps.iter().map(|r| f.value(plant, r)));
+    e.mean.is_finite().then(|| Floor { metric: f.label(), estimate: e })
+}
+
+/// A floor under a wait: the drive part at the largest size.
+#[derive(Debug, Clone, Serialize)]
+pub struct Floor {
+    /// The drive metric, by its full label (`runners/move_wait_drive_p95_s`).
+    pub metric: String,
+    /// Its estimate at the largest size simulated.
+    pub estimate: Estimate,
+}
+
+/// What `fleet` advises, as a kind a program can read.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Serialize)]
+#[serde(rename_all = "snake_case")]
+pub enum AdviceKind {
+    /// No target was given: nothing to judge.
+    NoTargets,
+    /// Some size meets every target.
+    Met,
+    /// Only 'unsure' verdicts stand in the way: more replications may settle them.
+    MoreReplications,
+    /// One size only: nothing shows yet whether more movers help.
+    AddSizes,
+    /// A failing metric was still improving between the two largest sizes.
+    TryLargerSizes,
+    /// A failing metric did not improve between the two largest sizes:
+    /// larger sizes are unlikely to help.
+    NotImprovingWithSize,
+    /// A wait target lies below the drive to the pick-up, which more movers
+    /// cannot remove.
+    SizeCannotMeet,
+}
+
+/// One target no size met, and why.
+#[derive(Debug, Clone, Serialize)]
+pub struct Failing {
+    /// The target as written.
+    pub target: String,
+    /// The metric, by its full label.
+    pub metric: String,
+    /// Paired difference (larger − smaller size) of the metric between the
+    /// two largest sizes, with its 95% half-width; absent with one size.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub last_step_change: Option<Estimate>,
+    /// The last step improved the metric (the paired interval excludes 0 on the better side).
+    pub improving: bool,
+    /// For a wait: the drive part at the largest size, which more movers do not remove.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub floor: Option<Floor>,
+    /// The floor (its 95% interval, wholly) is on the wrong side of the target.
+    pub below_floor: bool,
+}
+
+/// The verdict of a sweep, in data; `render::fleet` words it.
+#[derive(Debug, Clone, Serialize)]
+pub struct Advice {
+    /// What to do.
+    pub kind: AdviceKind,
+    /// The floor, s, of the first wait target that size cannot meet.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub floor_s: Option<f64>,
+    /// The targets no size met (at the largest size), each with its evidence.
+    pub failing: Vec<Failing>,
+    /// What moves a wait's floor, when a wait target cannot be met by size.
+    pub levers: Vec<&'static str>,
+    /// Whether the analytic estimate and the simulation agree, and why not.
+    pub analytic: AnalyticCheck,
+}
+
+/// What moves the floor of a wait for a mover: where idle movers wait, and the distances.
+pub const LEVERS: &[&str] = &[
+    "idle rule: `when_idle: park` with parking places near the busiest pick-ups (instead of driving home)",
+    "a reserve: `dispatch: reserve` keeps idle movers waiting at the busiest pick-up",
+    "home or parking places: move `home:` / `parking:` closer to where loads are picked up",
+    "layout: put the departments this fleet serves closer together",
+    "faster movers (`speed:`) shorten every drive",
+];
+
+/// The analytic estimate against the simulation, in data.
+#[derive(Debug, Clone, Serialize)]
+pub struct AnalyticCheck {
+    /// Movers the analytic (minimum-empty-flow) estimate asks for.
+    pub analytic_movers: u64,
+    /// The smallest size that met every target, if any (and targets were given).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub simulated_movers: Option<u32>,
+    /// The size compared on utilisation: the smallest adequate one, else the smallest simulated.
+    pub at_movers: u32,
+    /// Analytic busy share at that size.
+    pub utilization_analytic: f64,
+    /// Simulated busy share at that size.
+    pub utilization_simulated: f64,
+    /// They agree: the same size (or no targets) and busy shares within 5 points.
+    pub agree: bool,
+    /// Why they differ, each a short phrase (empty when they agree).
+    pub reasons: Vec<String>,
+}
+
+/// Busy shares within this many points count as agreeing: the formula is a
+/// planning figure, and a few points cover its rounding of trips and distances.
+const AGREE_POINTS: f64 = 0.05;
+
+fn advise(
+    s: &Sweep,
+    results: &[SizeResult],
+    before_last: &[Vec<f64>],
+    last: &[Vec<f64>],
+    floors: &[Option<Floor>],
+) -> Advice {
+    let analytic = analytic_check(s, results);
+    let kind_none = |kind| Advice {
+        kind,
+        floor_s: None,
+        failing: Vec::new(),
+        levers: Vec::new(),
+        analytic: analytic.clone(),
+    };
+    if s.targets.is_empty() {
+        return kind_none(AdviceKind::NoTargets);
+    }
+    if results.iter().any(|r| r.meets_every_target) {
+        return kind_none(AdviceKind::Met);
+    }
+    let Some(top) = results.last() else {
+        return kind_none(AdviceKind::NoTargets);
+    };
+    let mut failing = Vec::new();
+    for (i, t) in s.targets.iter().enumerate() {
+        let v = &top.targets[i];
+        if v.met {
+            continue;
+        }
+        let lower_better = matches!(t.op, super::targets::Op::AtMost | super::targets::Op::Below);
+        let change = (!before_last.is_empty()).then(|| {
+            let (a, b): (Vec<f64>, Vec<f64>) = last[i]
+                .iter()
+                .zip(&before_last[i])
+                .filter(|(x, y)| x.is_finite() && y.is_finite())
+                .map(|(x, y)| (*x, *y))
+                .unzip();
+            let d = layflow_engine::paired_difference(&a, &b, crate::metrics::CONFIDENCE);
+            Estimate { mean: d.mean, half_width: d.half_width, n: d.n }
+        });
+        // Improving: the paired interval lies wholly on the better side of 0.
+        let improving = change.is_some_and(|d| {
+            let h = d.half_width.unwrap_or(0.0);
+            d.mean.is_finite() && if lower_better { d.mean + h < 0.0 } else { d.mean - h > 0.0 }
+        });
+        let floor = floors[i].clone();
+        let below_floor = lower_better
+            && floor.as_ref().is_some_and(|f| {
+                let lo = f.estimate.mean - f.estimate.half_width.unwrap_or(0.0);
+                match t.op {
+                    super::targets::Op::Below => lo >= t.value,
+                    _ => lo > t.value,
+                }
+            });
+        failing.push(Failing {
+            target: t.text.clone(),
+            metric: t.name.clone(),
+            last_step_change: change,
+            improving,
+            floor,
+            below_floor,
+        });
+    }
+    let floor_s =
+        failing.iter().find(|f| f.below_floor).and_then(|f| f.floor.as_ref()).map(|f| f.estimate.mean);
+    let only_unsure = top.targets.iter().all(|v| v.met || v.unsure);
+    let kind = if floor_s.is_some() {
+        AdviceKind::SizeCannotMeet
+    } else if only_unsure {
+        AdviceKind::MoreReplications
+    } else if before_last.is_empty() {
+        AdviceKind::AddSizes
+    } else if failing
+        .iter()
+        .filter(|f| !top.targets.iter().any(|v| v.target == f.target && v.unsure))
+        .all(|f| f.improving)
+    {
+        AdviceKind::TryLargerSizes
+    } else {
+        AdviceKind::NotImprovingWithSize
+    };
+    let waits = failing.iter().any(|f| f.floor.is_some());
+    let levers = if waits && matches!(kind, AdviceKind::SizeCannotMeet | AdviceKind::NotImprovingWithSize) {
+        LEVERS.to_vec()
+    } else {
+        Vec::new()
+    };
+    Advice { kind, floor_s, failing, levers, analytic }
+}
+
+/// The analytic estimate against the simulation: the smallest adequate size,
+/// and the busy share at the size compared, with the likely reasons they differ.
+fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
+    let analytic_movers = s.analytic.vehicles_rounded_up;
+    let simulated_movers = if s.targets.is_empty() {
+        None
+    } else {
+        results.iter().find(|r| r.meets_every_target).map(|r| r.movers)
+    };
+    // Compare busy shares where the formula says the fleet is enough, if that
+    // size was simulated; else at the smallest adequate size, else the smallest.
+    let find = |n: u64| results.iter().find(|r| u64::from(r.movers) == n);
+    let at = find(analytic_movers)
+        .or_else(|| simulated_movers.and_then(|n| find(u64::from(n))))
+        .or_else(|| results.first());
+    let get = |r: &SizeResult, name: &str| r.metrics.get(name).map_or(f64::NAN, |e| e.mean);
+    let (at_movers, ua, us) =
+        at.map_or((0, f64::NAN, f64::NAN), |r| (r.movers, r.utilization_analytic, get(r, "utilization")));
+    let size_differs = !s.targets.is_empty() && simulated_movers != Some(analytic_movers as u32);
+    let busy_differs = !((ua - us).abs() <= AGREE_POINTS);
+    let mut reasons = Vec::new();
+    if size_differs {
+        let wait_target = s.targets.iter().any(|t| t.name.contains("move_wait"));
+        let fewer = simulated_movers.is_some_and(|n| u64::from(n) < analytic_movers);
+        if fewer {
+            reasons.push(
+                "the smallest size simulated already met the targets (the sweep did not go below it), or the \
+                 formula's trips and distances run above the simulated ones"
+                    .to_string(),
+            );
+        } else if wait_target {
+            reasons.push(
+                "the formula sizes for busy time only and ignores waiting for a mover (queueing and the drive to \
+                 the pick-up), which the wait targets judge"
+                    .to_string(),
+            );
+        }
+    }
+    if busy_differs {
+        if let Some(r) = at {
+            let empty = get(r, "empty_travel_share");
+            let loaded = get(r, "loaded_travel_share");
+            let (ae, al) = (s.analytic.empty_travel_s_per_h, s.analytic.loaded_travel_s_per_h);
+            // The simulation's empty-to-loaded ratio against the formula's (minimum empty flow).
+            if al > 0.0 && loaded > 0.0 && ((empty / loaded) - ae / al).abs() > 0.2 * (ae / al).max(0.1) {
+                reasons.push(format!(
+                    "empty travel: the simulated movers drive empty {} for every second loaded, the minimum-empty-flow \
+                     rule {} (idle rule and dispatch decide where empties go)",
+                    crate::text::num(empty / loaded),
+                    crate::text::num(ae / al)
+                ));
+            }
+            if get(r, "blocked_share") > 0.01 {
+                reasons.push("blocking: movers wait holding loads at full inbound areas".to_string());
+            }
+            if get(r, "availability") < 0.99 {
+                reasons.push("breakdowns or charging take movers out of service".to_string());
+            }
+            if get(r, "congestion_share") > 0.01 {
+                reasons.push("movers are held up in the aisles".to_string());
+            }
+            if reasons.is_empty() {
+                reasons.push(
+                    "the simulated trips and distances differ from the from-to chart's averages".to_string(),
+                );
+            }
+        }
+    }
+    if size_differs && reasons.is_empty() {
+        reasons.push(
+            "the formula sizes the fleet to be fully busy, and the targets ask for more than that"
+                .to_string(),
+        );
+    }
+    AnalyticCheck {
+        analytic_movers,
+        simulated_movers,
+        at_movers,
+        utilization_analytic: ua,
+        utilization_simulated: us,
+        agree: reasons.is_empty(),
+        reasons,
+    }
 }
 
 fn size_result(plant: &Plant, s: &Sweep, n: u32, reps: &[RepStats]) -> SizeResult {

@@ -155,6 +155,7 @@ impl PlantModel<'_> {
         }
         let m = &mut self.movers[mover as usize];
         m.lot = lot;
+        m.assigned = now;
         let f = m.fleet as usize;
         let pickup = self.plan.dept_location[self.lots[lot as usize].department as usize];
         let d = self.plan.dist(m.location as usize, pickup);
@@ -199,17 +200,27 @@ impl PlantModel<'_> {
         }
     }
 
-    /// The move wait of a lot picked up now, and its count as a move.
+    /// The move wait of a lot picked up now (whole, and in its two parts:
+    /// waiting to be assigned a mover since the request, then that mover's
+    /// drive since `assigned`), and its count as a move.
     #[inline]
-    fn record_pickup(&mut self, f: usize, lot: u32, now: f64) {
-        let wait = now - self.lots[lot as usize].requested;
+    fn record_pickup(&mut self, f: usize, lot: u32, assigned: f64, now: f64) {
+        let requested = self.lots[lot as usize].requested;
+        let wait = now - requested;
         if now >= self.window.0 && now < self.window.1 {
+            let (assign, drive) = (assigned - requested, now - assigned);
             let fs = &mut self.fleets[f];
             fs.acc.moves += 1;
             fs.wait.add(wait);
             fs.wait_hist.record(wait);
+            fs.wait_assign.add(assign);
+            fs.wait_drive.add(drive);
+            fs.assign_hist.record(assign);
+            fs.drive_hist.record(drive);
             self.wait_all.add(wait);
             self.wait_hist.record(wait);
+            self.wait_assign_all.add(assign);
+            self.wait_drive_all.add(drive);
         }
     }
 
@@ -252,7 +263,7 @@ impl PlantModel<'_> {
             }
             cal.schedule(t_end, Event::Deliver { mover });
         }
-        self.record_pickup(f, m.lot, now);
+        self.record_pickup(f, m.lot, m.assigned, now);
         let w = self.weight(m.lot);
         self.departments[from].wip.add(now, -w);
         self.transit.add(now, w);
@@ -270,7 +281,7 @@ impl PlantModel<'_> {
         let from = self.lots[m.lot as usize].department as usize;
         let t_end = now + self.plan.fleets[f].load_s;
         self.fleets[f].acc.handling_s += self.in_window(now, t_end);
-        self.record_pickup(f, m.lot, now);
+        self.record_pickup(f, m.lot, m.assigned, now);
         let w = self.weight(m.lot);
         self.departments[from].wip.add(now, -w);
         self.transit.add(now, w);
