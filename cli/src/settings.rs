@@ -91,6 +91,13 @@ pub fn layout(plant: &Plant, name: &str) -> Result<usize, Failure> {
     })
 }
 
+/// Reads a `--demand` value: a number (`1.2`) or a percentage (`120%`).
+pub fn parse_demand(text: &str) -> Result<f64, String> {
+    layflow_models::scenario::parse_factor(text).map_err(|_| {
+        format!("\"{text}\" is not a demand factor; write a number or a percentage, e.g. 1.2 or 120%")
+    })
+}
+
 /// The demand factor to use: the command line's, else the scenario's.
 pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
     match arg {

@@ -229,14 +229,16 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let spec: PlanSpec = serde_path_to_error::deserialize(de).map_err(|e| {
         let line = e.inner().location().map(|l| l.line());
         let path = e.path().to_string();
-        let what = if path == "." { e.inner().to_string() } else { format!("{path}: {}", e.inner()) };
-        err(
-            file,
-            line,
-            what,
+        // serde's words name Rust types (`u32`, `struct PlanSpec`); say it in the plan's words.
+        let raw = crate::scenario::bare_message(e.inner());
+        let (message, hint) = crate::scenario::type_error(&raw, &path).unwrap_or((raw, None));
+        let what = if path == "." { message } else { format!("{path}: {message}") };
+        let hint = hint.unwrap_or_else(|| {
             "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, and \
-             `factors:` (every combination) or `points:` (a list)",
-        )
+             `factors:` (every combination) or `points:` (a list)"
+                .to_string()
+        });
+        err(file, line, what, &hint)
     })?;
     if spec.replications == 0 {
         return Err(err(file, line_of(&text, "replications"), "replications must be at least 1", ""));
@@ -290,7 +292,7 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
             let Some(level) = level else { continue };
             match &f.kind {
                 FactorKind::Layout => layout = Some(value_text(level)),
-                FactorKind::Demand => demand = level.as_f64(),
+                FactorKind::Demand => demand = demand_level(level),
                 FactorKind::Field(path) => {
                     *field_mut(&mut doc, path).map_err(|e| err(file, line_of(&text, &f.name), e, ""))? =
                         level.clone();
@@ -411,11 +413,16 @@ fn factor_kind(file: &Path, text: &str, name: &str, base: &Value) -> Result<Fact
     }
 }
 
+/// A demand level as a number: `1.2` or `120%`.
+fn demand_level(v: &Value) -> Option<f64> {
+    v.as_f64().or_else(|| v.as_str().and_then(|s| crate::scenario::parse_factor(s).ok()))
+}
+
 fn check_level(file: &Path, text: &str, f: &Factor, v: &Value) -> Result<(), PlanError> {
     let bad =
         |what: String| Err(err(file, line_of(text, &f.name), format!("factor `{}`: {what}", f.name), ""));
     match f.kind {
-        FactorKind::Demand => match v.as_f64() {
+        FactorKind::Demand => match demand_level(v) {
             Some(x) if x > 0.0 && x.is_finite() => Ok(()),
             _ => bad(format!("level {} is not a demand factor > 0", value_text(v))),
         },
