@@ -583,4 +583,51 @@ mod tests {
         assert_ne!(mix(1, 0), mix(1, 1));
         assert_eq!(mix(1, 3), mix(1, 3));
     }
+
+    /// A plan file in a fresh folder, running the hand-checked scenario.
+    fn plan(body: &str) -> Result<Experiment, PlanError> {
+        let dir = tempfile::tempdir().unwrap();
+        let scenario =
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/validation/tiny-hand-checked.yaml");
+        let file = dir.path().join("plan.yaml");
+        std::fs::write(&file, format!("scenario: {}\n{body}", scenario.display())).unwrap();
+        load(&file)
+    }
+
+    #[test]
+    fn demand_levels_may_be_percentages() {
+        let e = plan("replications: 2\nfactors: { demand: [80%, 1.2] }\n").unwrap();
+        let levels: Vec<f64> = e.setups.iter().map(|s| s.spec.demand_factor).collect();
+        assert_eq!(levels, [0.8, 1.2]);
+        let e = plan("replications: 2\nfactors: { demand: [lots] }\n").unwrap_err();
+        assert!(e.message.contains("level lots is not a demand factor > 0"), "{}", e.message);
+    }
+
+    #[test]
+    fn wrong_types_in_a_plan_are_said_in_words() {
+        for (body, want) in [
+            (
+                "replications: ten\nfactors: { demand: [1] }\n",
+                "replications: expected a whole number of replications, such as 10, got \"ten\"",
+            ),
+            (
+                "replications: 2\nseed: x\nfactors: { demand: [1] }\n",
+                "seed: expected a whole number, such as 42, got \"x\"",
+            ),
+            (
+                "replications: 2\ncommon_random_numbers: maybe\nfactors: { demand: [1] }\n",
+                "expected true or false, got \"maybe\"",
+            ),
+            (
+                "replications: 2\nfactors: [1]\n",
+                "factors: expected a mapping of factors to their levels, such as { layout: [current, proposed], demand: [0.8, 1.2] }, got a list",
+            ),
+            ("replications: 2\npoints: 3\n", "points: expected a list of design points, such as [{ layout: current, demand: 1.2 }], got 3"),
+        ] {
+            let m = plan(body).unwrap_err().message;
+            assert!(m.contains(want), "{body:?}:\n  want {want}\n  got  {m}");
+            let leak = crate::scenario::RUST_WORDS.iter().find(|w| m.contains(*w));
+            assert!(leak.is_none() && !m.contains("PlanSpec"), "{m}");
+        }
+    }
 }

@@ -17,7 +17,6 @@ const FIELD_WORDS: &[(&str, &str, &str)] = &[
     ),
     ("p", "a probability, such as 0.9 or 90%", ""),
     ("demand_factor", "a factor, such as 1.2 or 120%", ""),
-    ("factors", "a list of factors, such as [0.5, 1.5] or [50%, 150%]", ""),
     ("efficiency", "a share of full speed, such as 0.85 or 85%", ""),
     (
         "per_km",
@@ -42,6 +41,7 @@ const FIELD_WORDS: &[(&str, &str, &str)] = &[
     ("length", "a length in metres as a plain number, such as 30", ""),
     ("neighbour_distance", "a distance in metres as a plain number, such as 12", ""),
     ("k", "a whole number of phases, such as 3", ""),
+    ("points", "a list of design points, such as [{ layout: current, demand: 1.2 }]", ""),
 ];
 
 /// What a Rust type wants, in words with an example, for fields the table above does not name.
@@ -57,6 +57,7 @@ const TYPE_WORDS: &[(&str, &str)] = &[
     ("an array of length 2", "a pair, such as [10, 20]"),
     ("a tuple of size 2", "a pair, such as [5 min, 0.3]"),
     ("a map", "a mapping, such as { key: value }"),
+    ("a YAML mapping", "a mapping, such as { key: value }"),
     ("struct Scenario", "a scenario: a mapping that starts `plant: <name>`, with run, locations, departments, layouts and products"),
     ("struct UnitsSpec", "a mapping such as { length: m }"),
     ("struct RunSpec", "a mapping such as { horizon: 5 d, warmup: 1 d, replications: 10 }"),
@@ -167,6 +168,14 @@ pub(crate) fn expected_words(path: &str, expected: &str) -> (String, Option<Stri
     let parent_is = |name: &str| path.split(['.', '[']).any(|s| s == name);
     // The same field name means different things in different places.
     let special = match field {
+        // A demand profile's factors; an experiment plan's `factors` is a mapping.
+        "factors" if parent_is("profile") => {
+            Some(("a list of factors, such as [0.5, 1.5] or [50%, 150%]", ""))
+        }
+        "factors" => Some((
+            "a mapping of factors to their levels, such as { layout: [current, proposed], demand: [0.8, 1.2] }",
+            "",
+        )),
         "per_hour" if parent_is("demand") => Some(("a number of lots per hour, such as 2.5", "")),
         "per_hour" => Some((
             "an amount of money per hour as a plain number, such as 38",
