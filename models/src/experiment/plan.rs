@@ -622,6 +622,7 @@ mod tests {
                 "replications: 2\nfactors: [1]\n",
                 "factors: expected a mapping of factors to their levels, such as { layout: [current, proposed], demand: [0.8, 1.2] }, got a list",
             ),
+            ("replications: 2\nhorizon: [20]\nfactors: { demand: [1] }\n", "horizon: expected a duration, such as \"20 d\", got a list"),
             ("replications: 2\npoints: 3\n", "points: expected a list of design points, such as [{ layout: current, demand: 1.2 }], got 3"),
         ] {
             let m = plan(body).unwrap_err().message;

@@ -172,6 +172,8 @@ pub(crate) fn expected_words(path: &str, expected: &str) -> (String, Option<Stri
         "factors" if parent_is("profile") => {
             Some(("a list of factors, such as [0.5, 1.5] or [50%, 150%]", ""))
         }
+        // A plan's horizon and warm-up are text; the scenario's are read by the duration parser.
+        "horizon" | "warmup" => Some(("a duration, such as \"20 d\"", "")),
         "factors" => Some((
             "a mapping of factors to their levels, such as { layout: [current, proposed], demand: [0.8, 1.2] }",
             "",
@@ -183,12 +185,12 @@ pub(crate) fn expected_words(path: &str, expected: &str) -> (String, Option<Stri
         )),
         _ => None,
     };
-    let by_field =
-        special.or_else(|| FIELD_WORDS.iter().find(|(f, _, _)| *f == field).map(|(_, w, h)| (*w, *h)));
     // The field table describes a number or a pair; when serde wanted a name
     // or a mapping there, the type table says it better.
-    let by_field = by_field.filter(|_| {
-        !expected.starts_with("struct") && !expected.starts_with("enum") && !expected.contains("string")
+    let by_field = special.or_else(|| {
+        FIELD_WORDS.iter().find(|(f, _, _)| *f == field).map(|(_, w, h)| (*w, *h)).filter(|_| {
+            !expected.starts_with("struct") && !expected.starts_with("enum") && !expected.contains("string")
+        })
     });
     if let Some((w, h)) = by_field {
         return (w.to_string(), (!h.is_empty()).then(|| h.to_string()));
