@@ -98,6 +98,12 @@ pub fn parse_demand(text: &str) -> Result<f64, String> {
     })
 }
 
+/// Reads a share such as `--efficiency`: a number (`0.85`) or a percentage (`85%`).
+pub fn parse_share(text: &str) -> Result<f64, String> {
+    layflow_models::scenario::parse_factor(text)
+        .map_err(|_| format!("\"{text}\" is not a share; write a number or a percentage, e.g. 0.85 or 85%"))
+}
+
 /// The demand factor to use: the command line's, else the scenario's.
 pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
     match arg {
@@ -232,6 +238,10 @@ mod tests {
                 other => panic!("{other:?}"),
             };
             assert_eq!(demand, Some(1.2), "{cmd:?}");
+        }
+        match parse(&["fleet", "s.yaml", "--sizes", "1,2", "--efficiency", "85%"]).unwrap() {
+            Command::Fleet(a) => assert_eq!(a.efficiency, Some(0.85)),
+            other => panic!("{other:?}"),
         }
         let e = parse(&["run", "s.yaml", "--demand", "lots"]).unwrap_err().to_string();
         assert!(e.contains("write a number or a percentage"), "{e}");

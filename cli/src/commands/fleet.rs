@@ -42,7 +42,7 @@ pub struct FleetArgs {
     pub demand: Option<f64>,
     /// Share of a mover's available time spent moving, for the analytic estimate only
     /// (default: the fleet's operators.efficiency, else 1).
-    #[arg(long, value_name = "E")]
+    #[arg(long, value_name = "E", value_parser = crate::settings::parse_share)]
     pub efficiency: Option<f64>,
     /// Draw wait and utilisation against fleet size, with the target lines, into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
