@@ -91,6 +91,19 @@ pub fn layout(plant: &Plant, name: &str) -> Result<usize, Failure> {
     })
 }
 
+/// Reads a `--demand` value: a number (`1.2`) or a percentage (`120%`).
+pub fn parse_demand(text: &str) -> Result<f64, String> {
+    layflow_models::scenario::parse_factor(text).map_err(|_| {
+        format!("\"{text}\" is not a demand factor; write a number or a percentage, e.g. 1.2 or 120%")
+    })
+}
+
+/// Reads a share such as `--efficiency`: a number (`0.85`) or a percentage (`85%`).
+pub fn parse_share(text: &str) -> Result<f64, String> {
+    layflow_models::scenario::parse_factor(text)
+        .map_err(|_| format!("\"{text}\" is not a share; write a number or a percentage, e.g. 0.85 or 85%"))
+}
+
 /// The demand factor to use: the command line's, else the scenario's.
 pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
     match arg {
@@ -185,5 +198,53 @@ impl SimOptions {
             )));
         }
         Ok((warmup_s, choice))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use clap::Parser;
+
+    use super::parse_demand;
+    use crate::{Cli, Command};
+
+    #[test]
+    fn demand_takes_a_number_or_a_percentage() {
+        assert_eq!(parse_demand("1.2"), Ok(1.2));
+        assert_eq!(parse_demand("120%"), Ok(1.2));
+        assert_eq!(parse_demand("80 %"), Ok(0.8));
+        let e = parse_demand("12x").unwrap_err();
+        assert_eq!(e, "\"12x\" is not a demand factor; write a number or a percentage, e.g. 1.2 or 120%");
+    }
+
+    /// The flag as a user types it, through clap, on every command that takes it.
+    #[test]
+    fn every_command_reads_a_percentage() {
+        let parse = |args: &[&str]| Cli::try_parse_from(["layflow"].iter().chain(args)).map(|c| c.command);
+        match parse(&["compare", "s.yaml", "--demand", "0.8,120%"]).unwrap() {
+            Command::Compare(a) => assert_eq!(a.demand, [0.8, 1.2]),
+            other => panic!("{other:?}"),
+        }
+        for cmd in
+            [&["run"][..], &["fleet", "--sizes", "1,2"], &["search"], &["draw", "--out", "p.svg"], &["check"]]
+        {
+            let args: Vec<&str> = cmd.iter().copied().chain(["s.yaml", "--demand", "120%"]).collect();
+            let demand = match parse(&args).unwrap() {
+                Command::Run(a) => a.demand,
+                Command::Fleet(a) => a.demand,
+                Command::Search(a) => a.demand,
+                Command::Draw(a) => a.demand,
+                Command::Check(a) => a.demand,
+                other => panic!("{other:?}"),
+            };
+            assert_eq!(demand, Some(1.2), "{cmd:?}");
+        }
+        match parse(&["fleet", "s.yaml", "--sizes", "1,2", "--efficiency", "85%"]).unwrap() {
+            Command::Fleet(a) => assert_eq!(a.efficiency, Some(0.85)),
+            other => panic!("{other:?}"),
+        }
+        let e = parse(&["run", "s.yaml", "--demand", "lots"]).unwrap_err().to_string();
+        assert!(e.contains("write a number or a percentage"), "{e}");
+        assert!(!e.contains("float"), "{e}");
     }
 }

@@ -16,7 +16,7 @@ mod uniform;
 mod weibull;
 
 pub use empirical::Empirical;
-pub use error::{DistError, Param};
+pub use error::{rounded, DistError, Param};
 pub use exponential::Exponential;
 pub use gamma::{Erlang, Gamma};
 pub use lognormal::LogNormal;

@@ -30,6 +30,30 @@ fn expectation(text: &str) -> Option<Expectation> {
     fragment.map(|fragment| Expectation { fragment, line })
 }
 
+/// The first word in `shown` that belongs to Rust rather than to the scenario
+/// file: a serde type word (`f64`, `struct `, `Option<`) or the name of one of
+/// the schema's types (`SpeedSpec`), read from the schema's source.
+fn rust_word(shown: &str) -> Option<String> {
+    let schema = std::fs::read_to_string(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("../models/src/scenario/schema.rs"),
+    )
+    .expect("the schema source");
+    let ours: Vec<String> = schema
+        .split(|c: char| !c.is_alphanumeric() && c != '_')
+        .zip(schema.split(|c: char| !c.is_alphanumeric() && c != '_').skip(1))
+        .filter(|(kw, _)| *kw == "struct" || *kw == "enum")
+        .map(|(_, name)| name.to_string())
+        .filter(|n| n.len() > 2 && n.chars().next().is_some_and(char::is_uppercase))
+        .collect();
+    assert!(ours.iter().any(|n| n == "SpeedSpec"), "the schema's type names were not found");
+    let words: Vec<&str> = shown.split(|c: char| !c.is_alphanumeric()).collect();
+    layflow_models::scenario::RUST_WORDS
+        .iter()
+        .find(|w| shown.contains(*w))
+        .map(|w| w.to_string())
+        .or_else(|| ours.into_iter().find(|n| words.contains(&n.as_str())))
+}
+
 #[test]
 fn every_bad_scenario_fails_with_its_message() {
     let dir = scenarios_dir().join("bad");
@@ -58,6 +82,9 @@ fn every_bad_scenario_fails_with_its_message() {
         let shown = err.to_string();
         if !shown.contains(&want.fragment) {
             problems.push(format!("{name}:\n  expected: {}\n  actual:   {shown}", want.fragment));
+        }
+        if let Some(word) = rust_word(&shown) {
+            problems.push(format!("{name}: message names a Rust type ({word:?}): {shown}"));
         }
         if !shown.contains(&name) {
             problems.push(format!("{name}: message does not name the file: {shown}"));

@@ -16,7 +16,7 @@ pub struct CheckArgs {
     /// The scenario file (YAML).
     pub scenario: PathBuf,
     /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]

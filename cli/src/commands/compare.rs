@@ -29,9 +29,9 @@ pub struct CompareArgs {
     /// The layout every other is compared against; default: the first compared.
     #[arg(long, value_name = "NAME")]
     pub baseline: Option<String>,
-    /// Demand factor, or several separated by commas for a sweep, e.g. 0.8,1.0,1.2
+    /// Demand factor, or several separated by commas for a sweep, e.g. 0.8,1.0,1.2 or 80%,120%
     /// (overrides demand_factor).
-    #[arg(long, value_name = "F,...", value_delimiter = ',')]
+    #[arg(long, value_name = "F,...", value_delimiter = ',', value_parser = crate::settings::parse_demand)]
     pub demand: Vec<f64>,
     /// The metric that ranks layouts (and that --select selects on), e.g. flow_time_s,
     /// throughput_per_h, wip_mean, move_wait_s, handling_cost_per_h, or PRODUCT/flow_time_s.

@@ -25,7 +25,7 @@ pub struct DrawArgs {
     #[arg(long, value_name = "DIR")]
     pub results: Option<PathBuf>,
     /// Scale every product's demand by this factor (overrides the scenario's demand_factor).
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
     /// How to draw the flows: curves from department to department, or along
     /// the aisles they use (the aisle network's shortest paths).

@@ -38,11 +38,11 @@ pub struct FleetArgs {
     #[arg(long, value_name = "'METRIC OP VALUE'")]
     pub target: Vec<String>,
     /// Scale every product's demand by this factor (overrides demand_factor).
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
     /// Share of a mover's available time spent moving, for the analytic estimate only
     /// (default: the fleet's operators.efficiency, else 1).
-    #[arg(long, value_name = "E")]
+    #[arg(long, value_name = "E", value_parser = crate::settings::parse_share)]
     pub efficiency: Option<f64>,
     /// Draw wait (log scale), utilisation, cost per hour (when priced) and every target's metric
     /// against fleet size, with the target lines and the recommended size, into this SVG file.

@@ -23,8 +23,8 @@ pub struct RunArgs {
     /// Layout to simulate (repeat, or separate by commas); default: every layout.
     #[arg(long, value_name = "NAME", value_delimiter = ',')]
     pub layout: Vec<String>,
-    /// Scale every product's demand by this factor (overrides demand_factor).
-    #[arg(long, value_name = "FACTOR")]
+    /// Scale every product's demand by this factor, e.g. 1.2 or 120% (overrides demand_factor).
+    #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
     /// Output format.
     #[arg(long, value_enum, default_value_t = Format::Table)]

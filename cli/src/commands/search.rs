@@ -70,7 +70,7 @@ pub struct SearchArgs {
     pub from: Option<String>,
     /// Scale every product's demand by this factor before building the from-to chart
     /// (overrides demand_factor; also used by --validate).
-    #[arg(long, value_name = "FACTOR")]
+    #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
     /// Write the layouts found to this YAML file; add it to the scenario with
     /// `layout_files: [FILE]` and `layflow compare` runs them.

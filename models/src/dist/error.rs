@@ -166,10 +166,14 @@ impl fmt::Display for DistError {
                 write!(f, "empirical row {row}: value must be finite and >= 0, got {value}")
             }
             DistError::RowProbability { row, probability } => {
-                write!(f, "empirical row {row}: probability must lie in [0, 1], got {probability}")
+                write!(
+                    f,
+                    "empirical row {row}: probability must lie in [0, 1], got {}",
+                    rounded(*probability)
+                )
             }
             DistError::ProbabilitySum { sum, tolerance } => {
-                write!(f, "empirical probabilities sum to {sum}, not 1 (tolerance {tolerance:e})")
+                write!(f, "empirical probabilities sum to {}, not 1 (tolerance {tolerance:e})", rounded(*sum))
             }
             DistError::Sampler { family, reason } => write!(f, "{family}: {reason}"),
         }
@@ -199,6 +203,22 @@ pub(crate) fn positive(param: Param, value: f64) -> Result<(), DistError> {
 /// Wraps a sampler's refusal, naming the family as messages do.
 pub(crate) fn sampler<E: fmt::Display>(family: &'static str) -> impl FnOnce(E) -> DistError {
     move |e| DistError::Sampler { family, reason: e.to_string() }
+}
+
+/// A sum or probability as people typed it: `0.95`, not `0.9500000000000001`.
+/// Twelve decimals keep any difference larger than the 1e-9 sum tolerance
+/// visible, and drop the last-bit noise of adding decimal fractions.
+pub fn rounded(x: f64) -> String {
+    if !x.is_finite() {
+        return x.to_string();
+    }
+    let s = format!("{x:.12}");
+    let s = s.trim_end_matches('0').trim_end_matches('.');
+    if s == "-0" {
+        "0".to_string()
+    } else {
+        s.to_string()
+    }
 }
 
 #[cfg(test)]
@@ -237,6 +257,19 @@ mod tests {
         assert_eq!(
             msg(Dist::lognormal(1.0, 1e200)),
             "lognormal: variation parameter is non-finite in (log)normal distribution"
+        );
+    }
+
+    #[test]
+    fn sums_print_as_typed() {
+        use super::rounded;
+        let msg = |r: Result<Dist, super::DistError>| r.unwrap_err().to_string();
+        assert_eq!(rounded(0.8 + 0.15), "0.95");
+        assert_eq!(rounded(0.7 + 0.2 + 0.1), "1");
+        assert_eq!(rounded(1.0 - 2e-9), "0.999999998", "a miss beyond the tolerance stays visible");
+        assert_eq!(
+            msg(Dist::empirical(&[(1.0, 0.8), (2.0, 0.15)])),
+            "empirical probabilities sum to 0.95, not 1 (tolerance 1e-9)"
         );
     }
 }

@@ -249,14 +249,16 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let spec: PlanSpec = serde_path_to_error::deserialize(de).map_err(|e| {
         let line = e.inner().location().map(|l| l.line());
         let path = e.path().to_string();
-        let what = if path == "." { e.inner().to_string() } else { format!("{path}: {}", e.inner()) };
-        err(
-            file,
-            line,
-            what,
+        // serde's words name Rust types (`u32`, `struct PlanSpec`); say it in the plan's words.
+        let raw = crate::scenario::bare_message(e.inner());
+        let (message, hint) = crate::scenario::type_error(&raw, &path).unwrap_or((raw, None));
+        let what = if path == "." { message } else { format!("{path}: {message}") };
+        let hint = hint.unwrap_or_else(|| {
             "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, and \
-             `factors:` (every combination) or `points:` (a list)",
-        )
+             `factors:` (every combination) or `points:` (a list)"
+                .to_string()
+        });
+        err(file, line, what, &hint)
     })?;
     if spec.replications == 0 {
         return Err(err(file, line_of(&text, "replications"), "replications must be at least 1", ""));
@@ -310,7 +312,7 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
             let Some(level) = level else { continue };
             match &f.kind {
                 FactorKind::Layout => layout = Some(value_text(level)),
-                FactorKind::Demand => demand = level.as_f64(),
+                FactorKind::Demand => demand = demand_level(level),
                 FactorKind::Field(path) => {
                     *field_mut(&mut doc, path).map_err(|e| err(file, line_of(&text, &f.name), e, ""))? =
                         level.clone();
@@ -426,11 +428,16 @@ fn factor_kind(file: &Path, text: &str, name: &str, base: &Value) -> Result<Fact
     }
 }
 
+/// A demand level as a number: `1.2` or `120%`.
+fn demand_level(v: &Value) -> Option<f64> {
+    v.as_f64().or_else(|| v.as_str().and_then(|s| crate::scenario::parse_factor(s).ok()))
+}
+
 fn check_level(file: &Path, text: &str, f: &Factor, v: &Value) -> Result<(), PlanError> {
     let bad =
         |what: String| Err(err(file, line_of(text, &f.name), format!("factor `{}`: {what}", f.name), ""));
     match f.kind {
-        FactorKind::Demand => match v.as_f64() {
+        FactorKind::Demand => match demand_level(v) {
             Some(x) if x > 0.0 && x.is_finite() => Ok(()),
             _ => bad(format!("level {} is not a demand factor > 0", value_text(v))),
         },
@@ -590,5 +597,53 @@ mod tests {
     fn mixing_keeps_points_apart() {
         assert_ne!(mix(1, 0), mix(1, 1));
         assert_eq!(mix(1, 3), mix(1, 3));
+    }
+
+    /// A plan file in a fresh folder, running the hand-checked scenario.
+    fn plan(body: &str) -> Result<Experiment, PlanError> {
+        let dir = tempfile::tempdir().unwrap();
+        let scenario =
+            Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/validation/tiny-hand-checked.yaml");
+        let file = dir.path().join("plan.yaml");
+        std::fs::write(&file, format!("scenario: {}\n{body}", scenario.display())).unwrap();
+        load(&file)
+    }
+
+    #[test]
+    fn demand_levels_may_be_percentages() {
+        let e = plan("replications: 2\nfactors: { demand: [80%, 1.2] }\n").unwrap();
+        let levels: Vec<f64> = e.setups.iter().map(|s| s.spec.demand_factor).collect();
+        assert_eq!(levels, [0.8, 1.2]);
+        let e = plan("replications: 2\nfactors: { demand: [lots] }\n").unwrap_err();
+        assert!(e.message.contains("level lots is not a demand factor > 0"), "{}", e.message);
+    }
+
+    #[test]
+    fn wrong_types_in_a_plan_are_said_in_words() {
+        for (body, want) in [
+            (
+                "replications: ten\nfactors: { demand: [1] }\n",
+                "replications: expected a whole number of replications, such as 10, got \"ten\"",
+            ),
+            (
+                "replications: 2\nseed: x\nfactors: { demand: [1] }\n",
+                "seed: expected a whole number, such as 42, got \"x\"",
+            ),
+            (
+                "replications: 2\ncommon_random_numbers: maybe\nfactors: { demand: [1] }\n",
+                "expected true or false, got \"maybe\"",
+            ),
+            (
+                "replications: 2\nfactors: [1]\n",
+                "factors: expected a mapping of factors to their levels, such as { layout: [current, proposed], demand: [0.8, 1.2] }, got a list",
+            ),
+            ("replications: 2\nhorizon: [20]\nfactors: { demand: [1] }\n", "horizon: expected a duration, such as \"20 d\", got a list"),
+            ("replications: 2\npoints: 3\n", "points: expected a list of design points, such as [{ layout: current, demand: 1.2 }], got 3"),
+        ] {
+            let m = plan(body).unwrap_err().message;
+            assert!(m.contains(want), "{body:?}:\n  want {want}\n  got  {m}");
+            let leak = crate::scenario::RUST_WORDS.iter().find(|w| m.contains(*w));
+            assert!(leak.is_none() && !m.contains("PlanSpec"), "{m}");
+        }
     }
 }

@@ -34,7 +34,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         return Err(ctx.err(&root.key("plant"), "the plant needs a name"));
     }
     let run = run_settings(&s, ctx)?;
-    let demand_factor = s.demand_factor.unwrap_or(1.0);
+    let demand_factor = s.demand_factor.map_or(1.0, |f| f.0);
     if !(demand_factor > 0.0 && demand_factor.is_finite()) {
         return Err(ctx.err(
             &root.key("demand_factor"),

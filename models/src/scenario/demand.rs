@@ -50,19 +50,20 @@ pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> R
                     .with_hint("`every` is how long each factor lasts, e.g. `every: 1 h`"));
             }
             let fp = prp.key("factors");
-            if pr.factors.is_empty() {
+            let factors: Vec<f64> = pr.factors.iter().map(|f| f.0).collect();
+            if factors.is_empty() {
                 return Err(ctx
                     .err(&fp, format!("the profile of product \"{}\" has no factors", spec.id))
                     .with_hint("list one multiplier of `per_hour` per period, e.g. `factors: [0.5, 1.5]`"));
             }
-            for (k, &f) in pr.factors.iter().enumerate() {
+            for (k, &f) in factors.iter().enumerate() {
                 if !(f >= 0.0 && f.is_finite()) {
                     return Err(ctx
                         .err(&fp.index(k), format!("profile factor {f} must be a number >= 0"))
                         .with_hint("a factor multiplies `per_hour`; 0 means no arrivals in that period"));
                 }
             }
-            if !pr.factors.iter().any(|&f| f > 0.0) {
+            if !factors.iter().any(|&f| f > 0.0) {
                 return Err(ctx
                     .err(
                         &fp,
@@ -73,7 +74,7 @@ pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> R
                     )
                     .with_hint("give at least one factor > 0"));
             }
-            Some(Profile { every_s: every, factors: pr.factors.clone() })
+            Some(Profile { every_s: every, factors })
         }
     };
     Ok(Demand::Rate { per_s: per_hour / 3600.0, profile })

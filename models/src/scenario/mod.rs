@@ -19,11 +19,15 @@ mod schema;
 mod search;
 mod staging;
 mod times;
+mod words;
 mod work;
 
 use std::path::Path;
 
 pub use error::{ErrorKind, ScenarioError};
+pub use schema::parse_factor;
+pub(crate) use words::type_error;
+pub use words::RUST_WORDS;
 
 use crate::plant::Plant;
 use crate::suggest::{did_you_mean, name_list};
@@ -90,7 +94,7 @@ fn schema_error(e: &serde_path_to_error::Error<serde_norway::Error>, file: &str)
     // serde calls every enum alternative a "variant"; under `time` they are
     // distribution families, elsewhere plain accepted values.
     let what = if path.ends_with("time") { "distribution" } else { "value" };
-    let (message, hint) = rephrase(&raw, what);
+    let (message, hint) = type_error(&raw, &path).unwrap_or_else(|| rephrase(&raw, what));
     let err = ScenarioError::new(ErrorKind::Schema, file, message)
         .at_path(path)
         .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()));
@@ -102,7 +106,7 @@ fn schema_error(e: &serde_path_to_error::Error<serde_norway::Error>, file: &str)
 
 /// The parser's message without its own path prefix and position suffix,
 /// which the error carries separately.
-fn bare_message(e: &serde_norway::Error) -> String {
+pub(crate) fn bare_message(e: &serde_norway::Error) -> String {
     let mut s = e.to_string();
     if let Some(i) = s.rfind(" at line ") {
         if s[i + 9..].split(" column ").all(|n| n.trim().parse::<usize>().is_ok()) {

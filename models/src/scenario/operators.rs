@@ -17,7 +17,7 @@ pub(crate) fn operators(
     let Some(spec) = spec else {
         return Ok(Operators { efficiency: 1.0, duty: None });
     };
-    let efficiency = spec.efficiency.unwrap_or(1.0);
+    let efficiency = spec.efficiency.map_or(1.0, |e| e.0);
     if !(efficiency > 0.0 && efficiency <= 1.0) {
         return Err(ctx
             .err(

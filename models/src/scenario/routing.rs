@@ -6,7 +6,7 @@ use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{DistSpec, Scenario, StepSpec};
 use super::times::time_dist;
-use crate::dist::Dist;
+use crate::dist::{rounded, Dist};
 use crate::plant::{Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
 
@@ -196,15 +196,18 @@ fn next_steps(
         if next.iter().any(|(t, _)| *t == target) {
             return Err(ctx.err(&bp.key("step"), format!("step \"{}\" is listed twice", b.step)));
         }
-        if !(b.p > 0.0 && b.p <= 1.0) {
-            return Err(ctx.err(&bp.key("p"), format!("branch probability must lie in (0, 1], got {}", b.p)));
+        let p = b.p.0;
+        if !(p > 0.0 && p <= 1.0) {
+            return Err(ctx
+                .err(&bp.key("p"), format!("branch probability must lie in (0, 1], got {}", rounded(p)))
+                .with_hint("write a probability as 0.9 or 90%"));
         }
-        sum += b.p;
-        next.push((target, b.p));
+        sum += p;
+        next.push((target, p));
     }
     if !((sum - 1.0).abs() <= BRANCH_SUM_TOLERANCE) {
         return Err(ctx
-            .err(&tp, format!("branch probabilities of step \"{}\" sum to {sum}, not 1", st.step))
+            .err(&tp, format!("branch probabilities of step \"{}\" sum to {}, not 1", st.step, rounded(sum)))
             .with_hint(format!("make the `p` values add up to 1 (tolerance {BRANCH_SUM_TOLERANCE:e})")));
     }
     Ok(next)

@@ -19,7 +19,7 @@ pub(crate) struct Scenario {
     pub plant: String,
     pub units: Option<UnitsSpec>,
     pub run: RunSpec,
-    pub demand_factor: Option<f64>,
+    pub demand_factor: Option<Share>,
     pub locations: Vec<LocationSpec>,
     pub distance: Option<DistanceField>,
     pub aisles: Option<AislesSpec>,
@@ -343,7 +343,7 @@ pub(crate) struct DemandSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct ProfileSpec {
     pub every: Seconds,
-    pub factors: Vec<f64>,
+    pub factors: Vec<Share>,
 }
 
 /// `orders: { file: orders.csv, repeat: 7 d }`: an order trace read from CSV.
@@ -367,7 +367,7 @@ pub(crate) struct StepSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct BranchSpec {
     pub step: String,
-    pub p: f64,
+    pub p: Share,
 }
 
 /// A processing time: a bare duration (constant) or `{ family: { parameters } }`.
@@ -387,7 +387,7 @@ pub(crate) enum DistSpec {
     Gamma { mean: Option<Seconds>, cv: Option<f64>, shape: Option<f64>, scale: Option<Seconds> },
     Erlang { k: u32, mean: Seconds },
     Weibull { scale: Seconds, shape: f64 },
-    Empirical(Vec<(Seconds, f64)>),
+    Empirical(Vec<(Seconds, Share)>),
 }
 
 impl<'de> Deserialize<'de> for TimeSpec {
@@ -473,7 +473,7 @@ pub(crate) struct ReserveSpec {
 #[derive(Debug, DeriveDeserialize)]
 #[serde(deny_unknown_fields)]
 pub(crate) struct OperatorsSpec {
-    pub efficiency: Option<f64>,
+    pub efficiency: Option<Share>,
     pub shifts: Option<ShiftsSpec>,
     pub breaks: Option<Vec<[Seconds; 2]>>,
 }
@@ -568,4 +568,48 @@ pub(crate) struct FloorCostSpec {
     pub department: String,
     pub location: String,
     pub per_hour: f64,
+}
+
+/// A probability or factor: a plain number (`0.9`, `1.2`) or a percentage
+/// (`90%`, `120 %`), which plant people write as often as decimals.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub(crate) struct Share(pub f64);
+
+/// A number or a percentage (`0.9`, `90%`, `120 %`) as a plain number;
+/// the error says which forms are accepted.
+pub fn parse_factor(text: &str) -> Result<f64, String> {
+    let t = text.trim();
+    let (digits, scale) = match t.strip_suffix('%') {
+        Some(d) => (d.trim_end(), 0.01),
+        None => (t, 1.0),
+    };
+    match digits.parse::<f64>() {
+        Ok(x) if x.is_finite() && !digits.is_empty() => Ok(x * scale),
+        _ => Err(format!("\"{t}\" is not a number or a percentage; write e.g. 0.9 or 90%")),
+    }
+}
+
+impl<'de> Deserialize<'de> for Share {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = Share;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a number such as 0.9 or a percentage such as 90%")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<Share, E> {
+                parse_factor(v).map(Share).map_err(|_| E::invalid_value(de::Unexpected::Str(v), &self))
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Share, E> {
+                Ok(Share(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Share, E> {
+                Ok(Share(v as f64))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Share, E> {
+                Ok(Share(v as f64))
+            }
+        }
+        d.deserialize_any(V)
+    }
 }

@@ -101,3 +101,63 @@ fn euclidean_distance_uses_the_straight_line() {
     // (0, 0) to (30, 10): sqrt(900 + 100).
     assert!((p.distance(0, 3) - 1000f64.sqrt()).abs() < 1e-12);
 }
+
+/// `tiny-hand-checked.yaml` with some of its text replaced.
+fn tiny_with(edits: &[(&str, &str)]) -> Result<crate::plant::Plant, super::ScenarioError> {
+    let path = validation("tiny-hand-checked.yaml");
+    let mut text = std::fs::read_to_string(&path).unwrap();
+    for (from, to) in edits {
+        assert!(text.contains(from), "{from:?} not in the scenario");
+        text = text.replacen(from, to, 1);
+    }
+    parse_scenario(&text, &path)
+}
+
+#[test]
+fn probabilities_and_factors_accept_percentages() {
+    let p = tiny_with(&[
+        ("{ step: ship, p: 0.9 }", "{ step: ship, p: 90% }"),
+        ("{ step: redrill, p: 0.1 }", "{ step: redrill, p: 10 % }"),
+        ("plant:", "demand_factor: 120%\nplant:"),
+        ("demand: { per_hour: 3 }", "demand: { per_hour: 3, profile: { every: 1 h, factors: [50%, 150%] } }"),
+        ("time: 6 min }", "time: { empirical: [[4 min, 20%], [6 min, 80%]] } }"),
+    ])
+    .unwrap();
+    // Percentages are hundredths: 90% is the 0.9 the file had, 120% is 1.2.
+    assert_eq!(p.products[0].routing[2].next, [(4, 0.9), (3, 0.1)]);
+    assert!((p.demand_factor - 1.2).abs() < 1e-15);
+    match &p.products[0].demand {
+        Demand::Rate { profile: Some(pr), .. } => assert_eq!(pr.factors, [0.5, 1.5]),
+        other => panic!("expected a profiled rate, got {other:?}"),
+    }
+    // 4 min × 0.2 + 6 min × 0.8 = 5.6 min.
+    assert!((p.products[0].routing[0].time.as_ref().unwrap().mean() - 336.0).abs() < 1e-9);
+}
+
+#[test]
+fn a_branch_sum_off_by_rounding_only_is_accepted() {
+    // 0.7 + 0.2 + 0.1 is 0.9999999999999999 in binary floating point: within 1e-9 of 1.
+    assert_ne!(0.7 + 0.2 + 0.1, 1.0);
+    let p = tiny_with(&[
+        ("- { step: redrill, p: 0.1 }", "- { step: redrill, p: 0.1 }\n          - { step: cut, p: 0.2 }"),
+        ("{ step: ship, p: 0.9 }", "{ step: ship, p: 0.7 }"),
+    ]);
+    assert!(p.is_ok(), "{}", p.unwrap_err());
+}
+
+#[test]
+fn a_branch_sum_that_misses_is_printed_as_typed() {
+    // 0.8 + 0.15 is 0.9500000000000001 in binary floating point.
+    let e = tiny_with(&[("{ step: ship, p: 0.9 }", "{ step: ship, p: 0.8 }"), ("p: 0.1 }", "p: 0.15 }")])
+        .unwrap_err();
+    assert!(e.message().contains("sum to 0.95, not 1"), "{e}");
+    let e = tiny_with(&[("p: 0.1 }", "p: 0.15 }")]).unwrap_err();
+    assert!(e.message().contains("sum to 1.05, not 1"), "{e}");
+}
+
+#[test]
+fn a_probability_in_words_is_refused_plainly() {
+    let e = tiny_with(&[("p: 0.1 }", "p: ten percent }")]).unwrap_err();
+    assert_eq!(e.path(), Some("products[0].routing[2].then[1].p"));
+    assert_eq!(e.message(), "expected a probability, such as 0.9 or 90%, got \"ten percent\"");
+}

@@ -103,7 +103,7 @@ pub(crate) fn time_dist(
         DistSpec::Erlang { k, mean } => in_seconds(Dist::erlang(*k, mean.0), "erlang")?,
         DistSpec::Weibull { scale, shape } => in_seconds(Dist::weibull(scale.0, *shape), "weibull")?,
         DistSpec::Empirical(rows) => {
-            let rows: Vec<(f64, f64)> = rows.iter().map(|(v, p)| (v.0, *p)).collect();
+            let rows: Vec<(f64, f64)> = rows.iter().map(|(v, p)| (v.0, p.0)).collect();
             in_seconds(Dist::empirical(&rows), "empirical")?
         }
     };
