@@ -339,3 +339,31 @@ fn advises_larger_sizes_only_while_the_metric_still_improves() {
     assert!(s.contains("still improving"), "{s}");
     assert!(s.contains("try larger sizes"), "{s}");
 }
+
+/// The drive to the pick-up is a floor only once more movers stop shortening
+/// it. With one size there is nothing to judge that by, and from one forklift
+/// to two the drive still falls (an extra idle truck waits nearer), so neither
+/// may be called "cannot be met by fleet size alone".
+#[test]
+fn a_drive_that_still_falls_with_size_is_not_called_a_floor() {
+    let json = |sizes: &str, target: &str| {
+        let out = fleet(&["--sizes", sizes, "--target", target, "--format", "json"]);
+        assert!(out.status.success(), "{}", text(&out.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        v["advice"]["kind"].as_str().unwrap().to_string()
+    };
+    assert_eq!(json("2", "move_wait_s <= 5 s"), "add_sizes");
+    let drive = |sizes: &str| {
+        let out = fleet(&["--sizes", sizes, "--format", "json"]);
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        v["sizes"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|s| s["move_wait_drive_s"]["mean"].as_f64().unwrap())
+            .collect::<Vec<_>>()
+    };
+    let d = drive("1,2");
+    assert!(d[1] < d[0], "the drive falls from one forklift to two: {d:?}");
+    assert_ne!(json("1,2", "move_wait_s <= 5 s"), "size_cannot_meet");
+}

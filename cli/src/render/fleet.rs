@@ -310,6 +310,9 @@ fn render_advice(out: &FleetOutput) -> String {
             );
         } else if f.improving {
             let _ = writeln!(s, "  {name}: still improving; {}.", step.unwrap_or_default());
+        } else if f.unclear {
+            let _ =
+                writeln!(s, "  {name}: perhaps improving, within the noise; {}.", step.unwrap_or_default());
         } else if let Some(step) = step {
             let floor = f.floor.as_ref().map_or(String::new(), |fl| {
                 format!(
@@ -335,6 +338,12 @@ fn render_advice(out: &FleetOutput) -> String {
             s,
             "The failing metrics were still improving at the largest sizes: try larger sizes (above {large}), or \
              looser targets."
+        ),
+        AdviceKind::WithinNoise => writeln!(
+            s,
+            "The last step's change is within the noise of {} replications: add replications (--replications) \
+             to tell whether larger sizes would help.",
+            out.replications
         ),
         AdviceKind::NotImprovingWithSize => writeln!(
             s,

@@ -255,6 +255,7 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyErr
     let mut last: Vec<Vec<f64>> = Vec::new();
     let mut before_last: Vec<Vec<f64>> = Vec::new();
     let mut floors = Vec::new();
+    let mut floors_before = Vec::new();
     for &n in s.sizes {
         let p = sized(s.plant, s.fleet, n);
         progress.stage(format!("{id} × {n}"));
@@ -268,9 +269,10 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyErr
         let list = every_metric(&p);
         before_last = std::mem::take(&mut last);
         last = s.targets.iter().map(|t| reps.iter().map(|r| list[t.metric].value(&p, r)).collect()).collect();
+        floors_before = std::mem::take(&mut floors);
         floors = s.targets.iter().map(|t| floor_of(&p, &list, &list[t.metric], &reps)).collect();
     }
-    let advice = advise(s, &results, &before_last, &last, &floors);
+    let advice = advise(s, &results, &before_last, &last, &floors, &floors_before);
     Ok(SweepResult { sizes: results, advice, events })
 }
 
@@ -294,8 +296,9 @@ pub fn floor_metric(name: &str) -> Option<&'static str> {
 fn floor_of(plant: &Plant, list: &[Metric], m: &Metric, reps: &[RepStats]) -> Option<Floor> {
     let name = floor_metric(m.name)?;
     let f = list.iter().find(|x| x.scope == m.scope && x.subject == m.subject && x.name == name)?;
-    let (e, _) = est_with_se(reps.iter().map(|r| f.value(plant, r)));
-    e.mean.is_finite().then(|| Floor { metric: f.label(), estimate: e })
+    let values: Vec<f64> = reps.iter().map(|r| f.value(plant, r)).collect();
+    let (e, _) = est_with_se(values.iter().copied());
+    e.mean.is_finite().then(|| Floor { metric: f.label(), estimate: e, values })
 }
 
 /// A floor under a wait: the drive part at the largest size.
@@ -305,6 +308,9 @@ pub struct Floor {
     pub metric: String,
     /// Its estimate at the largest size simulated.
     pub estimate: Estimate,
+    /// Each replication's value at that size, for the paired step from the size before.
+    #[serde(skip)]
+    pub values: Vec<f64>,
 }
 
 /// What `fleet` advises, as a kind a program can read.
@@ -321,6 +327,9 @@ pub enum AdviceKind {
     AddSizes,
     /// A failing metric was still improving between the two largest sizes.
     TryLargerSizes,
+    /// A failing metric's last step looks better but within the noise of the
+    /// replications: more replications tell whether larger sizes help.
+    WithinNoise,
     /// A failing metric did not improve between the two largest sizes:
     /// larger sizes are unlikely to help.
     NotImprovingWithSize,
@@ -342,6 +351,9 @@ pub struct Failing {
     pub last_step_change: Option<Estimate>,
     /// The last step improved the metric (the paired interval excludes 0 on the better side).
     pub improving: bool,
+    /// The last step's mean change is on the better side but its interval
+    /// includes 0: within the noise of these replications, so no verdict.
+    pub unclear: bool,
     /// For a wait: the drive part at the largest size, which more movers do not remove.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub floor: Option<Floor>,
@@ -404,6 +416,7 @@ fn advise(
     before_last: &[Vec<f64>],
     last: &[Vec<f64>],
     floors: &[Option<Floor>],
+    floors_before: &[Option<Floor>],
 ) -> Advice {
     let analytic = analytic_check(s, results);
     let kind_none = |kind| Advice {
@@ -444,8 +457,30 @@ fn advise(
             let h = d.half_width.unwrap_or(0.0);
             d.mean.is_finite() && if lower_better { d.mean + h < 0.0 } else { d.mean - h > 0.0 }
         });
+        let unclear = !improving
+            && change.is_some_and(|d| {
+                d.mean.is_finite() && if lower_better { d.mean < 0.0 } else { d.mean > 0.0 }
+            });
         let floor = floors[i].clone();
+        // The drive is a floor only where more movers stopped shortening it:
+        // with nearest-idle dispatch an extra mover can wait nearer. One size
+        // alone shows nothing of the kind, so it never claims a floor.
+        let floor_still_falling = match (floor.as_ref(), floors_before.get(i).and_then(Option::as_ref)) {
+            (Some(f), Some(b)) => {
+                let (x, y): (Vec<f64>, Vec<f64>) = f
+                    .values
+                    .iter()
+                    .zip(&b.values)
+                    .filter(|(x, y)| x.is_finite() && y.is_finite())
+                    .map(|(x, y)| (*x, *y))
+                    .unzip();
+                let d = layflow_engine::paired_difference(&x, &y, crate::metrics::CONFIDENCE);
+                d.mean.is_finite() && d.mean + d.half_width.unwrap_or(0.0) < 0.0
+            }
+            _ => true,
+        };
         let below_floor = lower_better
+            && !floor_still_falling
             && floor.as_ref().is_some_and(|f| {
                 let lo = f.estimate.mean - f.estimate.half_width.unwrap_or(0.0);
                 match t.op {
@@ -458,6 +493,7 @@ fn advise(
             metric: t.name.clone(),
             last_step_change: change,
             improving,
+            unclear,
             floor,
             below_floor,
         });
@@ -477,6 +513,11 @@ fn advise(
         .all(|f| f.improving)
     {
         AdviceKind::TryLargerSizes
+    } else if failing
+        .iter()
+        .all(|f| f.improving || f.unclear || top.targets.iter().any(|v| v.target == f.target && v.unsure))
+    {
+        AdviceKind::WithinNoise
     } else {
         AdviceKind::NotImprovingWithSize
     };
