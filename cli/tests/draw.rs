@@ -5,7 +5,7 @@ mod common;
 use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 
-use common::{layflow, root, text};
+use common::{layflow, render_png, resvg, root, text, without_text};
 use svg::parser::Event;
 
 /// One element of interest read back from the picture.
@@ -119,40 +119,13 @@ fn the_aisle_demo_draws_with_every_part_and_flows_ordered_by_width() {
 /// running plain `resvg plant.svg plant.png` gets the text too.
 /// resvg is optional, so without it the check is skipped with a notice.
 fn render_png_if_possible(svg_path: &Path) {
-    let on_path = std::env::var_os("PATH")
-        .and_then(|paths| std::env::split_paths(&paths).map(|d| d.join("resvg")).find(|p| p.is_file()));
-    let resvg = on_path.or_else(|| {
-        std::env::var_os("HOME").map(|h| PathBuf::from(h).join(".cargo/bin/resvg")).filter(|p| p.exists())
-    });
-    let Some(resvg) = resvg else {
-        // CI installs resvg and sets this, so there the render always runs.
-        assert!(std::env::var_os("LAYFLOW_REQUIRE_RESVG").is_none(), "resvg is required but not found");
-        eprintln!(
-            "notice: resvg not found in ~/.cargo/bin; skipping the PNG render of {}",
-            svg_path.display()
-        );
-        return;
-    };
-    let render = |svg: &Path| {
-        let png = svg.with_extension("png");
-        let o = std::process::Command::new(&resvg).arg(svg).arg(&png).output().expect("resvg runs");
-        assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
-        std::fs::read(&png).expect("the PNG was written")
-    };
-    let bytes = render(svg_path);
+    let Some(resvg) = resvg(&svg_path.display().to_string()) else { return };
+    let bytes = render_png(&resvg, svg_path);
     assert!(bytes.starts_with(b"\x89PNG") && bytes.len() > 10_000, "PNG of {} bytes", bytes.len());
     let svg = std::fs::read_to_string(svg_path).expect("the picture reads");
-    let mut bare = String::new();
-    let mut rest = svg.as_str();
-    while let Some(i) = rest.find("<text") {
-        bare.push_str(&rest[..i]);
-        let end = rest[i..].find("</text>").expect("closed text") + i + "</text>".len();
-        rest = &rest[end..];
-    }
-    bare.push_str(rest);
     let bare_path = svg_path.with_file_name("without-text.svg");
-    std::fs::write(&bare_path, bare).expect("written");
-    assert_ne!(bytes, render(&bare_path), "resvg drew no text: no font of the list was found");
+    std::fs::write(&bare_path, without_text(&svg)).expect("written");
+    assert_ne!(bytes, render_png(&resvg, &bare_path), "resvg drew no text: no font of the list was found");
 }
 
 /// Every text of the picture names the open-font list (issue 14).

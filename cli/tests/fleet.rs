@@ -4,7 +4,7 @@ mod common;
 
 use std::process::Output;
 
-use common::{layflow, text};
+use common::{layflow, render_png, resvg, svg_texts, text, without_text};
 
 const SHORT: &[&str] = &["--replications", "5", "--horizon", "5 d", "--warmup", "1 d", "--quiet"];
 
@@ -152,18 +152,6 @@ fn fleet_at_the_scenarios_own_size_reports_what_run_reports() {
     assert!(shared.len() >= 14, "{shared:?}");
 }
 
-/// The `<text>` elements of an SVG: (font-family, content).
-fn svg_texts(svg: &str) -> Vec<(String, String)> {
-    svg.split("<text")
-        .skip(1)
-        .map(|t| {
-            let family = t.split("font-family=\"").nth(1).and_then(|f| f.split('"').next()).unwrap_or("");
-            let content = t.split_once('>').map_or("", |x| x.1).split("</text>").next().unwrap_or("");
-            (family.to_string(), content.trim().to_string())
-        })
-        .collect()
-}
-
 /// Issue 14: the fleet chart drew the wait on a linear scale where one
 /// forklift's hour-long queue flattened every size near the target, marked no
 /// recommended size, drew only wait and share targets, and printed ticks such
@@ -233,43 +221,11 @@ fn the_chart_names_open_fonts_and_resvg_draws_its_text() {
     for (family, content) in &texts {
         assert_eq!(family, "DejaVu Sans, Liberation Sans, Noto Sans, sans-serif", "{content}");
     }
-    let Some(resvg) = resvg() else { return };
-    let bare: String = {
-        let mut s = String::new();
-        let mut rest = svg.as_str();
-        while let Some(i) = rest.find("<text") {
-            s.push_str(&rest[..i]);
-            let end = rest[i..].find("</text>").expect("closed text") + i + "</text>".len();
-            rest = &rest[end..];
-        }
-        s.push_str(rest);
-        s
-    };
+    let Some(resvg) = resvg("the fleet chart") else { return };
     let q = dir.path().join("bare.svg");
-    std::fs::write(&q, bare).unwrap();
-    let png = |svg: &std::path::Path| {
-        let png = svg.with_extension("png");
-        let o = std::process::Command::new(&resvg).arg(svg).arg(&png).output().expect("resvg runs");
-        assert!(o.status.success(), "resvg failed: {}", text(&o.stderr));
-        std::fs::read(&png).unwrap()
-    };
+    std::fs::write(&q, without_text(&svg)).unwrap();
+    let png = |svg: &std::path::Path| render_png(&resvg, svg);
     assert_ne!(png(&p), png(&q), "resvg drew no text: no font of the list was found");
-}
-
-/// resvg on PATH or in ~/.cargo/bin; CI sets LAYFLOW_REQUIRE_RESVG so there the check always runs.
-fn resvg() -> Option<std::path::PathBuf> {
-    let on_path = std::env::var_os("PATH")
-        .and_then(|paths| std::env::split_paths(&paths).map(|d| d.join("resvg")).find(|p| p.is_file()));
-    let found = on_path.or_else(|| {
-        std::env::var_os("HOME")
-            .map(|h| std::path::PathBuf::from(h).join(".cargo/bin/resvg"))
-            .filter(|p| p.exists())
-    });
-    if found.is_none() {
-        assert!(std::env::var_os("LAYFLOW_REQUIRE_RESVG").is_none(), "resvg is required but not found");
-        eprintln!("notice: resvg not found; skipping the PNG render of the fleet chart");
-    }
-    found
 }
 
 fn runners(extra: &[&str]) -> Output {

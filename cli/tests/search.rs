@@ -4,7 +4,7 @@ mod common;
 
 use std::path::PathBuf;
 
-use common::{layflow, root, text};
+use common::{layflow, root, svg_texts, text};
 
 /// A fixed iteration budget: results do not depend on the machine's speed.
 const FIXED: &[&str] = &["--iterations", "3000", "--quiet"];
@@ -230,18 +230,6 @@ fn selection_stops_when_layouts_simulate_identically() {
     assert!(out.status.success(), "{}", text(&out.stderr));
     let s = text(&out.stdout);
     assert!(s.contains("tied: identical results") && s.contains("Treat them as equally good"), "{s}");
-}
-
-/// The `<text>` elements of an SVG: (font-family, content).
-fn svg_texts(svg: &str) -> Vec<(String, String)> {
-    svg.split("<text")
-        .skip(1)
-        .map(|t| {
-            let family = t.split("font-family=\"").nth(1).and_then(|f| f.split('"').next()).unwrap_or("");
-            let content = t.split_once('>').map_or("", |x| x.1).split("</text>").next().unwrap_or("");
-            (family.to_string(), content.trim().to_string())
-        })
-        .collect()
 }
 
 /// Issue 14: the search picture drew only the start layout's level and a

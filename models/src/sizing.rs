@@ -146,7 +146,10 @@ pub struct MoverSpec {
 }
 
 /// Result of the from-to chart form. All rates are per hour of operation.
-#[derive(Debug, Clone, PartialEq)]
+///
+/// Serialised as `fleet` reports it: the rule and the empty-flow matrix are
+/// the sweep's own business and stay out of the JSON.
+#[derive(Debug, Clone, PartialEq, serde::Serialize)]
 pub struct FleetEstimate {
     /// Loaded trips per hour, Σ f_ij.
     pub trips_per_h: f64,
@@ -167,10 +170,12 @@ pub struct FleetEstimate {
     /// N rounded up to whole vehicles.
     pub vehicles_rounded_up: u64,
     /// Which empty-travel rule produced `empty_*`.
+    #[serde(skip)]
     pub empty_rule: EmptyRule,
     /// With [`EmptyRule::MinimumEmptyFlow`]: empty trips per hour from
     /// department i to j, row-major like the flow matrix. `None` for
     /// [`EmptyRule::SameAsLoaded`], which has no matrix of its own.
+    #[serde(skip)]
     pub empty_flow: Option<Vec<f64>>,
 }
 

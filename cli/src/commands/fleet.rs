@@ -131,7 +131,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         targets: &targets,
         spec,
         replications: settings.replications,
-        analytic: &analytic.minimum_empty_flow,
+        analytic: &analytic,
     };
     let result = settings.pool.install(|| study::sweep(&sweep, &progress));
     progress.finish();

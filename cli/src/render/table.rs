@@ -201,11 +201,7 @@ pub fn dur_in(e: &Estimate, unit: (&str, f64)) -> String {
 
 /// A duration estimate in a readable unit, e.g. `5.21 ± 0.10 h`.
 pub fn dur(e: &Estimate) -> String {
-    if !e.mean.is_finite() {
-        return "-".to_string();
-    }
-    let (u, s) = time_unit(e.mean);
-    format!("{} {u}", pm(e, 1.0 / s))
+    dur_in(e, time_unit(e.mean))
 }
 
 /// A duration estimate with its pooled percentiles.

@@ -33,9 +33,8 @@ impl Features {
     }
 }
 
-/// Whether `plant` has metric `d` for subject `i` of its scope.
-pub fn applies(plant: &Plant, d: &Def, i: usize) -> bool {
-    let f = Features::of(plant);
+/// Whether `plant` (with features `f`) has metric `d` for subject `i` of its scope.
+fn applies(plant: &Plant, f: &Features, d: &Def, i: usize) -> bool {
     match (d.when, d.scope) {
         (When::Always, _) => true,
         (When::Staging, _) => f.staging,
@@ -125,11 +124,12 @@ pub fn subjects(plant: &Plant, scope: Scope) -> Vec<(usize, String)> {
 
 /// Every metric of `plant` that applies, listed or not, in report order.
 fn all(plant: &Plant, listed_only: bool) -> Vec<Metric> {
+    let features = Features::of(plant);
     let mut out = Vec::new();
     for scope in [Scope::Plant, Scope::Product, Scope::Department, Scope::Fleet, Scope::Segment] {
         for (index, subject) in subjects(plant, scope) {
             for def in DEFS.iter().filter(|d| d.scope == scope && (d.listed || !listed_only)) {
-                if applies(plant, def, index) {
+                if applies(plant, &features, def, index) {
                     out.push(Metric {
                         scope,
                         subject: subject.clone(),

@@ -12,7 +12,7 @@ use serde::Serialize;
 
 use crate::analysis::StaticPicture;
 use crate::metrics::estimate::CONFIDENCE;
-use crate::metrics::list::{values, values_mean, Metric};
+use crate::metrics::list::{values_mean, Metric};
 use crate::metrics::registry::{Better, Scope};
 use crate::metrics::summary::{summarize, LayoutSummary};
 use crate::plant::Plant;
@@ -214,8 +214,10 @@ pub fn level(
     metric_list: &[Metric],
     ranked_on: usize,
 ) -> Level {
-    let values: Vec<Vec<Vec<f64>>> =
-        reps.iter().map(|rs| rs.iter().map(|r| values(plant, r)).collect()).collect();
+    let values: Vec<Vec<Vec<f64>>> = reps
+        .iter()
+        .map(|rs| rs.iter().map(|r| metric_list.iter().map(|m| m.value(plant, r)).collect()).collect())
+        .collect();
     let column = |li: usize, m: usize| -> Vec<f64> { values[li].iter().map(|v| v[m]).collect() };
     let mut differences = Vec::new();
     for (li, &l) in which.iter().enumerate() {

@@ -15,6 +15,7 @@ use crate::sim::{Plan, RepStats, RunSpec};
 use crate::sizing::{fleet_estimate, EmptyRule, FleetEstimate};
 use crate::suggest::did_you_mean;
 
+use super::compare::paired;
 use super::deadlock::deadlock_message;
 use super::progress::{Progress, StudyError};
 use super::replicate::replicate;
@@ -109,52 +110,9 @@ pub struct Analytic {
     /// Share of on-duty time spent productively (E in the formula).
     pub efficiency: f64,
     /// Empties sent from where loads end to where loads start by a transportation problem.
-    pub minimum_empty_flow: Estimated,
+    pub minimum_empty_flow: FleetEstimate,
     /// Empty travel taken equal to loaded travel (conservative).
-    pub empty_equals_loaded: Estimated,
-}
-
-/// The analytic estimate's numbers, per hour of operation, as reported.
-#[derive(Debug, Clone, Serialize)]
-pub struct Estimated {
-    /// Loaded trips per hour.
-    pub trips_per_h: f64,
-    /// Metres travelled loaded per hour.
-    pub loaded_m_per_h: f64,
-    /// Metres travelled empty per hour.
-    pub empty_m_per_h: f64,
-    /// Seconds of loaded travel per hour.
-    pub loaded_travel_s_per_h: f64,
-    /// Seconds of empty travel per hour.
-    pub empty_travel_s_per_h: f64,
-    /// Seconds of loading and unloading per hour.
-    pub handling_s_per_h: f64,
-    /// Busy seconds per hour, all three.
-    pub busy_s_per_h: f64,
-    /// Movers needed (fractional).
-    pub vehicles: f64,
-    /// Movers needed, rounded up.
-    pub vehicles_rounded_up: u64,
-    /// The efficiency applied.
-    #[serde(skip)]
-    pub efficiency: f64,
-}
-
-impl Estimated {
-    fn new(e: FleetEstimate, efficiency: f64) -> Estimated {
-        Estimated {
-            trips_per_h: e.trips_per_h,
-            loaded_m_per_h: e.loaded_m_per_h,
-            empty_m_per_h: e.empty_m_per_h,
-            loaded_travel_s_per_h: e.loaded_travel_s_per_h,
-            empty_travel_s_per_h: e.empty_travel_s_per_h,
-            handling_s_per_h: e.handling_s_per_h,
-            busy_s_per_h: e.busy_s_per_h,
-            vehicles: e.vehicles,
-            vehicles_rounded_up: e.vehicles_rounded_up,
-            efficiency,
-        }
-    }
+    pub empty_equals_loaded: FleetEstimate,
 }
 
 /// The analytic estimate for fleet `f` under layout `layout`, with `efficiency`.
@@ -167,9 +125,7 @@ pub fn analytic(
 ) -> Result<Analytic, StudyError> {
     let availability = fleet_on_duty_share(plant, f);
     let with = |rule| {
-        fleet_estimate(plant, pic, layout, f, rule, efficiency * availability)
-            .map(|e| Estimated::new(e, efficiency))
-            .map_err(StudyError::Run)
+        fleet_estimate(plant, pic, layout, f, rule, efficiency * availability).map_err(StudyError::Run)
     };
     Ok(Analytic {
         availability,
@@ -231,8 +187,8 @@ pub struct Sweep<'a> {
     pub spec: RunSpec,
     /// Replications per size.
     pub replications: u32,
-    /// The analytic estimate, for its utilisation column.
-    pub analytic: &'a Estimated,
+    /// The analytic estimate, for its utilisation column and the advice.
+    pub analytic: &'a Analytic,
 }
 
 /// What a sweep found: every size, the advice, and the events simulated.
@@ -442,16 +398,7 @@ fn advise(
             continue;
         }
         let lower_better = matches!(t.op, super::targets::Op::AtMost | super::targets::Op::Below);
-        let change = (!before_last.is_empty()).then(|| {
-            let (a, b): (Vec<f64>, Vec<f64>) = last[i]
-                .iter()
-                .zip(&before_last[i])
-                .filter(|(x, y)| x.is_finite() && y.is_finite())
-                .map(|(x, y)| (*x, *y))
-                .unzip();
-            let d = layflow_engine::paired_difference(&a, &b, crate::metrics::CONFIDENCE);
-            Estimate { mean: d.mean, half_width: d.half_width, n: d.n }
-        });
+        let change = (!before_last.is_empty()).then(|| Estimate::from(paired(&last[i], &before_last[i])));
         // Improving: the paired interval lies wholly on the better side of 0.
         let improving = change.is_some_and(|d| {
             let h = d.half_width.unwrap_or(0.0);
@@ -467,14 +414,7 @@ fn advise(
         // alone shows nothing of the kind, so it never claims a floor.
         let floor_still_falling = match (floor.as_ref(), floors_before.get(i).and_then(Option::as_ref)) {
             (Some(f), Some(b)) => {
-                let (x, y): (Vec<f64>, Vec<f64>) = f
-                    .values
-                    .iter()
-                    .zip(&b.values)
-                    .filter(|(x, y)| x.is_finite() && y.is_finite())
-                    .map(|(x, y)| (*x, *y))
-                    .unzip();
-                let d = layflow_engine::paired_difference(&x, &y, crate::metrics::CONFIDENCE);
+                let d = paired(&f.values, &b.values);
                 d.mean.is_finite() && d.mean + d.half_width.unwrap_or(0.0) < 0.0
             }
             _ => true,
@@ -533,7 +473,7 @@ fn advise(
 /// The analytic estimate against the simulation: the smallest adequate size,
 /// and the busy share at the size compared, with the likely reasons they differ.
 fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
-    let analytic_movers = s.analytic.vehicles_rounded_up;
+    let analytic_movers = s.analytic.minimum_empty_flow.vehicles_rounded_up;
     let simulated_movers = if s.targets.is_empty() {
         None
     } else {
@@ -572,7 +512,8 @@ fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
         if let Some(r) = at {
             let empty = get(r, "empty_travel_share");
             let loaded = get(r, "loaded_travel_share");
-            let (ae, al) = (s.analytic.empty_travel_s_per_h, s.analytic.loaded_travel_s_per_h);
+            let m = &s.analytic.minimum_empty_flow;
+            let (ae, al) = (m.empty_travel_s_per_h, m.loaded_travel_s_per_h);
             // The simulation's empty-to-loaded ratio against the formula's (minimum empty flow).
             if al > 0.0 && loaded > 0.0 && ((empty / loaded) - ae / al).abs() > 0.2 * (ae / al).max(0.1) {
                 reasons.push(format!(
@@ -634,7 +575,7 @@ fn size_result(plant: &Plant, s: &Sweep, n: u32, reps: &[RepStats]) -> SizeResul
     let a = s.analytic;
     SizeResult {
         movers: n,
-        utilization_analytic: a.busy_s_per_h / (3600.0 * f64::from(n) * a.efficiency),
+        utilization_analytic: a.minimum_empty_flow.busy_s_per_h / (3600.0 * f64::from(n) * a.efficiency),
         metrics,
         meets_every_target: verdicts.iter().all(|v| v.met),
         targets: verdicts,

@@ -11,6 +11,7 @@ use serde::Serialize;
 use crate::metrics::estimate::Estimate;
 use crate::metrics::list::{find_metric, Metric};
 use crate::metrics::registry::{canonical, Scope, Unit};
+use crate::scenario::parse_factor;
 use crate::suggest::did_you_mean;
 use crate::text::num;
 use crate::units::{format_duration, parse_duration};
@@ -152,16 +153,9 @@ pub fn parse(
         Unit::Seconds => {
             parse_duration(value_text).map_err(|e| bad(format!("{label} is a duration: {e}")))?
         }
-        Unit::Share => {
-            let (num, scale) = match value_text.strip_suffix('%') {
-                Some(p) => (p.trim(), 0.01),
-                None => (value_text, 1.0),
-            };
-            let v: f64 = num.parse().map_err(|_| {
-                bad(format!("{label} is a share: write a fraction such as 0.85 or a percentage such as 85%"))
-            })?;
-            v * scale
-        }
+        Unit::Share => parse_factor(value_text).map_err(|_| {
+            bad(format!("{label} is a share: write a fraction such as 0.85 or a percentage such as 85%"))
+        })?,
         _ => value_text
             .parse()
             .map_err(|_| bad(format!("{label} takes a plain number, e.g. {label} >= 5.5")))?,
