@@ -4,11 +4,14 @@
 //! horizon, warm-up, replications, seed, threads, demand); `commands/` holds
 //! one file per command; `render/` draws their output (tables, charts, the
 //! plant, progress, one colour palette). Human tables go to stdout,
-//! diagnostics and progress to stderr. Exit codes: 0 success, 2 bad input
-//! (scenario or arguments), 1 the run itself failed.
+//! diagnostics and progress to stderr, both through `output.rs` (a write
+//! error is a value, never a panic). Exit codes: 0 success, 2 bad input
+//! (scenario or arguments), 1 the run itself failed or its output could not
+//! be written, 141 stdout closed early (`| head`), 130 Ctrl-C.
 
 mod commands;
 mod failure;
+mod output;
 mod render;
 mod settings;
 
@@ -34,7 +37,8 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
                   layflow search scenarios/demo.yaml --out found.yaml --validate\n  \
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
                   layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
-                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed, 130 stopped by Ctrl-C."
+                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed or its output\n  \
+                  could not be written, 130 stopped by Ctrl-C, 141 stdout closed early (`| head`)."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -77,10 +81,12 @@ enum Command {
     Draw(draw::DrawArgs),
 }
 
-/// Leave quietly when stdout is closed early (`layflow ... | head`): Rust
-/// ignores SIGPIPE, so `print!` panics on the broken pipe instead; a reader
-/// that has seen enough is not an error worth a backtrace.
-fn quiet_on_broken_pipe() {
+/// The last guard: output goes through `output.rs`, which returns write
+/// errors as values, so no write should reach here. Should one still panic
+/// on a closed stdout or stderr (a dependency printing directly), leave as
+/// a write error does: quietly with 141 for a closed pipe, else with one
+/// line and exit 1. Any other panic is a bug and keeps its message.
+fn last_guard_for_output() {
     let default = std::panic::take_hook();
     std::panic::set_hook(Box::new(move |info| {
         let text = info
@@ -93,12 +99,19 @@ fn quiet_on_broken_pipe() {
             // 128 + SIGPIPE, what a shell reports for a process the pipe closed.
             std::process::exit(141);
         }
+        if text.starts_with("failed printing to std") {
+            output::note!(
+                "error: could not write the output ({})",
+                text.trim_start_matches("failed printing to ")
+            );
+            std::process::exit(1);
+        }
         default(info);
     }));
 }
 
 fn main() -> ExitCode {
-    quiet_on_broken_pipe();
+    last_guard_for_output();
     let cli = Cli::parse();
     render::table::set_wide(cli.wide);
     render::table::set_verbose(cli.verbose);
@@ -117,10 +130,12 @@ fn main() -> ExitCode {
         Ok(()) => ExitCode::SUCCESS,
         Err(f) => {
             let msg = f.message().trim_end();
-            if msg.starts_with("error") {
-                eprintln!("{msg}");
+            if f.quiet {
+                // A closed pipe: the reader has seen enough; nothing to report.
+            } else if msg.starts_with("error") {
+                output::note!("{msg}");
             } else {
-                eprintln!("error: {msg}");
+                output::note!("error: {msg}");
             }
             ExitCode::from(f.code)
         }

@@ -13,6 +13,7 @@ use layflow_models::text::num;
 use layflow_models::units::{format_duration, parse_duration};
 
 use crate::failure::Failure;
+use crate::output::note;
 
 /// Output format shared by the commands.
 #[derive(Clone, Copy, Debug, PartialEq, Eq, ValueEnum)]
@@ -176,7 +177,7 @@ impl SimOptions {
             (duration_arg("--warmup", &self.warmup, plant.run.warmup_s)?, None)
         } else {
             if !s.quiet {
-                eprintln!(
+                note!(
                     "choosing the warm-up: MSER-5 on {PILOT_REPLICATIONS} pilot replications per layout at demand ×{}",
                     num(demand_factor)
                 );
@@ -186,7 +187,7 @@ impl SimOptions {
                 .install(|| choose(plant, layouts, s.horizon_s, demand_factor, s.seed))
                 .ok_or_else(|| Failure::input("--warmup auto: the horizon is too short for MSER-5"))?;
             if let Some(w) = choice.warning() {
-                eprintln!("{w}");
+                note!("{w}");
             }
             (choice.warmup_s, Some(choice))
         };

@@ -292,6 +292,7 @@ fn listed_points_and_any_scenario_field() {
     assert!(tp(1) > tp(0) * 1.15, "pump-housing throughput {} vs {}", tp(1), tp(0));
 }
 
+#[allow(clippy::disallowed_macros)] // a test's notice (cli/clippy.toml keeps print! out of the program)
 #[test]
 fn the_gnu_parallel_one_liner_matches_a_single_run() {
     if Command::new("parallel").arg("--version").stdout(Stdio::null()).status().is_err() {

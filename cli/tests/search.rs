@@ -133,6 +133,7 @@ fn rules_are_kept_and_reported() {
     assert_eq!(at("paint"), "bay-b3");
 }
 
+#[allow(clippy::disallowed_macros)] // a test's notice (cli/clippy.toml keeps print! out of the program)
 fn qaplib() -> Option<PathBuf> {
     let p = std::env::var_os("LAYFLOW_QAPLIB")
         .map(PathBuf::from)

@@ -6,6 +6,7 @@ use clap::Args;
 use layflow_models::analysis::StaticPicture;
 
 use crate::failure::Failure;
+use crate::output::out;
 use crate::render::check::{render, to_json};
 use crate::render::warnings::warn_overload;
 use crate::settings::{demand_factor, load, Format};
@@ -29,8 +30,8 @@ pub fn check(args: &CheckArgs) -> Result<(), Failure> {
     let factor = demand_factor(&plant, args.demand)?;
     let pic = StaticPicture::new(&plant, factor);
     match args.format {
-        Format::Table => print!("{}", render(&plant, &args.scenario, &pic)),
-        Format::Json => println!("{}", serde_json::to_string_pretty(&to_json(&plant, &pic)).expect("JSON")),
+        Format::Table => out(&render(&plant, &args.scenario, &pic))?,
+        Format::Json => out(&(serde_json::to_string_pretty(&to_json(&plant, &pic)).expect("JSON") + "\n"))?,
     }
     warn_overload(&plant, &pic);
     Ok(())

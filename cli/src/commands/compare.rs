@@ -13,6 +13,7 @@ use layflow_models::study::select::Settings;
 use layflow_models::suggest::closest;
 
 use crate::failure::Failure;
+use crate::output::{self, note};
 use crate::render::compare::render;
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
@@ -145,14 +146,14 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let (ranked_on, note) =
         find_metric(&metric_list, &args.metric).ok_or_else(|| unknown_metric(&args.metric, &metric_list))?;
     if let (Some(n), false) = (note, settings.quiet) {
-        eprintln!("{n}");
+        note!("{n}");
     }
     let selection = args.select.settings(&metric_list[ranked_on], args.sim.replications)?;
     if let Some(dir) = &args.out {
         let mode = if args.force { results::Mode::Force } else { results::Mode::Fresh };
         let held = results::prepare(dir, results::Kind::Compare, mode)?;
         if args.force && !held.is_empty() && !settings.quiet {
-            eprintln!("--force: deleted {} from {}", held.names(), dir.display());
+            note!("--force: deleted {} from {}", held.names(), dir.display());
         }
     }
 
@@ -201,13 +202,15 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
         files::write(dir, &out, &metric_list)?;
     }
     match args.format {
-        CompareFormat::Json => print!("{}", files::summary_json(&out)),
-        CompareFormat::Csv => print!("{}", String::from_utf8_lossy(&files::summary_csv(&out, &metric_list)?)),
-        CompareFormat::Table => print!("{}", render(plant, &out, &metric_list, wall_s)),
+        CompareFormat::Json => output::out(&files::summary_json(&out))?,
+        CompareFormat::Csv => {
+            output::out(&String::from_utf8_lossy(&files::summary_csv(&out, &metric_list)?))?;
+        }
+        CompareFormat::Table => output::out(&render(plant, &out, &metric_list, wall_s))?,
     }
     if let Some(dir) = &args.out {
         if !settings.quiet {
-            eprintln!("wrote summary.json, summary.csv and replications.csv to {}", dir.display());
+            note!("wrote summary.json, summary.csv and replications.csv to {}", dir.display());
         }
     }
     Ok(())

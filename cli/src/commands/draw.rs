@@ -8,6 +8,7 @@ use layflow_models::results::segments::read_segments;
 use layflow_models::results::write_atomic;
 
 use crate::failure::Failure;
+use crate::output::note;
 use crate::render::plant::{picture, FlowStyle};
 use crate::settings::{demand_factor, layout, load};
 
@@ -62,7 +63,7 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
             }
             let sim = read_segments(dir, &plant, layout)?;
             if sim.is_none() {
-                eprintln!(
+                note!(
                     "note: --results {}: no per-segment results there. They come from the segment-by-segment \
                      simulation, which runs when the scenario's aisles have a capacity, a speed limit or a zone; \
                      the aisles are coloured by static traffic (the from-to chart over the shortest paths) instead.",
@@ -93,6 +94,6 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
         )));
     }
     write_atomic(&dir, &name, doc.to_string().as_bytes())?;
-    eprintln!("wrote {}", args.out.display());
+    note!("wrote {}", args.out.display());
     Ok(())
 }

@@ -18,6 +18,7 @@ use layflow_models::study::replication_deadlock;
 use layflow_models::study::Progress as _;
 
 use crate::failure::Failure;
+use crate::output::{note, out};
 use crate::render::experiment::{point_line, render};
 use crate::render::progress::Progress;
 use crate::render::table::count;
@@ -103,7 +104,7 @@ static STOP: AtomicBool = AtomicBool::new(false);
 fn read_journal(dir: &Path) -> Result<Contents, Failure> {
     let c = folder::read(dir)?;
     if c.torn_bytes > 0 {
-        eprintln!(
+        note!(
             "note: {}: the last {} bytes were a line cut off mid-write (the run stopped while writing it); \
              kept the {} complete units before it",
             folder::journal_path(dir).display(),
@@ -130,7 +131,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     };
     let held = prepare(&args.out, Kind::Experiment, mode)?;
     if args.force && !held.is_empty() {
-        eprintln!("--force: deleted {} from {}", held.names(), args.out.display());
+        note!("--force: deleted {} from {}", held.names(), args.out.display());
     }
     let header = Header::new(&plan, shard);
     let path = folder::journal_path(&args.out);
@@ -151,7 +152,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         is_done[u.unit as usize] = true;
     }
     let pending: Vec<u64> = mine.iter().copied().filter(|&u| !is_done[u as usize]).collect();
-    eprintln!(
+    note!(
         "{}: {} × {} = {} units{}; {} done, {} to run",
         plan.file.display(),
         count(plan.points.len(), "design point"),
@@ -166,9 +167,9 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     if !pending.is_empty() {
         let _ = ctrlc::set_handler(|| {
             if STOP.swap(true, Ordering::SeqCst) {
-                eprintln!("\nstill finishing the running units; they will be saved");
+                note!("\nstill finishing the running units; they will be saved");
             } else {
-                eprintln!("\nCtrl-C: finishing the running units, then stopping");
+                note!("\nCtrl-C: finishing the running units, then stopping");
             }
         });
     }
@@ -233,12 +234,12 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     if shard == Shard::ALL {
         folder::write(&args.out, &header, &units)?;
         let summary = results::summarize(&header, &units).map_err(Failure::run)?;
-        print!("{}", render(&summary, plan.units()));
-        eprintln!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
+        out(&render(&summary, plan.units())).map_err(|f| f.and(&safe_in(&args.out)))?;
+        note!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
     } else {
         write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
         layflow_models::results::folder::write_manifest(&args.out, Kind::Experiment, &[journal::FILE])?;
-        eprintln!(
+        note!(
             "shard {shard} complete: {} units in {}. When every shard is done: layflow merge DIR... --out DIR",
             units.len(),
             path.display()
@@ -277,7 +278,7 @@ fn open_journal(
     let fail = |e: std::io::Error| Failure::run(format!("cannot write {}: {e}", path.display()));
     if !path.exists() {
         if args.resume {
-            eprintln!("note: {} holds no results yet; starting afresh", args.out.display());
+            note!("note: {} holds no results yet; starting afresh", args.out.display());
         }
         return Ok((Writer::create(path, header).map_err(fail)?, Vec::new()));
     }
@@ -324,7 +325,7 @@ fn open_journal(
         }
         let units = results::canonical(c.header.rekeyed(header, c.units)).map_err(Failure::input)?;
         write_atomic(&args.out, journal::FILE, &results::units_jsonl(header, &units))?;
-        eprintln!(
+        note!(
             "note: the plan now has {} replications per design point, not {}: keeping the {} units done, \
              running only the new ones",
             header.replications,
@@ -417,8 +418,8 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
     prepare(&args.out, Kind::Experiment, mode)?;
     folder::write(&args.out, &header, &units)?;
     let summary = results::summarize(&header, &units).map_err(Failure::run)?;
-    print!("{}", render(&summary, header.units));
-    eprintln!("merged {} folders into {}", args.dirs.len(), args.out.display());
+    out(&render(&summary, header.units)).map_err(|f| f.and(&safe_in(&args.out)))?;
+    note!("merged {} folders into {}", args.dirs.len(), args.out.display());
     Ok(())
 }
 
@@ -429,16 +430,20 @@ pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
     let units = results::canonical(c.units).map_err(Failure::input)?;
     let summary = results::summarize(&c.header, &units).map_err(Failure::input)?;
     if (units.len() as u64) < c.header.units && c.header.shard == Shard::ALL {
-        eprintln!(
+        note!(
             "note: {} of {} units are done; the table covers those (finish with `layflow experiment ... --resume`)",
             units.len(),
             c.header.units
         );
     }
     match args.format {
-        SummaryFormat::Table => print!("{}", render(&summary, c.header.units)),
-        SummaryFormat::Csv => print!("{}", String::from_utf8_lossy(&results::summary_csv(&summary))),
-        SummaryFormat::Json => print!("{}", String::from_utf8_lossy(&results::summary_json(&summary))),
+        SummaryFormat::Table => out(&render(&summary, c.header.units)),
+        SummaryFormat::Csv => out(&String::from_utf8_lossy(&results::summary_csv(&summary))),
+        SummaryFormat::Json => out(&String::from_utf8_lossy(&results::summary_json(&summary))),
     }
-    Ok(())
+}
+
+/// Where a summary that could not be printed can be had again: every unit is on disk already.
+fn safe_in(dir: &Path) -> String {
+    format!("; the results are safe in {0}: `layflow summarize {0}` prints them again", dir.display())
 }

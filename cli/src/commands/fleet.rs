@@ -11,6 +11,7 @@ use layflow_models::study::fleet::{self as study, Sweep};
 use layflow_models::study::targets::{self, Target};
 
 use crate::failure::Failure;
+use crate::output::{self, note, out};
 use crate::render::fleet::{render, render_analytic, FleetOutput};
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
@@ -78,7 +79,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     for text in &args.target {
         let (t, note) = targets::parse(text, &list, Some(&fleet_id))?;
         if let (Some(n), false) = (note, args.sim.quiet) {
-            eprintln!("{n}");
+            note!("{n}");
         }
         targets.push(t);
     }
@@ -108,9 +109,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     let analytic = study::analytic(&plant, &pic, layout, f, efficiency)?;
     if args.format == FleetFormat::Table {
         // Before the simulation: the planner's number, at once.
-        use std::io::Write as _;
-        print!("{}\n{}", plant.name, render_analytic(&fleet_id, &analytic));
-        let _ = std::io::stdout().flush();
+        out(&format!("{}\n{}", plant.name, render_analytic(&fleet_id, &analytic)))?;
     }
 
     let top = study::sized(&plant, f, *sizes.first().expect("at least one size"));
@@ -174,12 +173,12 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     }
     match args.format {
         FleetFormat::Json => {
-            println!("{}", serde_json::to_string_pretty(&out).expect("results serialise"));
+            output::out(&(serde_json::to_string_pretty(&out).expect("results serialise") + "\n"))?;
         }
-        FleetFormat::Table => print!("{}", render(&out, wall_s)),
+        FleetFormat::Table => output::out(&render(&out, wall_s))?,
     }
     if let (Some(p), false) = (&args.plot, settings.quiet) {
-        eprintln!("wrote {}", p.display());
+        note!("wrote {}", p.display());
     }
     Ok(())
 }

@@ -10,6 +10,7 @@ use layflow_models::sim::{Plan, RunSpec};
 use layflow_models::study::{deadlock_message, replicate, Progress as _};
 
 use crate::failure::Failure;
+use crate::output;
 use crate::render::progress::Progress;
 use crate::render::run::{render, RunOutput};
 use crate::render::warnings::warn_overload;
@@ -79,8 +80,9 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         wall_s: (!settings.no_wall_clock).then_some(wall_s),
     };
     match args.format {
-        Format::Json => println!("{}", serde_json::to_string_pretty(&out).expect("summaries serialise")),
-        Format::Table => print!("{}", render(&plant, &out, wall_s)),
+        Format::Json => {
+            output::out(&(serde_json::to_string_pretty(&out).expect("summaries serialise") + "\n"))
+        }
+        Format::Table => output::out(&render(&plant, &out, wall_s)),
     }
-    Ok(())
 }

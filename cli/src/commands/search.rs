@@ -13,6 +13,7 @@ use layflow_models::search::{
 
 use crate::commands::compare::{compare_plant, CompareArgs, CompareFormat, SelectArgs};
 use crate::failure::Failure;
+use crate::output::out;
 use crate::render::plot;
 use crate::render::progress::Spinner;
 use crate::render::search::{
@@ -288,10 +289,10 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
         write_file(file, layouts_yaml(&report, path, &found, file).as_bytes(), "--out")?;
     }
     match args.format {
-        Format::Table => print!("{}", render(&report, &found, args.out.as_deref(), args.validate)),
+        Format::Table => out(&render(&report, &found, args.out.as_deref(), args.validate))?,
         Format::Json => {
             let json = json_output(&report, &found, args.sim.no_wall_clock);
-            println!("{}", serde_json::to_string_pretty(&json).expect("plain data serializes"));
+            out(&(serde_json::to_string_pretty(&json).expect("plain data serializes") + "\n"))?;
         }
     }
     if args.validate {
@@ -366,15 +367,13 @@ fn validate(
             names.push(name);
         }
     }
-    println!();
     if names.len() < 2 {
-        println!(
-            "Nothing to validate: every layout found is the start layout \"{}\" itself.",
+        return out(&format!(
+            "\nNothing to validate: every layout found is the start layout \"{}\" itself.\n",
             plant.layouts[from].name
-        );
-        return Ok(());
+        ));
     }
-    println!("Validating by simulation: {} with common random numbers.", names.join(", "));
+    out(&format!("\nValidating by simulation: {} with common random numbers.\n", names.join(", ")))?;
     let compare = CompareArgs {
         scenario: path.to_path_buf(),
         layouts: names.clone(),
@@ -442,21 +441,23 @@ fn search_qaplib(
                     "permutation_1_based": r.outcome.layout.iter().map(|&k| k + 1).collect::<Vec<_>>(),
                 })).collect::<Vec<_>>(),
             });
-            println!("{}", serde_json::to_string_pretty(&json).expect("plain data serializes"));
+            out(&(serde_json::to_string_pretty(&json).expect("plain data serializes") + "\n"))?;
         }
         Format::Table => {
-            println!("QAPLIB instance {} (n = {}), seed {seed}", file.display(), inst.n);
+            let mut text = format!("QAPLIB instance {} (n = {}), seed {seed}\n", file.display(), inst.n);
             match &solution {
-                Some(s) => {
-                    println!("  optimum or best known value {} (from {})", whole(s.value), sln_path.display())
-                }
-                None => println!("  no {} beside it: no gap to report", sln_path.display()),
+                Some(s) => text.push_str(&format!(
+                    "  optimum or best known value {} (from {})\n",
+                    whole(s.value),
+                    sln_path.display()
+                )),
+                None => text.push_str(&format!("  no {} beside it: no gap to report\n", sln_path.display())),
             }
-            println!("  {} (stopping early at the optimum)", limits_text(&limits));
+            text.push_str(&format!("  {} (stopping early at the optimum)\n", limits_text(&limits)));
             if let Some(s) = stall_text(&limits) {
-                println!("  {s}");
+                text.push_str(&format!("  {s}\n"));
             }
-            println!();
+            text.push('\n');
             let mut t = Table::new(&["method", "iterations", "ran for", "best", "gap"]);
             for r in &runs {
                 t.row(vec![
@@ -467,13 +468,17 @@ fn search_qaplib(
                     gap(r.outcome.evaluation.cost).map_or("-".into(), |g| format!("{g:.2}%")),
                 ]);
             }
-            print!("{}", t.render(2));
+            text.push_str(&t.render(2));
             if let Some(best) =
                 runs.iter().min_by(|a, b| a.outcome.evaluation.cost.total_cmp(&b.outcome.evaluation.cost))
             {
                 let p: Vec<String> = best.outcome.layout.iter().map(|&k| (k + 1).to_string()).collect();
-                println!("\n  best permutation (facility → location, 1-based): {}", p.join(" "));
+                text.push_str(&format!(
+                    "\n  best permutation (facility → location, 1-based): {}\n",
+                    p.join(" ")
+                ));
             }
+            out(&text)?;
         }
     }
     Ok(())

@@ -7,6 +7,8 @@ use indicatif::{ProgressBar, ProgressStyle};
 use layflow_models::sim::RepStats;
 use layflow_models::study;
 
+use crate::output::note;
+
 /// A progress bar over replications that also shows the simulation speed.
 ///
 /// It draws only when stderr is a terminal (indicatif's default) and never
@@ -45,7 +47,7 @@ impl Progress {
     /// Print a line above the bar (or plainly, when the bar is hidden but not quiet).
     pub fn println(&self, line: String) {
         if self.bar.is_hidden() {
-            eprintln!("{line}");
+            note!("{line}");
         } else {
             self.bar.println(line);
         }

@@ -7,12 +7,13 @@ use layflow_models::study::warmup::WarmupChoice;
 use layflow_models::units::format_duration;
 
 use super::table::{share, verbose};
+use crate::output::note;
 
 /// Print a loud warning on stderr for every department predicted at or over capacity.
 pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
     for d in pic.overloaded() {
         let dep = &plant.departments[d];
-        eprintln!(
+        note!(
             "WARNING: department \"{}\" is predicted at {} utilisation ({} machine{}{}): the plant cannot keep up \
              with this demand; queues there grow without bound and simulated results will not settle.",
             dep.id,
@@ -33,7 +34,7 @@ pub fn warn_overload(plant: &Plant, pic: &StaticPicture) {
     for (l, lp) in pic.layouts.iter().enumerate() {
         for (f, &u) in lp.fleet_utilization_lower_bound.iter().enumerate() {
             if u >= 1.0 {
-                eprintln!(
+                note!(
                     "WARNING: fleet \"{}\" needs at least {} of its time for loaded moves under layout \"{}\": \
                      it cannot keep up; add movers.",
                     plant.fleets()[f].id,

@@ -39,6 +39,7 @@ pub fn svg_texts(svg: &str) -> Vec<(String, String)> {
 /// resvg on PATH or in ~/.cargo/bin, or `None` with a notice naming `what`
 /// would have been rendered. CI installs resvg and sets
 /// LAYFLOW_REQUIRE_RESVG, so there the render always runs.
+#[allow(clippy::disallowed_macros)] // a test's notice (cli/clippy.toml keeps print! out of the program)
 pub fn resvg(what: &str) -> Option<PathBuf> {
     let on_path = std::env::var_os("PATH")
         .and_then(|paths| std::env::split_paths(&paths).map(|d| d.join("resvg")).find(|p| p.is_file()));

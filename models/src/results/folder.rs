@@ -308,8 +308,14 @@ pub fn write_manifest(dir: &Path, kind: Kind, files: &[&str]) -> Result<(), Resu
 pub fn write_atomic(dir: &Path, name: &str, bytes: &[u8]) -> Result<(), ResultsError> {
     let target = dir.join(name);
     let fail = |e: std::io::Error| ResultsError::Write(format!("cannot write {}: {e}", target.display()));
-    let mut tmp = tempfile::Builder::new().prefix(&format!(".{name}.")).tempfile_in(dir).map_err(fail)?;
-    tmp.write_all(bytes).map_err(fail)?;
+    // The message names the file the user asked for, not the temporary one
+    // (tempfile's own errors add "at path .NAME.XXXX", which means nothing to them).
+    let mut tmp = tempfile::Builder::new().prefix(&format!(".{name}.")).tempfile_in(dir).map_err(|e| {
+        let text = e.to_string();
+        let plain = text.split(" at path ").next().unwrap_or(&text).to_string();
+        fail(std::io::Error::new(e.kind(), plain))
+    })?;
+    tmp.as_file_mut().write_all(bytes).map_err(fail)?;
     // A temporary file is private (0600); a result is for everyone who may
     // read the folder, like any file the user would have saved.
     #[cfg(unix)]
