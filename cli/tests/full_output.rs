@@ -243,6 +243,10 @@ fn an_output_file_that_cannot_be_written_is_named_and_exits_1() {
         let line = one_line_failure(&args.join(" "), &out, file);
         assert!(line.contains("File too large"), "the reason is given: {line}");
     }
+    // No half header is left behind: once there is room, the same command runs afresh.
+    let exp = t.path().join("exp");
+    let out = layflow_to(&["experiment", s(&plan), "--out", s(&exp), "-q"], Stdio::null(), Stdio::piped());
+    assert!(out.status.success(), "the experiment reruns in its folder: {}", text(&out.stderr));
 }
 
 #[test]

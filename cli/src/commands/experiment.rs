@@ -280,7 +280,14 @@ fn open_journal(
         if args.resume {
             note!("note: {} holds no results yet; starting afresh", args.out.display());
         }
-        return Ok((Writer::create(path, header).map_err(fail)?, Vec::new()));
+        // A header cut short (a full disk) would make the folder neither fresh nor resumable: remove it.
+        let w = Writer::create(path, header).map_err(|e| {
+            if e.kind() != std::io::ErrorKind::AlreadyExists {
+                let _ = std::fs::remove_file(path);
+            }
+            fail(e)
+        })?;
+        return Ok((w, Vec::new()));
     }
     if !args.resume {
         return Err(Failure::input(format!(
