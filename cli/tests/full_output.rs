@@ -242,6 +242,7 @@ fn an_output_file_that_cannot_be_written_is_named_and_exits_1() {
         let Some(out) = with_small_files(t.path(), &args) else { return };
         let line = one_line_failure(&args.join(" "), &out, file);
         assert!(line.contains("File too large"), "the reason is given: {line}");
+        assert!(!line.contains("at path"), "the user's file is named, not the temporary one: {line}");
     }
     // No half header is left behind: once there is room, the same command runs afresh.
     let exp = t.path().join("exp");
