@@ -4,6 +4,7 @@ use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{OperatorsSpec, ShiftsSpec};
+use crate::limits;
 use crate::plant::{DutyCalendar, Operators};
 use crate::units::{format_duration, Seconds};
 
@@ -63,6 +64,7 @@ pub(crate) fn duty_calendar(
             format!("the shift period must be longer than 0, got {}", format_duration(period)),
         ));
     }
+    limits::check_period("a shift period", period).map_err(|m| ctx.err(&sp.key("every"), m))?;
     if sh.on.is_empty() {
         return Err(ctx
             .err(&sp.key("on"), format!("{owner} has no shift windows"))

@@ -4,6 +4,7 @@ use super::context::{resolve, Ctx};
 use super::locate::FieldPath;
 use super::schema::Scenario;
 use super::ScenarioError;
+use crate::limits;
 use crate::plant::{Department, DepartmentRole, Layout, Location, SearchRules};
 
 /// Resolve and check the search rules (defaults when the section is absent).
@@ -100,6 +101,12 @@ pub(crate) fn rules(
             return Err(
                 ctx.err(&p.key("neighbour_distance"), format!("must be a distance in metres > 0, got {d}"))
             )
+        }
+        Some(d) if d > limits::MAX_LENGTH_M => {
+            return Err(ctx.err(
+                &p.key("neighbour_distance"),
+                limits::check_length("neighbour_distance", d).expect_err("checked above"),
+            ))
         }
         None if !r.adjacent.is_empty() || !r.apart.is_empty() => {
             return Err(ctx.err(&p, "adjacency rules need `neighbour_distance`").with_hint(
