@@ -61,6 +61,18 @@ pub const MAX_EXPECTED_LOTS: f64 = 1e9;
 pub const RATE_WHY: &str = "each lot costs events and memory, so a replication of more than \
      1e9 lots (a day's computing) cannot finish; no job shop releases lots that fast";
 
+/// Largest cost rate (per load-metre, per hour, per km), in the scenario's currency.
+pub const MAX_COST: f64 = 1e9;
+/// Why [`MAX_COST`].
+pub const MAX_COST_WHY: &str = "beyond any plant's budget in any currency, and handling costs summed \
+     over a plant stay finite below it";
+
+/// Lowest operator efficiency (travel and handling take 1/efficiency as long).
+pub const MIN_EFFICIENCY: f64 = 0.01;
+/// Why [`MIN_EFFICIENCY`].
+pub const MIN_EFFICIENCY_WHY: &str = "below 1% every move takes more than a hundred times as long, \
+     which is no operator's pace, and at 1e-300 travel times become infinite";
+
 /// Most lots one line of an order trace releases at once.
 pub const MAX_ORDER_LOTS: u32 = 1_000_000;
 /// Why [`MAX_ORDER_LOTS`].

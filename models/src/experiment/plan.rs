@@ -263,6 +263,11 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     if spec.replications == 0 {
         return Err(err(file, line_of(&text, "replications"), "replications must be at least 1", ""));
     }
+    let r = u64::from(spec.replications);
+    let max = u64::from(crate::limits::MAX_REPLICATIONS);
+    if let Err(m) = crate::limits::check_count("replications", r, max, crate::limits::MAX_REPLICATIONS_WHY) {
+        return Err(err(file, line_of(&text, "replications"), format!("replications: {m}"), ""));
+    }
     let dir = file.parent().unwrap_or_else(|| Path::new(""));
     let scenario = dir.join(&spec.scenario);
     let scenario_text = std::fs::read_to_string(&scenario).map_err(|e| {

@@ -88,6 +88,8 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             format!("per_load_metre must be a number >= 0, got {cost_per_load_metre}"),
         ));
     }
+    limits::check_at_most("per_load_metre", cost_per_load_metre, limits::MAX_COST, limits::MAX_COST_WHY)
+        .map_err(|m| ctx.err(&root.key("costs").key("per_load_metre"), m))?;
     if !search.floor_costs.is_empty() && cost_per_load_metre == 0.0 {
         return Err(ctx
             .err(

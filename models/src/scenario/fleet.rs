@@ -130,6 +130,8 @@ fn fleet(
                 format!("cost {field} of fleet \"{}\" must be a number >= 0, got {v}", f.id),
             ));
         }
+        limits::check_at_most(field, v, limits::MAX_COST, limits::MAX_COST_WHY)
+            .map_err(|m| ctx.err(&fp.key("cost").key(field), m))?;
     }
     let home = home(&f.home, &fp.key("home"), departments, locations, ctx)?;
     let carries = match &f.carries {

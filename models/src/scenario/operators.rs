@@ -27,6 +27,19 @@ pub(crate) fn operators(
             )
             .with_hint("e.g. `efficiency: 0.85`: travel and handling then take 1/0.85 times as long"));
     }
+    if efficiency < limits::MIN_EFFICIENCY {
+        return Err(ctx
+            .err(
+                &op.key("efficiency"),
+                format!(
+                    "operator efficiency {} of fleet \"{fleet}\" is below the floor of {}: {}",
+                    limits::shown(efficiency),
+                    limits::MIN_EFFICIENCY,
+                    limits::MIN_EFFICIENCY_WHY
+                ),
+            )
+            .with_hint("e.g. `efficiency: 0.85`: travel and handling then take 1/0.85 times as long"));
+    }
     let duty = match (&spec.shifts, &spec.breaks) {
         (None, None) => None,
         (None, Some(_)) => {

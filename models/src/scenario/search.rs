@@ -124,6 +124,8 @@ pub(crate) fn rules(
                 ctx.err(&at.key("per_hour"), format!("must be a cost per hour >= 0, got {}", fc.per_hour))
             );
         }
+        limits::check_at_most("per_hour", fc.per_hour, limits::MAX_COST, limits::MAX_COST_WHY)
+            .map_err(|m| ctx.err(&at.key("per_hour"), m))?;
         r.floor_costs.push((d, l, fc.per_hour));
     }
     Ok(r)
