@@ -68,3 +68,24 @@ fleets:
     assert_eq!(out.status.code(), Some(0), "stderr:\n{err}");
     assert!(text(&out.stdout).contains("work"), "{}", text(&out.stdout));
 }
+
+/// An experiment plan gets the same ceilings: on its replications, and on
+/// the lots of each design point once the plan's horizon and demand apply.
+#[test]
+fn an_experiment_plan_beyond_a_ceiling_exits_2() {
+    let dir = tempfile::tempdir().unwrap();
+    let demo = common::root().join("scenarios/demo.yaml");
+    std::fs::copy(demo, dir.path().join("demo.yaml")).unwrap();
+    for (plan, fragment) in [
+        ("replications: 4294967295\nfactors: { demand: [1] }\n", "ceiling of 1,000,000"),
+        ("replications: 2\nhorizon: 36000 d\nfactors: { demand: [1, 1000] }\n", "design point 2"),
+    ] {
+        let path = dir.path().join("plan.yaml");
+        std::fs::write(&path, format!("scenario: demo.yaml\n{plan}")).unwrap();
+        let out_dir = dir.path().join("out");
+        let out = layflow(&["experiment", path.to_str().unwrap(), "--out", out_dir.to_str().unwrap(), "-q"]);
+        let err = text(&out.stderr);
+        assert_eq!(out.status.code(), Some(2), "{plan}: stderr:\n{err}");
+        assert!(err.contains(fragment), "{plan}: expected {fragment:?} in:\n{err}");
+    }
+}

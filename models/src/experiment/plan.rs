@@ -371,6 +371,13 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
             demand_factor: demand.unwrap_or(plant.demand_factor),
             seed: point_seed,
         };
+        // The plan may raise the horizon or the demand above what the
+        // scenario was checked with: the lots ceiling applies to the point.
+        let lots = plant.lots_bound(spec.horizon_s, spec.demand_factor);
+        let horizon_words = crate::units::format_duration(spec.horizon_s);
+        if let Err(m) = crate::limits::check_lots(lots, &horizon_words, spec.demand_factor) {
+            return Err(err(file, None, format!("design point {}: {m}", p + 1), ""));
+        }
         setups.push(Setup { plant, spec });
     }
     // Every point must report the same metrics, so results line up in one table.
