@@ -34,9 +34,11 @@ pub const SPEED_WHY: &str = "nothing that carries loads in a plant is faster, an
 
 /// Largest acceleration, m/s² (about 10 g).
 pub const MAX_ACCELERATION_M_S2: f64 = 100.0;
-/// Why [`MAX_ACCELERATION_M_S2`].
-pub const MAX_ACCELERATION_WHY: &str =
-    "no load survives more; above it travel is instant acceleration anyway";
+/// Smallest acceleration above zero, m/s² (17 minutes from rest to 1 m/s).
+pub const MIN_ACCELERATION_M_S2: f64 = 0.001;
+/// Why the acceleration range.
+pub const ACCELERATION_WHY: &str = "no load survives more, and a mover that takes longer to reach \
+     walking pace never arrives, so travel times stay finite";
 
 /// Largest weight, kg (10,000 t).
 pub const MAX_WEIGHT_KG: f64 = 1e7;

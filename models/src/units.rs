@@ -87,11 +87,12 @@ pub fn parse_acceleration(text: &str) -> Result<f64, String> {
                 return Err(format!("acceleration \"{t}\" is not finite"));
             }
             let a = value * factor;
-            if a.abs() > limits::MAX_ACCELERATION_M_S2 {
+            if a.abs() > limits::MAX_ACCELERATION_M_S2 || (a > 0.0 && a < limits::MIN_ACCELERATION_M_S2) {
                 return Err(format!(
-                    "acceleration \"{t}\" is more than the ceiling of {} m/s²: {}",
+                    "acceleration \"{t}\" is outside {} to {} m/s²: {}",
+                    limits::MIN_ACCELERATION_M_S2,
                     limits::MAX_ACCELERATION_M_S2,
-                    limits::MAX_ACCELERATION_WHY
+                    limits::ACCELERATION_WHY
                 ));
             }
             Ok(a)
@@ -302,7 +303,9 @@ mod tests {
         assert!(parse_speed("1e308 m/s").unwrap_err().contains("outside"));
         assert!(parse_speed("1e-9 m/s").is_err());
         assert_eq!(parse_speed("0 m/s"), Ok(0.0), "zero is left for the field's own message");
-        assert!(parse_acceleration("1e300 m/s2").unwrap_err().contains("ceiling"));
+        assert!(parse_acceleration("1e300 m/s2").unwrap_err().contains("outside"));
+        assert!(parse_acceleration("5e-324 m/s2").unwrap_err().contains("outside"));
+        assert_eq!(parse_acceleration("0 m/s2"), Ok(0.0), "zero is left for the field's own message");
         assert!(parse_weight("1e300 kg").unwrap_err().contains("ceiling"));
     }
 
