@@ -6,6 +6,7 @@
 use std::path::Path;
 
 use clap::{Args, ValueEnum};
+use layflow_models::limits;
 use layflow_models::plant::Plant;
 use layflow_models::study::warmup::{choose, WarmupChoice, PILOT_REPLICATIONS};
 use layflow_models::suggest::did_you_mean;
@@ -94,9 +95,11 @@ pub fn layout(plant: &Plant, name: &str) -> Result<usize, Failure> {
 
 /// Reads a `--demand` value: a number (`1.2`) or a percentage (`120%`).
 pub fn parse_demand(text: &str) -> Result<f64, String> {
-    layflow_models::scenario::parse_factor(text).map_err(|_| {
+    let f = layflow_models::scenario::parse_factor(text).map_err(|_| {
         format!("\"{text}\" is not a demand factor; write a number or a percentage, e.g. 1.2 or 120%")
-    })
+    })?;
+    limits::check_at_most("the demand factor", f, limits::MAX_FACTOR, limits::RATE_WHY)?;
+    Ok(f)
 }
 
 /// Reads a share such as `--efficiency`: a number (`0.85`) or a percentage (`85%`).
@@ -116,10 +119,23 @@ pub fn demand_factor(plant: &Plant, arg: Option<f64>) -> Result<f64, Failure> {
     }
 }
 
+/// Checks a number of replications given as `flag` against the ceiling.
+pub fn replications_ceiling(flag: &str, n: u64) -> Result<(), Failure> {
+    limits::check_count("replications", n, u64::from(limits::MAX_REPLICATIONS), limits::MAX_REPLICATIONS_WHY)
+        .map_err(|m| Failure::input(format!("{flag} {n}: {m}")))
+}
+
 /// A pool of `--threads` workers (default: every core) for the replications.
 pub fn pool(arg: Option<usize>) -> Result<rayon::ThreadPool, Failure> {
     let threads = match arg {
         Some(0) => return Err(Failure::input("--threads must be at least 1")),
+        Some(k) if k > limits::MAX_THREADS => {
+            return Err(Failure::input(format!(
+                "--threads {k}: more than the ceiling of {} worker threads; results do not depend on it, \
+                 and more threads than cores only wait",
+                limits::MAX_THREADS
+            )))
+        }
         Some(k) => k,
         None => std::thread::available_parallelism().map_or(1, usize::from),
     };
@@ -153,6 +169,7 @@ impl SimOptions {
         if replications == 0 {
             return Err(Failure::input("--replications must be at least 1"));
         }
+        replications_ceiling("--replications", u64::from(replications))?;
         Ok(Settings {
             horizon_s,
             replications,
@@ -161,6 +178,15 @@ impl SimOptions {
             quiet: self.quiet,
             no_wall_clock: self.no_wall_clock,
         })
+    }
+
+    /// Checks that one replication of the resolved horizon at `demand_factor`
+    /// draws no more lots than the ceiling (the scenario's own values were
+    /// checked when it loaded; the command line may raise either).
+    pub fn check_lots(&self, s: &Settings, plant: &Plant, demand_factor: f64) -> Result<(), Failure> {
+        let lots = plant.lots_bound(s.horizon_s, demand_factor);
+        limits::check_lots(lots, &format_duration(s.horizon_s), demand_factor)
+            .map_err(|m| Failure::input(format!("--horizon and --demand: {m}")))
     }
 
     /// The warm-up in seconds from `--warmup` (a duration, or `auto`), else the
@@ -173,6 +199,7 @@ impl SimOptions {
         layouts: &[usize],
         demand_factor: f64,
     ) -> Result<(f64, Option<WarmupChoice>), Failure> {
+        self.check_lots(s, plant, demand_factor)?;
         let (warmup_s, choice) = if self.warmup.as_deref().map(str::trim) != Some("auto") {
             (duration_arg("--warmup", &self.warmup, plant.run.warmup_s)?, None)
         } else {

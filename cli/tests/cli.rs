@@ -204,9 +204,11 @@ fn overloaded_plant_warns_loudly() {
 
 #[test]
 fn extreme_but_valid_parameters_run_without_panicking() {
-    // Valid values at the edges of f64: travel times that overflow to
-    // infinity, a near-zero demand rate, a huge distance. The run must finish
-    // (exit 0) and warn, not panic on an infinite event time.
+    // Valid values at the ceilings of docs/limits.md: a location 1,000 km
+    // away crossed at 1 mm/s (a travel time of 31 years), a near-zero demand
+    // rate, heavy-tailed times with the largest spread allowed. The run must
+    // finish (exit 0) and warn, not panic on a huge event time. (Beyond the
+    // ceilings the same plant is refused: `scenarios/bad/ceiling-*.yaml`.)
     let dir = tempfile::tempdir().unwrap();
     let path = dir.path().join("extreme.yaml");
     std::fs::write(
@@ -215,7 +217,7 @@ fn extreme_but_valid_parameters_run_without_panicking() {
 run: { horizon: 2 h, replications: 2 }
 locations:
   - { id: a, at: [0, 0] }
-  - { id: b, at: [1e300, 0] }
+  - { id: b, at: [1e6, 0] }
   - { id: c, at: [5, 5] }
 departments:
   - { id: in, dock: receiving }
@@ -227,15 +229,15 @@ products:
   - id: rare
     demand: { per_hour: 1e-300 }
     routing:
-      - { step: w, at: work, time: { lognormal: { mean: 1e300 s, cv: 1e10 } } }
+      - { step: w, at: work, time: { lognormal: { mean: 1e9 s, cv: 3 } } }
       - { step: s, at: out }
   - id: busy
     demand: { per_hour: 100 }
     routing:
-      - { step: w, at: work, time: { weibull: { scale: 1 s, shape: 0.01 } } }
+      - { step: w, at: work, time: { weibull: { scale: 1 s, shape: 0.1 } } }
       - { step: s, at: out }
 fleets:
-  - { id: f, kind: walker, count: 1, speed: { loaded: 1e-300 m/s, empty: 1e300 m/s }, home: a }
+  - { id: f, kind: walker, count: 1, speed: { loaded: 0.001 m/s, empty: 100 m/s }, home: a }
 "#,
     )
     .unwrap();

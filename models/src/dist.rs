@@ -75,45 +75,56 @@ impl Dist {
     }
     /// Uniform on [min, max) with 0 <= min < max.
     pub fn uniform(min: f64, max: f64) -> Result<Dist, DistError> {
-        Uniform::new(min, max).map(Dist::Uniform)
+        Uniform::new(min, max).map(Dist::Uniform).and_then(|d| d.finite("uniform"))
     }
     /// Triangular with 0 <= min <= mode <= max and min < max.
     pub fn triangular(min: f64, mode: f64, max: f64) -> Result<Dist, DistError> {
-        Triangular::new(min, mode, max).map(Dist::Triangular)
+        Triangular::new(min, mode, max).map(Dist::Triangular).and_then(|d| d.finite("triangular"))
     }
     /// Exponential with `mean` > 0.
     pub fn exponential(mean: f64) -> Result<Dist, DistError> {
-        Exponential::new(mean).map(Dist::Exponential)
+        Exponential::new(mean).map(Dist::Exponential).and_then(|d| d.finite("exponential"))
     }
     /// Normal with the given mean and sd (both > 0) *before* truncation at zero.
     pub fn normal(mean: f64, sd: f64) -> Result<Dist, DistError> {
-        TruncatedNormal::new(mean, sd).map(Dist::Normal)
+        TruncatedNormal::new(mean, sd).map(Dist::Normal).and_then(|d| d.finite("normal"))
     }
     /// Lognormal whose own mean is `mean` (> 0) and coefficient of variation `cv` (> 0).
     pub fn lognormal(mean: f64, cv: f64) -> Result<Dist, DistError> {
-        LogNormal::new(mean, cv).map(Dist::LogNormal)
+        LogNormal::new(mean, cv).map(Dist::LogNormal).and_then(|d| d.finite("lognormal"))
     }
     /// Gamma with mean `mean` (> 0) and coefficient of variation `cv` (> 0).
     pub fn gamma(mean: f64, cv: f64) -> Result<Dist, DistError> {
         positive(Param::GammaMean, mean)?;
         positive(Param::GammaCv, cv)?;
-        Gamma::new(1.0 / (cv * cv), mean * cv * cv).map(Dist::Gamma)
+        Gamma::new(1.0 / (cv * cv), mean * cv * cv).map(Dist::Gamma).and_then(|d| d.finite("gamma"))
     }
     /// Gamma with `shape` and `scale` (both > 0); mean = shape × scale.
     pub fn gamma_shape_scale(shape: f64, scale: f64) -> Result<Dist, DistError> {
-        Gamma::new(shape, scale).map(Dist::Gamma)
+        Gamma::new(shape, scale).map(Dist::Gamma).and_then(|d| d.finite("gamma"))
     }
     /// Erlang with `k` >= 1 phases and overall `mean` > 0.
     pub fn erlang(k: u32, mean: f64) -> Result<Dist, DistError> {
-        Erlang::new(k, mean).map(Dist::Erlang)
+        Erlang::new(k, mean).map(Dist::Erlang).and_then(|d| d.finite("erlang"))
     }
     /// Weibull with `scale` > 0 and `shape` > 0.
     pub fn weibull(scale: f64, shape: f64) -> Result<Dist, DistError> {
-        Weibull::new(scale, shape).map(Dist::Weibull)
+        Weibull::new(scale, shape).map(Dist::Weibull).and_then(|d| d.finite("weibull"))
     }
     /// A table of `(value, probability)` rows; values >= 0, probabilities >= 0 summing to 1 (±1e-9).
     pub fn empirical(rows: &[(f64, f64)]) -> Result<Dist, DistError> {
-        Empirical::new(rows).map(Dist::Empirical)
+        Empirical::new(rows).map(Dist::Empirical).and_then(|d| d.finite("empirical"))
+    }
+
+    /// This distribution, if its mean and variance are finite numbers
+    /// (every prediction and interval rests on them); `family` names it.
+    fn finite(self, family: &'static str) -> Result<Dist, DistError> {
+        let (mean, variance) = (self.mean(), self.variance());
+        if mean.is_finite() && variance.is_finite() {
+            Ok(self)
+        } else {
+            Err(DistError::MomentsNotFinite { family, mean, variance })
+        }
     }
 
     /// Draw one value (never negative).

@@ -642,6 +642,29 @@ impl Plant {
     }
 }
 
+impl Plant {
+    /// An upper bound on the lots (and thinning candidates) one replication
+    /// of `horizon_s` seconds at `demand_factor` draws: every rate at its
+    /// profile's peak, the order trace played as often as it fits. What the
+    /// ceiling [`crate::limits::MAX_EXPECTED_LOTS`] is checked against.
+    pub fn lots_bound(&self, horizon_s: f64, demand_factor: f64) -> f64 {
+        let rates: f64 = self
+            .products
+            .iter()
+            .map(|p| match &p.demand {
+                Demand::Rate { per_s, profile } => per_s * profile.as_ref().map_or(1.0, Profile::peak_factor),
+                Demand::Orders => 0.0,
+            })
+            .sum();
+        let trace = self.orders.as_ref().map_or(0.0, |t| {
+            let once: f64 = t.orders.iter().map(|o| f64::from(o.quantity)).sum();
+            let plays = t.repeat_s.map_or(1.0, |r| (horizon_s / r).floor() + 1.0);
+            once * plays
+        });
+        (rates * horizon_s + trace) * demand_factor
+    }
+}
+
 impl Profile {
     /// Length of one repetition, s.
     pub fn period_s(&self) -> f64 {

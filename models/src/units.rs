@@ -11,6 +11,8 @@ use std::fmt;
 
 use serde::de::{self, Deserialize, Deserializer, Visitor};
 
+use crate::limits;
+
 /// Duration units accepted, with their length in seconds.
 const DURATION_UNITS: &[(&str, f64)] = &[("s", 1.0), ("min", 60.0), ("h", 3600.0), ("d", 86400.0)];
 
@@ -39,13 +41,32 @@ pub const SPEED_EXAMPLE: &str = "write \"1.5 m/s\" or \"90 m/min\"";
 ///
 /// Negative values parse (the caller decides whether they make sense, so it
 /// can say which field is wrong); NaN and infinities do not.
+///
+/// The result must also be finite after conversion and at most
+/// [`limits::MAX_DURATION_S`] either way, so that every duration in a
+/// scenario or on the command line gets the ceiling at once.
 pub fn parse_duration(text: &str) -> Result<f64, String> {
-    parse_with_units(text, DURATION_UNITS, "duration", DURATION_EXAMPLE)
+    let s = parse_with_units(text, DURATION_UNITS, "duration", DURATION_EXAMPLE)?;
+    limits::check_duration(text, s)
 }
 
 /// Parses a speed such as `"2.0 m/s"`, `"8 km/h"` or `"90 m/min"` into metres per second.
+///
+/// A speed above [`limits::MAX_SPEED_M_S`], or above zero but below
+/// [`limits::MIN_SPEED_M_S`], is refused here; zero and negative speeds
+/// parse, for the caller to name the field.
 pub fn parse_speed(text: &str) -> Result<f64, String> {
-    parse_with_units(text, SPEED_UNITS, "speed", SPEED_EXAMPLE)
+    let v = parse_with_units(text, SPEED_UNITS, "speed", SPEED_EXAMPLE)?;
+    if v.abs() > limits::MAX_SPEED_M_S || (v > 0.0 && v < limits::MIN_SPEED_M_S) {
+        return Err(format!(
+            "speed \"{}\" is outside {} to {} m/s: {}",
+            text.trim(),
+            limits::MIN_SPEED_M_S,
+            limits::MAX_SPEED_M_S,
+            limits::SPEED_WHY
+        ));
+    }
+    Ok(v)
 }
 
 /// Parses an acceleration such as `"0.5 m/s2"` or `"0.5 m/s²"` into m/s².
@@ -65,7 +86,16 @@ pub fn parse_acceleration(text: &str) -> Result<f64, String> {
             if !value.is_finite() {
                 return Err(format!("acceleration \"{t}\" is not finite"));
             }
-            Ok(value * factor)
+            let a = value * factor;
+            if a.abs() > limits::MAX_ACCELERATION_M_S2 || (a > 0.0 && a < limits::MIN_ACCELERATION_M_S2) {
+                return Err(format!(
+                    "acceleration \"{t}\" is outside {} to {} m/s²: {}",
+                    limits::MIN_ACCELERATION_M_S2,
+                    limits::MAX_ACCELERATION_M_S2,
+                    limits::ACCELERATION_WHY
+                ));
+            }
+            Ok(a)
         }
         None if t.parse::<f64>().is_ok() => {
             Err(format!("acceleration \"{t}\" needs a unit: {ACCELERATION_EXAMPLE}"))
@@ -79,7 +109,16 @@ pub fn parse_acceleration(text: &str) -> Result<f64, String> {
 
 /// Parses a weight such as `"800 kg"` or `"1.2 t"` into kilograms.
 pub fn parse_weight(text: &str) -> Result<f64, String> {
-    parse_with_units(text, WEIGHT_UNITS, "weight", WEIGHT_EXAMPLE)
+    let w = parse_with_units(text, WEIGHT_UNITS, "weight", WEIGHT_EXAMPLE)?;
+    if w.abs() > limits::MAX_WEIGHT_KG {
+        return Err(format!(
+            "weight \"{}\" is more than the ceiling of {}: {}",
+            text.trim(),
+            format_weight(limits::MAX_WEIGHT_KG),
+            limits::MAX_WEIGHT_WHY
+        ));
+    }
+    Ok(w)
 }
 
 /// Formats kilograms for messages: tonnes from 1000 kg up.
@@ -253,6 +292,21 @@ mod tests {
         assert!(parse_duration("min").unwrap_err().contains("no number"));
         assert!(parse_duration("inf s").is_err());
         assert!(parse_speed("3 mph").unwrap_err().contains("m/s, m/min, km/h"));
+    }
+
+    #[test]
+    fn values_beyond_a_ceiling_are_refused() {
+        let e = parse_duration("1e308 d").unwrap_err();
+        assert!(e.contains("longer than the ceiling of 100 years"), "{e}");
+        assert!(parse_duration("-1e308 d").is_err());
+        assert_eq!(parse_duration("100 d"), Ok(8_640_000.0));
+        assert!(parse_speed("1e308 m/s").unwrap_err().contains("outside"));
+        assert!(parse_speed("1e-9 m/s").is_err());
+        assert_eq!(parse_speed("0 m/s"), Ok(0.0), "zero is left for the field's own message");
+        assert!(parse_acceleration("1e300 m/s2").unwrap_err().contains("outside"));
+        assert!(parse_acceleration("5e-324 m/s2").unwrap_err().contains("outside"));
+        assert_eq!(parse_acceleration("0 m/s2"), Ok(0.0), "zero is left for the field's own message");
+        assert!(parse_weight("1e300 kg").unwrap_err().contains("ceiling"));
     }
 
     #[test]

@@ -108,6 +108,8 @@ impl SelectArgs {
                  --max-replications instead of --replications",
             ));
         }
+        crate::settings::replications_ceiling("--first-stage", self.first_stage as u64)?;
+        crate::settings::replications_ceiling("--max-replications", self.max_replications as u64)?;
         let s = Settings::new(
             metric,
             self.indifference.as_deref(),

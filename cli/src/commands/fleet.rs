@@ -95,6 +95,13 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
             "--efficiency {efficiency}: must be above 0 and at most 1, e.g. 0.85"
         )));
     }
+    if efficiency < layflow_models::limits::MIN_EFFICIENCY {
+        return Err(Failure::input(format!(
+            "--efficiency {efficiency}: below the floor of {}: {}",
+            layflow_models::limits::MIN_EFFICIENCY,
+            layflow_models::limits::MIN_EFFICIENCY_WHY
+        )));
+    }
     if let Some(p) = &args.plot {
         if p.extension().is_none_or(|e| e != "svg") {
             return Err(Failure::input(format!(

@@ -163,6 +163,13 @@ fn limits(args: &SearchArgs) -> Result<Limits, Failure> {
     if args.iterations == Some(0) {
         return Err(Failure::input("--iterations must be at least 1"));
     }
+    if let Some(n) = args.iterations.filter(|&n| n > layflow_models::limits::MAX_ITERATIONS) {
+        return Err(Failure::input(format!(
+            "--iterations {n}: more than the ceiling of {:e} iterations per method, which no search needs \
+             (the best layout stops improving long before) and which would run for days",
+            layflow_models::limits::MAX_ITERATIONS as f64
+        )));
+    }
     // The stall rule is a time rule: iterations alone stay deterministic.
     let stall_share = time_s.map(|_| STALL_SHARE);
     Ok(Limits { iterations: args.iterations, time_s, target: None, stall_share })

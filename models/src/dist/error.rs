@@ -133,6 +133,17 @@ pub enum DistError {
         /// How far from 1 the sum may be.
         tolerance: f64,
     },
+    /// Parameters that pass every check above but give a mean or variance
+    /// that is not a finite number (a Weibull shape of 1e-300 has an
+    /// infinite mean), so no average or utilisation could be predicted.
+    MomentsNotFinite {
+        /// The family, as messages spell it.
+        family: &'static str,
+        /// The mean the parameters give.
+        mean: f64,
+        /// The variance the parameters give.
+        variance: f64,
+    },
     /// The sampler refused parameters that passed the checks above (extreme
     /// values whose derived parameters overflow, e.g. a huge lognormal cv).
     Sampler {
@@ -175,6 +186,11 @@ impl fmt::Display for DistError {
             DistError::ProbabilitySum { sum, tolerance } => {
                 write!(f, "empirical probabilities sum to {}, not 1 (tolerance {tolerance:e})", rounded(*sum))
             }
+            DistError::MomentsNotFinite { family, mean, variance } => write!(
+                f,
+                "{family}: these parameters give a mean of {mean:e} and a variance of {variance:e}; both must be \
+                 finite numbers, or no average, utilisation or interval can be computed"
+            ),
             DistError::Sampler { family, reason } => write!(f, "{family}: {reason}"),
         }
     }
@@ -253,6 +269,11 @@ mod tests {
         assert_eq!(
             msg(Dist::empirical(&[(1.0, 0.5), (2.0, 0.4)])),
             "empirical probabilities sum to 0.9, not 1 (tolerance 1e-9)"
+        );
+        assert_eq!(
+            msg(Dist::weibull(60.0, 1e-300)),
+            "weibull: these parameters give a mean of inf and a variance of NaN; both must be finite numbers, \
+             or no average, utilisation or interval can be computed"
         );
         assert_eq!(
             msg(Dist::lognormal(1.0, 1e200)),

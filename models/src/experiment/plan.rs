@@ -263,6 +263,11 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     if spec.replications == 0 {
         return Err(err(file, line_of(&text, "replications"), "replications must be at least 1", ""));
     }
+    let r = u64::from(spec.replications);
+    let max = u64::from(crate::limits::MAX_REPLICATIONS);
+    if let Err(m) = crate::limits::check_count("replications", r, max, crate::limits::MAX_REPLICATIONS_WHY) {
+        return Err(err(file, line_of(&text, "replications"), format!("replications: {m}"), ""));
+    }
     let dir = file.parent().unwrap_or_else(|| Path::new(""));
     let scenario = dir.join(&spec.scenario);
     let scenario_text = std::fs::read_to_string(&scenario).map_err(|e| {
@@ -366,6 +371,13 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
             demand_factor: demand.unwrap_or(plant.demand_factor),
             seed: point_seed,
         };
+        // The plan may raise the horizon or the demand above what the
+        // scenario was checked with: the lots ceiling applies to the point.
+        let lots = plant.lots_bound(spec.horizon_s, spec.demand_factor);
+        let horizon_words = crate::units::format_duration(spec.horizon_s);
+        if let Err(m) = crate::limits::check_lots(lots, &horizon_words, spec.demand_factor) {
+            return Err(err(file, None, format!("design point {}: {m}", p + 1), ""));
+        }
         setups.push(Setup { plant, spec });
     }
     // Every point must report the same metrics, so results line up in one table.

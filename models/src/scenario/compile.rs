@@ -11,6 +11,7 @@ use super::error::{ErrorKind, ScenarioError};
 use super::locate::FieldPath;
 use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
 use super::{demand, distance, fleet, routing, staging, work};
+use crate::limits;
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
 
@@ -41,6 +42,8 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             format!("demand_factor must be a number > 0, got {demand_factor}"),
         ));
     }
+    limits::check_at_most("demand_factor", demand_factor, limits::MAX_FACTOR, limits::RATE_WHY)
+        .map_err(|m| ctx.err(&root.key("demand_factor"), m))?;
     let locations = locations(&s, ctx)?;
     let (distance_rule, distance, aisles) = distance::compile(&s, &locations, ctx)?;
     let departments = departments(&s, &locations, ctx)?;
@@ -85,6 +88,8 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             format!("per_load_metre must be a number >= 0, got {cost_per_load_metre}"),
         ));
     }
+    limits::check_at_most("per_load_metre", cost_per_load_metre, limits::MAX_COST, limits::MAX_COST_WHY)
+        .map_err(|m| ctx.err(&root.key("costs").key("per_load_metre"), m))?;
     if !search.floor_costs.is_empty() && cost_per_load_metre == 0.0 {
         return Err(ctx
             .err(
@@ -93,7 +98,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             )
             .with_hint("set `costs: { per_load_metre: ... }` so handling and floor costs share one scale"));
     }
-    Ok(Plant {
+    let plant = Plant {
         name: s.plant.clone(),
         locations,
         distance_rule,
@@ -112,7 +117,14 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
             None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,
             Some(FleetChoiceSpec::NearestIdle) => FleetChoice::NearestIdle,
         },
-    })
+    };
+    let lots = plant.lots_bound(plant.run.horizon_s, plant.demand_factor);
+    limits::check_lots(lots, &format_duration(plant.run.horizon_s), plant.demand_factor).map_err(|m| {
+        ctx.err(&root.key("run").key("horizon"), m).with_hint(
+            "shorten the horizon, or lower `per_hour`, the profile's factors or the order quantities",
+        )
+    })?;
+    Ok(plant)
 }
 
 /// Lots that move in several unit loads are not yet combined with finite
@@ -173,6 +185,13 @@ fn run_settings(s: &Scenario, ctx: &Ctx) -> Result<RunSettings, ScenarioError> {
     if replications == 0 {
         return Err(ctx.err(&p.key("replications"), "replications must be at least 1"));
     }
+    limits::check_count(
+        "replications",
+        u64::from(replications),
+        u64::from(limits::MAX_REPLICATIONS),
+        limits::MAX_REPLICATIONS_WHY,
+    )
+    .map_err(|m| ctx.err(&p.key("replications"), m))?;
     Ok(RunSettings { horizon_s: horizon, warmup_s: warmup, replications, seed: s.run.seed.unwrap_or(1) })
 }
 
@@ -195,6 +214,7 @@ fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {
                 format!("coordinates of location \"{}\" must be finite numbers (metres)", l.id),
             ));
         }
+        limits::check_coordinates(x, y).map_err(|m| ctx.err(&p.index(i).key("at"), m))?;
         out.push(Location { id: l.id.clone(), x, y });
     }
     Ok(out)
@@ -220,6 +240,13 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             (Some(DockSpec::Shipping), None) => (DepartmentRole::Shipping, 0),
             (None, m) => (DepartmentRole::Work, m.unwrap_or(1)),
         };
+        limits::check_count(
+            "machines",
+            u64::from(machines),
+            u64::from(limits::MAX_MACHINES),
+            limits::COUNT_WHY,
+        )
+        .map_err(|m| ctx.err(&p.index(i).key("machines"), m))?;
         if role == DepartmentRole::Work && machines == 0 {
             return Err(ctx.err(
                 &p.index(i).key("machines"),

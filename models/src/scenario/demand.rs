@@ -15,6 +15,7 @@ use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{ProductSpec, Scenario};
+use crate::limits;
 use crate::plant::{Demand, Order, OrderTrace, Product, Profile};
 use crate::suggest::{did_you_mean, name_list};
 use crate::units::{format_duration, parse_duration};
@@ -36,6 +37,8 @@ pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> R
             format!("demand of product \"{}\" must be a number > 0 lots per hour, got {per_hour}", spec.id),
         ));
     }
+    limits::check_at_most("per_hour", per_hour, limits::MAX_PER_HOUR, limits::RATE_WHY)
+        .map_err(|m| ctx.err(&dp.key("per_hour"), m))?;
     let profile = match &d.profile {
         None => None,
         Some(pr) => {
@@ -49,6 +52,10 @@ pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> R
                     )
                     .with_hint("`every` is how long each factor lasts, e.g. `every: 1 h`"));
             }
+            limits::check_period("a profile period", every).map_err(|m| {
+                ctx.err(&prp.key("every"), m)
+                    .with_hint("`every` is how long each factor lasts, e.g. `every: 1 h`")
+            })?;
             let fp = prp.key("factors");
             let factors: Vec<f64> = pr.factors.iter().map(|f| f.0).collect();
             if factors.is_empty() {
@@ -62,6 +69,8 @@ pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> R
                         .err(&fp.index(k), format!("profile factor {f} must be a number >= 0"))
                         .with_hint("a factor multiplies `per_hour`; 0 means no arrivals in that period"));
                 }
+                limits::check_at_most("profile factor", f, limits::MAX_FACTOR, limits::RATE_WHY)
+                    .map_err(|m| ctx.err(&fp.index(k), m))?;
             }
             if !factors.iter().any(|&f| f > 0.0) {
                 return Err(ctx
@@ -148,7 +157,10 @@ pub(crate) fn order_trace(
     let last = orders.last().expect("read_orders refuses an empty trace");
     let repeat_s = match spec.repeat {
         None => None,
-        Some(r) if r.0 > last.time_s => Some(r.0),
+        Some(r) if r.0 > last.time_s => {
+            limits::check_period("a trace repeat", r.0).map_err(|m| ctx.err(&op.key("repeat"), m))?;
+            Some(r.0)
+        }
         Some(r) => {
             return Err(ctx
                 .err(
@@ -275,8 +287,14 @@ fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileE
 /// A quantity cell: a whole number of lots, at least 1.
 fn quantity(cell: &str) -> Result<u32, String> {
     match cell.parse::<i64>() {
-        Ok(q) if q >= 1 => u32::try_from(q)
-            .map_err(|_| format!("quantity {q} is too large (at most {} lots an order)", u32::MAX)),
+        Ok(q) if q >= 1 => match u32::try_from(q) {
+            Ok(q) if q <= limits::MAX_ORDER_LOTS => Ok(q),
+            _ => Err(format!(
+                "quantity {q} is more than the ceiling of {} lots an order: {}",
+                limits::count_words(u64::from(limits::MAX_ORDER_LOTS)),
+                limits::MAX_ORDER_LOTS_WHY
+            )),
+        },
         Ok(q) => Err(format!("quantity {q}: an order releases at least 1 lot")),
         Err(_) => match cell.parse::<f64>() {
             Ok(x) if x.is_finite() => Err(format!("quantity {cell} is not a whole number of lots")),

@@ -16,6 +16,7 @@ use super::context::{check_unique, resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{AislesSpec, DistanceSpec, MatrixSource, Scenario};
+use crate::limits;
 use crate::network::{AisleNetwork, AisleNode, NetworkError, Segment};
 use crate::plant::{DistanceRule, Location};
 use crate::suggest::did_you_mean;
@@ -133,6 +134,7 @@ fn check_entry(d: f64, diagonal: bool, locs: &[Location], i: usize, j: usize) ->
     if d < 0.0 {
         return Err(format!("distance from \"{a}\" to \"{b}\" is negative ({d})"));
     }
+    limits::check_length(&format!("distance from \"{a}\" to \"{b}\":"), d)?;
     if diagonal && d != 0.0 {
         return Err(format!("distance from \"{a}\" to itself must be 0, got {d}"));
     }
@@ -243,6 +245,7 @@ fn aisles(
                 format!("coordinates of aisle node \"{}\" must be finite numbers (metres)", n.id),
             ));
         }
+        limits::check_coordinates(x, y).map_err(|m| ctx.err(&np.index(i).key("at"), m))?;
         nodes.push(AisleNode { id: n.id.clone(), x, y, zone: n.zone.unwrap_or(false) });
     }
     let ids: Vec<&str> = nodes.iter().map(|n| n.id.as_str()).collect();
@@ -279,6 +282,7 @@ fn aisles(
                         )
                         .with_hint("leave `length` out to use the straight line between the nodes"));
                 }
+                limits::check_length("segment length", l).map_err(|m| ctx.err(&gp.key("length"), m))?;
                 l
             }
             None => {

@@ -5,6 +5,7 @@ use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::operators::operators;
 use super::schema::{DispatchSpec, FleetSpec, IdleSpec, KindSpec, Scenario};
+use crate::limits;
 use crate::plant::{
     Department, DispatchRule, Fleet, Handling, Home, IdleRule, Location, MoveFilter, MoverKind, Product,
 };
@@ -82,6 +83,8 @@ fn fleet(
     if f.count == 0 {
         return Err(ctx.err(&fp.key("count"), format!("fleet \"{}\" needs at least 1 mover", f.id)));
     }
+    limits::check_count("movers", u64::from(f.count), u64::from(limits::MAX_MOVERS), limits::COUNT_WHY)
+        .map_err(|m| ctx.err(&fp.key("count"), m))?;
     let (speed_loaded, speed_empty) = match (&f.speed, f.kind) {
         (Some(sp), _) => (sp.loaded.0, sp.empty.0),
         (None, KindSpec::Walker) => (WALKER_SPEED, WALKER_SPEED),
@@ -127,6 +130,8 @@ fn fleet(
                 format!("cost {field} of fleet \"{}\" must be a number >= 0, got {v}", f.id),
             ));
         }
+        limits::check_at_most(field, v, limits::MAX_COST, limits::MAX_COST_WHY)
+            .map_err(|m| ctx.err(&fp.key("cost").key(field), m))?;
     }
     let home = home(&f.home, &fp.key("home"), departments, locations, ctx)?;
     let carries = match &f.carries {
@@ -155,6 +160,11 @@ fn fleet(
             .err(&fp.key("capacity"), format!("capacity of fleet \"{}\" must be at least 1 load", f.id))
             .with_hint("a forklift carries 1 load; a tow train carries as many as it has carts"));
     }
+    limits::check_count("loads", u64::from(capacity), u64::from(limits::MAX_TRAIN_LOADS), limits::COUNT_WHY)
+        .map_err(|m| {
+            ctx.err(&fp.key("capacity"), m)
+                .with_hint("a forklift carries 1 load; a tow train carries as many as it has carts")
+        })?;
     let breakdowns = match &f.breakdowns {
         None => None,
         Some(b) => Some(super::staging::breakdowns(b, &fp.key("breakdowns"), false, ctx)?),

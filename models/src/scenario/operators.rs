@@ -4,6 +4,7 @@ use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{OperatorsSpec, ShiftsSpec};
+use crate::limits;
 use crate::plant::{DutyCalendar, Operators};
 use crate::units::{format_duration, Seconds};
 
@@ -23,6 +24,19 @@ pub(crate) fn operators(
             .err(
                 &op.key("efficiency"),
                 format!("operator efficiency of fleet \"{fleet}\" must lie in (0, 1], got {efficiency}"),
+            )
+            .with_hint("e.g. `efficiency: 0.85`: travel and handling then take 1/0.85 times as long"));
+    }
+    if efficiency < limits::MIN_EFFICIENCY {
+        return Err(ctx
+            .err(
+                &op.key("efficiency"),
+                format!(
+                    "operator efficiency {} of fleet \"{fleet}\" is below the floor of {}: {}",
+                    limits::shown(efficiency),
+                    limits::MIN_EFFICIENCY,
+                    limits::MIN_EFFICIENCY_WHY
+                ),
             )
             .with_hint("e.g. `efficiency: 0.85`: travel and handling then take 1/0.85 times as long"));
     }
@@ -63,6 +77,7 @@ pub(crate) fn duty_calendar(
             format!("the shift period must be longer than 0, got {}", format_duration(period)),
         ));
     }
+    limits::check_period("a shift period", period).map_err(|m| ctx.err(&sp.key("every"), m))?;
     if sh.on.is_empty() {
         return Err(ctx
             .err(&sp.key("on"), format!("{owner} has no shift windows"))

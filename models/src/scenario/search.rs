@@ -4,6 +4,7 @@ use super::context::{resolve, Ctx};
 use super::locate::FieldPath;
 use super::schema::Scenario;
 use super::ScenarioError;
+use crate::limits;
 use crate::plant::{Department, DepartmentRole, Layout, Location, SearchRules};
 
 /// Resolve and check the search rules (defaults when the section is absent).
@@ -101,6 +102,12 @@ pub(crate) fn rules(
                 ctx.err(&p.key("neighbour_distance"), format!("must be a distance in metres > 0, got {d}"))
             )
         }
+        Some(d) if d > limits::MAX_LENGTH_M => {
+            return Err(ctx.err(
+                &p.key("neighbour_distance"),
+                limits::check_length("neighbour_distance", d).expect_err("checked above"),
+            ))
+        }
         None if !r.adjacent.is_empty() || !r.apart.is_empty() => {
             return Err(ctx.err(&p, "adjacency rules need `neighbour_distance`").with_hint(
                 "e.g. `neighbour_distance: 30`: two locations at most 30 m apart count as neighbours",
@@ -117,6 +124,8 @@ pub(crate) fn rules(
                 ctx.err(&at.key("per_hour"), format!("must be a cost per hour >= 0, got {}", fc.per_hour))
             );
         }
+        limits::check_at_most("per_hour", fc.per_hour, limits::MAX_COST, limits::MAX_COST_WHY)
+            .map_err(|m| ctx.err(&at.key("per_hour"), m))?;
         r.floor_costs.push((d, l, fc.per_hour));
     }
     Ok(r)

@@ -5,6 +5,7 @@ use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{BreakdownSpec, ChargingSpec, CountedInSpec, InterruptedSpec, StagingSpec};
 use super::times::duration;
+use crate::limits;
 use crate::plant::{Breakdowns, Charging, FailureClock, Interrupted, Location, Staging};
 use crate::units::format_duration;
 
@@ -66,6 +67,8 @@ pub(crate) fn breakdowns(
     ctx: &Ctx,
 ) -> Result<Breakdowns, ScenarioError> {
     let between = duration(&spec.between.0, &bp.key("between"), "time between failures", ctx)?;
+    limits::check_period("a mean time between failures", between.mean())
+        .map_err(|m| ctx.err(&bp.key("between"), m))?;
     let repair = duration(&spec.repair.0, &bp.key("repair"), "repair time", ctx)?;
     if !machines && spec.interrupted.is_some() {
         return Err(ctx
@@ -96,5 +99,6 @@ pub(crate) fn charging(spec: &ChargingSpec, cp: &FieldPath, ctx: &Ctx) -> Result
             ));
         }
     }
+    limits::check_period("a charging cycle", spec.every.0).map_err(|m| ctx.err(&cp.key("every"), m))?;
     Ok(Charging { every_s: spec.every.0, for_s: spec.for_.0 })
 }

@@ -5,6 +5,7 @@ use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::DistSpec;
 use crate::dist::{Dist, DistError};
+use crate::limits;
 use crate::units::format_duration;
 
 /// Largest chance of a negative draw we accept from a normal repair or
@@ -110,6 +111,20 @@ pub(crate) fn time_dist(
     if !(d.mean() > 0.0) {
         return Err(ctx.err(tp, format!("{what} must have a mean longer than 0")));
     }
+    // Each parameter is within the duration ceiling, but a heavy tail (a
+    // lognormal with a huge cv) can still put the mean or spread beyond it.
+    if d.mean() > limits::MAX_DURATION_S || d.variance().sqrt() > limits::MAX_DURATION_S {
+        return Err(ctx.err(
+            tp,
+            format!(
+                "{what} has a mean of {} s and a standard deviation of {} s, beyond the ceiling of {}: {}",
+                limits::shown(d.mean()),
+                limits::shown(d.variance().sqrt()),
+                limits::max_duration_words(),
+                limits::MAX_DURATION_WHY
+            ),
+        ));
+    }
     Ok(d)
 }
 
@@ -128,5 +143,6 @@ fn quotes_a_time(e: &DistError) -> bool {
         // Only reachable through overflow in derived parameters; the value
         // that overflowed was given in the scenario's own terms.
         DistError::Sampler { .. } => true,
+        DistError::MomentsNotFinite { .. } => true,
     }
 }

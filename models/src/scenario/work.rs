@@ -6,6 +6,7 @@ use super::locate::FieldPath;
 use super::operators::duty_calendar;
 use super::schema::{CalendarSpec, LoadStartSpec, LotSpec, SetupsSpec, ShiftEndSpec};
 use super::times::duration;
+use crate::limits;
 use crate::plant::{LoadStart, LotSplit, Setups, ShiftEnd, WorkCalendar};
 
 /// Compiles a department's `calendar` (`dp` is the department's path); `None`
@@ -97,5 +98,16 @@ pub(crate) fn lot(
         None | Some(LoadStartSpec::LastLoad) => LoadStart::LastLoad,
         Some(LoadStartSpec::FirstLoad) => LoadStart::FirstLoad,
     };
-    Ok(LotSplit { quantity: spec.quantity, transfer_batch, start })
+    let split = LotSplit { quantity: spec.quantity, transfer_batch, start };
+    limits::check_count(
+        "unit loads per lot",
+        u64::from(split.loads()),
+        u64::from(limits::MAX_LOADS_PER_LOT),
+        limits::COUNT_WHY,
+    )
+    .map_err(|m| {
+        ctx.err(&lp.key("transfer_batch"), m)
+            .with_hint("a lot moves in quantity ÷ transfer_batch loads; raise `transfer_batch`")
+    })?;
+    Ok(split)
 }

@@ -3,6 +3,7 @@
 //! Every number of a size comes from the metric registry, so a size's
 //! utilisation is the number `run` prints for that fleet at that size.
 
+use crate::limits;
 use serde::ser::SerializeMap as _;
 use serde::Serialize;
 
@@ -24,6 +25,9 @@ use super::targets::{judge, Target, Verdict};
 /// Plant metrics every size reports beside the fleet's own.
 pub const PLANT_METRICS: &[&str] = &["throughput_per_h", "wip_mean", "flow_time_s"];
 
+/// Most fleet sizes one sweep simulates.
+const MAX_SIZES: u32 = 200;
+
 /// Parse `2..8` or `2,3,5` into increasing sizes of at least 1.
 pub fn parse_sizes(text: &str) -> Result<Vec<u32>, StudyError> {
     let bad = |why: &str| {
@@ -39,6 +43,11 @@ pub fn parse_sizes(text: &str) -> Result<Vec<u32>, StudyError> {
         if b < a {
             return Err(bad("the range runs backwards"));
         }
+        // Checked before the range is listed: `1..4000000000` must not
+        // allocate four billion sizes to say there are too many.
+        if b - a >= MAX_SIZES {
+            return Err(bad(&format!("more than {MAX_SIZES} sizes")));
+        }
         (a..=b).collect()
     } else {
         text.split(',').map(num).collect::<Result<_, _>>()?
@@ -49,8 +58,17 @@ pub fn parse_sizes(text: &str) -> Result<Vec<u32>, StudyError> {
     if sizes.windows(2).any(|w| w[1] <= w[0]) {
         return Err(bad("list the sizes in increasing order, each once"));
     }
-    if sizes.len() > 200 {
-        return Err(bad("more than 200 sizes"));
+    if sizes.len() > MAX_SIZES as usize {
+        return Err(bad(&format!("more than {MAX_SIZES} sizes")));
+    }
+    if let Some(&n) = sizes.iter().find(|&&n| n > limits::MAX_MOVERS) {
+        return Err(bad(&limits::check_count(
+            "movers",
+            u64::from(n),
+            u64::from(limits::MAX_MOVERS),
+            limits::COUNT_WHY,
+        )
+        .expect_err("above the ceiling")));
     }
     Ok(sizes)
 }

@@ -36,6 +36,9 @@ use super::{Event, PlantModel, NONE};
 use crate::sim::stats::Deadlock;
 use crate::sim::{Plan, SegmentStats};
 
+/// Movers each aisle queue has room for from the start (see `AisleState::new`).
+const QUEUE_ROOM: usize = 64;
+
 /// A mover's trip in progress over the network.
 #[derive(Debug, Clone, Copy)]
 pub(super) struct Walk {
@@ -114,8 +117,11 @@ impl AisleState {
             level: vec![TimeWeighted::new(0.0); ns],
             traversals: vec![0; ns],
             delay_s: vec![0.0; ns],
-            // Room for every mover, so that no wait allocates.
-            queues: (0..ns + nn).map(|_| VecDeque::with_capacity(movers)).collect(),
+            // Room for every mover of a usual plant, so that no wait
+            // allocates; capped so that memory does not grow as movers ×
+            // (segments + nodes): a queue longer than the cap grows once,
+            // and keeps its room for the rest of the replication.
+            queues: (0..ns + nn).map(|_| VecDeque::with_capacity(movers.min(QUEUE_ROOM))).collect(),
             holder: vec![NONE; nn],
             stuck: vec![false; movers],
         }
