@@ -9,7 +9,7 @@ mod arrivals;
 mod model;
 mod stats;
 
-pub use model::{simulate, simulate_releases, simulate_wip_series};
+pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
 pub use stats::{Deadlock, FleetStats, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{

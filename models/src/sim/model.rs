@@ -185,10 +185,15 @@ struct Department {
     out_count: u32,
     /// Inbound places promised to lots on their way back from the overflow area.
     reserved: u32,
-    /// Waiting for inbound room, oldest first: with instant moves (lot, 1 if
-    /// still held on its machine else 0); with fleets (mover, NONE), or, with
-    /// an overflow location, (lot at the overflow area, fleet that brought it).
+    /// Waiting for inbound room, oldest first: with instant moves (lot, 0),
+    /// the lot held on its machine or in its outbound area upstream; with
+    /// fleets (mover, NONE), or, with an overflow location, (lot at the
+    /// overflow area, fleet that brought it).
     waiting: VecDeque<(u32, u32)>,
+    /// Instant moves: lots in this department's outbound area, counted by
+    /// the department they wait to enter, (department, lots); what deadlock
+    /// detection reads instead of every waiting list (see `staging.rs`).
+    out_to: Vec<(u32, u32)>,
     /// Machines holding a finished lot, oldest first.
     blocked: VecDeque<Blocked>,
     blocked_level: TimeWeighted,
@@ -273,6 +278,13 @@ struct PlantModel<'a> {
     turned_away: Vec<u64>,
     /// Set when the plant deadlocked: nothing more is handled.
     deadlock: Option<Deadlock>,
+    /// Deadlock detection's per-department scratch list, kept between calls.
+    stuck_scratch: Vec<bool>,
+    /// Entries looked at by the staging rules' searches (deadlock
+    /// detection, letting a waiting lot in): a count of work that tests
+    /// bound per event, so a search over every waiting lot cannot come back
+    /// unnoticed (see [`simulate_scan_steps`]).
+    scan_steps: u64,
     /// Per slab entry, how it is split into loads (empty unless `Plan::split`).
     aux: Vec<lots::LotAux>,
     /// Segment-by-segment travel (empty unless `Plan::aisles`).
@@ -284,15 +296,24 @@ struct PlantModel<'a> {
 /// Replication `r` with seed `s` gives the same result on every platform and
 /// whatever else runs beside it.
 pub fn simulate(plan: &Plan, spec: &RunSpec, replication: u64) -> RepStats {
-    let (stats, _, _) = simulate_inner(plan, spec, replication, None, false);
+    let (stats, _, _, _) = simulate_inner(plan, spec, replication, None, false);
     stats
+}
+
+/// Run one replication and return (events handled, entries the staging
+/// rules' searches looked at). The second grows with the plant (departments,
+/// machines, routing fan-out), never with the number of lots waiting: tests
+/// bound it per event.
+pub fn simulate_scan_steps(plan: &Plan, spec: &RunSpec, replication: u64) -> (u64, u64) {
+    let (stats, _, _, steps) = simulate_inner(plan, spec, replication, None, false);
+    (stats.events, steps)
 }
 
 /// Run one replication and return every lot released into the plant as
 /// (time, product index), in release order: what common random numbers must
 /// keep the same under every layout and fleet.
 pub fn simulate_releases(plan: &Plan, spec: &RunSpec, replication: u64) -> Vec<(f64, u32)> {
-    let (_, _, releases) = simulate_inner(plan, spec, replication, None, true);
+    let (_, _, releases, _) = simulate_inner(plan, spec, replication, None, true);
     releases
 }
 
@@ -305,7 +326,7 @@ pub fn simulate_releases(plan: &Plan, spec: &RunSpec, replication: u64) -> Vec<(
 /// If `step_s` is not positive and finite (a programming error).
 pub fn simulate_wip_series(plan: &Plan, spec: &RunSpec, replication: u64, step_s: f64) -> Vec<f64> {
     assert!(step_s > 0.0 && step_s.is_finite(), "the series step must be positive");
-    let (_, areas, _) = simulate_inner(plan, spec, replication, Some(step_s), false);
+    let (_, areas, _, _) = simulate_inner(plan, spec, replication, Some(step_s), false);
     let mut prev = 0.0;
     areas
         .iter()
@@ -317,8 +338,9 @@ pub fn simulate_wip_series(plan: &Plan, spec: &RunSpec, replication: u64, step_s
         .collect()
 }
 
-/// One replication's statistics, WIP series areas and release log (the last two empty unless asked for).
-type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>);
+/// One replication's statistics, WIP series areas and release log (these two
+/// empty unless asked for), and the staging searches' scan steps.
+type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>, u64);
 
 fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f64>, log: bool) -> Run {
     let mut m = PlantModel::new(plan, spec, replication);
@@ -349,7 +371,8 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
     events += run_until(&mut m, &mut cal, spec.horizon_s);
     let areas = std::mem::take(&mut m.series_area);
     let releases = std::mem::take(&mut m.releases);
-    (m.finish(spec.horizon_s, events), areas, releases)
+    let steps = m.scan_steps;
+    (m.finish(spec.horizon_s, events), areas, releases, steps)
 }
 
 impl<'a> PlantModel<'a> {
@@ -393,6 +416,7 @@ impl<'a> PlantModel<'a> {
                     out_count: 0,
                     reserved: 0,
                     waiting: VecDeque::new(),
+                    out_to: Vec::new(),
                     blocked: VecDeque::new(),
                     blocked_level: TimeWeighted::new(0.0),
                     up_level,
@@ -489,6 +513,8 @@ impl<'a> PlantModel<'a> {
             overflow_moves: 0,
             turned_away: vec![0; n_products],
             deadlock: None,
+            stuck_scratch: Vec::new(),
+            scan_steps: 0,
             aux: Vec::new(),
             aisle: aisles::AisleState::new(plan, slots_movers),
         }
