@@ -57,6 +57,10 @@ pub struct ExperimentArgs {
     /// No progress bar or per-point lines.
     #[arg(long, short)]
     pub quiet: bool,
+    /// Run overloaded design points anyway: a replication whose WIP reaches the overload limit
+    /// turns arriving lots away (counted) instead of failing the experiment (docs/overload.md).
+    #[arg(long)]
+    pub allow_overload: bool,
 }
 
 /// Arguments of `layflow merge`.
@@ -116,7 +120,13 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
 
 /// Run `layflow experiment`.
 pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
-    let plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    let mut plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    if args.allow_overload {
+        for s in &mut plan.setups {
+            s.plant.run.allow_overload = true;
+        }
+        crate::settings::allow_overload(&mut plan.setups[0].plant, true);
+    }
     let shard = match &args.shard {
         None => Shard::ALL,
         Some(s) => Shard::parse(s).map_err(Failure::input)?,

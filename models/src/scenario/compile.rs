@@ -173,7 +173,13 @@ fn run_settings(s: &Scenario, ctx: &Ctx) -> Result<RunSettings, ScenarioError> {
     if replications == 0 {
         return Err(ctx.err(&p.key("replications"), "replications must be at least 1"));
     }
-    Ok(RunSettings { horizon_s: horizon, warmup_s: warmup, replications, seed: s.run.seed.unwrap_or(1) })
+    Ok(RunSettings {
+        horizon_s: horizon,
+        warmup_s: warmup,
+        replications,
+        seed: s.run.seed.unwrap_or(1),
+        allow_overload: false,
+    })
 }
 
 fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {

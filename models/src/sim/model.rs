@@ -7,7 +7,7 @@ use rand::RngExt;
 use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
-use super::stats::{Deadlock, FleetStats, RepStats, TICK_S};
+use super::stats::{Deadlock, FleetStats, Overload, RepStats, TICK_S};
 use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
@@ -236,6 +236,8 @@ struct PlantModel<'a> {
     plan: &'a Plan,
     seed: u64,
     replication: u64,
+    /// Layout index (for the overload message).
+    layout: usize,
     demand_factor: f64,
     window: (f64, f64),
     arrival_rng: Vec<Stream>,
@@ -278,6 +280,12 @@ struct PlantModel<'a> {
     turned_away: Vec<u64>,
     /// Set when the plant deadlocked: nothing more is handled.
     deadlock: Option<Deadlock>,
+    /// Lots in the plant at which the overload rule fires (docs/formulas.md §22).
+    wip_limit: f64,
+    /// Set when the overload rule stopped the replication: nothing more is handled.
+    overload: Option<Overload>,
+    /// Lots turned away in the window by the WIP cap (`--allow-overload`).
+    capped: u64,
     /// Deadlock detection's per-department scratch list, kept between calls.
     stuck_scratch: Vec<bool>,
     /// Entries looked at by the staging rules' searches (deadlock
@@ -480,6 +488,7 @@ impl<'a> PlantModel<'a> {
             plan,
             seed: spec.seed,
             replication,
+            layout: spec.layout,
             demand_factor: spec.demand_factor,
             window: (spec.warmup_s, spec.horizon_s),
             arrival_rng: (0..n_products)
@@ -513,6 +522,9 @@ impl<'a> PlantModel<'a> {
             overflow_moves: 0,
             turned_away: vec![0; n_products],
             deadlock: None,
+            wip_limit: plan.overload.limit(spec.demand_factor),
+            overload: None,
+            capped: 0,
             stuck_scratch: Vec::new(),
             scan_steps: 0,
             aux: Vec::new(),
@@ -540,6 +552,7 @@ impl<'a> PlantModel<'a> {
         self.aisle.reset(t);
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
+        self.capped = 0;
         for f in &mut self.fleets {
             f.wait.reset();
             f.wait_hist.reset();
@@ -644,6 +657,10 @@ impl<'a> PlantModel<'a> {
             }
             return;
         }
+        if self.wip.level() >= self.wip_limit {
+            self.over_limit(p, cal);
+            return;
+        }
         if self.log_releases {
             self.releases.push((now, product));
         }
@@ -666,6 +683,34 @@ impl<'a> PlantModel<'a> {
         self.wip.add(now, 1.0);
         self.departments[prod.enters_at].wip.add(now, 1.0);
         self.route(id, 0, prod.entry, cal);
+    }
+
+    /// A lot of product `p` reaches its dock while the plant holds
+    /// `wip_limit` lots: with `--allow-overload` it is turned away (its
+    /// number used up, as for `when_full: turn-away`, so later lots keep their
+    /// streams); otherwise the replication stops as overloaded. Either way the
+    /// lot pool never grows past the limit.
+    #[cold]
+    fn over_limit(&mut self, p: usize, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        if self.plan.overload.allow {
+            self.lots_made[p] += 1;
+            if now >= self.window.0 {
+                self.turned_away[p] += 1;
+                self.capped += 1;
+            }
+            return;
+        }
+        if self.overload.is_none() {
+            self.overload = Some(Overload {
+                time_s: now,
+                wip: self.wip.level(),
+                released: self.lots_made.iter().sum(),
+                layout: self.layout,
+                demand_factor: self.demand_factor,
+            });
+            cal.clear();
+        }
     }
 
     /// Puts a lot (or a load) in the slab, reusing a freed slot.
@@ -843,6 +888,10 @@ impl<'a> PlantModel<'a> {
             availability,
             overflow_moves: self.overflow_moves,
             turned_away: self.turned_away,
+            overload: self.overload,
+            wip_limit: self.wip_limit,
+            capped: self.capped,
+            wip_peak: self.wip.max(),
             deadlock: self.deadlock,
             window_s,
             events,
@@ -880,7 +929,7 @@ impl Model for PlantModel<'_> {
 
     #[inline]
     fn handle(&mut self, event: Event, cal: &mut Calendar<Event>) {
-        if self.deadlock.is_some() {
+        if self.deadlock.is_some() || self.overload.is_some() {
             return; // the calendar was cleared; nothing more happens
         }
         match event {
