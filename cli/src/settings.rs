@@ -59,16 +59,16 @@ pub fn load(path: &Path) -> Result<Plant, Failure> {
     layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
 }
 
-/// Apply `--allow-overload` to a plant about to be simulated, saying loudly
-/// on stderr what the cap does to the numbers.
+/// What `--allow-overload` does to the numbers, said loudly on stderr.
+pub const OVERLOAD_WARNING: &str = "WARNING: --allow-overload: a replication whose WIP reaches the overload limit \
+     turns arriving lots away at the dock instead of stopping; they are counted as turned-away lots, and numbers \
+     from a capped run describe a plant that turns work away (docs/overload.md).";
+
+/// Apply `--allow-overload` to a plant about to be simulated, with the warning when set.
 pub fn allow_overload(plant: &mut Plant, allow: bool) {
     plant.run.allow_overload = allow;
     if allow {
-        eprintln!(
-            "WARNING: --allow-overload: a replication whose WIP reaches the overload limit turns arriving lots away \
-             at the dock instead of stopping; they are counted as turned-away lots, and numbers from a capped run \
-             describe a plant that turns work away (docs/overload.md)."
-        );
+        eprintln!("{OVERLOAD_WARNING}");
     }
 }
 

@@ -125,7 +125,10 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         for s in &mut plan.setups {
             s.plant.run.allow_overload = true;
         }
-        crate::settings::allow_overload(&mut plan.setups[0].plant, true);
+        eprintln!("{}", crate::settings::OVERLOAD_WARNING);
+        // The flag changes the results, so it is part of the content hash: a
+        // folder run with it resumes and merges only with it.
+        plan.hash = plan.content_hash(plan.replications);
     }
     let shard = match &args.shard {
         None => Shard::ALL,
