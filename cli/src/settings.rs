@@ -50,11 +50,28 @@ pub struct SimOptions {
     /// Leave the wall-clock time out of the JSON, so that the same seed gives byte-identical output.
     #[arg(long)]
     pub no_wall_clock: bool,
+    /// Run an overloaded plant anyway: a replication whose WIP reaches the overload limit turns
+    /// arriving lots away (counted and reported) instead of stopping the run (docs/overload.md).
+    #[arg(long)]
+    pub allow_overload: bool,
 }
 
 /// Load a scenario, turning its error into a bad-input failure.
 pub fn load(path: &Path) -> Result<Plant, Failure> {
     layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
+}
+
+/// What `--allow-overload` does to the numbers, said loudly on stderr.
+pub const OVERLOAD_WARNING: &str = "WARNING: --allow-overload: a replication whose WIP reaches the overload limit \
+     turns arriving lots away at the dock instead of stopping; they are counted as turned-away lots, and numbers \
+     from a capped run describe a plant that turns work away (docs/overload.md).";
+
+/// Apply `--allow-overload` to a plant about to be simulated, with the warning when set.
+pub fn allow_overload(plant: &mut Plant, allow: bool) {
+    plant.run.allow_overload = allow;
+    if allow {
+        eprintln!("{OVERLOAD_WARNING}");
+    }
 }
 
 /// A duration flag's value in seconds (never negative), or `default` when absent.
@@ -162,6 +179,13 @@ pub struct Settings {
 }
 
 impl SimOptions {
+    /// Load the scenario to simulate, with `--allow-overload` applied.
+    pub fn load(&self, path: &Path) -> Result<Plant, Failure> {
+        let mut plant = load(path)?;
+        allow_overload(&mut plant, self.allow_overload);
+        Ok(plant)
+    }
+
     /// `--horizon`, `--replications`, `--seed` and `--threads`, checked, over the scenario's values.
     pub fn resolve(&self, plant: &Plant) -> Result<Settings, Failure> {
         let horizon_s = duration_arg("--horizon", &self.horizon, plant.run.horizon_s)?;

@@ -562,7 +562,7 @@ impl Department {
 }
 
 /// Run settings from the scenario (the command line may override them).
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Clone, Copy, PartialEq)]
 pub struct RunSettings {
     /// Simulated time per replication, s, warm-up included.
     pub horizon_s: f64,
@@ -572,6 +572,28 @@ pub struct RunSettings {
     pub replications: u32,
     /// Base seed of every random stream.
     pub seed: u64,
+    /// `--allow-overload`: a replication whose WIP passes the overload limit
+    /// (docs/formulas.md §22) turns arrivals away instead of stopping. Never
+    /// set by a scenario: only the command line sets it.
+    pub allow_overload: bool,
+}
+
+/// As derived, but `allow_overload` is shown only when set: an experiment's
+/// content hash reads the plant's debug form, and a flag that is off (as in
+/// every plant a scenario alone gives) must not change the hashes of
+/// results written before the flag existed.
+impl std::fmt::Debug for RunSettings {
+    fn fmt(&self, f: &mut std::fmt::Formatter<'_>) -> std::fmt::Result {
+        let mut d = f.debug_struct("RunSettings");
+        d.field("horizon_s", &self.horizon_s)
+            .field("warmup_s", &self.warmup_s)
+            .field("replications", &self.replications)
+            .field("seed", &self.seed);
+        if self.allow_overload {
+            d.field("allow_overload", &self.allow_overload);
+        }
+        d.finish()
+    }
 }
 
 impl Plant {

@@ -42,8 +42,16 @@ fn allocations_do_not_grow_with_the_horizon() {
     // lots at once. The third plant has every fleet rule: tow trains,
     // nearest-idle fleet choice, reserve, parking, shifts and breaks. The
     // aisle demo travels its network segment by segment (a capacity-1
-    // crossing and a speed limit), with waits at the crossing.
-    for name in ["demo.yaml", "orders-demo.yaml", "validation/all-fleet-rules.yaml", "aisles-demo.yaml"] {
+    // crossing and a speed limit), with waits at the crossing. The last two
+    // block after service (deadlock detection runs each time a wait begins).
+    for name in [
+        "demo.yaml",
+        "orders-demo.yaml",
+        "validation/all-fleet-rules.yaml",
+        "aisles-demo.yaml",
+        "staging-breakdowns.yaml",
+        "validation/two-station-blocking.yaml",
+    ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         let plant = load_scenario(&path).unwrap();
         let plan = Plan::new(&plant, 0);

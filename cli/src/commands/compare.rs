@@ -17,7 +17,7 @@ use crate::output::{self, note};
 use crate::render::compare::render;
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
-use crate::settings::{layouts, load, SimOptions};
+use crate::settings::{layouts, SimOptions};
 
 /// Arguments of `layflow compare`.
 #[derive(Args, Debug)]
@@ -123,7 +123,7 @@ impl SelectArgs {
 
 /// Run the comparison and report it.
 pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
+    let plant = args.sim.load(&args.scenario)?;
     compare_plant(&plant, args)
 }
 

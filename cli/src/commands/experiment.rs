@@ -58,6 +58,10 @@ pub struct ExperimentArgs {
     /// No progress bar or per-point lines.
     #[arg(long, short)]
     pub quiet: bool,
+    /// Run overloaded design points anyway: a replication whose WIP reaches the overload limit
+    /// turns arriving lots away (counted) instead of failing the experiment (docs/overload.md).
+    #[arg(long)]
+    pub allow_overload: bool,
 }
 
 /// Arguments of `layflow merge`.
@@ -117,7 +121,16 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
 
 /// Run `layflow experiment`.
 pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
-    let plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    let mut plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    if args.allow_overload {
+        for s in &mut plan.setups {
+            s.plant.run.allow_overload = true;
+        }
+        eprintln!("{}", crate::settings::OVERLOAD_WARNING);
+        // The flag changes the results, so it is part of the content hash: a
+        // folder run with it resumes and merges only with it.
+        plan.hash = plan.content_hash(plan.replications);
+    }
     let shard = match &args.shard {
         None => Shard::ALL,
         Some(s) => Shard::parse(s).map_err(Failure::input)?,

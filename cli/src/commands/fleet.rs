@@ -15,7 +15,7 @@ use crate::output::{self, note, out};
 use crate::render::fleet::{render, render_analytic, FleetOutput};
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
-use crate::settings::{demand_factor, layout, load, SimOptions};
+use crate::settings::{demand_factor, layout, SimOptions};
 
 /// Arguments of `layflow fleet`.
 #[derive(Args, Debug)]
@@ -70,7 +70,7 @@ pub enum FleetFormat {
 
 /// Run the sweep and report it.
 pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
+    let plant = args.sim.load(&args.scenario)?;
     let f = study::which_fleet(&plant, args.fleet.as_deref())?;
     let sizes = study::parse_sizes(&args.sizes)?;
     let list = every_metric(&plant);

@@ -7,14 +7,14 @@ use clap::Args;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::metrics::{summarize, CONFIDENCE};
 use layflow_models::sim::{Plan, RunSpec};
-use layflow_models::study::{deadlock_message, replicate, Progress as _};
+use layflow_models::study::{cap_note, deadlock_message, replicate, Progress as _};
 
 use crate::failure::Failure;
 use crate::output;
 use crate::render::progress::Progress;
 use crate::render::run::{render, RunOutput};
 use crate::render::warnings::warn_overload;
-use crate::settings::{demand_factor, layouts, load, Format, SimOptions};
+use crate::settings::{demand_factor, layouts, Format, SimOptions};
 
 /// Arguments of `layflow run`.
 #[derive(Args, Debug)]
@@ -36,7 +36,7 @@ pub struct RunArgs {
 
 /// Simulate and report.
 pub fn run(args: &RunArgs) -> Result<(), Failure> {
-    let plant = load(&args.scenario)?;
+    let plant = args.sim.load(&args.scenario)?;
     let settings = args.sim.resolve(&plant)?;
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;
@@ -50,6 +50,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let progress = Progress::new(total, settings.quiet);
     let started = Instant::now();
     let mut summaries = Vec::with_capacity(which.len());
+    let mut capped = Vec::new();
     for &l in &which {
         progress.stage(format!("layout {}", plant.layouts[l].name));
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
@@ -59,9 +60,16 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
             progress.finish();
             return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));
         }
+        if let Some(note) = cap_note(&reps) {
+            capped.push(format!("WARNING: layout \"{}\": {note}.", plant.layouts[l].name));
+        }
         summaries.push(summarize(&plant, &spec, &pic, &reps));
     }
     progress.finish();
+    // After the progress bar, so the warnings are not drawn over.
+    for note in &capped {
+        eprintln!("{note}");
+    }
     let wall_s = started.elapsed().as_secs_f64();
     let events = summaries.iter().map(|s| s.events).sum();
 

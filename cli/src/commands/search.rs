@@ -21,7 +21,7 @@ use crate::render::search::{
     trace_series, Found, MethodRun, Report,
 };
 use crate::render::table::{whole, Table};
-use crate::settings::{duration_arg, layout, load, Format, SimOptions};
+use crate::settings::{duration_arg, layout, Format, SimOptions};
 
 /// How long each method runs when neither --time-limit nor --iterations is given.
 const DEFAULT_TIME_LIMIT_S: f64 = 10.0;
@@ -228,7 +228,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
             check_target(f, flag, ext, args.force)?;
         }
     }
-    let plant = load(path)?;
+    let plant = args.sim.load(path)?;
     let factor = args.demand.unwrap_or(plant.demand_factor);
     if !(factor.is_finite() && factor > 0.0) {
         return Err(Failure::input(format!("--demand must be a number > 0, got {factor}")));

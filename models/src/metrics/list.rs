@@ -15,7 +15,7 @@ pub struct Features {
     pub staging: bool,
     /// Some department has an overflow location.
     pub overflow: bool,
-    /// Some receiving dock may turn lots away.
+    /// Some receiving dock may turn lots away, or `--allow-overload` may (at the WIP cap).
     pub turn_away: bool,
     /// The aisle network is simulated segment by segment (a capacity, a speed limit or a zone).
     pub aisles: bool,
@@ -27,7 +27,7 @@ impl Features {
         Features {
             staging: plant.departments.iter().any(|d| d.staging.is_limited()),
             overflow: plant.departments.iter().any(|d| d.staging.overflow.is_some()),
-            turn_away: plant.departments.iter().any(|d| d.turn_away),
+            turn_away: plant.run.allow_overload || plant.departments.iter().any(|d| d.turn_away),
             aisles: plant.aisles.as_ref().is_some_and(|n| n.needs_simulation()),
         }
     }

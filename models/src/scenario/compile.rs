@@ -192,7 +192,13 @@ fn run_settings(s: &Scenario, ctx: &Ctx) -> Result<RunSettings, ScenarioError> {
         limits::MAX_REPLICATIONS_WHY,
     )
     .map_err(|m| ctx.err(&p.key("replications"), m))?;
-    Ok(RunSettings { horizon_s: horizon, warmup_s: warmup, replications, seed: s.run.seed.unwrap_or(1) })
+    Ok(RunSettings {
+        horizon_s: horizon,
+        warmup_s: warmup,
+        replications,
+        seed: s.run.seed.unwrap_or(1),
+        allow_overload: false,
+    })
 }
 
 fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {

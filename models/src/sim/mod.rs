@@ -7,10 +7,11 @@
 
 mod arrivals;
 mod model;
+pub mod overload;
 mod stats;
 
-pub use model::{simulate, simulate_releases, simulate_wip_series};
-pub use stats::{Deadlock, FleetStats, RepStats, SegmentStats, TICK_S};
+pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
+pub use stats::{Deadlock, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, LoadStart,
@@ -91,6 +92,8 @@ pub struct Plan {
     /// The aisle network when movers travel it segment by segment (a
     /// capacity, a speed limit or a zone somewhere); `None`: one leg per trip.
     pub(crate) aisles: Option<crate::network::AisleNetwork>,
+    /// When WIP has grown past any level a stable plant reaches: stop, or turn arrivals away.
+    pub(crate) overload: overload::OverloadRule,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -377,6 +380,7 @@ impl Plan {
             on_at_start: d.on_at(0.0),
         };
         Plan {
+            overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),
             tracked: plant
                 .departments

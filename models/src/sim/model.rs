@@ -7,7 +7,7 @@ use rand::RngExt;
 use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
-use super::stats::{Deadlock, FleetStats, RepStats, TICK_S};
+use super::stats::{Deadlock, FleetStats, Overload, RepStats, TICK_S};
 use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
@@ -185,10 +185,15 @@ struct Department {
     out_count: u32,
     /// Inbound places promised to lots on their way back from the overflow area.
     reserved: u32,
-    /// Waiting for inbound room, oldest first: with instant moves (lot, 1 if
-    /// still held on its machine else 0); with fleets (mover, NONE), or, with
-    /// an overflow location, (lot at the overflow area, fleet that brought it).
+    /// Waiting for inbound room, oldest first: with instant moves (lot, 0),
+    /// the lot held on its machine or in its outbound area upstream; with
+    /// fleets (mover, NONE), or, with an overflow location, (lot at the
+    /// overflow area, fleet that brought it).
     waiting: VecDeque<(u32, u32)>,
+    /// Instant moves: lots in this department's outbound area, counted by
+    /// the department they wait to enter, (department, lots); what deadlock
+    /// detection reads instead of every waiting list (see `staging.rs`).
+    out_to: Vec<(u32, u32)>,
     /// Machines holding a finished lot, oldest first.
     blocked: VecDeque<Blocked>,
     blocked_level: TimeWeighted,
@@ -231,6 +236,8 @@ struct PlantModel<'a> {
     plan: &'a Plan,
     seed: u64,
     replication: u64,
+    /// Layout index (for the overload message).
+    layout: usize,
     demand_factor: f64,
     window: (f64, f64),
     arrival_rng: Vec<Stream>,
@@ -273,6 +280,19 @@ struct PlantModel<'a> {
     turned_away: Vec<u64>,
     /// Set when the plant deadlocked: nothing more is handled.
     deadlock: Option<Deadlock>,
+    /// Lots in the plant at which the overload rule fires (docs/formulas.md §22).
+    wip_limit: f64,
+    /// Set when the overload rule stopped the replication: nothing more is handled.
+    overload: Option<Overload>,
+    /// Lots turned away in the window by the WIP cap (`--allow-overload`).
+    capped: u64,
+    /// Deadlock detection's per-department scratch list, kept between calls.
+    stuck_scratch: Vec<bool>,
+    /// Entries looked at by the staging rules' searches (deadlock
+    /// detection, letting a waiting lot in): a count of work that tests
+    /// bound per event, so a search over every waiting lot cannot come back
+    /// unnoticed (see [`simulate_scan_steps`]).
+    scan_steps: u64,
     /// Per slab entry, how it is split into loads (empty unless `Plan::split`).
     aux: Vec<lots::LotAux>,
     /// Segment-by-segment travel (empty unless `Plan::aisles`).
@@ -284,15 +304,24 @@ struct PlantModel<'a> {
 /// Replication `r` with seed `s` gives the same result on every platform and
 /// whatever else runs beside it.
 pub fn simulate(plan: &Plan, spec: &RunSpec, replication: u64) -> RepStats {
-    let (stats, _, _) = simulate_inner(plan, spec, replication, None, false);
+    let (stats, _, _, _) = simulate_inner(plan, spec, replication, None, false);
     stats
+}
+
+/// Run one replication and return (events handled, entries the staging
+/// rules' searches looked at). The second grows with the plant (departments,
+/// machines, routing fan-out), never with the number of lots waiting: tests
+/// bound it per event.
+pub fn simulate_scan_steps(plan: &Plan, spec: &RunSpec, replication: u64) -> (u64, u64) {
+    let (stats, _, _, steps) = simulate_inner(plan, spec, replication, None, false);
+    (stats.events, steps)
 }
 
 /// Run one replication and return every lot released into the plant as
 /// (time, product index), in release order: what common random numbers must
 /// keep the same under every layout and fleet.
 pub fn simulate_releases(plan: &Plan, spec: &RunSpec, replication: u64) -> Vec<(f64, u32)> {
-    let (_, _, releases) = simulate_inner(plan, spec, replication, None, true);
+    let (_, _, releases, _) = simulate_inner(plan, spec, replication, None, true);
     releases
 }
 
@@ -305,7 +334,7 @@ pub fn simulate_releases(plan: &Plan, spec: &RunSpec, replication: u64) -> Vec<(
 /// If `step_s` is not positive and finite (a programming error).
 pub fn simulate_wip_series(plan: &Plan, spec: &RunSpec, replication: u64, step_s: f64) -> Vec<f64> {
     assert!(step_s > 0.0 && step_s.is_finite(), "the series step must be positive");
-    let (_, areas, _) = simulate_inner(plan, spec, replication, Some(step_s), false);
+    let (_, areas, _, _) = simulate_inner(plan, spec, replication, Some(step_s), false);
     let mut prev = 0.0;
     areas
         .iter()
@@ -317,8 +346,9 @@ pub fn simulate_wip_series(plan: &Plan, spec: &RunSpec, replication: u64, step_s
         .collect()
 }
 
-/// One replication's statistics, WIP series areas and release log (the last two empty unless asked for).
-type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>);
+/// One replication's statistics, WIP series areas and release log (these two
+/// empty unless asked for), and the staging searches' scan steps.
+type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>, u64);
 
 fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f64>, log: bool) -> Run {
     let mut m = PlantModel::new(plan, spec, replication);
@@ -349,7 +379,8 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
     events += run_until(&mut m, &mut cal, spec.horizon_s);
     let areas = std::mem::take(&mut m.series_area);
     let releases = std::mem::take(&mut m.releases);
-    (m.finish(spec.horizon_s, events), areas, releases)
+    let steps = m.scan_steps;
+    (m.finish(spec.horizon_s, events), areas, releases, steps)
 }
 
 impl<'a> PlantModel<'a> {
@@ -393,6 +424,7 @@ impl<'a> PlantModel<'a> {
                     out_count: 0,
                     reserved: 0,
                     waiting: VecDeque::new(),
+                    out_to: Vec::new(),
                     blocked: VecDeque::new(),
                     blocked_level: TimeWeighted::new(0.0),
                     up_level,
@@ -456,6 +488,7 @@ impl<'a> PlantModel<'a> {
             plan,
             seed: spec.seed,
             replication,
+            layout: spec.layout,
             demand_factor: spec.demand_factor,
             window: (spec.warmup_s, spec.horizon_s),
             arrival_rng: (0..n_products)
@@ -489,6 +522,11 @@ impl<'a> PlantModel<'a> {
             overflow_moves: 0,
             turned_away: vec![0; n_products],
             deadlock: None,
+            wip_limit: plan.overload.limit(spec.demand_factor),
+            overload: None,
+            capped: 0,
+            stuck_scratch: Vec::new(),
+            scan_steps: 0,
             aux: Vec::new(),
             aisle: aisles::AisleState::new(plan, slots_movers),
         }
@@ -514,6 +552,7 @@ impl<'a> PlantModel<'a> {
         self.aisle.reset(t);
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
+        self.capped = 0;
         for f in &mut self.fleets {
             f.wait.reset();
             f.wait_hist.reset();
@@ -618,6 +657,10 @@ impl<'a> PlantModel<'a> {
             }
             return;
         }
+        if self.wip.level() >= self.wip_limit {
+            self.over_limit(p, cal);
+            return;
+        }
         if self.log_releases {
             self.releases.push((now, product));
         }
@@ -640,6 +683,34 @@ impl<'a> PlantModel<'a> {
         self.wip.add(now, 1.0);
         self.departments[prod.enters_at].wip.add(now, 1.0);
         self.route(id, 0, prod.entry, cal);
+    }
+
+    /// A lot of product `p` reaches its dock while the plant holds
+    /// `wip_limit` lots: with `--allow-overload` it is turned away (its
+    /// number used up, as for `when_full: turn-away`, so later lots keep their
+    /// streams); otherwise the replication stops as overloaded. Either way the
+    /// lot pool never grows past the limit.
+    #[cold]
+    fn over_limit(&mut self, p: usize, cal: &mut Calendar<Event>) {
+        let now = cal.now();
+        if self.plan.overload.allow {
+            self.lots_made[p] += 1;
+            if now >= self.window.0 {
+                self.turned_away[p] += 1;
+                self.capped += 1;
+            }
+            return;
+        }
+        if self.overload.is_none() {
+            self.overload = Some(Overload {
+                time_s: now,
+                wip: self.wip.level(),
+                released: self.lots_made.iter().sum(),
+                layout: self.layout,
+                demand_factor: self.demand_factor,
+            });
+            cal.clear();
+        }
     }
 
     /// Puts a lot (or a load) in the slab, reusing a freed slot.
@@ -817,6 +888,10 @@ impl<'a> PlantModel<'a> {
             availability,
             overflow_moves: self.overflow_moves,
             turned_away: self.turned_away,
+            overload: self.overload,
+            wip_limit: self.wip_limit,
+            capped: self.capped,
+            wip_peak: self.wip.max(),
             deadlock: self.deadlock,
             window_s,
             events,
@@ -854,7 +929,7 @@ impl Model for PlantModel<'_> {
 
     #[inline]
     fn handle(&mut self, event: Event, cal: &mut Calendar<Event>) {
-        if self.deadlock.is_some() {
+        if self.deadlock.is_some() || self.overload.is_some() {
             return; // the calendar was cleared; nothing more happens
         }
         match event {

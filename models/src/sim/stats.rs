@@ -123,11 +123,37 @@ pub struct RepStats {
     pub overflow_moves: u64,
     /// Lots turned away at their receiving dock, per product.
     pub turned_away: Vec<u64>,
+    /// Set when the overload rule stopped the replication (then nothing after
+    /// `time_s` was simulated, and the other numbers are not to be reported).
+    pub overload: Option<Overload>,
+    /// The overload limit this replication ran under, lots in the plant.
+    pub wip_limit: f64,
+    /// Lots turned away at the dock in the window because the plant held
+    /// `wip_limit` lots (`--allow-overload` only; also counted in `turned_away`).
+    pub capped: u64,
+    /// Most lots in the plant at once in the window.
+    pub wip_peak: f64,
     /// Set when the replication stopped because the plant deadlocked.
     pub deadlock: Option<Deadlock>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,
+}
+
+/// Why a replication stopped early: its WIP passed the overload limit
+/// (docs/formulas.md §22), which a stable plant does not reach.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Overload {
+    /// Simulated time, s.
+    pub time_s: f64,
+    /// Lots in the plant when it stopped (the limit).
+    pub wip: f64,
+    /// Lots released so far (turned-away lots not counted).
+    pub released: u64,
+    /// The layout and demand factor it ran at (for the message's predicted utilisations).
+    pub layout: usize,
+    /// Demand factor of the replication.
+    pub demand_factor: f64,
 }
 
 /// Why a replication stopped early: loads stuck in a cycle of full staging

@@ -1,4 +1,8 @@
-//! Deadlock messages: which movers or departments are stuck for good, and what would free them.
+//! Messages for replications that stopped early: deadlock (which movers or departments are stuck for good, and what would free them) and overload (`overload.rs`).
+//!
+//! Every command that simulates asks [`replication_deadlock`] or
+//! [`deadlock_message`] after its replications and fails the run (exit 1)
+//! with the message, so a stop of either kind reaches every command the same way.
 
 use crate::plant::Plant;
 use crate::sim::RepStats;
@@ -26,14 +30,18 @@ fn aisle_deadlock(plant: &Plant, d: &crate::sim::Deadlock, i: u64) -> String {
     )
 }
 
-/// The message for the first replication that deadlocked, if any.
+/// The message for the first replication that deadlocked or was stopped as overloaded, if any.
 pub fn deadlock_message(plant: &Plant, reps: &[RepStats]) -> Option<String> {
-    let (i, _) = reps.iter().enumerate().find(|(_, r)| r.deadlock.is_some())?;
+    let (i, _) = reps.iter().enumerate().find(|(_, r)| r.deadlock.is_some() || r.overload.is_some())?;
     replication_deadlock(plant, &reps[i], i as u64)
 }
 
-/// The deadlock message of one replication (number `replication`, 0-based), if it deadlocked.
+/// The message of one replication (number `replication`, 0-based), if it
+/// deadlocked or the overload rule stopped it.
 pub fn replication_deadlock(plant: &Plant, rep: &RepStats, replication: u64) -> Option<String> {
+    if let Some(o) = &rep.overload {
+        return Some(super::overload::overload_message(plant, o, rep, replication));
+    }
     let (i, d) = (replication, rep.deadlock.as_ref()?);
     if !d.movers.is_empty() {
         return Some(aisle_deadlock(plant, d, i));

@@ -17,9 +17,6 @@ use crate::plant::DepartmentRole;
 use crate::sim::stats::Deadlock;
 use crate::sim::FleetSet;
 
-/// Marks a waiting lot (instant moves) still held on its machine upstream.
-const HELD: u32 = 1;
-
 impl PlantModel<'_> {
     /// Whether a lot arriving now at department `d` can be set down: a free
     /// machine, or a place in the inbound area. Shipping docks always have room.
@@ -97,7 +94,9 @@ impl PlantModel<'_> {
             // It may also leave straight from the machine when the next department has room.
             let p = self.lots[id as usize].product as usize;
             let to = self.plan.products[p].ops[op as usize].department;
-            self.departments[to].waiting.push_back((id, HELD));
+            // Whether it is still held is read from the machine's list when
+            // it is let in (see `admit_lot`), so the entry never needs finding again.
+            self.departments[to].waiting.push_back((id, 0));
         }
         self.check_deadlock(cal);
     }
@@ -155,7 +154,7 @@ impl PlantModel<'_> {
         while !self.departments[dept].waiting.is_empty() && self.has_room(dept) {
             let (who, tag) = self.departments[dept].waiting.pop_front().expect("not empty");
             if self.plan.instant {
-                self.admit_lot(who, tag == HELD, cal);
+                self.admit_lot(who, dept, cal);
             } else if self.plan.has_overflow[dept] {
                 // Keep a place for it and ask for a mover to bring it back.
                 self.departments[dept].reserved += 1;
@@ -171,21 +170,29 @@ impl PlantModel<'_> {
         }
     }
 
-    /// Instant moves: a waiting lot enters its next department, leaving the
-    /// outbound area (or the machine) it waited in upstream.
-    fn admit_lot(&mut self, id: u32, held: bool, cal: &mut Calendar<Event>) {
+    /// Instant moves: a waiting lot enters its next department `to`, leaving
+    /// the outbound area (or the machine) it waited in upstream.
+    fn admit_lot(&mut self, id: u32, to: usize, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let origin = self.lots[id as usize].department as usize;
         self.departments[origin].wip.add(now, -1.0);
         self.arrive(id, cal);
-        if held {
-            let d = &mut self.departments[origin];
-            let k = d.blocked.iter().position(|b| b.lot == id).expect("a held lot is blocked upstream");
-            let b = d.blocked.remove(k).expect("found");
-            self.release_machine(origin, b.machine, true, cal);
-        } else {
-            self.departments[origin].out_count -= 1;
-            self.unblock(origin, cal);
+        // Still held on its machine? Only the origin's blocked machines can
+        // hold it (at most its machine count, and none at a dock), so this
+        // search never grows with the number of lots waiting.
+        let d = &mut self.departments[origin];
+        let k = d.blocked.iter().position(|b| b.lot == id);
+        self.scan_steps += k.map_or(d.blocked.len(), |k| k + 1) as u64;
+        match k {
+            Some(k) => {
+                let b = d.blocked.remove(k).expect("found");
+                self.release_machine(origin, b.machine, true, cal);
+            }
+            None => {
+                d.out_count -= 1;
+                out_to_add(&mut d.out_to, to, -1);
+                self.unblock(origin, cal);
+            }
         }
     }
 
@@ -202,9 +209,7 @@ impl PlantModel<'_> {
                 self.departments[dept].out_count += 1;
                 let p = self.lots[b.lot as usize].product as usize;
                 let to = self.plan.products[p].ops[b.op as usize].department;
-                if let Some(w) = self.departments[to].waiting.iter_mut().find(|w| w.0 == b.lot) {
-                    w.1 = 0;
-                }
+                out_to_add(&mut self.departments[dept].out_to, to, 1);
             } else {
                 self.route(b.lot, b.op, b.set, cal);
             }
@@ -215,6 +220,7 @@ impl PlantModel<'_> {
     /// Instant moves: lot `id` at `from` waits for room at `to`, in `from`'s outbound area.
     pub(super) fn wait_for_room(&mut self, id: u32, from: usize, to: usize, cal: &mut Calendar<Event>) {
         self.departments[from].out_count += 1;
+        out_to_add(&mut self.departments[from].out_to, to, 1);
         self.departments[to].waiting.push_back((id, 0));
         self.check_deadlock(cal);
     }
@@ -282,27 +288,56 @@ impl PlantModel<'_> {
     /// departments (fleets). Runs only when a wait begins.
     pub(super) fn check_deadlock(&mut self, cal: &mut Calendar<Event>) {
         let nd = self.plan.n_departments;
-        let mut stuck: Vec<bool> = (0..nd)
-            .map(|d| {
-                let c = self.plan.machines[d];
-                c > 0 && self.departments[d].blocked.len() == c as usize
-            })
-            .collect();
-        if !stuck.iter().any(|&s| s) {
-            return;
+        // A scratch list kept between calls: no allocation per wait.
+        let mut stuck = std::mem::take(&mut self.stuck_scratch);
+        stuck.clear();
+        stuck.extend((0..nd).map(|d| {
+            let c = self.plan.machines[d];
+            c > 0 && self.departments[d].blocked.len() == c as usize
+        }));
+        self.scan_steps += nd as u64;
+        if stuck.iter().any(|&s| s) && self.find_stuck(&mut stuck) {
+            let departments: Vec<usize> = (0..nd).filter(|&d| stuck[d]).collect();
+            self.deadlock = Some(Deadlock {
+                time_s: cal.now(),
+                departments,
+                movers: Vec::new(),
+                segments: Vec::new(),
+                zones: Vec::new(),
+            });
+            cal.clear();
         }
+        self.stuck_scratch = stuck;
+    }
+
+    /// Narrows `stuck` (departments whose machines all hold finished lots)
+    /// to a set that can never move again; true if one is left.
+    fn find_stuck(&mut self, stuck: &mut [bool]) -> bool {
+        let nd = self.plan.n_departments;
         if self.plan.instant {
-            // Peel off departments with a lot waiting to go somewhere that can still take it.
+            // Peel off departments with a lot waiting to go somewhere that
+            // can still take it. A department's waiting lots are those held
+            // on its machines (`blocked`) and those in its outbound area
+            // (`out_to`, counted by destination), so the work is bounded by
+            // its machines and its routing fan-out, never by the number of
+            // lots waiting elsewhere (lots held at a dock, say).
             let mut changed = true;
             while changed {
                 changed = false;
-                for y in 0..nd {
-                    for &(lot, _) in &self.departments[y].waiting {
-                        let origin = self.lots[lot as usize].department as usize;
-                        if origin < nd && stuck[origin] && !stuck[y] {
-                            stuck[origin] = false;
-                            changed = true;
-                        }
+                for origin in 0..nd {
+                    if !stuck[origin] {
+                        continue;
+                    }
+                    let d = &self.departments[origin];
+                    let held = d.blocked.iter().map(|b| {
+                        let p = self.lots[b.lot as usize].product as usize;
+                        self.plan.products[p].ops[b.op as usize].department
+                    });
+                    let queued = d.out_to.iter().filter(|&&(_, n)| n > 0).map(|&(y, _)| y as usize);
+                    self.scan_steps += (d.blocked.len() + d.out_to.len()) as u64;
+                    if held.chain(queued).any(|y| !stuck[y]) {
+                        stuck[origin] = false;
+                        changed = true;
                     }
                 }
             }
@@ -313,24 +348,29 @@ impl PlantModel<'_> {
                 .filter(|&y| stuck[y] && !self.plan.has_overflow[y])
                 .map(|y| self.departments[y].waiting.len())
                 .sum::<usize>();
+            self.scan_steps += nd as u64;
             if waiting_at_stuck < self.movers.len() {
-                return;
+                return false;
             }
             for (y, s) in stuck.iter_mut().enumerate() {
                 *s = *s || !self.departments[y].waiting.is_empty();
             }
         }
-        let departments: Vec<usize> = (0..nd).filter(|&d| stuck[d]).collect();
-        if departments.is_empty() {
-            return;
+        stuck.iter().any(|&s| s)
+    }
+}
+
+/// Counts one more (`by` = 1) or one fewer (`by` = -1) lot in an outbound
+/// area bound for department `to`. The list has one entry per destination
+/// ever seen (a department's routing fan-out), kept at zero rather than
+/// removed, so it stops allocating once every destination has appeared.
+fn out_to_add(list: &mut Vec<(u32, u32)>, to: usize, by: i32) {
+    let to = to as u32;
+    match list.iter_mut().find(|e| e.0 == to) {
+        Some(e) => e.1 = e.1.checked_add_signed(by).expect("an outbound count never goes below zero"),
+        None => {
+            debug_assert_eq!(by, 1, "a lot leaves an outbound area it was counted in");
+            list.push((to, 1));
         }
-        self.deadlock = Some(Deadlock {
-            time_s: cal.now(),
-            departments,
-            movers: Vec::new(),
-            segments: Vec::new(),
-            zones: Vec::new(),
-        });
-        cal.clear();
     }
 }
