@@ -15,4 +15,4 @@ pub mod warmup;
 
 pub use deadlock::{deadlock_message, replication_deadlock};
 pub use progress::{Progress, Silent, StudyError};
-pub use replicate::{replicate, replicate_range};
+pub use replicate::{replicate, replicate_fold, replicate_range};
