@@ -70,7 +70,7 @@ pub const OVERLOAD_WARNING: &str = "WARNING: --allow-overload: a replication who
 pub fn allow_overload(plant: &mut Plant, allow: bool) {
     plant.run.allow_overload = allow;
     if allow {
-        eprintln!("{OVERLOAD_WARNING}");
+        note!("{OVERLOAD_WARNING}");
     }
 }
 

@@ -27,6 +27,19 @@ use crate::travel::travel_time;
 pub fn visit_ratios(plant: &Plant, product: usize) -> Option<Vec<f64>> {
     let ops = &plant.products[product].routing;
     let n = ops.len();
+    // Without a step that leads back (rework), each step's visits are final
+    // once every earlier step has passed its share on: one pass over the
+    // routing, time and memory linear in its steps. A loop needs the solve.
+    if ops.iter().enumerate().all(|(i, op)| op.next.iter().all(|&(j, _)| j > i)) {
+        let mut v = vec![0.0; n];
+        v[0] = 1.0;
+        for (i, op) in ops.iter().enumerate() {
+            for &(j, p) in &op.next {
+                v[j] += p * v[i];
+            }
+        }
+        return Some(v);
+    }
     // (I − Pᵀ) v = e₁, with P[i][j] the branch probability from step i to step j.
     let mut a = vec![0.0; n * n];
     let mut b = vec![0.0; n];
@@ -76,6 +89,98 @@ fn solve(a: &mut [f64], b: &mut [f64], n: usize) -> bool {
     true
 }
 
+/// A from-to chart kept sparse: loads per hour for each (from, to) pair of
+/// departments that has flow, in row-major order (by `from`, then `to`).
+///
+/// A plant's routings touch few of its departments² pairs, so memory and
+/// time follow the routing steps, not the departments squared; [`FlowChart::dense`]
+/// gives the full matrix to whoever needs one (layout search's flow matrix).
+/// Every sum over the chart runs in row-major order, the order a dense
+/// departments² loop adds the non-zero entries in, so figures are the same
+/// to the last bit as from the dense chart.
+#[derive(Debug, Clone, Default, PartialEq)]
+pub struct FlowChart {
+    departments: usize,
+    /// (from, to, loads/h), sorted by (from, to), each pair once, no zero flow.
+    entries: Vec<(usize, usize, f64)>,
+}
+
+impl FlowChart {
+    /// The chart of `departments` departments from (from, to, flow) contributions
+    /// in any order: contributions to the same pair are added in the order given
+    /// (as a dense chart would add them), and pairs left with no flow are dropped.
+    pub fn from_contributions(departments: usize, mut parts: Vec<(usize, usize, f64)>) -> FlowChart {
+        // A stable sort keeps each pair's contributions in the order given.
+        parts.sort_by_key(|&(i, j, _)| (i, j));
+        let mut entries: Vec<(usize, usize, f64)> = Vec::with_capacity(parts.len());
+        for (i, j, f) in parts {
+            match entries.last_mut() {
+                Some(last) if (last.0, last.1) == (i, j) => last.2 += f,
+                // 0 + f is f, as the first addition into a zeroed dense cell.
+                _ => entries.push((i, j, 0.0 + f)),
+            }
+        }
+        entries.retain(|e| e.2 != 0.0);
+        FlowChart { departments, entries }
+    }
+
+    /// A chart from a dense row-major departments² matrix.
+    pub fn from_dense(departments: usize, flow: &[f64]) -> FlowChart {
+        let entries = flow
+            .iter()
+            .enumerate()
+            .filter(|(_, &f)| f != 0.0)
+            .map(|(k, &f)| (k / departments, k % departments, f))
+            .collect();
+        FlowChart { departments, entries }
+    }
+
+    /// Loads per hour from department `from` to `to` (0 where none flow).
+    pub fn get(&self, from: usize, to: usize) -> f64 {
+        self.entries.binary_search_by_key(&(from, to), |&(i, j, _)| (i, j)).map_or(0.0, |k| self.entries[k].2)
+    }
+
+    /// The pairs with flow, as (from, to, loads/h), in row-major order.
+    pub fn iter(&self) -> impl Iterator<Item = (usize, usize, f64)> + '_ {
+        self.entries.iter().copied()
+    }
+
+    /// Pairs with flow.
+    pub fn len(&self) -> usize {
+        self.entries.len()
+    }
+
+    /// No pair has flow.
+    pub fn is_empty(&self) -> bool {
+        self.entries.is_empty()
+    }
+
+    /// Departments on each side.
+    pub fn departments(&self) -> usize {
+        self.departments
+    }
+
+    /// Loads per hour over every pair (summed in row-major order).
+    pub fn total(&self) -> f64 {
+        self.entries.iter().map(|e| e.2).sum()
+    }
+
+    /// The full row-major departments² matrix (memory departments²: for layout search only).
+    pub fn dense(&self) -> Vec<f64> {
+        let n = self.departments;
+        let mut out = vec![0.0; n * n];
+        for &(i, j, f) in &self.entries {
+            out[i * n + j] = f;
+        }
+        out
+    }
+
+    /// Every entry times `k`.
+    fn scale(&mut self, k: f64) {
+        self.entries.iter_mut().for_each(|e| e.2 *= k);
+    }
+}
+
 /// The static picture of a plant at a demand factor; layout-dependent parts per layout.
 #[derive(Debug, Clone)]
 pub struct StaticPicture {
@@ -85,11 +190,11 @@ pub struct StaticPicture {
     pub product_rate_per_h: Vec<f64>,
     /// Visit ratios per product, per operation.
     pub visits: Vec<Vec<f64>>,
-    /// Loads per hour from department i to department j (row-major, departments²),
-    /// all products. Moves within a department are not counted.
-    pub from_to: Vec<f64>,
+    /// Loads per hour from department i to department j, all products
+    /// (sparse). Moves within a department are not counted.
+    pub from_to: FlowChart,
     /// The same per product.
-    pub from_to_by_product: Vec<Vec<f64>>,
+    pub from_to_by_product: Vec<FlowChart>,
     /// Lots per hour arriving for processing at each department.
     pub arrivals_per_h: Vec<f64>,
     /// Predicted utilisation λ·E[S]/c per department (0 for docks).
@@ -138,47 +243,52 @@ impl StaticPicture {
     pub fn new(plant: &Plant, demand_factor: f64) -> StaticPicture {
         let nd = plant.departments.len();
         let mut visits = Vec::with_capacity(plant.products.len());
-        let mut from_to = vec![0.0; nd * nd];
         let mut by_product = Vec::with_capacity(plant.products.len());
         let mut arrivals = vec![0.0; nd];
         let mut work_s_per_h = vec![0.0; nd];
         let mut rates = Vec::with_capacity(plant.products.len());
-        // Lots per hour of each product at each department, for the setup mix.
-        let mut mix = vec![vec![0.0; plant.products.len()]; nd];
+        // Lots per hour of each product at each department, for the setup
+        // mix: per department, (product, lots/h) in product order, only the
+        // products that visit it.
+        let mut mix: Vec<Vec<(usize, f64)>> = vec![Vec::new(); nd];
         for (p, prod) in plant.products.iter().enumerate() {
             let v = visit_ratios(plant, p).unwrap_or_else(|| vec![0.0; prod.routing.len()]);
             let rate_h = plant.mean_rate_per_s(p) * 3600.0 * demand_factor;
             rates.push(rate_h);
-            let mut ft = vec![0.0; nd * nd];
+            let mut ft = Vec::with_capacity(prod.routing.len() * 2);
             let first = prod.routing[0].department;
             if first != prod.enters_at {
-                ft[prod.enters_at * nd + first] += rate_h;
+                ft.push((prod.enters_at, first, rate_h));
             }
             for (k, op) in prod.routing.iter().enumerate() {
                 let d = op.department;
                 if plant.departments[d].role == DepartmentRole::Work {
                     arrivals[d] += rate_h * v[k];
-                    mix[d][p] += rate_h * v[k];
+                    match mix[d].last_mut() {
+                        Some((q, x)) if *q == p => *x += rate_h * v[k],
+                        _ => mix[d].push((p, 0.0 + rate_h * v[k])),
+                    }
                     work_s_per_h[d] += rate_h * v[k] * op.time.as_ref().map_or(0.0, |t| t.mean());
                 }
                 for &(j, pr) in &op.next {
                     let to = prod.routing[j].department;
                     if to != d {
-                        ft[d * nd + to] += rate_h * v[k] * pr;
+                        ft.push((d, to, rate_h * v[k] * pr));
                     }
                 }
             }
+            let mut ft = FlowChart::from_contributions(nd, ft);
             // Each move of a lot is one move per unit load.
             let loads = f64::from(prod.lot.map_or(1, |l| l.loads()));
             if loads != 1.0 {
-                ft.iter_mut().for_each(|x| *x *= loads);
-            }
-            for (a, b) in from_to.iter_mut().zip(&ft) {
-                *a += b;
+                ft.scale(loads);
             }
             visits.push(v);
             by_product.push(ft);
         }
+        // Every product's chart added pair by pair in product order, as a dense sum would.
+        let from_to =
+            FlowChart::from_contributions(nd, by_product.iter().flat_map(FlowChart::iter).collect());
         let utilization = plant
             .departments
             .iter()
@@ -201,12 +311,12 @@ impl StaticPicture {
             .enumerate()
             .map(|(d, dep)| match &dep.setups {
                 Some(st) if dep.machines > 0 && arrivals[d] > 0.0 => {
-                    let n = plant.products.len();
+                    // Products that never visit d add nothing: only its mix is summed.
                     let mut s = 0.0;
-                    for i in 0..n {
-                        for j in 0..n {
+                    for &(i, mi) in &mix[d] {
+                        for &(j, mj) in &mix[d] {
                             if let Some(t) = st.for_change(i, j) {
-                                s += mix[d][i] / arrivals[d] * mix[d][j] * t.mean();
+                                s += mi / arrivals[d] * mj * t.mean();
                             }
                         }
                     }
@@ -225,9 +335,11 @@ impl StaticPicture {
                 }
             })
             .collect();
-        let layouts =
-            (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &by_product)).collect();
-        let fleet_pickups_per_h = pickups(plant, &by_product);
+        // Each product's chart split among the fleets, once for every layout.
+        let split: Vec<Vec<FlowChart>> =
+            by_product.iter().enumerate().map(|(p, ft)| by_fleet(plant, p, ft)).collect();
+        let layouts = (0..plant.layouts.len()).map(|l| layout_picture(plant, l, &from_to, &split)).collect();
+        let fleet_pickups_per_h = pickups(plant, &split);
         StaticPicture {
             demand_factor,
             product_rate_per_h: rates,
@@ -251,23 +363,17 @@ impl StaticPicture {
     }
 }
 
-/// Σ_ij flow_ij × d(location(i), location(j)) over a department-level flow matrix.
-pub fn load_distance(plant: &Plant, layout: usize, flow: &[f64]) -> f64 {
+/// Σ_ij flow_ij × d(location(i), location(j)) over a department-level from-to chart.
+pub fn load_distance(plant: &Plant, layout: usize, flow: &FlowChart) -> f64 {
     flow_weighted(plant, layout, flow, |d| d)
 }
 
-/// Σ_ij flow_ij × per_trip(d(location(i), location(j))) over the pairs with flow.
-fn flow_weighted(plant: &Plant, layout: usize, flow: &[f64], per_trip: impl Fn(f64) -> f64) -> f64 {
-    let nd = plant.departments.len();
+/// Σ_ij flow_ij × per_trip(d(location(i), location(j))) over the pairs with flow, in row-major order.
+fn flow_weighted(plant: &Plant, layout: usize, flow: &FlowChart, per_trip: impl Fn(f64) -> f64) -> f64 {
     let loc = &plant.layouts[layout].location_of;
     let mut z = 0.0;
-    for i in 0..nd {
-        for j in 0..nd {
-            let f = flow[i * nd + j];
-            if f != 0.0 {
-                z += f * per_trip(plant.distance(loc[i], loc[j]));
-            }
-        }
+    for (i, j, f) in flow.iter() {
+        z += f * per_trip(plant.distance(loc[i], loc[j]));
     }
     z
 }
@@ -288,31 +394,38 @@ pub fn move_shares(plant: &Plant, product: usize, from: usize, to: usize) -> Vec
     }
 }
 
-/// Each product's from-to chart split by fleet: `[fleet][from·n + to]`, loads per hour.
-fn by_fleet(plant: &Plant, product: usize, ft: &[f64]) -> Vec<Vec<f64>> {
+/// Each product's from-to chart split by fleet, `[fleet]`, loads per hour.
+fn by_fleet(plant: &Plant, product: usize, ft: &FlowChart) -> Vec<FlowChart> {
     let nd = plant.departments.len();
-    let mut out = vec![vec![0.0; nd * nd]; plant.fleets().len()];
-    for i in 0..nd {
-        for j in 0..nd {
-            let flow = ft[i * nd + j];
-            if flow != 0.0 {
-                for (f, w) in move_shares(plant, product, i, j) {
-                    out[f][i * nd + j] += w * flow;
-                }
-            }
+    let mut parts = vec![Vec::new(); plant.fleets().len()];
+    for (i, j, flow) in ft.iter() {
+        for (f, w) in move_shares(plant, product, i, j) {
+            parts[f].push((i, j, w * flow));
         }
     }
-    out
+    parts.into_iter().map(|p| FlowChart::from_contributions(nd, p)).collect()
 }
 
 /// Loads per hour each fleet picks up at each department.
-fn pickups(plant: &Plant, by_product: &[Vec<f64>]) -> Vec<Vec<f64>> {
+fn pickups(plant: &Plant, split: &[Vec<FlowChart>]) -> Vec<Vec<f64>> {
     let nd = plant.departments.len();
     let mut out = vec![vec![0.0; nd]; plant.fleets().len()];
-    for (p, ft) in by_product.iter().enumerate() {
-        for (f, chart) in by_fleet(plant, p, ft).iter().enumerate() {
-            for i in 0..nd {
-                out[f][i] += chart[i * nd..(i + 1) * nd].iter().sum::<f64>();
+    for charts in split {
+        for (f, chart) in charts.iter().enumerate() {
+            // Each row's sum, in column order, added once per row with flow.
+            let mut row: Option<(usize, f64)> = None;
+            for (i, _, x) in chart.iter() {
+                row = match row {
+                    Some((r, sum)) if r == i => Some((r, sum + x)),
+                    Some((r, sum)) => {
+                        out[f][r] += sum;
+                        Some((i, 0.0 + x))
+                    }
+                    None => Some((i, 0.0 + x)),
+                };
+            }
+            if let Some((r, sum)) = row {
+                out[f][r] += sum;
             }
         }
     }
@@ -327,21 +440,27 @@ pub fn fleet_pickups_per_h(plant: &Plant) -> Vec<Vec<f64>> {
 
 /// Σ_ij flow_ij × travel time(d_ij) in seconds per hour at top speed `v` and
 /// acceleration `accel`: load-distance ÷ v when there is no acceleration.
-fn travel_s_per_h(plant: &Plant, layout: usize, flow: &[f64], v: f64, accel: Option<f64>) -> f64 {
+fn travel_s_per_h(plant: &Plant, layout: usize, flow: &FlowChart, v: f64, accel: Option<f64>) -> f64 {
     let Some(a) = accel else {
         return load_distance(plant, layout, flow) / v;
     };
     flow_weighted(plant, layout, flow, |d| travel_time(d, v, Some(a)))
 }
 
-fn layout_picture(plant: &Plant, layout: usize, from_to: &[f64], by_product: &[Vec<f64>]) -> LayoutPicture {
+/// The layout's figures; `split` holds each product's chart split among the fleets ([`by_fleet`]).
+fn layout_picture(
+    plant: &Plant,
+    layout: usize,
+    from_to: &FlowChart,
+    split: &[Vec<FlowChart>],
+) -> LayoutPicture {
     let load_distance_m_per_h = load_distance(plant, layout, from_to);
     let fleets = plant.fleets();
     let mut trips = vec![0.0; fleets.len()];
     let mut busy_s_per_h = vec![0.0; fleets.len()];
-    for (p, ft) in by_product.iter().enumerate() {
-        for (f, chart) in by_fleet(plant, p, ft).iter().enumerate() {
-            let n: f64 = chart.iter().sum();
+    for charts in split {
+        for (f, chart) in charts.iter().enumerate() {
+            let n: f64 = chart.total();
             if n == 0.0 {
                 continue;
             }
@@ -358,5 +477,24 @@ fn layout_picture(plant: &Plant, layout: usize, from_to: &[f64], by_product: &[V
         handling_cost_per_h: load_distance_m_per_h * plant.cost_per_load_metre,
         fleet_utilization_lower_bound: bound,
         fleet_trips_per_h: trips,
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::FlowChart;
+
+    #[test]
+    fn a_sparse_chart_adds_each_pair_in_the_order_given_and_drops_empty_pairs() {
+        // 0.1 + 0.2 + 0.3 is 0.6000000000000001 left to right and 0.6 right to
+        // left: the order given must be kept for the pair (0, 1).
+        let c = FlowChart::from_contributions(
+            3,
+            vec![(0, 1, 0.1), (2, 0, 5.0), (0, 1, 0.2), (1, 1, 0.0), (0, 1, 0.3)],
+        );
+        assert_eq!(c.get(0, 1), 0.1 + 0.2 + 0.3);
+        assert_eq!(c.iter().collect::<Vec<_>>(), vec![(0, 1, 0.1 + 0.2 + 0.3), (2, 0, 5.0)]);
+        assert_eq!((c.get(1, 1), c.len()), (0.0, 2));
+        assert_eq!(FlowChart::from_dense(3, &c.dense()), c);
     }
 }

@@ -382,7 +382,7 @@ pub fn fleet_estimate(
     let nd = plant.departments.len();
     let nl = plant.locations.len();
     if pic.from_to_by_product.len() != plant.products.len()
-        || pic.from_to_by_product.iter().any(|ft| ft.len() != nd * nd)
+        || pic.from_to_by_product.iter().any(|ft| ft.departments() != nd)
     {
         return Err("the static picture was not computed for this plant (its sizes do not match)".to_string());
     }
@@ -395,10 +395,9 @@ pub fn fleet_estimate(
 
     let mut flow = vec![0.0; nd * nd];
     for (p, ft) in pic.from_to_by_product.iter().enumerate() {
-        for (k, &f) in ft.iter().enumerate() {
-            let (i, j) = (k / nd, k % nd);
-            if f != 0.0 && (0..fleets.len()).find(|&g| plant.fleet_may_serve(g, p, i, j)) == Some(fleet) {
-                flow[k] += f;
+        for (i, j, f) in ft.iter() {
+            if (0..fleets.len()).find(|&g| plant.fleet_may_serve(g, p, i, j)) == Some(fleet) {
+                flow[i * nd + j] += f;
             }
         }
     }

@@ -6,7 +6,7 @@
 //! wrong flow or distance). The plant is `scenarios/validation/hand-checked-static.yaml`
 //! and its Euclidean copy; its comment gives the routings.
 
-use layflow_models::analysis::{load_distance, visit_ratios, StaticPicture};
+use layflow_models::analysis::{load_distance, visit_ratios, FlowChart, StaticPicture};
 use layflow_models::plant::Plant;
 use layflow_tests::{department, load, Checks};
 
@@ -42,7 +42,7 @@ fn from_to_chart_matches_the_hand_calculation() {
         // Every entry, the zeros included (no flow may appear where none is routed).
         for i in 0..nd {
             for j in 0..nd {
-                let (w, g) = (want[i * nd + j], pic.from_to[i * nd + j]);
+                let (w, g) = (want[i * nd + j], pic.from_to.get(i, j));
                 let what =
                     format!("{file}: from-to {} → {}", plant.departments[i].id, plant.departments[j].id);
                 c.exact(&what, w, g, REL * w.max(1.0));
@@ -50,16 +50,16 @@ fn from_to_chart_matches_the_hand_calculation() {
         }
         // Per product: latch carries R→A 4, A→C 4, C→S 4 and nothing else.
         let latch = &pic.from_to_by_product[1];
-        let total: f64 = latch.iter().sum();
+        let total: f64 = latch.total();
         c.relative(&format!("{file}: latch loads/h over the chart = 12"), 12.0, total, REL);
-        c.relative(&format!("{file}: latch A → C"), 4.0, latch[ix[1] * nd + ix[3]], REL);
-        c.relative(&format!("{file}: latch C → shipping"), 4.0, latch[ix[3] * nd + ix[4]], REL);
+        c.relative(&format!("{file}: latch A → C"), 4.0, latch.get(ix[1], ix[3]), REL);
+        c.relative(&format!("{file}: latch C → shipping"), 4.0, latch.get(ix[3], ix[4]), REL);
         // The demand factor scales the chart linearly.
         let twice = StaticPicture::new(&plant, 2.0);
         c.relative(
             &format!("{file}: from-to A → B at demand factor 2"),
             20.0,
-            twice.from_to[ix[1] * nd + ix[2]],
+            twice.from_to.get(ix[1], ix[2]),
             REL,
         );
     }
@@ -110,16 +110,16 @@ fn visit_ratios_and_department_loads_by_hand() {
 }
 
 /// The A, B, C part of a chart: the flows docs/formulas.md §9 tabulates.
-fn abc_only(plant: &Plant, from_to: &[f64]) -> Vec<f64> {
+fn abc_only(plant: &Plant, from_to: &FlowChart) -> FlowChart {
     let ix = depts(plant);
     let nd = plant.departments.len();
     let mut out = vec![0.0; nd * nd];
     for &i in &ix[1..4] {
         for &j in &ix[1..4] {
-            out[i * nd + j] = from_to[i * nd + j];
+            out[i * nd + j] = from_to.get(i, j);
         }
     }
-    out
+    FlowChart::from_dense(nd, &out)
 }
 
 /// Checks every layout's load-distance against the docs/formulas.md §9 table (A, B, C
@@ -206,7 +206,7 @@ fn fleet_static_figures_at_double_demand() {
         load_distance(&plant, 0, &abc) / fl.speed_loaded / 60.0,
         5e-5,
     );
-    c.relative("§7 chart: 50 trips/h over A, B, C", 50.0, abc.iter().sum::<f64>(), REL);
+    c.relative("§7 chart: 50 trips/h over A, B, C", 50.0, abc.total(), REL);
     c.relative("handling h = load + unload = 1 min", 60.0, fl.load_s + fl.unload_s, REL);
     // The model's fleet figures include the dock moves: 2 × 53 = 106 trips/h
     // and 2 × 1440 = 2880 m/h loaded, so the lower bound on utilisation of
@@ -220,5 +220,102 @@ fn fleet_static_figures_at_double_demand() {
         lp.fleet_utilization_lower_bound[0],
         REL,
     );
+    c.finish();
+}
+
+/// A generated plant of `nd` departments and `np` products, each routed
+/// s0 → s1 → s2 → s3 → ship through departments drawn by a fixed linear
+/// congruential sequence, with a rework branch s1 → s0 (p 0.1); returns the
+/// scenario text and each product's (rate per hour, departments of s0..s3).
+fn generated_plant(nd: usize, np: usize) -> (String, Vec<(f64, [usize; 4])>) {
+    use std::fmt::Write as _;
+    let mut s = String::from("plant: generated\nrun: { horizon: 2 d, warmup: 1 d }\nlocations:\n");
+    for d in 0..nd {
+        let _ = writeln!(s, "  - {{ id: L{d}, at: [{}, {}] }}", (d % 20) * 10, (d / 20) * 10);
+    }
+    s.push_str(
+        "  - { id: dock-in, at: [-10, 0] }\n  - { id: dock-out, at: [-10, 20] }\ndistance: rectilinear\n",
+    );
+    s.push_str(
+        "departments:\n  - { id: receiving, dock: receiving }\n  - { id: shipping, dock: shipping }\n",
+    );
+    for d in 0..nd {
+        let _ = writeln!(s, "  - {{ id: D{d}, machines: 50 }}");
+    }
+    s.push_str("layouts:\n  grid:\n    receiving: dock-in\n    shipping: dock-out\n");
+    for d in 0..nd {
+        let _ = writeln!(s, "    D{d}: L{d}");
+    }
+    s.push_str("products:\n");
+    let mut x: u64 = 7;
+    let mut next = || {
+        x = x.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        (x >> 33) as usize % nd
+    };
+    let mut products = Vec::new();
+    for p in 0..np {
+        let d = [next(), next(), next(), next()];
+        let rate = 0.01 + (p % 7) as f64 * 0.005;
+        let _ = write!(
+            s,
+            "  - id: P{p}\n    demand: {{ per_hour: {rate} }}\n    routing:\n\
+             \x20     - {{ step: s0, at: D{}, time: 2 min }}\n\
+             \x20     - {{ step: s1, at: D{}, time: 3 min, then: [{{ step: s2, p: 0.9 }}, {{ step: s0, p: 0.1 }}] }}\n\
+             \x20     - {{ step: s2, at: D{}, time: 2 min }}\n\
+             \x20     - {{ step: s3, at: D{}, time: 1 min }}\n\
+             \x20     - {{ step: ship, at: shipping }}\n",
+            d[0], d[1], d[2], d[3]
+        );
+        products.push((rate, d));
+    }
+    s.push_str(
+        "fleets:\n  - { id: trucks, kind: forklift, count: 3, speed: { loaded: 2.0 m/s, empty: 2.5 m/s }, \
+         handling: { load: 30 s, unload: 30 s }, home: receiving }\n",
+    );
+    (s, products)
+}
+
+#[test]
+fn a_big_plant_gets_a_sparse_chart_equal_to_the_hand_calculation() {
+    // Issue 15, class 7: the chart used to be departments² per product. Here
+    // 400 departments × 3,000 products (a dense chart per product would be
+    // 3,000 × 402² ≈ 485 million numbers); each product's chart holds its
+    // own moves only, and every pair agrees with the visit ratios by hand:
+    // s1 → s0 w.p. 0.1 gives v(s0) = v(s1) = 1/0.9 = 10/9 (the
+    // visit equations v = e₁ + Pᵀv, solved by hand as for latch above), v(s2) = v(s3) = 1, so
+    // per lot/h: R→s0 1, s0→s1 10/9, s1→s0 1/9, s1→s2 1, s2→s3 1, s3→S 1
+    // (a move within one department is not a move). Relative 1e-12: a pair
+    // adds at most a few dozen terms of one rounding each.
+    let (nd, np) = (400, 3000);
+    let (text, products) = generated_plant(nd, np);
+    let plant = layflow_models::parse_scenario(&text, std::path::Path::new("generated.yaml"))
+        .unwrap_or_else(|e| panic!("generated plant: {e}"));
+    let pic = StaticPicture::new(&plant, 1.0);
+    let dep = |d: usize| department(&plant, &format!("D{d}"));
+    let (rx, sx) = (department(&plant, "receiving"), department(&plant, "shipping"));
+    let n = plant.departments.len();
+    let mut want = std::collections::BTreeMap::new();
+    let mut c = Checks::new("sparse from-to chart of a generated 400 × 3,000 plant (by hand)");
+    for (p, &(rate, d)) in products.iter().enumerate() {
+        let (s0, s1, s2, s3) = (dep(d[0]), dep(d[1]), dep(d[2]), dep(d[3]));
+        let moves = [
+            (rx, s0, rate),
+            (s0, s1, rate * 10.0 / 9.0),
+            (s1, s0, rate / 9.0),
+            (s1, s2, rate),
+            (s2, s3, rate),
+            (s3, sx, rate),
+        ];
+        let ft = &pic.from_to_by_product[p];
+        // Memory follows the routing: at most its six moves, never n².
+        c.holds(&format!("P{p}: {} pairs ≤ 6", ft.len()), ft.len() <= 6 && ft.departments() == n);
+        for (i, j, f) in moves.into_iter().filter(|m| m.0 != m.1) {
+            *want.entry((i, j)).or_insert(0.0) += f;
+        }
+    }
+    c.holds("every pair with flow is expected", pic.from_to.len() == want.len());
+    for (&(i, j), &w) in &want {
+        c.relative(&format!("pair {i} → {j}"), w, pic.from_to.get(i, j), 1e-12);
+    }
     c.finish();
 }

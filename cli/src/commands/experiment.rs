@@ -126,7 +126,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         for s in &mut plan.setups {
             s.plant.run.allow_overload = true;
         }
-        eprintln!("{}", crate::settings::OVERLOAD_WARNING);
+        note!("{}", crate::settings::OVERLOAD_WARNING);
         // The flag changes the results, so it is part of the content hash: a
         // folder run with it resumes and merges only with it.
         plan.hash = plan.content_hash(plan.replications);

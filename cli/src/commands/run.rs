@@ -5,9 +5,9 @@ use std::time::Instant;
 
 use clap::Args;
 use layflow_models::analysis::StaticPicture;
-use layflow_models::metrics::{summarize, CONFIDENCE};
+use layflow_models::metrics::{LayoutAccumulator, CONFIDENCE};
 use layflow_models::sim::{Plan, RunSpec};
-use layflow_models::study::{cap_note, deadlock_message, replicate, Progress as _};
+use layflow_models::study::{replicate_fold, CapTally, Progress as _};
 
 use crate::failure::Failure;
 use crate::output;
@@ -55,20 +55,34 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         progress.stage(format!("layout {}", plant.layouts[l].name));
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
         let plan = Plan::new(&plant, l);
-        let reps = settings.pool.install(|| replicate(&plan, &spec, replications, |r| progress.done(r)));
-        if let Some(why) = deadlock_message(&plant, &reps) {
+        // Each replication is folded into the summary and dropped: memory does not grow with replications.
+        let mut acc = LayoutAccumulator::new(&plant);
+        let mut caps = CapTally::default();
+        settings.pool.install(|| {
+            replicate_fold(
+                &plan,
+                &spec,
+                0..u64::from(replications),
+                |r| progress.done(r),
+                |_, r| {
+                    acc.add(&r);
+                    caps.add(&r);
+                },
+            )
+        });
+        if let Some(why) = acc.deadlock() {
             progress.finish();
             return Err(Failure::run(format!("layout \"{}\": {why}", plant.layouts[l].name)));
         }
-        if let Some(note) = cap_note(&reps) {
+        if let Some(note) = caps.note() {
             capped.push(format!("WARNING: layout \"{}\": {note}.", plant.layouts[l].name));
         }
-        summaries.push(summarize(&plant, &spec, &pic, &reps));
+        summaries.push(acc.finish(&spec, &pic));
     }
     progress.finish();
     // After the progress bar, so the warnings are not drawn over.
     for note in &capped {
-        eprintln!("{note}");
+        output::note!("{note}");
     }
     let wall_s = started.elapsed().as_secs_f64();
     let events = summaries.iter().map(|s| s.events).sum();

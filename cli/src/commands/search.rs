@@ -261,7 +261,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
             layout: r.layout.clone(),
         })
         .collect();
-    let loads_per_h = picture.from_to.iter().sum();
+    let loads_per_h = picture.from_to.total();
     let report = Report {
         plant: &plant,
         pp: &pp,

@@ -63,29 +63,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     }
     let _ = writeln!(s);
 
-    let nd = plant.departments.len();
-    let used: Vec<usize> = (0..nd)
-        .filter(|&d| (0..nd).any(|o| pic.from_to[d * nd + o] > 0.0 || pic.from_to[o * nd + d] > 0.0))
-        .collect();
-    let _ = writeln!(s, "From-to chart: expected loads per hour (rows: from, columns: to; rework included)");
-    let mut header = vec!["from \\ to".to_string()];
-    header.extend(used.iter().map(|&d| plant.departments[d].id.clone()));
-    header.push("total".into());
-    let mut t = Table::new(&header);
-    for &i in &used {
-        let mut row = vec![plant.departments[i].id.clone()];
-        let mut total = 0.0;
-        for &j in &used {
-            let f = pic.from_to[i * nd + j];
-            total += f;
-            row.push(if f > 0.0 { format!("{f:.2}") } else { ".".into() });
-        }
-        row.push(format!("{total:.2}"));
-        t.row(row);
-    }
-    s.push_str(&t.render(2));
-    let _ = writeln!(s);
-
+    from_to_chart(&mut s, plant, pic);
     let _ = writeln!(s, "Departments: predicted utilisation = arrivals × mean processing time ÷ machines");
     let breakdowns = plant.departments.iter().any(|d| d.breakdowns.is_some());
     let calendars = plant.departments.iter().any(|d| d.calendar.is_some());
@@ -209,6 +187,65 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     s
 }
 
+/// Departments with flow in or out beyond which the from-to chart is listed
+/// pair by pair instead of drawn as a table (a table of 25 columns is
+/// already wider than most terminals; one of 1,000 would be a million cells).
+const CHART_TABLE_MAX: usize = 25;
+
+/// Pairs listed when the chart is too big for a table: the busiest ones.
+const CHART_PAIRS_SHOWN: usize = 40;
+
+/// The from-to chart: a table over the departments with flow, or for a big
+/// plant its busiest pairs with a note of how many there are.
+fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture) {
+    let nd = plant.departments.len();
+    let mut with_flow = vec![false; nd];
+    for (i, j, f) in pic.from_to.iter() {
+        if f > 0.0 {
+            with_flow[i] = true;
+            with_flow[j] = true;
+        }
+    }
+    let used: Vec<usize> = (0..nd).filter(|&d| with_flow[d]).collect();
+    if used.len() > CHART_TABLE_MAX {
+        let mut pairs: Vec<(usize, usize, f64)> = pic.from_to.iter().filter(|e| e.2 > 0.0).collect();
+        pairs.sort_by(|a, b| b.2.total_cmp(&a.2).then((a.0, a.1).cmp(&(b.0, b.1))));
+        let _ = writeln!(
+            s,
+            "From-to chart: expected loads per hour (rework included); {} departments and {} pairs have flow, \
+             too many for a table: the {} busiest pairs (every pair with `--format json`)",
+            used.len(),
+            pairs.len(),
+            CHART_PAIRS_SHOWN.min(pairs.len())
+        );
+        let mut t = Table::new(&["from", "to", "loads/h"]);
+        for &(i, j, f) in pairs.iter().take(CHART_PAIRS_SHOWN) {
+            t.row(vec![plant.departments[i].id.clone(), plant.departments[j].id.clone(), format!("{f:.2}")]);
+        }
+        s.push_str(&t.render(2));
+        let _ = writeln!(s);
+        return;
+    }
+    let _ = writeln!(s, "From-to chart: expected loads per hour (rows: from, columns: to; rework included)");
+    let mut header = vec!["from \\ to".to_string()];
+    header.extend(used.iter().map(|&d| plant.departments[d].id.clone()));
+    header.push("total".into());
+    let mut t = Table::new(&header);
+    for &i in &used {
+        let mut row = vec![plant.departments[i].id.clone()];
+        let mut total = 0.0;
+        for &j in &used {
+            let f = pic.from_to.get(i, j);
+            total += f;
+            row.push(if f > 0.0 { format!("{f:.2}") } else { ".".into() });
+        }
+        row.push(format!("{total:.2}"));
+        t.row(row);
+    }
+    s.push_str(&t.render(2));
+    let _ = writeln!(s);
+}
+
 /// How a product's demand varies, in a few words.
 fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
     match &plant.products[p].demand {
@@ -230,17 +267,13 @@ fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
 
 /// The static picture as JSON.
 pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
-    let nd = plant.departments.len();
     let ids: Vec<&str> = plant.departments.iter().map(|d| d.id.as_str()).collect();
-    let mut pairs = Vec::new();
-    for i in 0..nd {
-        for j in 0..nd {
-            let f = pic.from_to[i * nd + j];
-            if f > 0.0 {
-                pairs.push(json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }));
-            }
-        }
-    }
+    let pairs: Vec<serde_json::Value> = pic
+        .from_to
+        .iter()
+        .filter(|e| e.2 > 0.0)
+        .map(|(i, j, f)| json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }))
+        .collect();
     json!({
         "plant": plant.name,
         "demand_factor": pic.demand_factor,

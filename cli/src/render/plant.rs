@@ -210,13 +210,10 @@ pub fn picture(
         );
 
     let nl = plant.locations.len();
-    let nd = plant.departments.len();
     // Location-to-location flows, for the aisle traffic.
     let mut loc_flow = vec![0.0; nl * nl];
-    for i in 0..nd {
-        for j in 0..nd {
-            loc_flow[lay.location_of[i] * nl + lay.location_of[j]] += pic.from_to[i * nd + j];
-        }
+    for (i, j, f) in pic.from_to.iter() {
+        loc_flow[lay.location_of[i] * nl + lay.location_of[j]] += f;
     }
     // Boxes first, then the aisles over them: an aisle that runs into a bay
     // (a drive-through bay) is seen to do so.
@@ -227,7 +224,7 @@ pub fn picture(
         traffic_max = m;
         doc = doc.add(g);
     }
-    let flow_max = pic.from_to.iter().copied().fold(0.0, f64::max);
+    let flow_max = pic.from_to.iter().map(|e| e.2).fold(0.0, f64::max);
     doc = doc.add(flows(plant, layout, pic, &frame, flow_max, net.filter(|_| style == FlowStyle::Aisle)));
     doc = doc.add(names(plant, layout, &frame, half * scale));
     let legend_x = MARGIN + (x1 - x0) * scale + MARGIN;
@@ -470,16 +467,8 @@ fn flows(
     along: Option<&AisleNetwork>,
 ) -> Group {
     let lay = &plant.layouts[layout];
-    let nd = plant.departments.len();
-    let mut list: Vec<(usize, usize, f64)> = Vec::new();
-    for i in 0..nd {
-        for j in 0..nd {
-            let f = pic.from_to[i * nd + j];
-            if i != j && f > 0.0 {
-                list.push((i, j, f));
-            }
-        }
-    }
+    let mut list: Vec<(usize, usize, f64)> =
+        pic.from_to.iter().filter(|&(i, j, f)| i != j && f > 0.0).collect();
     list.sort_by(|a, b| b.2.total_cmp(&a.2).then((a.0, a.1).cmp(&(b.0, b.1))));
     let mut g = Group::new().set("id", "flows");
     for (i, j, f) in list {

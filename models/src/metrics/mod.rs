@@ -13,11 +13,12 @@ pub mod registry;
 pub mod summary;
 
 pub use compute::{observed, value};
-pub use estimate::{dur, est, est_with_se, DurationEstimate, Estimate, CONFIDENCE};
+pub use estimate::{dur, est, est_with_se, DurationEstimate, Estimate, Moments, CONFIDENCE};
 pub use list::{
     every_metric, find_metric, metrics, segment_subject, subjects, values, values_mean, Features, Metric,
 };
 pub use registry::{canonical, Better, Def, Id, Kind, Scope, Unit, DEFS};
 pub use summary::{
-    summarize, DepartmentSummary, FleetSummary, LayoutSummary, ProductSummary, SegmentSummary,
+    summarize, DepartmentSummary, FleetSummary, LayoutAccumulator, LayoutSummary, ProductSummary,
+    SegmentSummary,
 };

@@ -128,7 +128,7 @@ pub enum When {
 }
 
 /// Every metric, one variant each: the key [`crate::metrics::value`] computes.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 #[allow(missing_docs)] // each variant is documented by its row in DEFS
 pub enum Id {
     Throughput,
@@ -182,7 +182,7 @@ pub enum Id {
 }
 
 /// A percentile of one replication's observations.
-#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Hash)]
 pub enum Percentile {
     /// Median.
     P50,

@@ -4,7 +4,10 @@
 //! `registry.rs`); every value comes from [`value`], so `run`, `compare` and
 //! `fleet` cannot disagree. Percentiles come from the histograms of every
 //! replication merged (counts added exactly), so they describe the pooled
-//! lots, not a mean of percentiles.
+//! lots, not a mean of percentiles. Replications are folded into a
+//! [`LayoutAccumulator`] one at a time, so memory does not grow with them.
+
+use std::collections::HashMap;
 
 use layflow_engine::TickHistogram;
 use serde::Serialize;
@@ -12,10 +15,10 @@ use serde::Serialize;
 use crate::analysis::StaticPicture;
 use crate::plant::Plant;
 use crate::sim::{RepStats, RunSpec, TICK_S};
-use crate::study::deadlock::deadlock_message;
+use crate::study::deadlock::replication_deadlock;
 
 use super::compute::value;
-use super::estimate::{dur, est, DurationEstimate, Estimate};
+use super::estimate::{with_hist, DurationEstimate, Estimate, Moments};
 use super::list::Features;
 use super::registry::Id;
 
@@ -197,127 +200,299 @@ pub struct LayoutSummary {
     pub segments: Option<Vec<SegmentSummary>>,
 }
 
-/// Summarise the replications of layout `spec.layout`.
+/// Summarise the replications of layout `spec.layout` (all held in memory;
+/// studies fold them one at a time into a [`LayoutAccumulator`] instead).
 pub fn summarize(plant: &Plant, spec: &RunSpec, picture: &StaticPicture, reps: &[RepStats]) -> LayoutSummary {
-    let mut flow_hist = TickHistogram::new(TICK_S);
-    let mut wait_hist = TickHistogram::new(TICK_S);
+    let mut acc = LayoutAccumulator::new(plant);
     for r in reps {
-        flow_hist.merge(&r.flow_hist);
-        wait_hist.merge(&r.move_wait_hist);
+        acc.add(r);
     }
-    // Every figure is the registry's per-replication value, averaged.
-    let of = |id: Id, i: usize| est(reps.iter().map(move |r| value(id, plant, r, i)));
-    let lp = &picture.layouts[spec.layout];
-    let features = Features::of(plant);
-    let throughput = of(Id::Throughput, 0);
-    let flow = dur(reps.iter().map(|r| value(Id::FlowTime, plant, r, 0)), &flow_hist);
-    let wip = of(Id::Wip, 0);
-    let little_relative_gap =
-        if wip.mean > 0.0 { (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean } else { 0.0 };
-    LayoutSummary {
-        layout: plant.layouts[spec.layout].name.clone(),
-        throughput_per_h: throughput,
-        flow_time_s: flow,
-        wip_mean: wip,
-        wip_in_transit_mean: of(Id::WipInTransit, 0),
-        move_wait_s: dur(reps.iter().map(|r| value(Id::MoveWait, plant, r, 0)), &wait_hist),
-        move_wait_assign_s: of(Id::MoveWaitAssign, 0),
-        move_wait_drive_s: of(Id::MoveWaitDrive, 0),
-        distance_loaded_m_per_h: of(Id::DistanceLoaded, 0),
-        distance_empty_m_per_h: of(Id::DistanceEmpty, 0),
-        handling_cost_per_h: of(Id::HandlingCost, 0),
-        load_distance_static_m_per_h: lp.load_distance_m_per_h,
-        handling_cost_static_per_h: lp.handling_cost_per_h,
-        little_relative_gap,
-        products: plant
-            .products
-            .iter()
-            .enumerate()
-            .map(|(p, prod)| ProductSummary {
-                product: prod.id.clone(),
-                throughput_per_h: of(Id::ProductThroughput, p),
-                flow_time_s: of(Id::ProductFlowTime, p),
-            })
-            .collect(),
-        departments: plant
-            .departments
-            .iter()
-            .enumerate()
-            .map(|(d, dep)| DepartmentSummary {
-                department: dep.id.clone(),
-                wip_mean: of(Id::DepartmentWip, d),
-                utilization: of(Id::DepartmentUtilization, d),
-                queue_mean: of(Id::DepartmentQueue, d),
-                utilization_predicted: picture.utilization[d],
-                blocked_share: features.staging.then(|| of(Id::DepartmentBlocked, d)),
-                availability: dep.breakdowns.as_ref().map(|_| of(Id::DepartmentAvailability, d)),
-                availability_predicted: dep.breakdowns.as_ref().map(|b| b.availability()),
-                utilization_scheduled: dep
-                    .calendar
-                    .as_ref()
-                    .map(|_| of(Id::DepartmentScheduledUtilization, d)),
-                scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
-                setup_share: dep.setups.as_ref().map(|_| of(Id::DepartmentSetup, d)),
-                setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
-            })
-            .collect(),
-        fleets: plant
-            .fleets()
-            .iter()
-            .enumerate()
-            .map(|(f, fl)| FleetSummary {
-                fleet: fl.id.clone(),
-                movers: fl.count,
-                utilization: of(Id::FleetUtilization, f),
-                loaded_travel_share: of(Id::FleetLoadedTravel, f),
-                empty_travel_share: of(Id::FleetEmptyTravel, f),
-                handling_share: of(Id::FleetHandling, f),
-                idle_share: of(Id::FleetIdle, f),
-                moves_per_h: of(Id::FleetMoves, f),
-                move_wait_s: of(Id::FleetMoveWait, f),
-                move_wait_assign_s: of(Id::FleetMoveWaitAssign, f),
-                move_wait_drive_s: of(Id::FleetMoveWaitDrive, f),
-                distance_loaded_m_per_h: of(Id::FleetDistanceLoaded, f),
-                distance_empty_m_per_h: of(Id::FleetDistanceEmpty, f),
-                handling_cost_per_h: of(Id::FleetHandlingCost, f),
-                utilization_lower_bound: lp.fleet_utilization_lower_bound[f],
-                blocked_share: features.staging.then(|| of(Id::FleetBlocked, f)),
-                availability: (fl.breakdowns.is_some() || fl.charging.is_some())
-                    .then(|| of(Id::FleetAvailability, f)),
-                utilization_scheduled: fl
-                    .operators
-                    .duty
-                    .as_ref()
-                    .map(|_| of(Id::FleetScheduledUtilization, f)),
-                congestion_share: features.aisles.then(|| of(Id::FleetCongestion, f)),
-            })
-            .collect(),
-        events: reps.iter().map(|r| r.events).sum(),
-        overflow_moves_per_h: features.overflow.then(|| of(Id::OverflowMoves, 0)),
-        turned_away_per_h: features.turn_away.then(|| of(Id::TurnedAway, 0)),
-        deadlock: deadlock_message(plant, reps),
-        congestion_delay_s_per_h: features.aisles.then(|| of(Id::CongestionDelay, 0)),
-        segments: segment_summaries(plant, reps),
+    acc.finish(spec, picture)
+}
+
+/// What a layout's summary needs from its replications, in memory that does
+/// not grow with their number: per reported metric a [`Moments`] (a running
+/// sum and at most [`super::estimate::CHUNK`] values), the pooled flow-time
+/// and move-wait histograms (merged as each replication comes), the events,
+/// and the first deadlock. Replications are added in replication order, so
+/// the summary does not depend on how many threads simulated them.
+#[derive(Debug, Clone)]
+pub struct LayoutAccumulator<'a> {
+    plant: &'a Plant,
+    /// Every (metric, subject) the summary reports.
+    slots: Vec<(Id, usize)>,
+    /// Position of each in `slots` and `moments`.
+    index: HashMap<(Id, usize), usize>,
+    moments: Vec<Moments>,
+    flow_hist: TickHistogram,
+    wait_hist: TickHistogram,
+    events: u64,
+    replications: u64,
+    /// The message of the first replication (in order) that deadlocked.
+    deadlock: Option<String>,
+}
+
+impl<'a> LayoutAccumulator<'a> {
+    /// An empty accumulator for `plant`'s metrics.
+    pub fn new(plant: &'a Plant) -> LayoutAccumulator<'a> {
+        let slots = slots(plant);
+        let index = slots.iter().enumerate().map(|(k, &s)| (s, k)).collect();
+        LayoutAccumulator {
+            plant,
+            moments: vec![Moments::new(); slots.len()],
+            slots,
+            index,
+            flow_hist: TickHistogram::new(TICK_S),
+            wait_hist: TickHistogram::new(TICK_S),
+            events: 0,
+            replications: 0,
+            deadlock: None,
+        }
+    }
+
+    /// Fold in the next replication (replication number = replications added so far).
+    pub fn add(&mut self, r: &RepStats) {
+        for (m, &(id, i)) in self.moments.iter_mut().zip(&self.slots) {
+            m.add(value(id, self.plant, r, i));
+        }
+        self.flow_hist.merge(&r.flow_hist);
+        self.wait_hist.merge(&r.move_wait_hist);
+        self.events += r.events;
+        if self.deadlock.is_none() {
+            self.deadlock = replication_deadlock(self.plant, r, self.replications);
+        }
+        self.replications += 1;
+    }
+
+    /// Replications folded in.
+    pub fn replications(&self) -> u64 {
+        self.replications
+    }
+
+    /// Events handled, every replication so far.
+    pub fn events(&self) -> u64 {
+        self.events
+    }
+
+    /// Why the first replication that deadlocked stopped, if one did.
+    pub fn deadlock(&self) -> Option<&str> {
+        self.deadlock.as_deref()
+    }
+
+    /// Values held in memory for the estimates, all metrics together: at most
+    /// [`super::estimate::CHUNK`] per metric, whatever the replications (the
+    /// regression test of memory bounded in replications reads this).
+    pub fn retained_values(&self) -> usize {
+        self.moments.iter().map(Moments::retained).sum()
+    }
+
+    /// Metrics (with their subjects) the summary estimates.
+    pub fn metric_count(&self) -> usize {
+        self.slots.len()
+    }
+
+    /// The estimate of metric `id` for subject `i`.
+    fn of(&self, id: Id, i: usize) -> Estimate {
+        let k = self.index.get(&(id, i)).expect("every metric the summary reports has a slot (see `slots`)");
+        self.moments[*k].estimate()
+    }
+
+    /// The summary of layout `spec.layout` from the replications folded in.
+    pub fn finish(&self, spec: &RunSpec, picture: &StaticPicture) -> LayoutSummary {
+        let plant = self.plant;
+        let of = |id: Id, i: usize| self.of(id, i);
+        let lp = &picture.layouts[spec.layout];
+        let features = Features::of(plant);
+        let throughput = of(Id::Throughput, 0);
+        let flow = with_hist(of(Id::FlowTime, 0), &self.flow_hist);
+        let wip = of(Id::Wip, 0);
+        let little_relative_gap = if wip.mean > 0.0 {
+            (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean
+        } else {
+            0.0
+        };
+        LayoutSummary {
+            layout: plant.layouts[spec.layout].name.clone(),
+            throughput_per_h: throughput,
+            flow_time_s: flow,
+            wip_mean: wip,
+            wip_in_transit_mean: of(Id::WipInTransit, 0),
+            move_wait_s: with_hist(of(Id::MoveWait, 0), &self.wait_hist),
+            move_wait_assign_s: of(Id::MoveWaitAssign, 0),
+            move_wait_drive_s: of(Id::MoveWaitDrive, 0),
+            distance_loaded_m_per_h: of(Id::DistanceLoaded, 0),
+            distance_empty_m_per_h: of(Id::DistanceEmpty, 0),
+            handling_cost_per_h: of(Id::HandlingCost, 0),
+            load_distance_static_m_per_h: lp.load_distance_m_per_h,
+            handling_cost_static_per_h: lp.handling_cost_per_h,
+            little_relative_gap,
+            products: plant
+                .products
+                .iter()
+                .enumerate()
+                .map(|(p, prod)| ProductSummary {
+                    product: prod.id.clone(),
+                    throughput_per_h: of(Id::ProductThroughput, p),
+                    flow_time_s: of(Id::ProductFlowTime, p),
+                })
+                .collect(),
+            departments: plant
+                .departments
+                .iter()
+                .enumerate()
+                .map(|(d, dep)| DepartmentSummary {
+                    department: dep.id.clone(),
+                    wip_mean: of(Id::DepartmentWip, d),
+                    utilization: of(Id::DepartmentUtilization, d),
+                    queue_mean: of(Id::DepartmentQueue, d),
+                    utilization_predicted: picture.utilization[d],
+                    blocked_share: features.staging.then(|| of(Id::DepartmentBlocked, d)),
+                    availability: dep.breakdowns.as_ref().map(|_| of(Id::DepartmentAvailability, d)),
+                    availability_predicted: dep.breakdowns.as_ref().map(|b| b.availability()),
+                    utilization_scheduled: dep
+                        .calendar
+                        .as_ref()
+                        .map(|_| of(Id::DepartmentScheduledUtilization, d)),
+                    scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
+                    setup_share: dep.setups.as_ref().map(|_| of(Id::DepartmentSetup, d)),
+                    setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
+                })
+                .collect(),
+            fleets: plant
+                .fleets()
+                .iter()
+                .enumerate()
+                .map(|(f, fl)| FleetSummary {
+                    fleet: fl.id.clone(),
+                    movers: fl.count,
+                    utilization: of(Id::FleetUtilization, f),
+                    loaded_travel_share: of(Id::FleetLoadedTravel, f),
+                    empty_travel_share: of(Id::FleetEmptyTravel, f),
+                    handling_share: of(Id::FleetHandling, f),
+                    idle_share: of(Id::FleetIdle, f),
+                    moves_per_h: of(Id::FleetMoves, f),
+                    move_wait_s: of(Id::FleetMoveWait, f),
+                    move_wait_assign_s: of(Id::FleetMoveWaitAssign, f),
+                    move_wait_drive_s: of(Id::FleetMoveWaitDrive, f),
+                    distance_loaded_m_per_h: of(Id::FleetDistanceLoaded, f),
+                    distance_empty_m_per_h: of(Id::FleetDistanceEmpty, f),
+                    handling_cost_per_h: of(Id::FleetHandlingCost, f),
+                    utilization_lower_bound: lp.fleet_utilization_lower_bound[f],
+                    blocked_share: features.staging.then(|| of(Id::FleetBlocked, f)),
+                    availability: (fl.breakdowns.is_some() || fl.charging.is_some())
+                        .then(|| of(Id::FleetAvailability, f)),
+                    utilization_scheduled: fl
+                        .operators
+                        .duty
+                        .as_ref()
+                        .map(|_| of(Id::FleetScheduledUtilization, f)),
+                    congestion_share: features.aisles.then(|| of(Id::FleetCongestion, f)),
+                })
+                .collect(),
+            events: self.events,
+            overflow_moves_per_h: features.overflow.then(|| of(Id::OverflowMoves, 0)),
+            turned_away_per_h: features.turn_away.then(|| of(Id::TurnedAway, 0)),
+            deadlock: self.deadlock.clone(),
+            congestion_delay_s_per_h: features.aisles.then(|| of(Id::CongestionDelay, 0)),
+            segments: self.segment_summaries(),
+        }
+    }
+
+    /// Per-segment traffic, occupancy and congestion; `None` unless the network is simulated.
+    fn segment_summaries(&self) -> Option<Vec<SegmentSummary>> {
+        let net = self.plant.aisles.as_ref().filter(|n| n.needs_simulation())?;
+        Some(
+            net.segments
+                .iter()
+                .enumerate()
+                .map(|(s, g)| SegmentSummary {
+                    segment: s,
+                    from: net.nodes[g.from].id.clone(),
+                    to: net.nodes[g.to].id.clone(),
+                    traversals_per_h: self.of(Id::SegmentTraversals, s),
+                    occupancy_mean: self.of(Id::SegmentOccupancy, s),
+                    congestion_delay_s_per_h: self.of(Id::SegmentCongestionDelay, s),
+                    congestion_delay_per_traversal_s: self.of(Id::SegmentDelayPerTraversal, s),
+                })
+                .collect(),
+        )
     }
 }
 
-/// Per-segment traffic, occupancy and congestion; `None` unless the network is simulated.
-fn segment_summaries(plant: &Plant, reps: &[RepStats]) -> Option<Vec<SegmentSummary>> {
-    let net = plant.aisles.as_ref().filter(|n| n.needs_simulation())?;
-    let of = |id: Id, s: usize| est(reps.iter().map(move |r| value(id, plant, r, s)));
-    Some(
-        net.segments
-            .iter()
-            .enumerate()
-            .map(|(s, g)| SegmentSummary {
-                segment: s,
-                from: net.nodes[g.from].id.clone(),
-                to: net.nodes[g.to].id.clone(),
-                traversals_per_h: of(Id::SegmentTraversals, s),
-                occupancy_mean: of(Id::SegmentOccupancy, s),
-                congestion_delay_s_per_h: of(Id::SegmentCongestionDelay, s),
-                congestion_delay_per_traversal_s: of(Id::SegmentDelayPerTraversal, s),
-            })
-            .collect(),
-    )
+/// Every (metric, subject) a [`LayoutSummary`] of `plant` reports, under the
+/// same conditions as [`LayoutAccumulator::finish`] reads them.
+fn slots(plant: &Plant) -> Vec<(Id, usize)> {
+    let features = Features::of(plant);
+    let mut out: Vec<(Id, usize)> = [
+        Id::Throughput,
+        Id::FlowTime,
+        Id::Wip,
+        Id::WipInTransit,
+        Id::MoveWait,
+        Id::MoveWaitAssign,
+        Id::MoveWaitDrive,
+        Id::DistanceLoaded,
+        Id::DistanceEmpty,
+        Id::HandlingCost,
+    ]
+    .into_iter()
+    .map(|id| (id, 0))
+    .collect();
+    let plant_extra = [
+        (features.overflow, Id::OverflowMoves),
+        (features.turn_away, Id::TurnedAway),
+        (features.aisles, Id::CongestionDelay),
+    ];
+    out.extend(plant_extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, 0)));
+    for p in 0..plant.products.len() {
+        out.extend([(Id::ProductThroughput, p), (Id::ProductFlowTime, p)]);
+    }
+    for (d, dep) in plant.departments.iter().enumerate() {
+        out.extend([(Id::DepartmentWip, d), (Id::DepartmentUtilization, d), (Id::DepartmentQueue, d)]);
+        let extra = [
+            (features.staging, Id::DepartmentBlocked),
+            (dep.breakdowns.is_some(), Id::DepartmentAvailability),
+            (dep.calendar.is_some(), Id::DepartmentScheduledUtilization),
+            (dep.setups.is_some(), Id::DepartmentSetup),
+        ];
+        out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, d)));
+    }
+    for (f, fl) in plant.fleets().iter().enumerate() {
+        out.extend(
+            [
+                Id::FleetUtilization,
+                Id::FleetLoadedTravel,
+                Id::FleetEmptyTravel,
+                Id::FleetHandling,
+                Id::FleetIdle,
+                Id::FleetMoves,
+                Id::FleetMoveWait,
+                Id::FleetMoveWaitAssign,
+                Id::FleetMoveWaitDrive,
+                Id::FleetDistanceLoaded,
+                Id::FleetDistanceEmpty,
+                Id::FleetHandlingCost,
+            ]
+            .into_iter()
+            .map(|id| (id, f)),
+        );
+        let extra = [
+            (features.staging, Id::FleetBlocked),
+            (fl.breakdowns.is_some() || fl.charging.is_some(), Id::FleetAvailability),
+            (fl.operators.duty.is_some(), Id::FleetScheduledUtilization),
+            (features.aisles, Id::FleetCongestion),
+        ];
+        out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, f)));
+    }
+    if let Some(net) = plant.aisles.as_ref().filter(|n| n.needs_simulation()) {
+        for s in 0..net.segments.len() {
+            out.extend([
+                (Id::SegmentTraversals, s),
+                (Id::SegmentOccupancy, s),
+                (Id::SegmentCongestionDelay, s),
+                (Id::SegmentDelayPerTraversal, s),
+            ]);
+        }
+    }
+    out
 }

@@ -50,7 +50,7 @@ impl PlantProblem {
         let m = plant.locations.len();
         let rules = &plant.search;
         let per_load_metre = plant.cost_per_load_metre;
-        let mut spec = Spec::new(n, m, picture.from_to.clone(), plant.distance.clone());
+        let mut spec = Spec::new(n, m, picture.from_to.dense(), plant.distance.clone());
         if !rules.floor_costs.is_empty() {
             if per_load_metre <= 0.0 {
                 return Err(

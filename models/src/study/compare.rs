@@ -14,14 +14,13 @@ use crate::analysis::StaticPicture;
 use crate::metrics::estimate::CONFIDENCE;
 use crate::metrics::list::{values_mean, Metric};
 use crate::metrics::registry::{Better, Scope};
-use crate::metrics::summary::{summarize, LayoutSummary};
+use crate::metrics::summary::{LayoutAccumulator, LayoutSummary};
 use crate::plant::Plant;
 use crate::sim::{Plan, RepStats, RunSpec};
 use crate::text::num;
 
-use super::deadlock::deadlock_message;
 use super::progress::{Progress, StudyError};
-use super::replicate::replicate;
+use super::replicate::replicate_fold;
 use super::select::{self, Selection};
 use super::warmup::WarmupChoice;
 
@@ -161,26 +160,42 @@ pub fn run(req: &Request, progress: &dyn Progress) -> Result<Vec<Level>, StudyEr
         let (horizon_s, warmup_s, seed) = (req.horizon_s, req.warmup_s, req.seed);
         let spec = |l: usize| RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
         let plans: Vec<Plan> = which.iter().map(|&l| Plan::new(plant, l)).collect();
-        let (reps, chosen): (Vec<Vec<RepStats>>, Option<Selection>) = match req.selection {
+        // Each layout keeps its summary's moments and each replication's
+        // listed values (the paired differences and the CSV need them); the
+        // replications themselves are dropped as they are folded.
+        let mut kept: Vec<Kept> = which.iter().map(|_| Kept::new(plant)).collect();
+        let chosen = match req.selection {
             Some(sel) => {
-                let (reps, s) =
-                    select::run(plant, which, &plans, &spec, req.ranked_on, sel, factor, progress)?;
-                (reps, Some(s))
+                let mut fold = |li: usize, r: &RepStats| kept[li].add(plant, req.metrics, r);
+                Some(select::run(
+                    plant,
+                    which,
+                    &plans,
+                    &spec,
+                    req.ranked_on,
+                    sel,
+                    factor,
+                    progress,
+                    &mut fold,
+                )?)
             }
             None => {
-                let reps = which
-                    .iter()
-                    .zip(&plans)
-                    .map(|(&l, plan)| {
-                        progress.stage(format!("layout {}, demand ×{}", plant.layouts[l].name, num(factor)));
-                        replicate(plan, &spec(l), req.replications, |r| progress.done(r))
-                    })
-                    .collect();
-                (reps, None)
+                for ((&l, plan), k) in which.iter().zip(&plans).zip(&mut kept) {
+                    progress.stage(format!("layout {}, demand ×{}", plant.layouts[l].name, num(factor)));
+                    let range = 0..u64::from(req.replications);
+                    replicate_fold(
+                        plan,
+                        &spec(l),
+                        range,
+                        |r| progress.done(r),
+                        |_, r| k.add(plant, req.metrics, &r),
+                    );
+                }
+                None
             }
         };
-        for (&l, r) in which.iter().zip(&reps) {
-            if let Some(why) = deadlock_message(plant, r) {
+        for (&l, k) in which.iter().zip(&kept) {
+            if let Some(why) = k.acc.deadlock() {
                 return Err(StudyError::Run(format!("layout {}: {why}", plant.layouts[l].name)));
             }
         }
@@ -191,7 +206,7 @@ pub fn run(req: &Request, progress: &dyn Progress) -> Result<Vec<Level>, StudyEr
             &pic,
             factor,
             &spec,
-            reps,
+            kept,
             chosen,
             req.metrics,
             req.ranked_on,
@@ -209,15 +224,14 @@ pub fn level(
     pic: &StaticPicture,
     factor: f64,
     spec: &(dyn Fn(usize) -> RunSpec + Sync),
-    reps: Vec<Vec<RepStats>>,
+    kept: Vec<Kept>,
     selection: Option<Selection>,
     metric_list: &[Metric],
     ranked_on: usize,
 ) -> Level {
-    let values: Vec<Vec<Vec<f64>>> = reps
-        .iter()
-        .map(|rs| rs.iter().map(|r| metric_list.iter().map(|m| m.value(plant, r)).collect()).collect())
-        .collect();
+    let summaries: Vec<LayoutSummary> =
+        which.iter().zip(&kept).map(|(&l, k)| k.acc.finish(&spec(l), pic)).collect();
+    let values: Vec<Vec<Vec<f64>>> = kept.into_iter().map(|k| k.values).collect();
     let column = |li: usize, m: usize| -> Vec<f64> { values[li].iter().map(|v| v[m]).collect() };
     let mut differences = Vec::new();
     for (li, &l) in which.iter().enumerate() {
@@ -238,8 +252,6 @@ pub fn level(
             });
         }
     }
-    let summaries: Vec<LayoutSummary> =
-        which.iter().zip(&reps).map(|(&l, rs)| summarize(plant, &spec(l), pic, rs)).collect();
     let static_ld: Vec<f64> = summaries.iter().map(|s| s.load_distance_static_m_per_h).collect();
     let sim_mean: Vec<f64> =
         (0..which.len()).map(|li| values_mean(&values[li], ranked_on).unwrap_or(f64::NAN)).collect();
@@ -264,6 +276,30 @@ pub fn level(
         ranking,
         selection,
         values,
+    }
+}
+
+/// What a comparison keeps of one layout's replications: its summary's
+/// accumulator (constant memory) and each replication's listed metric values
+/// (8 bytes per metric per replication), for the paired differences, the
+/// ranking and `replications.csv`.
+pub struct Kept<'a> {
+    /// The layout's summary so far.
+    pub acc: LayoutAccumulator<'a>,
+    /// `values[replication][metric]`, in the order of the listed metrics.
+    pub values: Vec<Vec<f64>>,
+}
+
+impl<'a> Kept<'a> {
+    /// Nothing kept yet.
+    pub fn new(plant: &'a Plant) -> Kept<'a> {
+        Kept { acc: LayoutAccumulator::new(plant), values: Vec::new() }
+    }
+
+    /// Fold in the layout's next replication.
+    pub fn add(&mut self, plant: &Plant, metric_list: &[Metric], r: &RepStats) {
+        self.acc.add(r);
+        self.values.push(metric_list.iter().map(|m| m.value(plant, r)).collect());
     }
 }
 

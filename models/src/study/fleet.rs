@@ -3,12 +3,14 @@
 //! Every number of a size comes from the metric registry, so a size's
 //! utilisation is the number `run` prints for that fleet at that size.
 
+use std::collections::BTreeMap;
+
 use crate::limits;
 use serde::ser::SerializeMap as _;
 use serde::Serialize;
 
 use crate::analysis::StaticPicture;
-use crate::metrics::estimate::{est_with_se, Estimate};
+use crate::metrics::estimate::{est_with_se, Estimate, Moments};
 use crate::metrics::list::{every_metric, Metric};
 use crate::metrics::registry::Scope;
 use crate::plant::{Handling, Plant};
@@ -17,9 +19,9 @@ use crate::sizing::{fleet_estimate, EmptyRule, FleetEstimate};
 use crate::suggest::did_you_mean;
 
 use super::compare::paired;
-use super::deadlock::deadlock_message;
+use super::deadlock::replication_deadlock;
 use super::progress::{Progress, StudyError};
-use super::replicate::replicate;
+use super::replicate::replicate_fold;
 use super::targets::{judge, Target, Verdict};
 
 /// Plant metrics every size reports beside the fleet's own.
@@ -234,17 +236,29 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyErr
         let p = sized(s.plant, s.fleet, n);
         progress.stage(format!("{id} × {n}"));
         let plan = Plan::new(&p, s.spec.layout);
-        let reps = replicate(&plan, &s.spec, s.replications, |r| progress.done(r));
-        if let Some(why) = deadlock_message(&p, &reps) {
+        let list = every_metric(&p);
+        let mut kept = SizeKept::new(s, &list);
+        replicate_fold(
+            &plan,
+            &s.spec,
+            0..u64::from(s.replications),
+            |r| progress.done(r),
+            |_, r| kept.add(&p, &list, s.targets, &r),
+        );
+        if let Some(why) = &kept.deadlock {
             return Err(StudyError::Run(format!("with {n} movers in {id}: {why}")));
         }
-        events += reps.iter().map(|r| r.events).sum::<u64>();
-        results.push(size_result(&p, s, n, &reps));
-        let list = every_metric(&p);
+        events += kept.events;
+        results.push(size_result(s, n, &list, &kept));
         before_last = std::mem::take(&mut last);
-        last = s.targets.iter().map(|t| reps.iter().map(|r| list[t.metric].value(&p, r)).collect()).collect();
         floors_before = std::mem::take(&mut floors);
-        floors = s.targets.iter().map(|t| floor_of(&p, &list, &list[t.metric], &reps)).collect();
+        floors = s
+            .targets
+            .iter()
+            .zip(kept.floor_values)
+            .map(|(t, v)| floor_of(&list, &list[t.metric], v))
+            .collect();
+        last = kept.target_values;
     }
     let advice = advise(s, &results, &before_last, &last, &floors, &floors_before);
     Ok(SweepResult { sizes: results, advice, events })
@@ -265,14 +279,77 @@ pub fn floor_metric(name: &str) -> Option<&'static str> {
     })
 }
 
-/// The floor of target metric `m` at this size: (floor metric's label, its
-/// estimate), when `m` is a wait with a drive part of the same subject.
-fn floor_of(plant: &Plant, list: &[Metric], m: &Metric, reps: &[RepStats]) -> Option<Floor> {
+/// The position in `list` of the floor metric of target metric `m`: its
+/// drive part of the same subject, when `m` is a wait.
+fn floor_index(list: &[Metric], m: &Metric) -> Option<usize> {
     let name = floor_metric(m.name)?;
-    let f = list.iter().find(|x| x.scope == m.scope && x.subject == m.subject && x.name == name)?;
-    let values: Vec<f64> = reps.iter().map(|r| f.value(plant, r)).collect();
+    list.iter().position(|x| x.scope == m.scope && x.subject == m.subject && x.name == name)
+}
+
+/// The floor of target metric `m` at this size: (floor metric's label, its
+/// estimate), from the floor metric's value in each replication (empty when
+/// `m` has no floor).
+fn floor_of(list: &[Metric], m: &Metric, values: Vec<f64>) -> Option<Floor> {
+    let f = &list[floor_index(list, m)?];
     let (e, _) = est_with_se(values.iter().copied());
     e.mean.is_finite().then(|| Floor { metric: f.label(), estimate: e, values })
+}
+
+/// What a sweep keeps of one size's replications, in replication order: the
+/// moments of the metrics it reports and judges (constant memory), and each
+/// replication's value of the target metrics and their floors (8 bytes a
+/// replication each) for the paired step between sizes.
+struct SizeKept {
+    /// Metrics with moments: the fleet's and [`PLANT_METRICS`], and every target's.
+    moments: BTreeMap<usize, Moments>,
+    /// Per target, its metric's value in each replication.
+    target_values: Vec<Vec<f64>>,
+    /// Per target, its floor metric's value in each replication (empty without a floor).
+    floor_values: Vec<Vec<f64>>,
+    /// The targets' floor metrics, by position in the list.
+    floor_ix: Vec<Option<usize>>,
+    events: u64,
+    replications: u64,
+    /// The message of the first replication that deadlocked.
+    deadlock: Option<String>,
+}
+
+impl SizeKept {
+    fn new(s: &Sweep, list: &[Metric]) -> SizeKept {
+        let mut moments: BTreeMap<usize, Moments> =
+            shown(s, list).map(|(k, _)| (k, Moments::new())).collect();
+        for t in s.targets {
+            moments.entry(t.metric).or_default();
+        }
+        SizeKept {
+            moments,
+            target_values: vec![Vec::new(); s.targets.len()],
+            floor_values: vec![Vec::new(); s.targets.len()],
+            floor_ix: s.targets.iter().map(|t| floor_index(list, &list[t.metric])).collect(),
+            events: 0,
+            replications: 0,
+            deadlock: None,
+        }
+    }
+
+    fn add(&mut self, plant: &Plant, list: &[Metric], targets: &[Target], r: &RepStats) {
+        for (&k, m) in &mut self.moments {
+            m.add(list[k].value(plant, r));
+        }
+        for (v, t) in self.target_values.iter_mut().zip(targets) {
+            v.push(list[t.metric].value(plant, r));
+        }
+        for (v, f) in self.floor_values.iter_mut().zip(&self.floor_ix) {
+            if let Some(f) = f {
+                v.push(list[*f].value(plant, r));
+            }
+        }
+        self.events += r.events;
+        if self.deadlock.is_none() {
+            self.deadlock = replication_deadlock(plant, r, self.replications);
+        }
+        self.replications += 1;
+    }
 }
 
 /// A floor under a wait: the drive part at the largest size.
@@ -574,19 +651,23 @@ fn analytic_check(s: &Sweep, results: &[SizeResult]) -> AnalyticCheck {
     }
 }
 
-fn size_result(plant: &Plant, s: &Sweep, n: u32, reps: &[RepStats]) -> SizeResult {
-    let list = every_metric(plant);
-    let estimate = |m: &Metric| est_with_se(reps.iter().map(|r| m.value(plant, r)));
-    let shown = list.iter().filter(|m| {
-        (m.scope == Scope::Fleet && m.index == s.fleet)
+/// The metrics a size reports, with their positions in `list`: the fleet's own and [`PLANT_METRICS`].
+fn shown<'l>(s: &Sweep, list: &'l [Metric]) -> impl Iterator<Item = (usize, &'l Metric)> {
+    let fleet = s.fleet;
+    list.iter().enumerate().filter(move |(_, m)| {
+        (m.scope == Scope::Fleet && m.index == fleet)
             || (m.scope == Scope::Plant && PLANT_METRICS.contains(&m.name))
-    });
-    let metrics = Named(shown.map(|m| (m.name, estimate(m).0)).collect());
+    })
+}
+
+fn size_result(s: &Sweep, n: u32, list: &[Metric], kept: &SizeKept) -> SizeResult {
+    let estimate = |k: usize| kept.moments[&k].estimate_with_se();
+    let metrics = Named(shown(s, list).map(|(k, m)| (m.name, estimate(k).0)).collect());
     let verdicts: Vec<Verdict> = s
         .targets
         .iter()
         .map(|t| {
-            let (e, se) = estimate(&list[t.metric]);
+            let (e, se) = estimate(t.metric);
             judge(t, &e, se)
         })
         .collect();

@@ -15,6 +15,6 @@ pub mod targets;
 pub mod warmup;
 
 pub use deadlock::{deadlock_message, replication_deadlock};
-pub use overload::cap_note;
+pub use overload::CapTally;
 pub use progress::{Progress, Silent, StudyError};
-pub use replicate::{replicate, replicate_range};
+pub use replicate::{replicate, replicate_fold, replicate_range};

@@ -71,23 +71,46 @@ pub fn overload_message(plant: &Plant, o: &Overload, rep: &RepStats, replication
     )
 }
 
-/// With `--allow-overload`: the loud note for replications whose WIP cap
-/// turned lots away, `None` when the cap was never reached.
-pub fn cap_note(reps: &[RepStats]) -> Option<String> {
-    let capped: u64 = reps.iter().map(|r| r.capped).sum();
-    if capped == 0 {
-        return None;
+/// With `--allow-overload`: what the WIP cap did over a layout's
+/// replications, kept in constant memory (replications stream past it).
+#[derive(Debug, Default, Clone)]
+pub struct CapTally {
+    replications: usize,
+    capped: u64,
+    hit: usize,
+    limit: f64,
+    turned: u64,
+    shipped: u64,
+}
+
+impl CapTally {
+    /// Count one replication.
+    pub fn add(&mut self, r: &RepStats) {
+        self.replications += 1;
+        self.capped += r.capped;
+        self.hit += usize::from(r.capped > 0);
+        self.limit = self.limit.max(r.wip_limit);
+        self.turned += r.turned_away.iter().sum::<u64>();
+        self.shipped += r.shipped.iter().sum::<u64>();
     }
-    let hit = reps.iter().filter(|r| r.capped > 0).count();
-    let limit = reps.iter().map(|r| r.wip_limit).fold(0.0, f64::max);
-    let turned: u64 = reps.iter().flat_map(|r| r.turned_away.iter()).sum();
-    let shipped: u64 = reps.iter().flat_map(|r| r.shipped.iter()).sum();
-    Some(format!(
-        "OVERLOADED (--allow-overload): the WIP cap of {} lots turned away {capped} arriving lots in the \
-         observation window ({hit} of {} replications reached it; {shipped} lots shipped, {turned} turned away in \
-         all). Every number below describes a plant that turns work away at the dock: throughput is what the cap \
-         let in, and flow times and WIP are those of a plant held at the cap, not of the plant at this demand",
-        num(limit),
-        reps.len()
-    ))
+
+    /// The loud note for replications whose WIP cap turned lots away,
+    /// `None` when the cap was never reached.
+    pub fn note(&self) -> Option<String> {
+        if self.capped == 0 {
+            return None;
+        }
+        Some(format!(
+            "OVERLOADED (--allow-overload): the WIP cap of {} lots turned away {} arriving lots in the \
+             observation window ({} of {} replications reached it; {} lots shipped, {} turned away in \
+             all). Every number below describes a plant that turns work away at the dock: throughput is what the cap \
+             let in, and flow times and WIP are those of a plant held at the cap, not of the plant at this demand",
+            num(self.limit),
+            self.capped,
+            self.hit,
+            self.replications,
+            self.shipped,
+            self.turned
+        ))
+    }
 }

@@ -146,8 +146,11 @@ pub struct SelectedLayout {
     pub eliminated_after: Option<usize>,
 }
 
-/// Run the procedure on layouts `which` (their `plans`), returning each
-/// layout's replications (as many as the procedure used) and the outcome.
+/// Run the procedure on layouts `which` (their `plans`), handing `fold` each
+/// replication the procedure used, as (position in `which`, results), in
+/// replication order for each layout, and returning the outcome. Layout `i`
+/// gets replications 0..`observations(i)`; those simulated ahead in a block
+/// but never fed (the procedure stopped first) are dropped unseen.
 #[allow(clippy::too_many_arguments)]
 pub fn run(
     plant: &Plant,
@@ -158,13 +161,16 @@ pub fn run(
     s: &Settings,
     demand_factor: f64,
     progress: &dyn Progress,
-) -> Result<(Vec<Vec<RepStats>>, Selection), StudyError> {
+    fold: &mut dyn FnMut(usize, &RepStats),
+) -> Result<Selection, StudyError> {
     let k = which.len();
     let mut kn = KimNelson::new(k, s.n0, s.confidence, s.delta, s.goal)
         .map_err(|e| StudyError::Input(format!("--select: {e}")))?;
     let list = metrics(plant);
     let label = list[metric].label();
-    let mut reps: Vec<Vec<RepStats>> = (0..k).map(|_| Vec::new()).collect();
+    // Each layout's value of the selection metric in every replication fed
+    // (8 bytes a replication): the identical-results check reads them.
+    let mut seen: Vec<Vec<f64>> = (0..k).map(|_| Vec::new()).collect();
     // Stages simulated per block after the first: enough to keep every core busy.
     let block = (2 * rayon::current_num_threads()).max(4);
     let mut stage = 0usize;
@@ -186,15 +192,19 @@ pub fn run(
                 st
             })
             .collect();
+        // This block's results: block[i][r − first stage of the block].
+        let first = stage;
+        let mut block: Vec<Vec<RepStats>> = (0..k).map(|_| Vec::new()).collect();
         for ((i, _), st) in jobs.iter().zip(done) {
-            reps[*i].push(st);
+            block[*i].push(st);
         }
         let mut values = vec![f64::NAN; k];
         while stage < upto && !kn.is_done() {
             let r = stage;
             values.fill(f64::NAN);
             for &i in kn.survivors() {
-                let v = list[metric].value(plant, &reps[i][r]);
+                let rep = &block[i][r - first];
+                let v = list[metric].value(plant, rep);
                 if !v.is_finite() {
                     return Err(StudyError::Run(format!(
                         "--select: replication {r} of layout {} observed no {label} (no lot shipped in the \
@@ -204,20 +214,18 @@ pub fn run(
                 }
                 values[i] = v;
             }
+            // The survivors of this stage are the layouts it observes.
+            for &i in kn.survivors() {
+                fold(i, &block[i][r - first]);
+                seen[i].push(values[i]);
+            }
             kn.observe(&values).map_err(|e| StudyError::Run(format!("--select: {e}")))?;
             stage += 1;
         }
         let alive = kn.survivors();
         identical = stage >= s.n0
             && alive.len() > 1
-            && (0..stage).all(|r| {
-                let v = |i: usize| list[metric].value(plant, &reps[i][r]);
-                alive.iter().all(|&i| v(i) == v(alive[0]))
-            });
-    }
-    // Keep only the replications the procedure used.
-    for (i, r) in reps.iter_mut().enumerate() {
-        r.truncate(kn.observations(i));
+            && (0..stage).all(|r| alive.iter().all(|&i| seen[i][r] == seen[alive[0]][r]));
     }
     let name = |i: usize| plant.layouts[which[i]].name.clone();
     let m = &list[metric];
@@ -250,7 +258,7 @@ pub fn run(
         identical,
         statement,
     };
-    Ok((reps, selection))
+    Ok(selection)
 }
 
 /// An amount of metric `m` in its unit, e.g. `5 min`.
