@@ -11,6 +11,7 @@ mod commands;
 mod failure;
 mod render;
 mod settings;
+mod signals;
 
 use std::process::ExitCode;
 
@@ -34,7 +35,7 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
                   layflow search scenarios/demo.yaml --out found.yaml --validate\n  \
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
                   layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
-                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed, 130 stopped by Ctrl-C."
+                  Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed, 130 stopped by Ctrl-C or SIGTERM."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -99,6 +100,7 @@ fn quiet_on_broken_pipe() {
 
 fn main() -> ExitCode {
     quiet_on_broken_pipe();
+    signals::install();
     let cli = Cli::parse();
     render::table::set_wide(cli.wide);
     render::table::set_verbose(cli.verbose);

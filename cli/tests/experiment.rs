@@ -169,8 +169,9 @@ fn a_torn_last_line_is_dropped_and_rerun() {
     );
 }
 
-#[test]
-fn ctrl_c_stops_cleanly_and_resume_finishes() {
+/// Send `signal` to an experiment once it has saved a few units; it must stop with 130 and a
+/// resume hint, and `--resume` must finish to the bytes of an uninterrupted run.
+fn signal_stops_cleanly_and_resume_finishes(signal: &str) {
     let t = tempfile::tempdir().unwrap();
     let plan = plan(t.path(), 15, "20 d");
     let whole = t.path().join("whole");
@@ -184,7 +185,7 @@ fn ctrl_c_stops_cleanly_and_resume_finishes() {
         .spawn()
         .unwrap();
     wait_for_lines(&stopped.join("units.jsonl"), 4, Duration::from_secs(60));
-    let ok = Command::new("kill").args(["-INT", &child.id().to_string()]).status().unwrap();
+    let ok = Command::new("kill").args([signal, &child.id().to_string()]).status().unwrap();
     assert!(ok.success());
     let out = child.wait_with_output().unwrap();
     let err = text(&out.stderr);
@@ -194,12 +195,69 @@ fn ctrl_c_stops_cleanly_and_resume_finishes() {
         return;
     }
     assert_eq!(out.status.code(), Some(130), "{err}");
-    assert!(err.contains("--resume"), "{err}");
+    assert!(err.contains("--resume") && err.contains("Ctrl-C or SIGTERM"), "{err}");
     // Every line on disk is a whole unit: nothing torn by a clean stop.
     let bytes = std::fs::read(stopped.join("units.jsonl")).unwrap();
     assert_eq!(bytes.last(), Some(&b'\n'));
     run(&["experiment", s(&plan), "--out", s(&stopped), "--resume", "--quiet"]);
     same_outputs(&whole, &stopped);
+}
+
+#[test]
+fn ctrl_c_stops_cleanly_and_resume_finishes() {
+    signal_stops_cleanly_and_resume_finishes("-INT");
+}
+
+/// A batch scheduler's warning before it kills a job (time limit, preemption).
+#[test]
+fn sigterm_stops_cleanly_and_resume_finishes() {
+    signal_stops_cleanly_and_resume_finishes("-TERM");
+}
+
+/// Wait until process `pid` catches SIGTERM (Linux: bit 15 of `SigCgt` in
+/// /proc/PID/status), so the signal meets the handler, not the default action.
+fn wait_for_handler(pid: u32) {
+    let start = Instant::now();
+    while start.elapsed() < Duration::from_secs(60) {
+        let status = std::fs::read_to_string(format!("/proc/{pid}/status")).unwrap_or_default();
+        let caught = status
+            .lines()
+            .find_map(|l| l.strip_prefix("SigCgt:"))
+            .and_then(|m| u64::from_str_radix(m.trim(), 16).ok())
+            .unwrap_or(0);
+        if caught & (1 << (15 - 1)) != 0 {
+            return;
+        }
+        std::thread::sleep(Duration::from_millis(2));
+    }
+}
+
+/// `run` keeps nothing durable: SIGTERM ends it at once with one line and exit 130.
+#[test]
+fn sigterm_stops_a_run_with_one_line() {
+    let child = Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args([
+            "run",
+            "scenarios/demo.yaml",
+            "--replications",
+            "100000",
+            "--horizon",
+            "200 d",
+            "--threads",
+            "1",
+        ])
+        .current_dir(root())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    wait_for_handler(child.id());
+    let ok = Command::new("kill").args(["-TERM", &child.id().to_string()]).status().unwrap();
+    assert!(ok.success());
+    let out = child.wait_with_output().unwrap();
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(130), "{err}");
+    assert!(err.contains("stopped by Ctrl-C or SIGTERM"), "{err}");
 }
 
 #[test]

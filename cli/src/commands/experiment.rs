@@ -1,7 +1,7 @@
 //! `layflow experiment`, `merge` and `summarize`: run a plan's units durably (resumable, shardable), combine shards exactly, and report.
 
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::Ordering;
 use std::sync::{Arc, Mutex};
 
 use clap::{Args, ValueEnum};
@@ -96,9 +96,6 @@ pub struct SummarizeArgs {
     pub format: SummaryFormat,
 }
 
-/// Set by Ctrl-C: start no new unit.
-static STOP: AtomicBool = AtomicBool::new(false);
-
 /// Read a folder's units through the results module, reporting a torn tail on stderr.
 fn read_journal(dir: &Path) -> Result<Contents, Failure> {
     let c = folder::read(dir)?;
@@ -161,17 +158,8 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         mine.len() - pending.len(),
         pending.len()
     );
-    // Ctrl-C stops new units; a second Ctrl-C would wait for the running ones too,
-    // so it is left to the default handler only if the first could not be installed.
-    if !pending.is_empty() {
-        let _ = ctrlc::set_handler(|| {
-            if STOP.swap(true, Ordering::SeqCst) {
-                eprintln!("\nstill finishing the running units; they will be saved");
-            } else {
-                eprintln!("\nCtrl-C: finishing the running units, then stopping");
-            }
-        });
-    }
+    // Ctrl-C or SIGTERM (a scheduler's warning) from here on stops new units; running ones finish and are saved.
+    crate::signals::finish_units_on_stop();
     let plans: Vec<Plan> = plan.setups.iter().map(|s| Plan::new(&s.plant, s.spec.layout)).collect();
     let progress = Progress::with_noun(mine.len() as u64, args.quiet, "units");
     progress.advance(mine.len() as u64 - pending.len() as u64);
@@ -179,7 +167,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     let remaining = Arc::new(point_counts(&plan, &mine, &is_done));
     pool.install(|| {
         pending.par_iter().for_each(|&u| {
-            if STOP.load(Ordering::SeqCst) {
+            if crate::signals::stopping() {
                 return;
             }
             let (p, r) = plan.unit(u);
@@ -198,12 +186,12 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
                     .map(|(f, l)| format!("{}={l}", f.name))
                     .collect();
                 st.error = Some(format!("design point {} ({}): {why}", p + 1, levels.join(", ")));
-                STOP.store(true, Ordering::SeqCst);
+                crate::signals::request_stop();
                 return;
             }
             if let Err(e) = st.writer.write(&unit) {
                 st.error = Some(format!("cannot write {}: {e}", st.writer.path().display()));
-                STOP.store(true, Ordering::SeqCst);
+                crate::signals::request_stop();
                 return;
             }
             st.units.push(unit);
@@ -224,7 +212,8 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     let finished = st.units.len();
     if finished < mine.len() {
         return Err(Failure::interrupted(format!(
-            "stopped: {finished} of {} units done and saved in {}; run the same command with --resume to finish",
+            "stopped by Ctrl-C or SIGTERM: {finished} of {} units done and saved in {}; run the same command with \
+             --resume to finish",
             mine.len(),
             path.display()
         )));
