@@ -169,6 +169,68 @@ fn a_torn_last_line_is_dropped_and_rerun() {
     );
 }
 
+/// One changed digit or base64 character in a unit line is refused, with the
+/// file and line, by `summarize`, `--resume` and `merge`: never read as a result.
+#[test]
+fn a_changed_digit_or_base64_character_is_refused() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 2, "3 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let full = std::fs::read_to_string(whole.join("units.jsonl")).unwrap();
+    let lines: Vec<&str> = full.lines().collect();
+    assert!(lines[1].contains("\"sum\":\""), "every unit line has its checksum: {}", lines[1]);
+    // Line 3 (the second unit): the first digit of its `events`, then a character inside a histogram.
+    let digit = |l: &str| {
+        let at = l.find("\"events\":").unwrap() + "\"events\":".len();
+        let d = l.as_bytes()[at];
+        let swapped = if d == b'9' { '8' } else { (d + 1) as char };
+        format!("{}{swapped}{}", &l[..at], &l[at + 1..])
+    };
+    let base64 = |l: &str| {
+        let at = l.find("\"flow_time_hist\":\"").unwrap() + "\"flow_time_hist\":\"".len() + 20;
+        let c = l.as_bytes()[at];
+        let swapped = if c == b'A' { 'B' } else { 'A' };
+        format!("{}{swapped}{}", &l[..at], &l[at + 1..])
+    };
+    for (what, change) in [("digit", &digit as &dyn Fn(&str) -> String), ("base64", &base64)] {
+        let bad = t.path().join(format!("bad-{what}"));
+        run(&["experiment", s(&plan), "--out", s(&bad), "--quiet"]);
+        let mut changed: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
+        changed[2] = change(lines[2]);
+        assert_ne!(changed[2], lines[2]);
+        std::fs::write(bad.join("units.jsonl"), changed.join("\n") + "\n").unwrap();
+        let want =
+            format!("{}, line 3: unit 1 does not match its checksum", bad.join("units.jsonl").display());
+        for args in [
+            vec!["summarize", s(&bad)],
+            vec!["experiment", s(&plan), "--out", s(&bad), "--resume", "--quiet"],
+            vec!["merge", s(&bad), "--out", s(&bad)],
+        ] {
+            let out = layflow(&args);
+            let err = text(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{what} {args:?}: {err}");
+            assert!(err.contains(&want) && err.contains("--resume"), "{what} {args:?}: {err}");
+        }
+    }
+    // A file from before checksums (no `sum`) is still read, with a note.
+    let old = t.path().join("old");
+    run(&["experiment", s(&plan), "--out", s(&old), "--quiet"]);
+    let unsummed: Vec<String> = lines
+        .iter()
+        .map(|l| l.split(",\"sum\":").next().unwrap().trim_end_matches('}').to_string() + "}")
+        .collect();
+    let unsummed: Vec<String> = unsummed
+        .iter()
+        .zip(&lines)
+        .map(|(u, l)| if l.contains("\"sum\"") { u.clone() } else { l.to_string() })
+        .collect();
+    std::fs::write(old.join("units.jsonl"), unsummed.join("\n") + "\n").unwrap();
+    let out = run(&["summarize", s(&old)]);
+    assert!(text(&out.stderr).contains("have no checksum"), "{}", text(&out.stderr));
+    assert_eq!(out.stdout, run(&["summarize", s(&whole)]).stdout);
+}
+
 /// Send `signal` to an experiment once it has saved a few units; it must stop with 130 and a
 /// resume hint, and `--resume` must finish to the bytes of an uninterrupted run.
 fn signal_stops_cleanly_and_resume_finishes(signal: &str) {

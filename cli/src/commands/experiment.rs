@@ -108,6 +108,14 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
             c.units.len()
         );
     }
+    if c.unchecked > 0 {
+        eprintln!(
+            "note: {}: {} units have no checksum (written by an older layflow) and are read unchecked; the \
+             next --resume or merge into this folder rewrites them with checksums",
+            folder::journal_path(dir).display(),
+            c.unchecked
+        );
+    }
     Ok(c)
 }
 

@@ -253,8 +253,7 @@ pub fn units_jsonl(header: &Header, units: &[Unit]) -> Vec<u8> {
     let mut out = serde_json::to_vec(header).expect("plain data serializes");
     out.push(b'\n');
     for u in units {
-        out.extend(serde_json::to_vec(u).expect("plain data serializes"));
-        out.push(b'\n');
+        out.extend(super::journal::unit_line(u));
     }
     out
 }
