@@ -169,6 +169,41 @@ fn a_torn_last_line_is_dropped_and_rerun() {
     );
 }
 
+/// A plan of a million design points: compiled lazily, so a one-unit shard
+/// starts, runs and finishes (before, every point was compiled first: minutes
+/// and gigabytes), and an error at design point 1 is reported at once, exit 2.
+#[test]
+fn a_plan_of_a_million_points_runs_a_unit_and_refuses_a_bad_first_point() {
+    let t = tempfile::tempdir().unwrap();
+    let tiny = root().join("scenarios/validation/tiny-hand-checked.yaml");
+    let demand: Vec<String> = (0..1000).map(|i| format!("{:.3}", 0.5 + f64::from(i) * 0.001)).collect();
+    let machines: Vec<String> = (1..=1000).map(|i| i.to_string()).collect();
+    let body = |first_machines: &str| {
+        format!(
+            "scenario: {}\nreplications: 1\nseed: 1\nhorizon: 2 h\nwarmup: 1 h\nfactors:\n  demand: [{}]\n  \
+             departments.drilling.machines: [{first_machines}, {}]\n",
+            tiny.display(),
+            demand.join(", "),
+            machines[1..].join(", ")
+        )
+    };
+    let plan = t.path().join("million.yaml");
+    std::fs::write(&plan, body("1")).unwrap();
+    let out_dir = t.path().join("one");
+    let out = run(&["experiment", s(&plan), "--shard", "1/1000000", "--out", s(&out_dir), "--quiet"]);
+    let err = text(&out.stderr);
+    assert!(err.contains("1000000 design points") && err.contains("shard 1/1000000 has 1"), "{err}");
+    let units = std::fs::read_to_string(out_dir.join("units.jsonl")).unwrap();
+    assert_eq!(units.lines().count(), 2, "the header and the one unit");
+    let bad = t.path().join("bad.yaml");
+    std::fs::write(&bad, body("0")).unwrap();
+    let out = layflow(&["experiment", s(&bad), "--out", s(&t.path().join("bad")), "--quiet"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("design point 1 (") && err.contains("needs at least 1 machine"), "{err}");
+    assert!(!t.path().join("bad").join("units.jsonl").exists(), "nothing ran");
+}
+
 /// One changed digit or base64 character in a unit line is refused, with the
 /// file and line, by `summarize`, `--resume` and `merge`: never read as a result.
 #[test]

@@ -1,5 +1,6 @@
 //! `layflow experiment`, `merge` and `summarize`: run a plan's units durably (resumable, shardable), combine shards exactly, and report.
 
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
 use std::sync::atomic::Ordering;
 use std::sync::{Arc, Mutex};
@@ -13,7 +14,7 @@ use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
 use layflow_models::results::check::one_study;
 use layflow_models::results::experiment as folder;
 use layflow_models::results::{prepare, write_atomic, Kind, Mode};
-use layflow_models::sim::{simulate, Plan};
+use layflow_models::sim::simulate;
 use layflow_models::study::replication_deadlock;
 use layflow_models::study::Progress as _;
 
@@ -159,7 +160,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     eprintln!(
         "{}: {} × {} = {} units{}; {} done, {} to run",
         plan.file.display(),
-        count(plan.points.len(), "design point"),
+        count(plan.point_count(), "design point"),
         count(plan.replications as usize, "replication"),
         plan.units(),
         if shard == Shard::ALL { String::new() } else { format!(", shard {shard} has {}", mine.len()) },
@@ -168,24 +169,44 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     );
     // Ctrl-C or SIGTERM (a scheduler's warning) from here on stops new units; running ones finish and are saved.
     crate::signals::finish_units_on_stop();
-    let plans: Vec<Plan> = plan.setups.iter().map(|s| Plan::new(&s.plant, s.spec.layout)).collect();
     let progress = Progress::with_noun(mine.len() as u64, args.quiet, "units");
     progress.advance(mine.len() as u64 - pending.len() as u64);
-    let state = Mutex::new(RunState { writer, units: done, error: None });
     let remaining = Arc::new(point_counts(&plan, &mine, &is_done));
+    // A resumed point's line counts the units it already had.
+    let mut open: HashMap<usize, Vec<Unit>> = HashMap::new();
+    if !args.quiet {
+        for u in done.iter().filter(|u| remaining[u.point].load(Ordering::Relaxed) > 0) {
+            open.entry(u.point).or_default().push(u.clone());
+        }
+    }
+    let state = Mutex::new(RunState { writer, units: done, open, error: None });
     pool.install(|| {
         pending.par_iter().for_each(|&u| {
             if crate::signals::stopping() {
                 return;
             }
             let (p, r) = plan.unit(u);
-            let rep = simulate(&plans[p], &plan.setups[p].spec, r);
-            let unit = Unit::new(&plan, u, &rep);
+            // Compiled when first needed (a plan may have a million points);
+            // a level refused only in this combination is the plan's error.
+            let setup = match plan.setup(p) {
+                Ok(s) => s,
+                Err(e) => {
+                    let mut st = state.lock().expect("no worker panics while holding the lock");
+                    st.error.get_or_insert(Failure::input(format!(
+                        "{e}\nthe finished units are saved, but they belong to this version of the plan: fix it and \
+                         run it again with --force, or leave that level out"
+                    )));
+                    crate::signals::request_stop();
+                    return;
+                }
+            };
+            let rep = simulate(&setup.sim, &setup.spec, r);
+            let unit = Unit::new(&plan, u, &setup.plant, &rep);
             let mut st = state.lock().expect("no worker panics while holding the lock");
             if st.error.is_some() {
                 return;
             }
-            if let Some(why) = replication_deadlock(&plan.setups[p].plant, &rep, r) {
+            if let Some(why) = replication_deadlock(&setup.plant, &rep, r) {
                 // A jammed plant's numbers mean nothing: keep them out of the results.
                 let levels: Vec<String> = plan
                     .factors
@@ -193,29 +214,41 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
                     .zip(&header.points[p])
                     .map(|(f, l)| format!("{}={l}", f.name))
                     .collect();
-                st.error = Some(format!("design point {} ({}): {why}", p + 1, levels.join(", ")));
+                st.error = Some(Failure::run(format!(
+                    "design point {} ({}): {why}\nthe finished units are saved; fix the cause and rerun with --resume",
+                    p + 1,
+                    levels.join(", ")
+                )));
                 crate::signals::request_stop();
                 return;
             }
             if let Err(e) = st.writer.write(&unit) {
-                st.error = Some(format!("cannot write {}: {e}", st.writer.path().display()));
+                st.error = Some(Failure::run(format!(
+                    "cannot write {}: {e}\nthe finished units are saved; fix the cause and rerun with --resume",
+                    st.writer.path().display()
+                )));
                 crate::signals::request_stop();
                 return;
             }
-            st.units.push(unit);
             progress.done(&rep);
             let left = &remaining[p];
-            if left.fetch_sub(1, Ordering::SeqCst) == 1 && !args.quiet {
-                progress.println(point_line(&plan, &header, &st.units, p));
+            if args.quiet {
+                st.units.push(unit);
+            } else {
+                // The units of a point still running, kept apart so its line needs no scan of every unit.
+                st.open.entry(p).or_default().push(unit.clone());
+                st.units.push(unit);
+                if left.fetch_sub(1, Ordering::SeqCst) == 1 {
+                    let mine = st.open.remove(&p).unwrap_or_default();
+                    progress.println(point_line(&plan, &header, &mine, p));
+                }
             }
         });
     });
     progress.finish();
     let st = state.into_inner().expect("no worker panicked");
     if let Some(e) = st.error {
-        return Err(Failure::run(format!(
-            "{e}\nthe finished units are saved; fix the cause and rerun with --resume"
-        )));
+        return Err(e);
     }
     let finished = st.units.len();
     if finished < mine.len() {
@@ -247,13 +280,15 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
 struct RunState {
     writer: Writer,
     units: Vec<Unit>,
-    error: Option<String>,
+    /// Units of design points not yet finished (for their line when they finish).
+    open: HashMap<usize, Vec<Unit>>,
+    error: Option<Failure>,
 }
 
 /// Units of each design point this run still has to do.
 fn point_counts(plan: &Experiment, mine: &[u64], is_done: &[bool]) -> Vec<std::sync::atomic::AtomicUsize> {
     let counts: Vec<std::sync::atomic::AtomicUsize> =
-        (0..plan.points.len()).map(|_| std::sync::atomic::AtomicUsize::new(0)).collect();
+        (0..plan.point_count()).map(|_| std::sync::atomic::AtomicUsize::new(0)).collect();
     for &u in mine {
         if !is_done[u as usize] {
             counts[plan.unit(u).0].fetch_add(1, Ordering::Relaxed);

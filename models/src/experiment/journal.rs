@@ -136,8 +136,8 @@ impl Header {
             units: exp.units(),
             replications: exp.replications,
             factors: exp.factors.iter().map(|f| f.name.clone()).collect(),
-            points: exp.points.iter().map(|p| p.labels()).collect(),
-            metrics: crate::metrics::metrics(&exp.setups[0].plant)
+            points: (0..exp.point_count()).map(|p| exp.point(p).labels()).collect(),
+            metrics: crate::metrics::metrics(&exp.first().plant)
                 .into_iter()
                 .map(|m| MetricName {
                     scope: m.scope.as_str().into(),
@@ -149,8 +149,8 @@ impl Header {
                 layflow_version: env!("CARGO_PKG_VERSION").to_string(),
                 seed: exp.seed,
                 common_random_numbers: exp.common_random_numbers,
-                horizon_s: exp.setups[0].spec.horizon_s,
-                warmup_s: exp.setups[0].spec.warmup_s,
+                horizon_s: exp.first().spec.horizon_s,
+                warmup_s: exp.first().spec.warmup_s,
                 scenario_sha256: exp.scenario_sha256.clone(),
             }),
         }
@@ -176,7 +176,7 @@ impl Header {
     pub fn fewer_replications_of(&self, exp: &Experiment) -> bool {
         let now = Header::new(exp, self.shard);
         self.replications < now.replications
-            && exp.content_hash(self.replications) == self.hash
+            && exp.content_hash(self.replications).is_ok_and(|h| h == self.hash)
             && Header {
                 replications: now.replications,
                 units: now.units,
@@ -281,8 +281,8 @@ pub struct Unit {
 }
 
 impl Unit {
-    /// The record of unit `u` of `exp` from its replication's results.
-    pub fn new(exp: &Experiment, u: u64, rep: &RepStats) -> Unit {
+    /// The record of unit `u` of `exp` from its replication's results; `plant` is its design point's.
+    pub fn new(exp: &Experiment, u: u64, plant: &crate::plant::Plant, rep: &RepStats) -> Unit {
         let (point, replication) = exp.unit(u);
         let b64 = |h: &TickHistogram| base64::engine::general_purpose::STANDARD.encode(h.to_v2());
         Unit {
@@ -291,7 +291,7 @@ impl Unit {
             point,
             replication,
             events: rep.events,
-            values: crate::metrics::values(&exp.setups[point].plant, rep)
+            values: crate::metrics::values(plant, rep)
                 .into_iter()
                 .map(|v| v.is_finite().then_some(v))
                 .collect(),
