@@ -367,7 +367,12 @@ fn bad_plans_and_mixed_results_are_refused() {
         ("factors:\n  layout: []\n", "has no levels"),
         ("factors:\n  layout: [current, nowhere]\n", "no layout named \"nowhere\""),
         ("factors:\n  demand: [1.0, -2]\n", "not a demand factor"),
-        ("factors:\n  fleets.forklifts.count: [1, 0]\n", "design point 2"),
+        // The level a factor sets is blamed on the plan's own line of that factor (line 4 here,
+        // after scenario and replications), never on a line of the internal copy.
+        (
+            "factors:\n  fleets.forklifts.count: [1, 0]\n",
+            "yaml, line 4: factor `fleets.forklifts.count`, level 0, in design point 2",
+        ),
         ("factors: {}\n", "`factors:` is empty"),
         ("points: []\n", "`points:` is empty"),
         ("", "no `factors:` and no `points:`"),
@@ -384,6 +389,34 @@ fn bad_plans_and_mixed_results_are_refused() {
             "{body}: expected {needle:?} in {err}"
         );
     }
+    // A level that makes another field of the scenario wrong: the scenario's own file and line.
+    let p = t.path().join("plan-horizon.yaml");
+    std::fs::write(
+        &p,
+        format!("scenario: {}\nreplications: 2\nfactors:\n  run.horizon: [1 h]\n", demo.display()),
+    )
+    .unwrap();
+    let out = layflow(&["experiment", s(&p), "--out", s(&t.path().join("oh"))]);
+    let err = text(&out.stderr);
+    let warmup_line =
+        std::fs::read_to_string(&demo).unwrap().lines().position(|l| l.trim_start().starts_with("warmup:"));
+    let want = format!("error in {}, line {}: run.warmup:", demo.display(), warmup_line.unwrap() + 1);
+    assert!(err.contains(&want) && err.contains("design point 1 (run.horizon = 1 h) of"), "{want}\n{err}");
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    // A plan file saved as Latin-1: the line and column of the first bad byte, and what to do.
+    let p = t.path().join("plan-latin1.yaml");
+    let mut bytes = format!("scenario: {}\nreplications: 2\n# caf", demo.display()).into_bytes();
+    bytes.extend([0xE9, b'\n']);
+    bytes.extend(b"factors: { demand: [1] }\n");
+    std::fs::write(&p, bytes).unwrap();
+    let out = layflow(&["experiment", s(&p), "--out", s(&t.path().join("ol"))]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("plan-latin1.yaml, line 3: the file is not UTF-8 text: byte 0xE9 in column 6"),
+        "{err}"
+    );
+    assert!(err.contains("save the file as UTF-8"), "{err}");
     let good = plan(t.path(), 2, "2 d");
     for shard in ["0/3", "4/3", "3", "1/0"] {
         let out = layflow(&["experiment", s(&good), "--shard", shard, "--out", s(&t.path().join("x"))]);

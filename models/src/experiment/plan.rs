@@ -184,6 +184,7 @@ struct Compiler {
     file: PathBuf,
     text: String,
     scenario: PathBuf,
+    scenario_text: String,
     base: Value,
     base_plant: Plant,
     horizon: Option<f64>,
@@ -430,8 +431,12 @@ fn field_mut<'a>(root: &'a mut Value, path: &[String]) -> Result<&'a mut Value, 
 
 /// Read and check a plan, compiling every design point's plant.
 pub fn load(file: &Path) -> Result<Experiment, PlanError> {
-    let text = std::fs::read_to_string(file)
-        .map_err(|e| err(file, None, format!("cannot read the plan: {e}"), "check the path"))?;
+    let text = crate::textfile::read_text(file).map_err(|e| match e {
+        crate::textfile::TextError::Io(e) => {
+            err(file, None, format!("cannot read the plan: {e}"), "check the path")
+        }
+        crate::textfile::TextError::Encoding { line, message, hint, .. } => err(file, line, message, hint),
+    })?;
     let de = serde_norway::Deserializer::from_str(&text);
     let spec: PlanSpec = serde_path_to_error::deserialize(de).map_err(|e| {
         let line = e.inner().location().map(|l| l.line());
@@ -452,13 +457,16 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     }
     let dir = file.parent().unwrap_or_else(|| Path::new(""));
     let scenario = dir.join(&spec.scenario);
-    let scenario_text = std::fs::read_to_string(&scenario).map_err(|e| {
-        err(
+    let scenario_text = crate::textfile::read_text(&scenario).map_err(|e| match e {
+        crate::textfile::TextError::Io(e) => err(
             file,
             line_of(&text, "scenario"),
             format!("cannot read the scenario {}: {e}", scenario.display()),
             "the scenario is named relative to the plan file",
-        )
+        ),
+        crate::textfile::TextError::Encoding { line, message, hint, .. } => {
+            err(&scenario, line, message, hint)
+        }
     })?;
     // The scenario as it stands must be valid on its own.
     let base_plant =
@@ -484,12 +492,13 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let horizon = duration("horizon", &spec.horizon)?;
     let warmup = duration("warmup", &spec.warmup)?;
     let seed = spec.seed.unwrap_or(base_plant.run.seed);
-    let scenario_sha256 =
+    let scenario_sha256: String =
         Sha256::digest(scenario_text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
     let compiler = Compiler {
         file: file.to_path_buf(),
         text,
         scenario: scenario.clone(),
+        scenario_text,
         base,
         base_plant,
         horizon,
@@ -521,6 +530,81 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     }
     exp.hash = exp.content_hash(spec.replications)?;
     Ok(exp)
+}
+
+/// The scenario's refusal of a design point, in the user's files: a field a
+/// factor sets is blamed on the plan's line of that factor; anything else on
+/// the scenario file's own line of the field (the copy with the levels
+/// written in, whose line numbers mean nothing to the user, is never quoted).
+fn point_error(
+    c: &Compiler,
+    factors: &[Factor],
+    point: &DesignPoint,
+    describe: &str,
+    e: &crate::ScenarioError,
+) -> PlanError {
+    let at = e.path().unwrap_or("");
+    let hint = e.hint().unwrap_or("");
+    let set_by = factors.iter().zip(&point.levels).find_map(|(f, level)| {
+        let (FactorKind::Field(path), Some(level)) = (&f.kind, level) else { return None };
+        let field = indexed_path(&c.base, path);
+        let inside =
+            at == field || at.starts_with(&format!("{field}.")) || at.starts_with(&format!("{field}["));
+        inside.then_some((f, level))
+    });
+    match set_by {
+        Some((f, level)) => err(
+            &c.file,
+            line_of(&c.text, &f.name),
+            format!("factor `{}`, level {}, in {describe}: {}", f.name, value_text(level), e.message()),
+            hint,
+        ),
+        None => {
+            let line = if at.is_empty() { None } else { crate::scenario::line_of_path(&c.scenario_text, at) };
+            let what = if at.is_empty() { e.message().to_string() } else { format!("{at}: {}", e.message()) };
+            err(
+                &c.scenario,
+                line,
+                format!("{what} (with the levels of {describe} of {})", c.file.display()),
+                hint,
+            )
+        }
+    }
+}
+
+/// A factor's path with list entries named by id turned into indices, as the
+/// scenario's messages write paths (`departments.drilling.machines` →
+/// `departments[2].machines`).
+fn indexed_path(base: &Value, path: &[String]) -> String {
+    let mut out = String::new();
+    let mut at = Some(base);
+    for seg in path {
+        match at {
+            Some(Value::Sequence(items)) => {
+                let i = seg.parse::<usize>().ok().or_else(|| {
+                    items.iter().position(|v| v.get("id").map(value_text).as_deref() == Some(seg.as_str()))
+                });
+                match i {
+                    Some(i) => {
+                        let _ = write!(out, "[{i}]");
+                        at = items.get(i);
+                    }
+                    None => {
+                        let _ = write!(out, "[{seg}]");
+                        at = None;
+                    }
+                }
+            }
+            other => {
+                if !out.is_empty() {
+                    out.push('.');
+                }
+                out.push_str(seg);
+                at = other.and_then(|v| v.get(seg.as_str()));
+            }
+        }
+    }
+    out
 }
 
 /// Compile design point `p` (0-based) with its levels written into the scenario.
@@ -555,18 +639,8 @@ fn compile_point(
     let plant = match &doc {
         Some(doc) => {
             let yaml = serde_norway::to_string(doc).expect("a YAML value serializes");
-            crate::parse_scenario(&yaml, &c.scenario).map_err(|e| {
-                err(
-                    file,
-                    None,
-                    format!(
-                        "{}: the scenario refuses it: {}",
-                        describe(),
-                        e.to_string().replace('\n', "\n  ")
-                    ),
-                    "line numbers in that message refer to the scenario with the levels written in",
-                )
-            })?
+            crate::parse_scenario(&yaml, &c.scenario)
+                .map_err(|e| point_error(c, factors, point, &describe(), &e))?
         }
         None => c.base_plant.clone(),
     };
