@@ -1,4 +1,4 @@
-//! A failed command with its exit code: 2 for bad input, 1 for a failed run (a write error too), 130 for Ctrl-C.
+//! A failed command with its exit code: 2 for bad input, 1 for a failed run (a write error too), 130 for Ctrl-C or SIGTERM.
 
 use layflow_models::results::ResultsError;
 use layflow_models::study::StudyError;
@@ -21,9 +21,9 @@ impl Failure {
     pub fn run(message: impl Into<String>) -> Failure {
         Failure { code: 1, message: message.into(), quiet: false }
     }
-    /// Stopped by Ctrl-C: 130, the shell's code for an interrupt.
+    /// Stopped by Ctrl-C or SIGTERM: 130, the shell's code for an interrupt.
     pub fn interrupted(message: impl Into<String>) -> Failure {
-        Failure { code: 130, message: message.into(), quiet: false }
+        Failure { code: crate::signals::STOPPED, message: message.into(), quiet: false }
     }
     /// Stdout could not be written: exit 1 with the reason, except for a
     /// closed pipe, which leaves quietly with 141 (128 + SIGPIPE, what a shell

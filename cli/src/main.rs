@@ -14,6 +14,7 @@ mod failure;
 mod output;
 mod render;
 mod settings;
+mod signals;
 
 use std::process::ExitCode;
 
@@ -38,7 +39,8 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
                   layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed or its output\n  \
-                  could not be written, 130 stopped by Ctrl-C, 141 stdout closed early (`| head`)."
+                  could not be written, 130 stopped by Ctrl-C or\n  \
+                  SIGTERM, 141 stdout closed early (`| head`)."
 )]
 struct Cli {
     #[command(subcommand)]
@@ -112,6 +114,7 @@ fn last_guard_for_output() {
 
 fn main() -> ExitCode {
     last_guard_for_output();
+    signals::install();
     let cli = Cli::parse();
     render::table::set_wide(cli.wide);
     render::table::set_verbose(cli.verbose);

@@ -283,6 +283,21 @@ fn draw_colours_the_aisles_by_simulated_congestion_from_a_results_folder() {
     };
     assert!(figures("data-sim-traversals-per-h=").iter().any(|&x| x > 0.0));
     assert!(figures("data-congestion-s-per-h=").iter().any(|&x| x > 0.0));
+    // Another scenario with an aisle network of its own: its segments are
+    // numbered too, but these results are not its results; refused.
+    let other = root().join("scenarios/validation/aisles-single-lane.yaml");
+    let o = layflow(&[
+        "draw",
+        other.to_str().unwrap(),
+        "--results",
+        results.to_str().unwrap(),
+        "-o",
+        dir.path().join("other.svg").to_str().unwrap(),
+    ]);
+    let err = text(&o.stderr);
+    assert_eq!(o.status.code(), Some(2), "{err}");
+    assert!(err.contains("made from another scenario"), "{err}");
+    assert!(!dir.path().join("other.svg").exists());
 }
 
 /// `run --format json` of the single-lane check reports each segment and the

@@ -169,8 +169,106 @@ fn a_torn_last_line_is_dropped_and_rerun() {
     );
 }
 
+/// A plan of a million design points: compiled lazily, so a one-unit shard
+/// starts, runs and finishes (before, every point was compiled first: minutes
+/// and gigabytes), and an error at design point 1 is reported at once, exit 2.
 #[test]
-fn ctrl_c_stops_cleanly_and_resume_finishes() {
+fn a_plan_of_a_million_points_runs_a_unit_and_refuses_a_bad_first_point() {
+    let t = tempfile::tempdir().unwrap();
+    let tiny = root().join("scenarios/validation/tiny-hand-checked.yaml");
+    let demand: Vec<String> = (0..1000).map(|i| format!("{:.3}", 0.5 + f64::from(i) * 0.001)).collect();
+    let machines: Vec<String> = (1..=1000).map(|i| i.to_string()).collect();
+    let body = |first_machines: &str| {
+        format!(
+            "scenario: {}\nreplications: 1\nseed: 1\nhorizon: 2 h\nwarmup: 1 h\nfactors:\n  demand: [{}]\n  \
+             departments.drilling.machines: [{first_machines}, {}]\n",
+            tiny.display(),
+            demand.join(", "),
+            machines[1..].join(", ")
+        )
+    };
+    let plan = t.path().join("million.yaml");
+    std::fs::write(&plan, body("1")).unwrap();
+    let out_dir = t.path().join("one");
+    let out = run(&["experiment", s(&plan), "--shard", "1/1000000", "--out", s(&out_dir), "--quiet"]);
+    let err = text(&out.stderr);
+    assert!(err.contains("1000000 design points") && err.contains("shard 1/1000000 has 1"), "{err}");
+    let units = std::fs::read_to_string(out_dir.join("units.jsonl")).unwrap();
+    assert_eq!(units.lines().count(), 2, "the header and the one unit");
+    let bad = t.path().join("bad.yaml");
+    std::fs::write(&bad, body("0")).unwrap();
+    let out = layflow(&["experiment", s(&bad), "--out", s(&t.path().join("bad")), "--quiet"]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(err.contains("design point 1 (") && err.contains("needs at least 1 machine"), "{err}");
+    assert!(!t.path().join("bad").join("units.jsonl").exists(), "nothing ran");
+}
+
+/// One changed digit or base64 character in a unit line is refused, with the
+/// file and line, by `summarize`, `--resume` and `merge`: never read as a result.
+#[test]
+fn a_changed_digit_or_base64_character_is_refused() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 2, "3 d");
+    let whole = t.path().join("whole");
+    run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let full = std::fs::read_to_string(whole.join("units.jsonl")).unwrap();
+    let lines: Vec<&str> = full.lines().collect();
+    assert!(lines[1].contains("\"sum\":\""), "every unit line has its checksum: {}", lines[1]);
+    // Line 3 (the second unit): the first digit of its `events`, then a character inside a histogram.
+    let digit = |l: &str| {
+        let at = l.find("\"events\":").unwrap() + "\"events\":".len();
+        let d = l.as_bytes()[at];
+        let swapped = if d == b'9' { '8' } else { (d + 1) as char };
+        format!("{}{swapped}{}", &l[..at], &l[at + 1..])
+    };
+    let base64 = |l: &str| {
+        let at = l.find("\"flow_time_hist\":\"").unwrap() + "\"flow_time_hist\":\"".len() + 20;
+        let c = l.as_bytes()[at];
+        let swapped = if c == b'A' { 'B' } else { 'A' };
+        format!("{}{swapped}{}", &l[..at], &l[at + 1..])
+    };
+    for (what, change) in [("digit", &digit as &dyn Fn(&str) -> String), ("base64", &base64)] {
+        let bad = t.path().join(format!("bad-{what}"));
+        run(&["experiment", s(&plan), "--out", s(&bad), "--quiet"]);
+        let mut changed: Vec<String> = lines.iter().map(|l| l.to_string()).collect();
+        changed[2] = change(lines[2]);
+        assert_ne!(changed[2], lines[2]);
+        std::fs::write(bad.join("units.jsonl"), changed.join("\n") + "\n").unwrap();
+        let want =
+            format!("{}, line 3: unit 1 does not match its checksum", bad.join("units.jsonl").display());
+        for args in [
+            vec!["summarize", s(&bad)],
+            vec!["experiment", s(&plan), "--out", s(&bad), "--resume", "--quiet"],
+            vec!["merge", s(&bad), "--out", s(&bad)],
+        ] {
+            let out = layflow(&args);
+            let err = text(&out.stderr);
+            assert_eq!(out.status.code(), Some(2), "{what} {args:?}: {err}");
+            assert!(err.contains(&want) && err.contains("--resume"), "{what} {args:?}: {err}");
+        }
+    }
+    // A file from before checksums (no `sum`) is still read, with a note.
+    let old = t.path().join("old");
+    run(&["experiment", s(&plan), "--out", s(&old), "--quiet"]);
+    let unsummed: Vec<String> = lines
+        .iter()
+        .map(|l| l.split(",\"sum\":").next().unwrap().trim_end_matches('}').to_string() + "}")
+        .collect();
+    let unsummed: Vec<String> = unsummed
+        .iter()
+        .zip(&lines)
+        .map(|(u, l)| if l.contains("\"sum\"") { u.clone() } else { l.to_string() })
+        .collect();
+    std::fs::write(old.join("units.jsonl"), unsummed.join("\n") + "\n").unwrap();
+    let out = run(&["summarize", s(&old)]);
+    assert!(text(&out.stderr).contains("have no checksum"), "{}", text(&out.stderr));
+    assert_eq!(out.stdout, run(&["summarize", s(&whole)]).stdout);
+}
+
+/// Send `signal` to an experiment once it has saved a few units; it must stop with 130 and a
+/// resume hint, and `--resume` must finish to the bytes of an uninterrupted run.
+fn signal_stops_cleanly_and_resume_finishes(signal: &str) {
     let t = tempfile::tempdir().unwrap();
     let plan = plan(t.path(), 15, "20 d");
     let whole = t.path().join("whole");
@@ -184,7 +282,7 @@ fn ctrl_c_stops_cleanly_and_resume_finishes() {
         .spawn()
         .unwrap();
     wait_for_lines(&stopped.join("units.jsonl"), 4, Duration::from_secs(60));
-    let ok = Command::new("kill").args(["-INT", &child.id().to_string()]).status().unwrap();
+    let ok = Command::new("kill").args([signal, &child.id().to_string()]).status().unwrap();
     assert!(ok.success());
     let out = child.wait_with_output().unwrap();
     let err = text(&out.stderr);
@@ -194,12 +292,69 @@ fn ctrl_c_stops_cleanly_and_resume_finishes() {
         return;
     }
     assert_eq!(out.status.code(), Some(130), "{err}");
-    assert!(err.contains("--resume"), "{err}");
+    assert!(err.contains("--resume") && err.contains("Ctrl-C or SIGTERM"), "{err}");
     // Every line on disk is a whole unit: nothing torn by a clean stop.
     let bytes = std::fs::read(stopped.join("units.jsonl")).unwrap();
     assert_eq!(bytes.last(), Some(&b'\n'));
     run(&["experiment", s(&plan), "--out", s(&stopped), "--resume", "--quiet"]);
     same_outputs(&whole, &stopped);
+}
+
+#[test]
+fn ctrl_c_stops_cleanly_and_resume_finishes() {
+    signal_stops_cleanly_and_resume_finishes("-INT");
+}
+
+/// A batch scheduler's warning before it kills a job (time limit, preemption).
+#[test]
+fn sigterm_stops_cleanly_and_resume_finishes() {
+    signal_stops_cleanly_and_resume_finishes("-TERM");
+}
+
+/// Wait until process `pid` catches SIGTERM (Linux: bit 15 of `SigCgt` in
+/// /proc/PID/status), so the signal meets the handler, not the default action.
+fn wait_for_handler(pid: u32) {
+    let start = Instant::now();
+    while start.elapsed() < Duration::from_secs(60) {
+        let status = std::fs::read_to_string(format!("/proc/{pid}/status")).unwrap_or_default();
+        let caught = status
+            .lines()
+            .find_map(|l| l.strip_prefix("SigCgt:"))
+            .and_then(|m| u64::from_str_radix(m.trim(), 16).ok())
+            .unwrap_or(0);
+        if caught & (1 << (15 - 1)) != 0 {
+            return;
+        }
+        std::thread::sleep(Duration::from_millis(2));
+    }
+}
+
+/// `run` keeps nothing durable: SIGTERM ends it at once with one line and exit 130.
+#[test]
+fn sigterm_stops_a_run_with_one_line() {
+    let child = Command::new(env!("CARGO_BIN_EXE_layflow"))
+        .args([
+            "run",
+            "scenarios/demo.yaml",
+            "--replications",
+            "100000",
+            "--horizon",
+            "200 d",
+            "--threads",
+            "1",
+        ])
+        .current_dir(root())
+        .stdout(Stdio::null())
+        .stderr(Stdio::piped())
+        .spawn()
+        .unwrap();
+    wait_for_handler(child.id());
+    let ok = Command::new("kill").args(["-TERM", &child.id().to_string()]).status().unwrap();
+    assert!(ok.success());
+    let out = child.wait_with_output().unwrap();
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(130), "{err}");
+    assert!(err.contains("stopped by Ctrl-C or SIGTERM"), "{err}");
 }
 
 #[test]
@@ -212,7 +367,12 @@ fn bad_plans_and_mixed_results_are_refused() {
         ("factors:\n  layout: []\n", "has no levels"),
         ("factors:\n  layout: [current, nowhere]\n", "no layout named \"nowhere\""),
         ("factors:\n  demand: [1.0, -2]\n", "not a demand factor"),
-        ("factors:\n  fleets.forklifts.count: [1, 0]\n", "design point 2"),
+        // The level a factor sets is blamed on the plan's own line of that factor (line 4 here,
+        // after scenario and replications), never on a line of the internal copy.
+        (
+            "factors:\n  fleets.forklifts.count: [1, 0]\n",
+            "yaml, line 4: factor `fleets.forklifts.count`, level 0, in design point 2",
+        ),
         ("factors: {}\n", "`factors:` is empty"),
         ("points: []\n", "`points:` is empty"),
         ("", "no `factors:` and no `points:`"),
@@ -229,6 +389,34 @@ fn bad_plans_and_mixed_results_are_refused() {
             "{body}: expected {needle:?} in {err}"
         );
     }
+    // A level that makes another field of the scenario wrong: the scenario's own file and line.
+    let p = t.path().join("plan-horizon.yaml");
+    std::fs::write(
+        &p,
+        format!("scenario: {}\nreplications: 2\nfactors:\n  run.horizon: [1 h]\n", demo.display()),
+    )
+    .unwrap();
+    let out = layflow(&["experiment", s(&p), "--out", s(&t.path().join("oh"))]);
+    let err = text(&out.stderr);
+    let warmup_line =
+        std::fs::read_to_string(&demo).unwrap().lines().position(|l| l.trim_start().starts_with("warmup:"));
+    let want = format!("error in {}, line {}: run.warmup:", demo.display(), warmup_line.unwrap() + 1);
+    assert!(err.contains(&want) && err.contains("design point 1 (run.horizon = 1 h) of"), "{want}\n{err}");
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    // A plan file saved as Latin-1: the line and column of the first bad byte, and what to do.
+    let p = t.path().join("plan-latin1.yaml");
+    let mut bytes = format!("scenario: {}\nreplications: 2\n# caf", demo.display()).into_bytes();
+    bytes.extend([0xE9, b'\n']);
+    bytes.extend(b"factors: { demand: [1] }\n");
+    std::fs::write(&p, bytes).unwrap();
+    let out = layflow(&["experiment", s(&p), "--out", s(&t.path().join("ol"))]);
+    let err = text(&out.stderr);
+    assert_eq!(out.status.code(), Some(2), "{err}");
+    assert!(
+        err.contains("plan-latin1.yaml, line 3: the file is not UTF-8 text: byte 0xE9 in column 6"),
+        "{err}"
+    );
+    assert!(err.contains("save the file as UTF-8"), "{err}");
     let good = plan(t.path(), 2, "2 d");
     for shard in ["0/3", "4/3", "3", "1/0"] {
         let out = layflow(&["experiment", s(&good), "--shard", shard, "--out", s(&t.path().join("x"))]);

@@ -27,6 +27,11 @@ pub use weibull::Weibull;
 
 use rand::Rng;
 
+/// The largest gamma cv accepted: the shape 1/cv² stays a normal f64 above
+/// zero (cv² up to 1e300, shape down to 1e-300), so a cv this large still
+/// describes a gamma; beyond it the derived parameters underflow or overflow.
+pub const GAMMA_CV_MAX: f64 = 1e150;
+
 use error::{non_negative, positive};
 
 /// A validated distribution of a non-negative quantity (seconds for times).
@@ -93,11 +98,18 @@ impl Dist {
     pub fn lognormal(mean: f64, cv: f64) -> Result<Dist, DistError> {
         LogNormal::new(mean, cv).map(Dist::LogNormal).and_then(|d| d.finite("lognormal"))
     }
-    /// Gamma with mean `mean` (> 0) and coefficient of variation `cv` (> 0).
+    /// Gamma with mean `mean` (> 0) and coefficient of variation `cv` (> 0, at most [`GAMMA_CV_MAX`]).
     pub fn gamma(mean: f64, cv: f64) -> Result<Dist, DistError> {
         positive(Param::GammaMean, mean)?;
         positive(Param::GammaCv, cv)?;
-        Gamma::new(1.0 / (cv * cv), mean * cv * cv).map(Dist::Gamma).and_then(|d| d.finite("gamma"))
+        // Shape and scale are derived: a refusal of either is the cv's, said in the cv's words.
+        let (shape, scale) = (1.0 / (cv * cv), mean * cv * cv);
+        let derived_ok = shape.is_normal() && shape > 0.0 && scale.is_finite() && scale > 0.0;
+        if !derived_ok || cv > GAMMA_CV_MAX {
+            let max = if mean > 1.0 { GAMMA_CV_MAX.min((f64::MAX / mean).sqrt()) } else { GAMMA_CV_MAX };
+            return Err(DistError::CvTooLarge { family: "gamma", cv, max });
+        }
+        Gamma::new(shape, scale).map(Dist::Gamma).and_then(|d| d.finite("gamma"))
     }
     /// Gamma with `shape` and `scale` (both > 0); mean = shape × scale.
     pub fn gamma_shape_scale(shape: f64, scale: f64) -> Result<Dist, DistError> {

@@ -22,6 +22,7 @@ pub mod sizing;
 pub mod study;
 pub mod suggest;
 pub mod text;
+pub mod textfile;
 pub mod travel;
 pub mod units;
 

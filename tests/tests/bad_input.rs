@@ -117,6 +117,34 @@ fn a_missing_file_is_named() {
     assert!(shown.contains("no/such/scenario.yaml"), "{shown}");
 }
 
+/// A scenario saved as Latin-1 or UTF-16 (bytes the corpus, read as text,
+/// cannot hold): the message gives the first bad byte's line and column, or
+/// names UTF-16 by its byte-order mark, and says to save the file as UTF-8.
+#[test]
+fn files_not_in_utf8_are_named_with_position_and_encoding() {
+    let dir = tempfile::tempdir().unwrap();
+    let text = std::fs::read_to_string(scenarios_dir().join("validation/tiny-hand-checked.yaml")).unwrap();
+    // Line 8 is `plant: Tiny hand-checked shop (invented)`; "hand" becomes "händ" in Latin-1.
+    assert!(text.lines().nth(7).unwrap().starts_with("plant: Tiny hand"));
+    let latin1: Vec<u8> =
+        text.replacen("Tiny hand", "Tiny h\u{e4}nd", 1).chars().map(|c| c as u32 as u8).collect();
+    let utf16: Vec<u8> =
+        [0xFF, 0xFE].into_iter().chain(text.encode_utf16().flat_map(u16::to_le_bytes)).collect();
+    for (name, bytes, want, line) in [
+        ("latin1.yaml", latin1, "byte 0xE4 in column 14 is not UTF-8 (it looks like Latin-1", Some(8)),
+        ("utf16.yaml", utf16, "the file is UTF-16 text (it starts with a UTF-16 byte-order mark)", None),
+    ] {
+        let path = dir.path().join(name);
+        std::fs::write(&path, bytes).unwrap();
+        let err = load_scenario(&path).unwrap_err();
+        let shown = err.to_string();
+        assert!(shown.contains(want) && shown.contains(name), "{shown}");
+        assert!(shown.contains("save the file as UTF-8"), "{shown}");
+        assert!(!shown.contains("stream did not contain"), "{shown}");
+        assert_eq!(err.line(), line, "{shown}");
+    }
+}
+
 /// Valid scenarios cut short or damaged must give errors, never panics.
 #[test]
 fn mutated_scenarios_never_panic() {

@@ -61,7 +61,10 @@ pub fn draw(args: &DrawArgs) -> Result<(), Failure> {
             if !dir.is_dir() {
                 return Err(Failure::input(format!("--results {}: not a directory", dir.display())));
             }
-            let sim = read_segments(dir, &plant, layout)?;
+            let text = std::fs::read(&args.scenario)
+                .map_err(|e| Failure::input(format!("cannot read {}: {e}", args.scenario.display())))?;
+            let sim =
+                read_segments(dir, &plant, layout, &layflow_models::results::folder::sha256_hex(&text))?;
             if sim.is_none() {
                 note!(
                     "note: --results {}: no per-segment results there. They come from the segment-by-segment \

@@ -1,7 +1,8 @@
 //! `layflow experiment`, `merge` and `summarize`: run a plan's units durably (resumable, shardable), combine shards exactly, and report.
 
+use std::collections::HashMap;
 use std::path::{Path, PathBuf};
-use std::sync::atomic::{AtomicBool, Ordering};
+use std::sync::atomic::Ordering;
 use std::sync::{Arc, Mutex};
 
 use clap::{Args, ValueEnum};
@@ -13,7 +14,7 @@ use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
 use layflow_models::results::check::one_study;
 use layflow_models::results::experiment as folder;
 use layflow_models::results::{prepare, write_atomic, Kind, Mode};
-use layflow_models::sim::{simulate, Plan};
+use layflow_models::sim::simulate;
 use layflow_models::study::replication_deadlock;
 use layflow_models::study::Progress as _;
 
@@ -101,9 +102,6 @@ pub struct SummarizeArgs {
     pub format: SummaryFormat,
 }
 
-/// Set by Ctrl-C: start no new unit.
-static STOP: AtomicBool = AtomicBool::new(false);
-
 /// Read a folder's units through the results module, reporting a torn tail on stderr.
 fn read_journal(dir: &Path) -> Result<Contents, Failure> {
     let c = folder::read(dir)?;
@@ -116,6 +114,14 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
             c.units.len()
         );
     }
+    if c.unchecked > 0 {
+        note!(
+            "note: {}: {} units have no checksum (written by an older layflow) and are read unchecked; the \
+             next --resume or merge into this folder rewrites them with checksums",
+            folder::journal_path(dir).display(),
+            c.unchecked
+        );
+    }
     Ok(c)
 }
 
@@ -123,13 +129,8 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
 pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     let mut plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
     if args.allow_overload {
-        for s in &mut plan.setups {
-            s.plant.run.allow_overload = true;
-        }
+        plan.allow_overload().map_err(|e| Failure::input(e.to_string()))?;
         note!("{}", crate::settings::OVERLOAD_WARNING);
-        // The flag changes the results, so it is part of the content hash: a
-        // folder run with it resumes and merges only with it.
-        plan.hash = plan.content_hash(plan.replications);
     }
     let shard = match &args.shard {
         None => Shard::ALL,
@@ -168,42 +169,53 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     note!(
         "{}: {} × {} = {} units{}; {} done, {} to run",
         plan.file.display(),
-        count(plan.points.len(), "design point"),
+        count(plan.point_count(), "design point"),
         count(plan.replications as usize, "replication"),
         plan.units(),
         if shard == Shard::ALL { String::new() } else { format!(", shard {shard} has {}", mine.len()) },
         mine.len() - pending.len(),
         pending.len()
     );
-    // Ctrl-C stops new units; a second Ctrl-C would wait for the running ones too,
-    // so it is left to the default handler only if the first could not be installed.
-    if !pending.is_empty() {
-        let _ = ctrlc::set_handler(|| {
-            if STOP.swap(true, Ordering::SeqCst) {
-                note!("\nstill finishing the running units; they will be saved");
-            } else {
-                note!("\nCtrl-C: finishing the running units, then stopping");
-            }
-        });
-    }
-    let plans: Vec<Plan> = plan.setups.iter().map(|s| Plan::new(&s.plant, s.spec.layout)).collect();
+    // Ctrl-C or SIGTERM (a scheduler's warning) from here on stops new units; running ones finish and are saved.
+    crate::signals::finish_units_on_stop();
     let progress = Progress::with_noun(mine.len() as u64, args.quiet, "units");
     progress.advance(mine.len() as u64 - pending.len() as u64);
-    let state = Mutex::new(RunState { writer, units: done, error: None });
     let remaining = Arc::new(point_counts(&plan, &mine, &is_done));
+    // A resumed point's line counts the units it already had.
+    let mut open: HashMap<usize, Vec<Unit>> = HashMap::new();
+    if !args.quiet {
+        for u in done.iter().filter(|u| remaining[u.point].load(Ordering::Relaxed) > 0) {
+            open.entry(u.point).or_default().push(u.clone());
+        }
+    }
+    let state = Mutex::new(RunState { writer, units: done, open, error: None });
     pool.install(|| {
         pending.par_iter().for_each(|&u| {
-            if STOP.load(Ordering::SeqCst) {
+            if crate::signals::stopping() {
                 return;
             }
             let (p, r) = plan.unit(u);
-            let rep = simulate(&plans[p], &plan.setups[p].spec, r);
-            let unit = Unit::new(&plan, u, &rep);
+            // Compiled when first needed (a plan may have a million points);
+            // a level refused only in this combination is the plan's error.
+            let setup = match plan.setup(p) {
+                Ok(s) => s,
+                Err(e) => {
+                    let mut st = state.lock().expect("no worker panics while holding the lock");
+                    st.error.get_or_insert(Failure::input(format!(
+                        "{e}\nthe finished units are saved, but they belong to this version of the plan: fix it and \
+                         run it again with --force, or leave that level out"
+                    )));
+                    crate::signals::request_stop();
+                    return;
+                }
+            };
+            let rep = simulate(&setup.sim, &setup.spec, r);
+            let unit = Unit::new(&plan, u, &setup.plant, &rep);
             let mut st = state.lock().expect("no worker panics while holding the lock");
             if st.error.is_some() {
                 return;
             }
-            if let Some(why) = replication_deadlock(&plan.setups[p].plant, &rep, r) {
+            if let Some(why) = replication_deadlock(&setup.plant, &rep, r) {
                 // A jammed plant's numbers mean nothing: keep them out of the results.
                 let levels: Vec<String> = plan
                     .factors
@@ -211,34 +223,47 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
                     .zip(&header.points[p])
                     .map(|(f, l)| format!("{}={l}", f.name))
                     .collect();
-                st.error = Some(format!("design point {} ({}): {why}", p + 1, levels.join(", ")));
-                STOP.store(true, Ordering::SeqCst);
+                st.error = Some(Failure::run(format!(
+                    "design point {} ({}): {why}\nthe finished units are saved; fix the cause and rerun with --resume",
+                    p + 1,
+                    levels.join(", ")
+                )));
+                crate::signals::request_stop();
                 return;
             }
             if let Err(e) = st.writer.write(&unit) {
-                st.error = Some(format!("cannot write {}: {e}", st.writer.path().display()));
-                STOP.store(true, Ordering::SeqCst);
+                st.error = Some(Failure::run(format!(
+                    "cannot write {}: {e}\nthe finished units are saved; fix the cause and rerun with --resume",
+                    st.writer.path().display()
+                )));
+                crate::signals::request_stop();
                 return;
             }
-            st.units.push(unit);
             progress.done(&rep);
             let left = &remaining[p];
-            if left.fetch_sub(1, Ordering::SeqCst) == 1 && !args.quiet {
-                progress.println(point_line(&plan, &header, &st.units, p));
+            if args.quiet {
+                st.units.push(unit);
+            } else {
+                // The units of a point still running, kept apart so its line needs no scan of every unit.
+                st.open.entry(p).or_default().push(unit.clone());
+                st.units.push(unit);
+                if left.fetch_sub(1, Ordering::SeqCst) == 1 {
+                    let mine = st.open.remove(&p).unwrap_or_default();
+                    progress.println(point_line(&plan, &header, &mine, p));
+                }
             }
         });
     });
     progress.finish();
     let st = state.into_inner().expect("no worker panicked");
     if let Some(e) = st.error {
-        return Err(Failure::run(format!(
-            "{e}\nthe finished units are saved; fix the cause and rerun with --resume"
-        )));
+        return Err(e);
     }
     let finished = st.units.len();
     if finished < mine.len() {
         return Err(Failure::interrupted(format!(
-            "stopped: {finished} of {} units done and saved in {}; run the same command with --resume to finish",
+            "stopped by Ctrl-C or SIGTERM: {finished} of {} units done and saved in {}; run the same command with \
+             --resume to finish",
             mine.len(),
             path.display()
         )));
@@ -264,13 +289,15 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
 struct RunState {
     writer: Writer,
     units: Vec<Unit>,
-    error: Option<String>,
+    /// Units of design points not yet finished (for their line when they finish).
+    open: HashMap<usize, Vec<Unit>>,
+    error: Option<Failure>,
 }
 
 /// Units of each design point this run still has to do.
 fn point_counts(plan: &Experiment, mine: &[u64], is_done: &[bool]) -> Vec<std::sync::atomic::AtomicUsize> {
     let counts: Vec<std::sync::atomic::AtomicUsize> =
-        (0..plan.points.len()).map(|_| std::sync::atomic::AtomicUsize::new(0)).collect();
+        (0..plan.point_count()).map(|_| std::sync::atomic::AtomicUsize::new(0)).collect();
     for &u in mine {
         if !is_done[u as usize] {
             counts[plan.unit(u).0].fetch_add(1, Ordering::Relaxed);

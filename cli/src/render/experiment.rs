@@ -6,20 +6,20 @@ use layflow_models::metrics::Estimate;
 
 use super::table::{dur, dur_in, num, pm, unit_for, Table};
 
-/// The per-point line shown when a design point's last unit finishes.
-pub fn point_line(plan: &Experiment, header: &Header, units: &[Unit], p: usize) -> String {
-    let mine: Vec<Unit> = units.iter().filter(|u| u.point == p).cloned().collect();
+/// The per-point line shown when a design point's last unit finishes; `mine` are its units.
+pub fn point_line(plan: &Experiment, header: &Header, mine: &[Unit], p: usize) -> String {
     let levels: Vec<String> =
         plan.factors.iter().zip(&header.points[p]).map(|(f, l)| format!("{}={l}", f.name)).collect();
     let mut s = format!(
         "point {}/{} done ({}): {} replications",
         p + 1,
-        plan.points.len(),
+        plan.point_count(),
         levels.join(", "),
         mine.len()
     );
-    if let Ok(sum) = results::summarize(header, &mine) {
-        let pt = &sum.points[p];
+    let refs: Vec<&Unit> = mine.iter().collect();
+    if let Ok(pt) = results::summarize_point(header, p, &refs) {
+        let pt = &pt;
         if let Some(e) = estimate(pt, "flow_time_s") {
             s.push_str(&format!(", flow time {}", dur(&e)));
         }

@@ -144,6 +144,17 @@ pub enum DistError {
         /// The variance the parameters give.
         variance: f64,
     },
+    /// A coefficient of variation so large that the parameters derived from
+    /// it (a gamma's shape 1/cv², scale mean × cv²) are no longer finite
+    /// numbers > 0: the message names the cv the user wrote, not the shape.
+    CvTooLarge {
+        /// The family, as messages spell it.
+        family: &'static str,
+        /// The cv given.
+        cv: f64,
+        /// The largest cv accepted.
+        max: f64,
+    },
     /// The sampler refused parameters that passed the checks above (extreme
     /// values whose derived parameters overflow, e.g. a huge lognormal cv).
     Sampler {
@@ -190,6 +201,11 @@ impl fmt::Display for DistError {
                 f,
                 "{family}: these parameters give a mean of {mean:e} and a variance of {variance:e}; both must be \
                  finite numbers, or no average, utilisation or interval can be computed"
+            ),
+            DistError::CvTooLarge { family, cv, max } => write!(
+                f,
+                "{family} cv must be at most {max:e}, got {cv:e}: the {family} is built with shape 1/cv² and scale \
+                 mean × cv², which are not finite numbers > 0 for a larger cv"
             ),
             DistError::Sampler { family, reason } => write!(f, "{family}: {reason}"),
         }

@@ -8,6 +8,13 @@
 //! been written, flushed and synced, so after a crash, a kill or a power
 //! cut the file holds every finished unit and at most one torn line at the
 //! end, which [`read`] drops and reports.
+//!
+//! Every unit line ends with `"sum"`: the first 16 hex digits of the SHA-256
+//! of the unit's canonical JSON (the line as layflow writes it, without the
+//! sum). A changed digit or base64 character parses as a different unit,
+//! whose canonical bytes no longer match the sum, so [`read`] refuses the
+//! line with its number instead of letting it change the results. Lines
+//! written before sums existed are read unchecked and counted.
 
 use std::io::Write as _;
 use std::path::{Path, PathBuf};
@@ -15,6 +22,7 @@ use std::path::{Path, PathBuf};
 use base64::Engine as _;
 use layflow_engine::TickHistogram;
 use serde::{Deserialize, Serialize};
+use sha2::{Digest, Sha256};
 
 use crate::sim::{RepStats, TICK_S};
 
@@ -128,8 +136,8 @@ impl Header {
             units: exp.units(),
             replications: exp.replications,
             factors: exp.factors.iter().map(|f| f.name.clone()).collect(),
-            points: exp.points.iter().map(|p| p.labels()).collect(),
-            metrics: crate::metrics::metrics(&exp.setups[0].plant)
+            points: (0..exp.point_count()).map(|p| exp.point(p).labels()).collect(),
+            metrics: crate::metrics::metrics(&exp.first().plant)
                 .into_iter()
                 .map(|m| MetricName {
                     scope: m.scope.as_str().into(),
@@ -141,8 +149,8 @@ impl Header {
                 layflow_version: env!("CARGO_PKG_VERSION").to_string(),
                 seed: exp.seed,
                 common_random_numbers: exp.common_random_numbers,
-                horizon_s: exp.setups[0].spec.horizon_s,
-                warmup_s: exp.setups[0].spec.warmup_s,
+                horizon_s: exp.first().spec.horizon_s,
+                warmup_s: exp.first().spec.warmup_s,
                 scenario_sha256: exp.scenario_sha256.clone(),
             }),
         }
@@ -168,7 +176,7 @@ impl Header {
     pub fn fewer_replications_of(&self, exp: &Experiment) -> bool {
         let now = Header::new(exp, self.shard);
         self.replications < now.replications
-            && exp.content_hash(self.replications) == self.hash
+            && exp.content_hash(self.replications).is_ok_and(|h| h == self.hash)
             && Header {
                 replications: now.replications,
                 units: now.units,
@@ -273,8 +281,8 @@ pub struct Unit {
 }
 
 impl Unit {
-    /// The record of unit `u` of `exp` from its replication's results.
-    pub fn new(exp: &Experiment, u: u64, rep: &RepStats) -> Unit {
+    /// The record of unit `u` of `exp` from its replication's results; `plant` is its design point's.
+    pub fn new(exp: &Experiment, u: u64, plant: &crate::plant::Plant, rep: &RepStats) -> Unit {
         let (point, replication) = exp.unit(u);
         let b64 = |h: &TickHistogram| base64::engine::general_purpose::STANDARD.encode(h.to_v2());
         Unit {
@@ -283,7 +291,7 @@ impl Unit {
             point,
             replication,
             events: rep.events,
-            values: crate::metrics::values(&exp.setups[point].plant, rep)
+            values: crate::metrics::values(plant, rep)
                 .into_iter()
                 .map(|v| v.is_finite().then_some(v))
                 .collect(),
@@ -305,6 +313,28 @@ fn line<T: Serialize>(v: &T) -> Vec<u8> {
     let mut s = serde_json::to_vec(v).expect("plain data serializes");
     s.push(b'\n');
     s
+}
+
+/// The checksum of a unit: 16 hex digits of the SHA-256 of its canonical JSON.
+fn unit_sum(canonical: &[u8]) -> String {
+    Sha256::digest(canonical)[..8].iter().map(|b| format!("{b:02x}")).collect()
+}
+
+/// A unit's line as every results file holds it: its canonical JSON with
+/// `"sum"` added as the last field, newline included.
+pub fn unit_line(unit: &Unit) -> Vec<u8> {
+    let mut s = serde_json::to_vec(unit).expect("plain data serializes");
+    let sum = unit_sum(&s);
+    debug_assert_eq!(s.last(), Some(&b'}'));
+    s.pop();
+    s.extend_from_slice(format!(",\"sum\":\"{sum}\"}}\n").as_bytes());
+    s
+}
+
+/// The checksum field of a unit line (absent in files written before sums existed).
+#[derive(Deserialize)]
+struct Sum {
+    sum: Option<String>,
 }
 
 /// A results file open for appending.
@@ -336,7 +366,7 @@ impl Writer {
 
     /// Append one unit; when this returns, the line is on disk.
     pub fn write(&mut self, unit: &Unit) -> std::io::Result<()> {
-        self.file.write_all(&line(unit))?;
+        self.file.write_all(&unit_line(unit))?;
         self.file.flush()?;
         self.file.sync_data()
     }
@@ -345,6 +375,22 @@ impl Writer {
     pub fn path(&self) -> &Path {
         &self.path
     }
+}
+
+/// Only the header of a results file (its first line), without reading the units.
+pub fn read_header(path: &Path) -> Result<Header, String> {
+    use std::io::BufRead as _;
+    let file = std::fs::File::open(path).map_err(|e| format!("cannot read {}: {e}", path.display()))?;
+    let mut first = String::new();
+    std::io::BufReader::new(file)
+        .read_line(&mut first)
+        .map_err(|e| format!("cannot read {}: {e}", path.display()))?;
+    serde_json::from_str(&first).map_err(|e| {
+        format!(
+            "{}: line 1 is not a layflow experiment header ({e}); is this a results file?",
+            path.display()
+        )
+    })
 }
 
 /// What [`read`] found.
@@ -358,6 +404,8 @@ pub struct Contents {
     pub intact_bytes: u64,
     /// Bytes dropped from the end: a line cut off mid-write (0 when none).
     pub torn_bytes: u64,
+    /// Units read without a checksum (lines written by a layflow from before sums).
+    pub unchecked: usize,
 }
 
 /// Read a results file. A damaged tail (a last line without its newline, or
@@ -396,9 +444,27 @@ pub fn read(path: &Path) -> Result<Contents, String> {
     let mut units = Vec::new();
     let mut intact = header_line.1;
     let mut bad: Option<(usize, String)> = None;
+    let mut unchecked = 0;
     for (n, &(a, b)) in lines.iter().enumerate().skip(1) {
         match serde_json::from_slice::<Unit>(&bytes[a..b]) {
             Ok(u) if bad.is_none() => {
+                match serde_json::from_slice::<Sum>(&bytes[a..b]).ok().and_then(|s| s.sum) {
+                    None => unchecked += 1,
+                    Some(sum) => {
+                        let canonical = serde_json::to_vec(&u).expect("plain data serializes");
+                        if unit_sum(&canonical) != sum {
+                            return Err(format!(
+                                "{}, line {}: unit {} does not match its checksum: the line was changed after \
+                                 layflow wrote it (a disk error or an edit), so its numbers cannot be trusted; \
+                                 delete that line and run the experiment again with --resume (and the same \
+                                 --shard, if any) to redo that unit, or restore the file from a copy",
+                                path.display(),
+                                n + 1,
+                                u.unit
+                            ));
+                        }
+                    }
+                }
                 if u.plan != header.hash[..16] {
                     return Err(format!(
                         "{}, line {}: a result of another plan (hash {}, this file's plan is {}); results of different \
@@ -434,7 +500,13 @@ pub fn read(path: &Path) -> Result<Contents, String> {
             }
         }
     }
-    Ok(Contents { header, units, intact_bytes: intact as u64, torn_bytes: (bytes.len() - intact) as u64 })
+    Ok(Contents {
+        header,
+        units,
+        intact_bytes: intact as u64,
+        torn_bytes: (bytes.len() - intact) as u64,
+        unchecked,
+    })
 }
 
 #[cfg(test)]

@@ -5,17 +5,29 @@
 //! keys of mappings, and in lists either a 0-based index or the `id` of an
 //! element. Each design point is the scenario with its levels written in,
 //! compiled like any scenario, so a level the scenario would refuse is
-//! refused here, with the design point named, before anything runs.
+//! refused here, with the design point named.
+//!
+//! Design points are an index into the factor grid ([`Experiment::point`])
+//! and are compiled when a worker needs one ([`Experiment::setup`], with a
+//! small cache), so plan memory does not grow with a plant per point. At
+//! load, design point 1 and, for every factor, each of its levels (once)
+//! are compiled, so a bad level is refused at once. A plan of up to
+//! [`FULL_HASH_POINTS`] points compiles every point then too, because its
+//! content hash covers every compiled plant (the hash results folders were
+//! made with); a larger plan's hash covers the scenario document and the
+//! levels instead (see [`Experiment::content_hash`]), and a point that
+//! fails only in combination is reported when it is reached.
 
 use std::fmt::Write as _;
 use std::path::{Path, PathBuf};
+use std::sync::{Arc, Mutex};
 
 use serde::Deserialize;
 use serde_norway::{Mapping, Value};
 use sha2::{Digest, Sha256};
 
 use crate::plant::Plant;
-use crate::sim::RunSpec;
+use crate::sim::{Plan, RunSpec};
 use crate::units::parse_duration;
 
 /// A plan as written (see the module notes).
@@ -82,8 +94,109 @@ pub fn value_text(v: &Value) -> String {
     }
 }
 
-/// A checked plan, its design points compiled into plants.
+/// Plans with at most this many design points keep the content hash over
+/// every compiled plant (and so compile every point at load); larger plans
+/// hash the scenario document and the levels (see [`Experiment::content_hash`]).
+pub const FULL_HASH_POINTS: usize = 10_000;
+
+/// The most design points a plan may have: the results file's header lists
+/// every point's levels (about 100 bytes each in memory), so ten million
+/// points hold about 1 GB; split a larger study into several plans.
+pub const MAX_POINTS: u64 = 10_000_000;
+
+/// Design points compiled at load to try every level; a plan with more distinct levels than this
+/// has the rest checked when their points are reached.
+const MAX_PROBES: usize = 2_000;
+
+/// Compiled design points kept at once; a worker's units of one point are
+/// consecutive, so a few per thread suffice.
+const CACHE: usize = 64;
+
+/// The design points: a full factorial (an index into the grid of levels) or a list.
 #[derive(Debug, Clone)]
+enum Design {
+    /// Every combination, the last factor varying fastest.
+    Factorial(Vec<Vec<Value>>),
+    /// The points as listed.
+    List(Vec<DesignPoint>),
+}
+
+impl Design {
+    fn len(&self) -> usize {
+        match self {
+            Design::Factorial(levels) => levels.iter().map(Vec::len).product(),
+            Design::List(points) => points.len(),
+        }
+    }
+
+    fn point(&self, p: usize) -> DesignPoint {
+        match self {
+            Design::Factorial(levels) => {
+                let mut rest = p;
+                let mut out = vec![None; levels.len()];
+                for (f, list) in levels.iter().enumerate().rev() {
+                    out[f] = Some(list[rest % list.len()].clone());
+                    rest /= list.len();
+                }
+                DesignPoint { levels: out }
+            }
+            Design::List(points) => points[p].clone(),
+        }
+    }
+
+    /// Points that together show every factor's every level once: design
+    /// point 1 first, then (for a grid) each other level with the other
+    /// factors at their first, (for a list) the first point with each level.
+    fn level_probes(&self) -> Vec<usize> {
+        let mut out = vec![0];
+        match self {
+            Design::Factorial(levels) => {
+                let mut stride = 1;
+                for list in levels.iter().rev() {
+                    out.extend((1..list.len()).map(|i| i * stride));
+                    stride *= list.len();
+                }
+            }
+            Design::List(points) => {
+                let factors = points.first().map_or(0, |p| p.levels.len());
+                for f in 0..factors {
+                    let mut seen: std::collections::HashSet<&Option<Value>> =
+                        std::collections::HashSet::new();
+                    for (i, p) in points.iter().enumerate() {
+                        if seen.insert(&p.levels[f]) {
+                            out.push(i);
+                        }
+                    }
+                }
+            }
+        }
+        out.sort_unstable();
+        out.dedup();
+        // A list may give every point its own level: past this many, the rest are checked when reached.
+        out.truncate(MAX_PROBES);
+        out
+    }
+}
+
+/// What compiling a design point needs: the scenario document, its plant, the plan's settings.
+#[derive(Debug)]
+struct Compiler {
+    file: PathBuf,
+    text: String,
+    scenario: PathBuf,
+    scenario_text: String,
+    base: Value,
+    base_plant: Plant,
+    horizon: Option<f64>,
+    warmup: Option<f64>,
+    seed: u64,
+    common_random_numbers: bool,
+    /// `--allow-overload`: every point's plant runs with the WIP cap.
+    allow_overload: bool,
+}
+
+/// A checked plan; its design points are compiled when needed.
+#[derive(Debug)]
 pub struct Experiment {
     /// The plan file.
     pub file: PathBuf,
@@ -100,9 +213,13 @@ pub struct Experiment {
     /// The factors, in plan order.
     pub factors: Vec<Factor>,
     /// The design points, in plan order (full factorial: the last factor varies fastest).
-    pub points: Vec<DesignPoint>,
-    /// Per design point: the plant and what a replication of it runs.
-    pub setups: Vec<Setup>,
+    design: Design,
+    compiler: Compiler,
+    /// Design point 1, compiled at load: every point reports its metrics.
+    first: Arc<Setup>,
+    /// Its metric labels: every point must report the same.
+    first_metrics: Vec<String>,
+    cache: Mutex<Vec<(usize, Arc<Setup>)>>,
     /// Content hash of everything that decides the results (plan settings,
     /// every design point's compiled plant, the layflow version), hex.
     pub hash: String,
@@ -115,6 +232,8 @@ pub struct Setup {
     pub plant: Plant,
     /// Layout, horizon, warm-up, demand factor and seed.
     pub spec: RunSpec,
+    /// The plant prepared for the simulation of that layout.
+    pub sim: Plan,
 }
 
 /// (design point, replication) of unit `u` when each point has `replications`
@@ -127,7 +246,22 @@ pub fn unit_of(u: u64, replications: u32) -> (usize, u64) {
 impl Experiment {
     /// Units of work: design points × replications.
     pub fn units(&self) -> u64 {
-        self.points.len() as u64 * u64::from(self.replications)
+        self.point_count() as u64 * u64::from(self.replications)
+    }
+
+    /// The number of design points.
+    pub fn point_count(&self) -> usize {
+        self.design.len()
+    }
+
+    /// Design point `p` (0-based): its level of every factor.
+    pub fn point(&self, p: usize) -> DesignPoint {
+        self.design.point(p)
+    }
+
+    /// Design point 1, compiled at load.
+    pub fn first(&self) -> &Setup {
+        &self.first
     }
 
     /// (design point, replication) of unit `u`: replications of a point are consecutive.
@@ -135,22 +269,94 @@ impl Experiment {
         unit_of(u, self.replications)
     }
 
+    /// Design point `p` compiled (from a small cache, or now). An error is
+    /// the plan's (exit 2), naming the design point and its levels.
+    pub fn setup(&self, p: usize) -> Result<Arc<Setup>, PlanError> {
+        if p == 0 {
+            return Ok(self.first.clone());
+        }
+        if let Some((_, s)) = self.cache.lock().expect("no panic holding the cache").iter().find(|c| c.0 == p)
+        {
+            return Ok(s.clone());
+        }
+        let s = Arc::new(self.compile(p)?);
+        let mut cache = self.cache.lock().expect("no panic holding the cache");
+        if cache.len() >= CACHE {
+            cache.remove(0);
+        }
+        cache.push((p, s.clone()));
+        Ok(s)
+    }
+
+    /// Run every design point with `--allow-overload` (a WIP cap instead of
+    /// a stop). The flag changes the results, so it enters the content hash:
+    /// a folder run with it resumes and merges only with it.
+    pub fn allow_overload(&mut self) -> Result<(), PlanError> {
+        self.compiler.allow_overload = true;
+        self.cache.lock().expect("no panic holding the cache").clear();
+        let first = compile_point(&self.compiler, &self.factors, 0, &self.design.point(0))?;
+        self.first_metrics = crate::metrics::metrics(&first.plant).iter().map(|m| m.label()).collect();
+        self.first = Arc::new(first);
+        self.hash = self.content_hash(self.replications)?;
+        Ok(())
+    }
+
+    fn compile(&self, p: usize) -> Result<Setup, PlanError> {
+        let s = compile_point(&self.compiler, &self.factors, p, &self.design.point(p))?;
+        let here: Vec<String> = crate::metrics::metrics(&s.plant).iter().map(|m| m.label()).collect();
+        if here != self.first_metrics {
+            return Err(err(
+                &self.compiler.file,
+                None,
+                format!("design point {} changes which products, departments or fleets the plant has", p + 1),
+                "factors may change values, not the plant's structure",
+            ));
+        }
+        Ok(s)
+    }
+
     /// The content hash this plan would have with `replications` per design
-    /// point: everything that decides the results (plan settings, every
-    /// design point's compiled plant, the layflow version), hex. With the
-    /// plan's own count it is [`Experiment::hash`]; with another it tells
-    /// whether a folder differs from this plan in its replications alone.
-    pub fn content_hash(&self, replications: u32) -> String {
+    /// point: everything that decides the results, hex. With the plan's own
+    /// count it is [`Experiment::hash`]; with another it tells whether a
+    /// folder differs from this plan in its replications alone.
+    ///
+    /// A plan of up to [`FULL_HASH_POINTS`] points hashes the plan settings,
+    /// every design point's compiled plant and the layflow version (so an
+    /// edit that leaves every plant alone changes nothing); this compiles
+    /// every point, one at a time. A larger plan hashes the plan settings,
+    /// the scenario as a YAML document (comments and layout of the text do
+    /// not count), the levels and the layflow version: the same inputs the
+    /// plants are compiled from, without compiling a million of them.
+    pub fn content_hash(&self, replications: u32) -> Result<String, PlanError> {
         let mut h = Sha256::new();
         h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
         h.update(format!("{:?}\n{}\n{}\n", replications, self.seed, self.common_random_numbers));
         for (s, f) in self.factors.iter().enumerate() {
             h.update(format!("factor {s} {:?}\n", f));
         }
-        for (p, s) in self.points.iter().zip(&self.setups) {
-            h.update(format!("{:?}\n{:?}\n{:?}\n", p.levels, s.spec, s.plant));
+        let n = self.point_count();
+        if n <= FULL_HASH_POINTS {
+            for p in 0..n {
+                let s = if p == 0 { self.first.clone() } else { Arc::new(self.compile(p)?) };
+                h.update(format!("{:?}\n{:?}\n{:?}\n", self.point(p).levels, s.spec, s.plant));
+            }
+        } else {
+            let c = &self.compiler;
+            h.update(format!("points {n} by document\n{:?}\n{:?}\n", c.horizon, c.warmup));
+            if c.allow_overload {
+                h.update("allow overload\n");
+            }
+            h.update(serde_norway::to_string(&c.base).unwrap_or_default());
+            match &self.design {
+                Design::Factorial(levels) => h.update(format!("factorial {levels:?}\n")),
+                Design::List(points) => {
+                    for p in points {
+                        h.update(format!("{:?}\n", p.levels));
+                    }
+                }
+            }
         }
-        h.finalize().iter().map(|b| format!("{b:02x}")).collect()
+        Ok(h.finalize().iter().map(|b| format!("{b:02x}")).collect())
     }
 }
 
@@ -243,8 +449,12 @@ fn field_mut<'a>(root: &'a mut Value, path: &[String]) -> Result<&'a mut Value, 
 
 /// Read and check a plan, compiling every design point's plant.
 pub fn load(file: &Path) -> Result<Experiment, PlanError> {
-    let text = std::fs::read_to_string(file)
-        .map_err(|e| err(file, None, format!("cannot read the plan: {e}"), "check the path"))?;
+    let text = crate::textfile::read_text(file).map_err(|e| match e {
+        crate::textfile::TextError::Io(e) => {
+            err(file, None, format!("cannot read the plan: {e}"), "check the path")
+        }
+        crate::textfile::TextError::Encoding { line, message, hint, .. } => err(file, line, message, hint),
+    })?;
     let de = serde_norway::Deserializer::from_str(&text);
     let spec: PlanSpec = serde_path_to_error::deserialize(de).map_err(|e| {
         let line = e.inner().location().map(|l| l.line());
@@ -270,13 +480,16 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     }
     let dir = file.parent().unwrap_or_else(|| Path::new(""));
     let scenario = dir.join(&spec.scenario);
-    let scenario_text = std::fs::read_to_string(&scenario).map_err(|e| {
-        err(
+    let scenario_text = crate::textfile::read_text(&scenario).map_err(|e| match e {
+        crate::textfile::TextError::Io(e) => err(
             file,
             line_of(&text, "scenario"),
             format!("cannot read the scenario {}: {e}", scenario.display()),
             "the scenario is named relative to the plan file",
-        )
+        ),
+        crate::textfile::TextError::Encoding { line, message, hint, .. } => {
+            err(&scenario, line, message, hint)
+        }
     })?;
     // The scenario as it stands must be valid on its own.
     let base_plant =
@@ -284,7 +497,7 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let base: Value = serde_norway::from_str(&scenario_text)
         .map_err(|e| err(&scenario, None, format!("not YAML: {e}"), ""))?;
 
-    let (factors, points) = design(file, &text, &spec, &base)?;
+    let (factors, design) = design(file, &text, &spec, &base)?;
     let duration = |key: &str, v: &Option<String>| -> Result<Option<f64>, PlanError> {
         v.as_ref()
             .map(|t| {
@@ -302,99 +515,24 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
     let horizon = duration("horizon", &spec.horizon)?;
     let warmup = duration("warmup", &spec.warmup)?;
     let seed = spec.seed.unwrap_or(base_plant.run.seed);
-
-    let mut setups = Vec::with_capacity(points.len());
-    for (p, point) in points.iter().enumerate() {
-        let describe = || {
-            let parts: Vec<String> =
-                factors.iter().zip(point.labels()).map(|(f, l)| format!("{} = {l}", f.name)).collect();
-            format!("design point {} ({})", p + 1, parts.join(", "))
-        };
-        let mut doc = base.clone();
-        let mut layout = None;
-        let mut demand = None;
-        for (f, level) in factors.iter().zip(&point.levels) {
-            let Some(level) = level else { continue };
-            match &f.kind {
-                FactorKind::Layout => layout = Some(value_text(level)),
-                FactorKind::Demand => demand = demand_level(level),
-                FactorKind::Field(path) => {
-                    *field_mut(&mut doc, path).map_err(|e| err(file, line_of(&text, &f.name), e, ""))? =
-                        level.clone();
-                }
-            }
-        }
-        let plant = if factors.iter().any(|f| matches!(f.kind, FactorKind::Field(_))) {
-            let yaml = serde_norway::to_string(&doc).expect("a YAML value serializes");
-            crate::parse_scenario(&yaml, &scenario).map_err(|e| {
-                err(
-                    file,
-                    None,
-                    format!(
-                        "{}: the scenario refuses it: {}",
-                        describe(),
-                        e.to_string().replace('\n', "\n  ")
-                    ),
-                    "line numbers in that message refer to the scenario with the levels written in",
-                )
-            })?
-        } else {
-            base_plant.clone()
-        };
-        let layout_index = match &layout {
-            None => 0,
-            Some(name) => plant.layout_index(name).ok_or_else(|| {
-                let known: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
-                err(
-                    file,
-                    line_of(&text, "layout"),
-                    format!("{}: no layout named {name:?}", describe()),
-                    &format!("the scenario's layouts: {}", known.join(", ")),
-                )
-            })?,
-        };
-        let horizon_s = horizon.unwrap_or(plant.run.horizon_s);
-        let warmup_s = warmup.unwrap_or(plant.run.warmup_s);
-        if warmup_s >= horizon_s {
-            return Err(err(
-                file,
-                line_of(&text, "warmup"),
-                format!("the warm-up ({warmup_s} s) must end before the horizon ({horizon_s} s)"),
-                "",
-            ));
-        }
-        let point_seed = if spec.common_random_numbers { seed } else { mix(seed, p as u64) };
-        let spec = RunSpec {
-            layout: layout_index,
-            horizon_s,
-            warmup_s,
-            demand_factor: demand.unwrap_or(plant.demand_factor),
-            seed: point_seed,
-        };
-        // The plan may raise the horizon or the demand above what the
-        // scenario was checked with: the lots ceiling applies to the point.
-        let lots = plant.lots_bound(spec.horizon_s, spec.demand_factor);
-        let horizon_words = crate::units::format_duration(spec.horizon_s);
-        if let Err(m) = crate::limits::check_lots(lots, &horizon_words, spec.demand_factor) {
-            return Err(err(file, None, format!("design point {}: {m}", p + 1), ""));
-        }
-        setups.push(Setup { plant, spec });
-    }
-    // Every point must report the same metrics, so results line up in one table.
-    let first = crate::metrics::metrics(&setups[0].plant).iter().map(|m| m.label()).collect::<Vec<_>>();
-    for (p, s) in setups.iter().enumerate().skip(1) {
-        let here: Vec<String> = crate::metrics::metrics(&s.plant).iter().map(|m| m.label()).collect();
-        if here != first {
-            return Err(err(
-                file,
-                None,
-                format!("design point {} changes which products, departments or fleets the plant has", p + 1),
-                "factors may change values, not the plant's structure",
-            ));
-        }
-    }
-    let scenario_sha256 =
+    let scenario_sha256: String =
         Sha256::digest(scenario_text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
+    let compiler = Compiler {
+        file: file.to_path_buf(),
+        text,
+        scenario: scenario.clone(),
+        scenario_text,
+        base,
+        base_plant,
+        horizon,
+        warmup,
+        seed,
+        common_random_numbers: spec.common_random_numbers,
+        allow_overload: false,
+    };
+    // Design point 1 at once: whatever else is wrong, this is said first.
+    let first = compile_point(&compiler, &factors, 0, &design.point(0))?;
+    let first_metrics = crate::metrics::metrics(&first.plant).iter().map(|m| m.label()).collect();
     let mut exp = Experiment {
         file: file.to_path_buf(),
         scenario,
@@ -403,12 +541,174 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
         seed,
         common_random_numbers: spec.common_random_numbers,
         factors,
-        points,
-        setups,
+        design,
+        compiler,
+        first: Arc::new(first),
+        first_metrics,
+        cache: Mutex::new(Vec::new()),
         hash: String::new(),
     };
-    exp.hash = exp.content_hash(spec.replications);
+    // Every level once (a few compiles), so a bad level is refused before hours of work.
+    for p in exp.design.level_probes() {
+        exp.setup(p)?;
+    }
+    exp.hash = exp.content_hash(spec.replications)?;
     Ok(exp)
+}
+
+/// The scenario's refusal of a design point, in the user's files: a field a
+/// factor sets is blamed on the plan's line of that factor; anything else on
+/// the scenario file's own line of the field (the copy with the levels
+/// written in, whose line numbers mean nothing to the user, is never quoted).
+fn point_error(
+    c: &Compiler,
+    factors: &[Factor],
+    point: &DesignPoint,
+    describe: &str,
+    e: &crate::ScenarioError,
+) -> PlanError {
+    let at = e.path().unwrap_or("");
+    let hint = e.hint().unwrap_or("");
+    let set_by = factors.iter().zip(&point.levels).find_map(|(f, level)| {
+        let (FactorKind::Field(path), Some(level)) = (&f.kind, level) else { return None };
+        let field = indexed_path(&c.base, path);
+        let inside =
+            at == field || at.starts_with(&format!("{field}.")) || at.starts_with(&format!("{field}["));
+        inside.then_some((f, level))
+    });
+    match set_by {
+        Some((f, level)) => err(
+            &c.file,
+            line_of(&c.text, &f.name),
+            format!("factor `{}`, level {}, in {describe}: {}", f.name, value_text(level), e.message()),
+            hint,
+        ),
+        None => {
+            let line = if at.is_empty() { None } else { crate::scenario::line_of_path(&c.scenario_text, at) };
+            let what = if at.is_empty() { e.message().to_string() } else { format!("{at}: {}", e.message()) };
+            err(
+                &c.scenario,
+                line,
+                format!("{what} (with the levels of {describe} of {})", c.file.display()),
+                hint,
+            )
+        }
+    }
+}
+
+/// A factor's path with list entries named by id turned into indices, as the
+/// scenario's messages write paths (`departments.drilling.machines` →
+/// `departments[2].machines`).
+fn indexed_path(base: &Value, path: &[String]) -> String {
+    let mut out = String::new();
+    let mut at = Some(base);
+    for seg in path {
+        match at {
+            Some(Value::Sequence(items)) => {
+                let i = seg.parse::<usize>().ok().or_else(|| {
+                    items.iter().position(|v| v.get("id").map(value_text).as_deref() == Some(seg.as_str()))
+                });
+                match i {
+                    Some(i) => {
+                        let _ = write!(out, "[{i}]");
+                        at = items.get(i);
+                    }
+                    None => {
+                        let _ = write!(out, "[{seg}]");
+                        at = None;
+                    }
+                }
+            }
+            other => {
+                if !out.is_empty() {
+                    out.push('.');
+                }
+                out.push_str(seg);
+                at = other.and_then(|v| v.get(seg.as_str()));
+            }
+        }
+    }
+    out
+}
+
+/// Compile design point `p` (0-based) with its levels written into the scenario.
+fn compile_point(
+    c: &Compiler,
+    factors: &[Factor],
+    p: usize,
+    point: &DesignPoint,
+) -> Result<Setup, PlanError> {
+    let file = c.file.as_path();
+    let text = c.text.as_str();
+    let describe = || {
+        let parts: Vec<String> =
+            factors.iter().zip(point.labels()).map(|(f, l)| format!("{} = {l}", f.name)).collect();
+        format!("design point {} ({})", p + 1, parts.join(", "))
+    };
+    let mut layout = None;
+    let mut demand = None;
+    let fields = factors.iter().any(|f| matches!(f.kind, FactorKind::Field(_)));
+    let mut doc = if fields { Some(c.base.clone()) } else { None };
+    for (f, level) in factors.iter().zip(&point.levels) {
+        let Some(level) = level else { continue };
+        match &f.kind {
+            FactorKind::Layout => layout = Some(value_text(level)),
+            FactorKind::Demand => demand = demand_level(level),
+            FactorKind::Field(path) => {
+                let doc = doc.as_mut().expect("a field factor clones the document");
+                *field_mut(doc, path).map_err(|e| err(file, line_of(text, &f.name), e, ""))? = level.clone();
+            }
+        }
+    }
+    let plant = match &doc {
+        Some(doc) => {
+            let yaml = serde_norway::to_string(doc).expect("a YAML value serializes");
+            crate::parse_scenario(&yaml, &c.scenario)
+                .map_err(|e| point_error(c, factors, point, &describe(), &e))?
+        }
+        None => c.base_plant.clone(),
+    };
+    let layout_index = match &layout {
+        None => 0,
+        Some(name) => plant.layout_index(name).ok_or_else(|| {
+            let known: Vec<&str> = plant.layouts.iter().map(|l| l.name.as_str()).collect();
+            err(
+                file,
+                line_of(text, "layout"),
+                format!("{}: no layout named {name:?}", describe()),
+                &format!("the scenario's layouts: {}", known.join(", ")),
+            )
+        })?,
+    };
+    let horizon_s = c.horizon.unwrap_or(plant.run.horizon_s);
+    let warmup_s = c.warmup.unwrap_or(plant.run.warmup_s);
+    if warmup_s >= horizon_s {
+        return Err(err(
+            file,
+            line_of(text, "warmup"),
+            format!("the warm-up ({warmup_s} s) must end before the horizon ({horizon_s} s)"),
+            "",
+        ));
+    }
+    let point_seed = if c.common_random_numbers { c.seed } else { mix(c.seed, p as u64) };
+    let spec = RunSpec {
+        layout: layout_index,
+        horizon_s,
+        warmup_s,
+        demand_factor: demand.unwrap_or(plant.demand_factor),
+        seed: point_seed,
+    };
+    // The plan may raise the horizon or the demand above what the
+    // scenario was checked with: the lots ceiling applies to the point.
+    let lots = plant.lots_bound(spec.horizon_s, spec.demand_factor);
+    let horizon_words = crate::units::format_duration(spec.horizon_s);
+    if let Err(m) = crate::limits::check_lots(lots, &horizon_words, spec.demand_factor) {
+        return Err(err(file, None, format!("design point {}: {m}", p + 1), ""));
+    }
+    let mut plant = plant;
+    plant.run.allow_overload = c.allow_overload;
+    let sim = Plan::new(&plant, layout_index);
+    Ok(Setup { plant, spec, sim })
 }
 
 /// SplitMix64 of (seed, point): independent streams per design point when
@@ -466,7 +766,7 @@ fn design(
     text: &str,
     spec: &PlanSpec,
     base: &Value,
-) -> Result<(Vec<Factor>, Vec<DesignPoint>), PlanError> {
+) -> Result<(Vec<Factor>, Design), PlanError> {
     let key_name = |k: &Value| -> Result<String, PlanError> {
         k.as_str()
             .map(str::to_string)
@@ -526,21 +826,18 @@ fn design(
                 factors.push(f);
                 levels.push(list);
             }
-            // Full factorial, the last factor varying fastest.
-            let mut points = vec![DesignPoint { levels: Vec::new() }];
-            for list in &levels {
-                points = points
-                    .into_iter()
-                    .flat_map(|p| {
-                        list.iter().map(move |l| {
-                            let mut q = p.clone();
-                            q.levels.push(Some(l.clone()));
-                            q
-                        })
-                    })
-                    .collect();
+            // Full factorial, the last factor varying fastest: an index into the grid, never listed.
+            let n = levels.iter().try_fold(1u64, |n, l| n.checked_mul(l.len() as u64)).unwrap_or(u64::MAX);
+            if n > MAX_POINTS {
+                return Err(err(
+                    file,
+                    line_of(text, "factors"),
+                    format!("the factors make {n} design points; the most a plan may have is {MAX_POINTS}"),
+                    "the results file lists every point's levels, so a plan this size needs gigabytes before \
+                     a unit runs; split the study into several plans (e.g. one per level of a factor)",
+                ));
             }
-            Ok((factors, points))
+            Ok((factors, Design::Factorial(levels)))
         }
         (None, Some(list)) => {
             if list.is_empty() {
@@ -561,7 +858,9 @@ fn design(
                     }
                 }
             }
-            let mut points = Vec::new();
+            let mut points: Vec<DesignPoint> = Vec::new();
+            // Points by hash: a repeat is found without comparing every pair.
+            let mut seen: std::collections::HashMap<u64, Vec<usize>> = std::collections::HashMap::new();
             for (i, m) in list.iter().enumerate() {
                 let mut levels = Vec::new();
                 for f in &factors {
@@ -572,7 +871,14 @@ fn design(
                     levels.push(v);
                 }
                 let p = DesignPoint { levels };
-                if points.contains(&p) {
+                let key = {
+                    use std::hash::{Hash as _, Hasher as _};
+                    let mut h = std::collections::hash_map::DefaultHasher::new();
+                    p.levels.hash(&mut h);
+                    h.finish()
+                };
+                let same = seen.entry(key).or_default();
+                if same.iter().any(|&j| points[j] == p) {
                     return Err(err(
                         file,
                         None,
@@ -580,9 +886,10 @@ fn design(
                         "list each combination once; replications repeat it",
                     ));
                 }
+                same.push(points.len());
                 points.push(p);
             }
-            Ok((factors, points))
+            Ok((factors, Design::List(points)))
         }
     }
 }
@@ -624,10 +931,41 @@ mod tests {
     #[test]
     fn demand_levels_may_be_percentages() {
         let e = plan("replications: 2\nfactors: { demand: [80%, 1.2] }\n").unwrap();
-        let levels: Vec<f64> = e.setups.iter().map(|s| s.spec.demand_factor).collect();
+        let levels: Vec<f64> = (0..e.point_count()).map(|p| e.setup(p).unwrap().spec.demand_factor).collect();
         assert_eq!(levels, [0.8, 1.2]);
         let e = plan("replications: 2\nfactors: { demand: [lots] }\n").unwrap_err();
         assert!(e.message.contains("level lots is not a demand factor > 0"), "{}", e.message);
+    }
+
+    #[test]
+    fn a_grid_is_indexed_in_plan_order_and_probed_once_per_level() {
+        let v = |x: i64| Value::from(x);
+        let d = Design::Factorial(vec![vec![v(1), v(2), v(3)], vec![v(10), v(20)]]);
+        let order: Vec<Vec<Option<Value>>> = (0..d.len()).map(|p| d.point(p).levels).collect();
+        let want: Vec<Vec<Option<Value>>> = [1, 2, 3]
+            .iter()
+            .flat_map(|&a| [10, 20].iter().map(move |&b| vec![Some(v(a)), Some(v(b))]))
+            .collect();
+        assert_eq!(order, want, "the last factor varies fastest");
+        // Point 1, then 20 with the first of the other factor, then 2 and 3 likewise.
+        assert_eq!(d.level_probes(), [0, 1, 2, 4]);
+    }
+
+    #[test]
+    fn a_million_points_load_without_compiling_them() {
+        let levels: Vec<String> = (0..1000).map(|i| format!("{:.3}", 0.5 + f64::from(i) * 0.001)).collect();
+        let counts: Vec<String> = (1..=1000).map(|i| i.to_string()).collect();
+        let e = plan(&format!(
+            "replications: 1\nfactors:\n  demand: [{}]\n  departments.drilling.machines: [{}]\n",
+            levels.join(", "),
+            counts.join(", ")
+        ))
+        .unwrap();
+        assert_eq!(e.point_count(), 1_000_000);
+        assert!(e.cache.lock().unwrap().len() <= CACHE, "plan memory holds a bounded number of plants");
+        let last = e.setup(999_999).unwrap();
+        assert_eq!(last.plant.departments[2].machines, 1000);
+        assert_eq!(last.spec.demand_factor, 1.499);
     }
 
     #[test]

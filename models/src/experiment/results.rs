@@ -97,60 +97,71 @@ pub fn canonical(mut units: Vec<Unit>) -> Result<Vec<Unit>, String> {
     Ok(out)
 }
 
-/// Summarise units (canonical order) under `header`.
+/// Summarise units under `header`: one pass that groups the units by design
+/// point (so a plan of a million points costs a sort, not a scan per point).
 pub fn summarize(header: &Header, units: &[Unit]) -> Result<Summary, String> {
+    let mut refs: Vec<&Unit> = units.iter().collect();
+    refs.sort_by_key(|u| (u.point, u.unit));
+    let mut rest = refs.as_slice();
     let mut points = Vec::with_capacity(header.points.len());
-    for (p, levels) in header.points.iter().enumerate() {
-        let mine: Vec<&Unit> = units.iter().filter(|u| u.point == p).collect();
-        let metrics = header
-            .metrics
-            .iter()
-            .enumerate()
-            .map(|(m, name)| {
-                let xs: Vec<f64> = mine.iter().filter_map(|u| u.values[m]).collect();
-                let iv = interval(&xs, CONFIDENCE);
-                MetricSummary {
-                    scope: name.scope.clone(),
-                    subject: name.subject.clone(),
-                    metric: name.name.clone(),
-                    n: xs.len(),
-                    mean: iv.mean.is_finite().then_some(iv.mean),
-                    half_width: iv.half_width,
-                }
-            })
-            .collect();
-        let mut percentiles = Vec::new();
-        for (metric, pick) in [("flow_time_s", 0usize), ("move_wait_s", 1)] {
-            let mut pooled = TickHistogram::new(TICK_S);
-            for u in &mine {
-                let text = if pick == 0 { &u.flow_time_hist } else { &u.move_wait_hist };
-                let h = Unit::histogram(text)
-                    .map_err(|e| format!("unit {} ({metric} histogram): {e}", u.unit))?;
-                pooled.merge(&h);
-            }
-            for &(q, name) in PERCENTILES {
-                percentiles.push(Percentile {
-                    metric,
-                    percentile: name,
-                    value_s: pooled.quantile(q),
-                    observations: pooled.count(),
-                });
-            }
-        }
-        points.push(PointSummary {
-            point: p + 1,
-            levels: levels.clone(),
-            replications: mine.len(),
-            events: mine.iter().map(|u| u.events).sum(),
-            metrics,
-            percentiles,
-        });
+    for p in 0..header.points.len() {
+        let n = rest.iter().take_while(|u| u.point == p).count();
+        let (mine, after) = rest.split_at(n);
+        rest = after;
+        points.push(summarize_point(header, p, mine)?);
     }
     Ok(Summary {
         plan_hash: header.hash.clone(),
         factors: header.factors.clone(),
         confidence: CONFIDENCE,
         points,
+    })
+}
+
+/// Summarise design point `p` (0-based) from its units `mine`.
+pub fn summarize_point(header: &Header, p: usize, mine: &[&Unit]) -> Result<PointSummary, String> {
+    let metrics = header
+        .metrics
+        .iter()
+        .enumerate()
+        .map(|(m, name)| {
+            let xs: Vec<f64> = mine.iter().filter_map(|u| u.values[m]).collect();
+            let iv = interval(&xs, CONFIDENCE);
+            MetricSummary {
+                scope: name.scope.clone(),
+                subject: name.subject.clone(),
+                metric: name.name.clone(),
+                n: xs.len(),
+                mean: iv.mean.is_finite().then_some(iv.mean),
+                half_width: iv.half_width,
+            }
+        })
+        .collect();
+    let mut percentiles = Vec::new();
+    for (metric, pick) in [("flow_time_s", 0usize), ("move_wait_s", 1)] {
+        let mut pooled = TickHistogram::new(TICK_S);
+        for u in mine {
+            let text = if pick == 0 { &u.flow_time_hist } else { &u.move_wait_hist };
+            let h =
+                Unit::histogram(text).map_err(|e| format!("unit {} ({metric} histogram): {e}", u.unit))?;
+            pooled.merge(&h);
+        }
+        for &(q, name) in PERCENTILES {
+            percentiles.push(Percentile {
+                metric,
+                percentile: name,
+                value_s: pooled.quantile(q),
+                observations: pooled.count(),
+            });
+        }
+    }
+    Ok(PointSummary {
+        point: p + 1,
+        levels: header.points[p].clone(),
+        replications: mine.len(),
+        events: mine.iter().map(|u| u.events).sum(),
+        metrics,
+        percentiles,
     })
 }
 
@@ -253,8 +264,7 @@ pub fn units_jsonl(header: &Header, units: &[Unit]) -> Vec<u8> {
     let mut out = serde_json::to_vec(header).expect("plain data serializes");
     out.push(b'\n');
     for u in units {
-        out.extend(serde_json::to_vec(u).expect("plain data serializes"));
-        out.push(b'\n');
+        out.extend(super::journal::unit_line(u));
     }
     out
 }

@@ -6,7 +6,7 @@ use crate::metrics::estimate::{Estimate, CONFIDENCE};
 use crate::metrics::list::Metric;
 use crate::study::compare::CompareOutput;
 
-use super::folder::{write_atomic, write_manifest, Kind, ResultsError};
+use super::folder::{sha256_hex, write_atomic, write_manifest_for, Kind, ResultsError};
 
 /// The files a comparison writes, in reading order.
 pub const FILES: &[&str] = &["summary.json", "summary.csv", "replications.csv"];
@@ -21,7 +21,10 @@ pub fn write(dir: &Path, out: &CompareOutput, metric_list: &[Metric]) -> Result<
     write_atomic(dir, "summary.json", summary_json(out).as_bytes())?;
     write_atomic(dir, "summary.csv", &summary_csv(out, metric_list)?)?;
     write_atomic(dir, "replications.csv", &replications_csv(out, metric_list)?)?;
-    write_manifest(dir, Kind::Compare, FILES)
+    // The scenario as it is now (it was read moments ago), so `draw --results`
+    // can tell these results from another scenario's.
+    let scenario = std::fs::read(&out.scenario).ok().map(|t| sha256_hex(&t));
+    write_manifest_for(dir, Kind::Compare, FILES, scenario)
 }
 
 /// One row per demand level × layout × metric: the layout's mean and the

@@ -43,6 +43,18 @@ pub struct Manifest {
     pub layflow_version: String,
     /// The files of the study, in the order they are best read.
     pub files: Vec<String>,
+    /// SHA-256 (hex) of the scenario file's text the study ran, so a reader
+    /// (`draw --results`) can refuse another scenario's results (absent in
+    /// folders written before it was recorded, and in experiment folders,
+    /// whose units.jsonl header records it).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub scenario_sha256: Option<String>,
+}
+
+/// SHA-256 of `bytes`, hex: how a results folder names the scenario text it ran.
+pub fn sha256_hex(bytes: &[u8]) -> String {
+    use sha2::Digest as _;
+    sha2::Sha256::digest(bytes).iter().map(|b| format!("{b:02x}")).collect()
 }
 
 /// Why a folder cannot be used or written.
@@ -295,10 +307,21 @@ pub fn read_manifest(dir: &Path) -> Result<Option<Manifest>, ResultsError> {
 
 /// Write the manifest for a folder of `kind` holding `files`.
 pub fn write_manifest(dir: &Path, kind: Kind, files: &[&str]) -> Result<(), ResultsError> {
+    write_manifest_for(dir, kind, files, None)
+}
+
+/// Write the manifest, recording the SHA-256 of the scenario text the study ran.
+pub fn write_manifest_for(
+    dir: &Path,
+    kind: Kind,
+    files: &[&str],
+    scenario_sha256: Option<String>,
+) -> Result<(), ResultsError> {
     let m = Manifest {
         kind,
         layflow_version: env!("CARGO_PKG_VERSION").to_string(),
         files: files.iter().map(|f| f.to_string()).collect(),
+        scenario_sha256,
     };
     let json = serde_json::to_string_pretty(&m).expect("a manifest serialises") + "\n";
     write_atomic(dir, MANIFEST, json.as_bytes())

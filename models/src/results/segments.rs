@@ -32,13 +32,28 @@ impl SegmentFigures {
 /// Reads `summary.csv` of a `compare --out` or experiment folder: the rows of
 /// scope `segment` for the drawn layout (where the file has a `layout`
 /// column), at the first demand factor or design point listed. `None` when
-/// the folder holds no per-segment results.
+/// the folder holds no per-segment results. `scenario_sha256` is the SHA-256
+/// of the drawn scenario's text: a folder that records another is refused
+/// (segments are matched by number, which means nothing across scenarios).
 pub fn read_segments(
     dir: &Path,
     plant: &Plant,
     layout: usize,
+    scenario_sha256: &str,
 ) -> Result<Option<SegmentFigures>, ResultsError> {
     one_study(dir).map_err(|e| ResultsError::Input(format!("--results {e}")))?;
+    if let Some(theirs) = recorded_scenario(dir)? {
+        if theirs != scenario_sha256 {
+            return Err(ResultsError::Input(format!(
+                "--results {}: these results were made from another scenario, or from another version of this \
+                 one (its text differs: SHA-256 {} there, {} now); draw the scenario they were made from, or \
+                 rerun the study on this one",
+                dir.display(),
+                &theirs[..theirs.len().min(16)],
+                &scenario_sha256[..scenario_sha256.len().min(16)]
+            )));
+        }
+    }
     let Some(net) = plant.aisles.as_ref() else {
         return Ok(None);
     };
@@ -111,4 +126,23 @@ pub fn read_segments(
     let (traffic, delay) = (clean(traffic), clean(delay));
     let by_delay = delay.iter().any(|&d| d > 0.0);
     Ok(Some(SegmentFigures { traffic, delay, by_delay }))
+}
+
+/// The SHA-256 of the scenario text a folder's study ran, where it was
+/// recorded: an experiment's units.jsonl header, or a comparison's manifest.
+fn recorded_scenario(dir: &Path) -> Result<Option<String>, ResultsError> {
+    let Some(m) = read_manifest(dir)? else { return Ok(None) };
+    Ok(match m.kind {
+        Kind::Compare => m.scenario_sha256,
+        Kind::Experiment => {
+            let path = dir.join(crate::experiment::journal::FILE);
+            if !path.is_file() {
+                return Ok(None);
+            }
+            crate::experiment::journal::read_header(&path)
+                .map_err(|e| ResultsError::Input(format!("--results {e}")))?
+                .settings
+                .map(|s| s.scenario_sha256)
+        }
+    })
 }

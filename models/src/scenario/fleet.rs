@@ -37,6 +37,15 @@ pub(crate) fn handling(
         }
         return Ok(Handling::Instant);
     }
+    if fleets.is_empty() && s.fleets.is_some() {
+        // `fleets: []` is written: point at it.
+        return Err(ctx
+            .err(&FieldPath::root().key("fleets"), "the list is empty, so the plant has no way to move loads")
+            .with_hint(
+                "list at least one fleet (forklifts, tow carts, walkers), or write `moves: instant` instead of \
+                 `fleets` for moves that take no time",
+            ));
+    }
     if fleets.is_empty() {
         return Err(ScenarioError::new(
             super::error::ErrorKind::Invalid,

@@ -35,8 +35,13 @@ use crate::suggest::{did_you_mean, name_list};
 /// Reads, checks and compiles the scenario file at `path`.
 pub fn load_scenario(path: &Path) -> Result<Plant, ScenarioError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|e| {
-        ScenarioError::new(ErrorKind::Read, &file, format!("cannot read the scenario file: {e}"))
+    let text = crate::textfile::read_text(path).map_err(|e| match e {
+        crate::textfile::TextError::Io(e) => {
+            ScenarioError::new(ErrorKind::Read, &file, format!("cannot read the scenario file: {e}"))
+        }
+        crate::textfile::TextError::Encoding { line, column, message, hint } => {
+            ScenarioError::new(ErrorKind::Read, &file, message).at_line(line, column).with_hint(hint)
+        }
     })?;
     parse_scenario(&text, path)
 }
@@ -48,7 +53,7 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let file = origin.display().to_string();
     // Parsing to a generic value first separates syntax errors from schema errors.
     match serde_norway::from_str::<serde_norway::Value>(text) {
-        Err(e) => return Err(syntax_error(&e, &file)),
+        Err(e) => return Err(syntax_error(&e, &file, text)),
         Ok(serde_norway::Value::Null) => {
             return Err(ScenarioError::new(ErrorKind::Schema, &file, "the scenario file is empty")
                 .with_hint("start with `plant: <name>`; see the example scenarios"))
@@ -62,11 +67,78 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     compile::compile(scenario, &ctx)
 }
 
-fn syntax_error(e: &serde_norway::Error, file: &str) -> ScenarioError {
+/// The 1-based line of the field at `path` (`departments[2].machines`) in
+/// scenario `text`, or of its nearest enclosing field: for messages about a
+/// scenario compiled from a changed copy (an experiment's design point).
+pub(crate) fn line_of_path(text: &str, path: &str) -> Option<usize> {
+    let mut at = locate::FieldPath::root();
+    for part in path.split('.') {
+        let (key, indices) = part.split_once('[').map_or((part, ""), |(k, rest)| (k, rest));
+        if !key.is_empty() {
+            at = at.key(key);
+        }
+        for i in indices.split('[').filter(|s| !s.is_empty()) {
+            match i.trim_end_matches(']').parse::<usize>() {
+                Ok(i) => at = at.index(i),
+                Err(_) => return locate::line_of(text, &at),
+            }
+        }
+    }
+    locate::line_of(text, &at)
+}
+
+/// The line (1-based) of a `---` that starts a second document: one after content.
+fn second_document(text: &str) -> Option<usize> {
+    let mut content = false;
+    for (i, l) in text.lines().enumerate() {
+        let t = l.trim_end();
+        if t == "---" || t.starts_with("--- ") {
+            if content {
+                return Some(i + 1);
+            }
+        } else if !t.trim_start().is_empty() && !t.trim_start().starts_with('#') {
+            content = true;
+        }
+    }
+    None
+}
+
+fn syntax_error(e: &serde_norway::Error, file: &str, text: &str) -> ScenarioError {
     let loc = e.location();
     let at =
         |err: ScenarioError| err.at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()));
     let full = e.to_string();
+    // serde's words for an alias bomb and a second document point nowhere; say what the file does.
+    if full.contains("repetition limit exceeded") || full.contains("recursion limit exceeded") {
+        return at(ScenarioError::new(
+            ErrorKind::Syntax,
+            file,
+            "the file uses YAML aliases (`*name`) that expand to too much data (an alias bomb?)",
+        ))
+        .with_hint("write the values out, or use fewer aliases that repeat other aliases");
+    }
+    // A number past 64 bits fails in the generic pass: it is a value out of range, not a syntax error.
+    if full.contains("` as u128") || full.contains("` as i128") {
+        let raw = bare_message(e);
+        let path = full.split_once(": ").map(|(p, _)| p).filter(|p| !p.contains(' ')).unwrap_or("");
+        if let Some((message, hint)) = type_error(&raw, path) {
+            let err = at(ScenarioError::new(ErrorKind::Invalid, file, message).at_path(path));
+            return match hint {
+                Some(h) => err.with_hint(h),
+                None => err,
+            };
+        }
+    }
+    if full.contains("more than one document") {
+        return ScenarioError::new(
+            ErrorKind::Syntax,
+            file,
+            "the file holds more than one YAML document (a `---` line after the first content); a scenario is \
+             one document",
+        )
+        .at_line(second_document(text), None)
+        .with_hint("remove that `---` line and whatever above it does not belong to the scenario");
+    }
     // A repeated key parses as YAML but would silently drop a value, so the
     // generic pass refuses it; it is a scenario mistake, not a syntax one.
     if let Some(i) = full.find("duplicate entry") {

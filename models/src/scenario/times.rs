@@ -137,6 +137,7 @@ fn quotes_a_time(e: &DistError) -> bool {
         | DistError::ModeOutsideRange { .. }
         | DistError::RowValue { .. } => true,
         DistError::NoPhases
+        | DistError::CvTooLarge { .. }
         | DistError::EmptyTable
         | DistError::RowProbability { .. }
         | DistError::ProbabilitySum { .. } => false,

@@ -230,6 +230,10 @@ fn got_words(got: &str) -> String {
     if let Some(s) = got.strip_prefix("string ") {
         return s.to_string();
     }
+    // A whole number past 64 bits: serde says "integer `N` as u128".
+    if let Some(v) = got.strip_prefix("integer `").and_then(|v| v.split_once("` as ")) {
+        return format!("{}, which is too large (the largest whole number is {})", v.0, u64::MAX);
+    }
     for prefix in ["floating point ", "integer ", "boolean ", "character "] {
         if let Some(v) = got.strip_prefix(prefix) {
             return v.trim_matches('`').to_string();
