@@ -39,8 +39,7 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
                   layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed or its output\n  \
-                  could not be written, 130 stopped by Ctrl-C or\n  \
-                  SIGTERM, 141 stdout closed early (`| head`)."
+                  could not be written, 130 stopped by Ctrl-C or SIGTERM, 141 stdout closed early (`| head`)."
 )]
 struct Cli {
     #[command(subcommand)]
