@@ -405,6 +405,18 @@ mod tests {
         names
     }
 
+    /// The first Rust word a message leaks: a std type, the fallback words
+    /// (a type with no row in TYPE_WORDS: a gap, not a pass), or one of `ours`.
+    fn rust_word_in(m: &str, ours: &[String]) -> Option<String> {
+        let words: Vec<&str> = m.split(|c: char| !c.is_alphanumeric()).collect();
+        RUST_WORDS
+            .iter()
+            .chain(&[FALLBACK])
+            .find(|w| m.contains(*w))
+            .map(|w| w.to_string())
+            .or_else(|| ours.iter().find(|n| words.contains(&n.as_str())).cloned())
+    }
+
     #[test]
     fn every_schema_type_is_probed() {
         let probed: Vec<String> =
@@ -426,15 +438,7 @@ mod tests {
         for (ty, msgs) in every_type() {
             for m in msgs {
                 count += 1;
-                let words: Vec<&str> = m.split(|c: char| !c.is_alphanumeric()).collect();
-                // The fallback words mean a type has no row in TYPE_WORDS: a gap, not a pass.
-                let leak = RUST_WORDS
-                    .iter()
-                    .chain(&[FALLBACK])
-                    .find(|w| m.contains(*w))
-                    .map(|w| w.to_string())
-                    .or_else(|| ours.iter().find(|n| words.contains(&n.as_str())).cloned());
-                if let Some(w) = leak {
+                if let Some(w) = rust_word_in(&m, &ours) {
                     bad.push(format!("{ty}: {w:?} in: {m}"));
                 }
             }
@@ -529,14 +533,7 @@ mod tests {
                     };
                     errors += 1;
                     let m = e.to_string();
-                    let words: Vec<&str> = m.split(|c: char| !c.is_alphanumeric()).collect();
-                    let leak = RUST_WORDS
-                        .iter()
-                        .chain(&[FALLBACK])
-                        .find(|w| m.contains(*w))
-                        .map(|w| w.to_string())
-                        .or_else(|| ours.iter().find(|n| words.contains(&n.as_str())).cloned());
-                    if let Some(w) = leak {
+                    if let Some(w) = rust_word_in(&m, &ours) {
                         bad.push(format!("{w:?} in: {m}"));
                     }
                 }
