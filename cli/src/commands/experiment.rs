@@ -127,9 +127,11 @@ fn read_journal(dir: &Path) -> Result<Contents, Failure> {
 
 /// Run `layflow experiment`.
 pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
-    let mut plan = exp::load(&args.plan).map_err(|e| Failure::input(e.to_string()))?;
+    // --allow-overload changes the results, so the plan compiles every point
+    // with it and it enters the content hash: such a folder resumes and
+    // merges only with the flag.
+    let plan = exp::load(&args.plan, args.allow_overload).map_err(|e| Failure::input(e.to_string()))?;
     if args.allow_overload {
-        plan.allow_overload().map_err(|e| Failure::input(e.to_string()))?;
         note!("{}", crate::settings::OVERLOAD_WARNING);
     }
     let shard = match &args.shard {

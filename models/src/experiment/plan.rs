@@ -288,19 +288,6 @@ impl Experiment {
         Ok(s)
     }
 
-    /// Run every design point with `--allow-overload` (a WIP cap instead of
-    /// a stop). The flag changes the results, so it enters the content hash:
-    /// a folder run with it resumes and merges only with it.
-    pub fn allow_overload(&mut self) -> Result<(), PlanError> {
-        self.compiler.allow_overload = true;
-        self.cache.lock().expect("no panic holding the cache").clear();
-        let first = compile_point(&self.compiler, &self.factors, 0, &self.design.point(0))?;
-        self.first_metrics = crate::metrics::metrics(&first.plant).iter().map(|m| m.label()).collect();
-        self.first = Arc::new(first);
-        self.hash = self.content_hash(self.replications)?;
-        Ok(())
-    }
-
     fn compile(&self, p: usize) -> Result<Setup, PlanError> {
         let s = compile_point(&self.compiler, &self.factors, p, &self.design.point(p))?;
         let here: Vec<String> = crate::metrics::metrics(&s.plant).iter().map(|m| m.label()).collect();
@@ -447,8 +434,11 @@ fn field_mut<'a>(root: &'a mut Value, path: &[String]) -> Result<&'a mut Value, 
     Ok(at)
 }
 
-/// Read and check a plan, compiling every design point's plant.
-pub fn load(file: &Path) -> Result<Experiment, PlanError> {
+/// Read and check a plan: design point 1 and every level are compiled now,
+/// the other points when a worker needs them. `allow_overload`
+/// (`--allow-overload`) runs every point with the WIP cap, and enters the
+/// content hash.
+pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> {
     let text = crate::textfile::read_text(file).map_err(|e| match e {
         crate::textfile::TextError::Io(e) => {
             err(file, None, format!("cannot read the plan: {e}"), "check the path")
@@ -528,7 +518,7 @@ pub fn load(file: &Path) -> Result<Experiment, PlanError> {
         warmup,
         seed,
         common_random_numbers: spec.common_random_numbers,
-        allow_overload: false,
+        allow_overload,
     };
     // Design point 1 at once: whatever else is wrong, this is said first.
     let first = compile_point(&compiler, &factors, 0, &design.point(0))?;
@@ -925,7 +915,7 @@ mod tests {
             Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/validation/tiny-hand-checked.yaml");
         let file = dir.path().join("plan.yaml");
         std::fs::write(&file, format!("scenario: {}\n{body}", scenario.display())).unwrap();
-        load(&file)
+        load(&file, false)
     }
 
     #[test]
