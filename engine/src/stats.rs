@@ -135,8 +135,17 @@ impl TickHistogram {
     /// # Panics
     /// If `tick_s` is not a positive finite number (a programming error).
     pub fn new(tick_s: f64) -> Self {
+        Self::with_digits(tick_s, 3)
+    }
+
+    /// As [`TickHistogram::new`] with `digits` significant digits (1 to 5):
+    /// two digits keep quantiles within 1% in an eighth of the memory.
+    ///
+    /// # Panics
+    /// If `tick_s` is not a positive finite number or `digits` is outside 1–5.
+    pub fn with_digits(tick_s: f64, digits: u8) -> Self {
         assert!(tick_s > 0.0 && tick_s.is_finite(), "tick must be positive");
-        let mut hist = Histogram::new(3).expect("3 significant digits is valid");
+        let mut hist = Histogram::new(digits).expect("1 to 5 significant digits is valid");
         hist.auto(true);
         TickHistogram { hist, tick_s }
     }

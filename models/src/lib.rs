@@ -23,6 +23,7 @@ pub mod study;
 pub mod suggest;
 pub mod text;
 pub mod textfile;
+pub mod timebuckets;
 pub mod travel;
 pub mod units;
 

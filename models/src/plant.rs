@@ -479,6 +479,9 @@ pub struct DutyCalendar {
     pub period_s: f64,
     /// (start, end) offsets in the period of each on-duty window, s.
     pub on: Vec<(f64, f64)>,
+    /// The shifts as declared, breaks not taken out, sorted by start: what
+    /// results `--by shift` are sliced by (`timebuckets.rs`).
+    pub shifts: Vec<(f64, f64)>,
 }
 
 /// Where a fleet's movers start and, with [`IdleRule::GoHome`] or
@@ -832,15 +835,24 @@ mod tests {
     fn duty_changes_alternate_across_the_end_of_the_period() {
         // Common practice: a night shift 22–6 h is written as two windows; the
         // day boundary is no change, so it flips only at 6 h and 22 h.
-        let night = DutyCalendar { period_s: 24.0 * H, on: vec![(0.0, 6.0 * H), (22.0 * H, 24.0 * H)] };
+        let night = DutyCalendar {
+            period_s: 24.0 * H,
+            on: vec![(0.0, 6.0 * H), (22.0 * H, 24.0 * H)],
+            shifts: vec![(0.0, 6.0 * H), (22.0 * H, 24.0 * H)],
+        };
         assert_eq!(night.changes(), [6.0 * H, 22.0 * H]);
         assert!(night.on_at(0.0) && night.on_at(23.0 * H) && !night.on_at(12.0 * H));
         // A window from 0 that ends before the period: a change at offset 0
         // (coming back each period) and one at 8 h.
-        let early = DutyCalendar { period_s: 24.0 * H, on: vec![(0.0, 8.0 * H)] };
+        let early =
+            DutyCalendar { period_s: 24.0 * H, on: vec![(0.0, 8.0 * H)], shifts: vec![(0.0, 8.0 * H)] };
         assert_eq!(early.changes(), [0.0, 8.0 * H]);
         // A window inside the period: no change at 0.
-        let day = DutyCalendar { period_s: 24.0 * H, on: vec![(6.0 * H, 22.0 * H)] };
+        let day = DutyCalendar {
+            period_s: 24.0 * H,
+            on: vec![(6.0 * H, 22.0 * H)],
+            shifts: vec![(6.0 * H, 22.0 * H)],
+        };
         assert_eq!(day.changes(), [6.0 * H, 22.0 * H]);
         assert!(!day.on_at(0.0));
     }
@@ -849,7 +861,11 @@ mod tests {
     fn on_duty_seconds_count_whole_and_partial_periods() {
         // 6–22 h, 16 h a day. From 3 h to 60 h, by hand: day 1 16 h, day 2
         // 16 h, day 3 up to 12 h 6 h; 38 h in all (common practice).
-        let day = DutyCalendar { period_s: 24.0 * H, on: vec![(6.0 * H, 22.0 * H)] };
+        let day = DutyCalendar {
+            period_s: 24.0 * H,
+            on: vec![(6.0 * H, 22.0 * H)],
+            shifts: vec![(6.0 * H, 22.0 * H)],
+        };
         assert!((day.on_duty_s(3.0 * H, 60.0 * H) - 38.0 * H).abs() < 1e-6);
         assert!((day.on_duty_s(0.0, 24.0 * H) - 16.0 * H).abs() < 1e-6);
         assert!((day.on_duty_s(10.0 * H, 10.0 * H)).abs() < 1e-9);

@@ -218,8 +218,11 @@ fn requests_are_served_only_on_duty_and_scheduled_time_is_the_calendar() {
     // 0, so the 3 h lot is served at once; 16 h a day off over 2 days.
     if let layflow_models::plant::Handling::Fleets(f) = &mut plant.handling {
         f[0].count = 1;
-        f[0].operators.duty =
-            Some(layflow_models::plant::DutyCalendar { period_s: 24.0 * h, on: vec![(0.0, 8.0 * h)] });
+        f[0].operators.duty = Some(layflow_models::plant::DutyCalendar {
+            period_s: 24.0 * h,
+            on: vec![(0.0, 8.0 * h)],
+            shifts: vec![(0.0, 8.0 * h)],
+        });
     }
     let rep = one_rep(&plant);
     c.exact("on 0–8 h: the 3 h lot waits for nobody", 135.0, rep.flow_time[0].mean(), TOL);

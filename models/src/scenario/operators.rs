@@ -128,7 +128,9 @@ pub(crate) fn duty_calendar(
                 .with_hint("a break is a pause within a shift; to leave a shift out, remove it from `shifts.on`"));
         }
     }
-    Ok(if on == [(0.0, period)] { None } else { Some(DutyCalendar { period_s: period, on }) })
+    let mut shifts = shifts;
+    shifts.sort_by(|a, b| a.0.total_cmp(&b.0));
+    Ok(if on == [(0.0, period)] { None } else { Some(DutyCalendar { period_s: period, on, shifts }) })
 }
 
 /// Checks each `[start, end]` window: `0 <= start < end <= period`.

@@ -6,6 +6,7 @@
 //! event allocates once the queues have grown to their working size.
 
 mod arrivals;
+mod buckets;
 mod model;
 pub mod overload;
 mod stats;
@@ -94,6 +95,8 @@ pub struct Plan {
     pub(crate) aisles: Option<crate::network::AisleNetwork>,
     /// When WIP has grown past any level a stable plant reaches: stop, or turn arrivals away.
     pub(crate) overload: overload::OverloadRule,
+    /// Results per time bucket as well (`--by`); `None`: the whole window only.
+    pub(crate) buckets: Option<crate::timebuckets::Grid>,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -380,6 +383,7 @@ impl Plan {
             on_at_start: d.on_at(0.0),
         };
         Plan {
+            buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),
             tracked: plant
@@ -429,6 +433,18 @@ impl Plan {
             fleet_sets,
             nearest_fleet: plant.fleet_choice == FleetChoice::NearestIdle,
         }
+    }
+
+    /// Report every replication per time bucket of `grid` too (`RepStats::by`).
+    /// The grid must be built for the horizon and warm-up the plan runs with.
+    pub fn with_buckets(mut self, grid: crate::timebuckets::Grid) -> Plan {
+        self.buckets = Some(grid);
+        self
+    }
+
+    /// The time buckets replications report by, if any.
+    pub fn buckets(&self) -> Option<&crate::timebuckets::Grid> {
+        self.buckets.as_ref()
     }
 
     /// The fleets in a set.

@@ -7,12 +7,14 @@ use rand::RngExt;
 use rand_distr::Exp1;
 
 use super::arrivals::next_thinned;
+use super::buckets::Act;
 use super::stats::{Deadlock, FleetStats, Overload, RepStats, TICK_S};
 use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
 mod aisles;
 mod breakdowns;
+mod buckets;
 mod calendars;
 mod lots;
 mod movers;
@@ -297,6 +299,10 @@ struct PlantModel<'a> {
     aux: Vec<lots::LotAux>,
     /// Segment-by-segment travel (empty unless `Plan::aisles`).
     aisle: aisles::AisleState,
+    /// Results per time bucket (`Plan::buckets`), and the time of the next
+    /// bucket edge (infinite without buckets, so `handle` tests one compare).
+    buckets: Option<Box<super::buckets::Collector>>,
+    next_edge: f64,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -352,6 +358,7 @@ type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>, u64);
 
 fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f64>, log: bool) -> Run {
     let mut m = PlantModel::new(plan, spec, replication);
+    m.buckets = m.new_collector();
     m.log_releases = log;
     let mut cal = Calendar::with_capacity(256);
     if let Some(step) = step {
@@ -529,6 +536,8 @@ impl<'a> PlantModel<'a> {
             scan_steps: 0,
             aux: Vec::new(),
             aisle: aisles::AisleState::new(plan, slots_movers),
+            buckets: None,
+            next_edge: f64::INFINITY,
         }
     }
 
@@ -570,6 +579,7 @@ impl<'a> PlantModel<'a> {
         self.wait_hist.reset();
         self.wait_assign_all.reset();
         self.wait_drive_all.reset();
+        self.open_buckets(t);
     }
 
     /// Schedule the next arrival of product `p` after `now`, if it comes by the horizon.
@@ -780,6 +790,9 @@ impl<'a> PlantModel<'a> {
             self.flow[p].add(flow);
             self.flow_all.add(flow);
             self.flow_hist.record(flow);
+            if let Some(c) = self.buckets.as_deref_mut() {
+                c.shipped(p, flow);
+            }
         }
     }
 
@@ -852,9 +865,13 @@ impl<'a> PlantModel<'a> {
             if !since.is_nan() {
                 let w = self.in_window(since, t);
                 self.fleets[self.movers[m].fleet as usize].acc.blocked_s += w;
+                self.by_fleet(self.movers[m].fleet as usize, Act::Blocked, since, t);
             }
         }
         let segments = self.segment_stats(t);
+        self.close_buckets(t);
+        let collector = self.buckets.take();
+        let plan = self.plan;
         let overflow = self.plan.overflow;
         let machines = &self.plan.machines;
         let per_machine = |d: usize, x: f64| if machines[d] == 0 { 0.0 } else { x / f64::from(machines[d]) };
@@ -880,7 +897,8 @@ impl<'a> PlantModel<'a> {
             })
             .collect();
         let setup = (0..nd).map(|d| per_machine(d, self.departments[d].setup_level.mean(t))).collect();
-        RepStats {
+        let mut stats = RepStats {
+            by: Vec::new(),
             segments,
             setup,
             off_shift_s: self.departments[..nd].iter().map(|d| d.off_s).collect(),
@@ -920,7 +938,11 @@ impl<'a> PlantModel<'a> {
             move_wait_assign_hist_fleet: self.fleets.iter().map(|f| f.assign_hist.clone()).collect(),
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
+        };
+        if let Some(c) = collector {
+            stats.by = c.finish(plan, &stats);
         }
+        stats
     }
 }
 
@@ -931,6 +953,10 @@ impl Model for PlantModel<'_> {
     fn handle(&mut self, event: Event, cal: &mut Calendar<Event>) {
         if self.deadlock.is_some() || self.overload.is_some() {
             return; // the calendar was cleared; nothing more happens
+        }
+        let now = cal.now();
+        if now >= self.next_edge {
+            self.cross_edges(now);
         }
         match event {
             Event::Arrival { product } => self.arrival(product, cal),

@@ -138,6 +138,12 @@ pub struct RepStats {
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,
+    /// The same figures per time bucket, in the order of the plan's
+    /// [`Grid`](crate::timebuckets::Grid) (empty without one): each bucket's
+    /// `window_s` is its exposure, the seconds of the window that fell in it.
+    /// Bucket histograms keep two significant digits, and the assignment and
+    /// drive parts of the move wait have none (`events`, `wip_peak` are unset).
+    pub by: Vec<RepStats>,
 }
 
 /// Why a replication stopped early: its WIP passed the overload limit

@@ -33,6 +33,7 @@ use std::collections::VecDeque;
 use layflow_engine::{Calendar, TimeWeighted};
 
 use super::{Event, PlantModel, NONE};
+use crate::sim::buckets::Act;
 use crate::sim::stats::Deadlock;
 use crate::sim::{Plan, SegmentStats};
 
@@ -178,6 +179,7 @@ impl PlantModel<'_> {
         if net.path(from, to).is_empty() {
             let t_end = now + pre_s + post_s;
             self.fleets[f].acc.handling_s += self.in_window(now + pre_s, t_end);
+            self.by_fleet(f, Act::Handling, now + pre_s, t_end);
             cal.schedule(t_end, then);
         } else if pre_s > 0.0 {
             cal.schedule(now + pre_s, Event::Step { mover });
@@ -194,6 +196,7 @@ impl PlantModel<'_> {
             let now = cal.now();
             let f = self.movers[mover as usize].fleet as usize;
             self.fleets[f].acc.handling_s += self.in_window(now, now + w.post_s);
+            self.by_fleet(f, Act::Handling, now, now + w.post_s);
             cal.schedule(now + w.post_s, w.then);
             self.aisle.walks[mover as usize].seg = NONE;
             self.release_segment(w.seg as usize, cal);
@@ -250,6 +253,7 @@ impl PlantModel<'_> {
             let d = self.in_window(w.wait_since, now);
             self.aisle.delay_s[s] += d;
             self.fleets[f].acc.congestion_s += d;
+            self.by_aisle_wait(f, s, w.wait_since, now);
         }
         let st = &mut self.aisle;
         st.occupancy[s] += 1;
@@ -397,6 +401,7 @@ impl PlantModel<'_> {
                 let d = self.in_window(w.wait_since, t);
                 self.aisle.delay_s[w.wait_seg as usize] += d;
                 self.fleets[self.movers[m].fleet as usize].acc.congestion_s += d;
+                self.by_aisle_wait(self.movers[m].fleet as usize, w.wait_seg as usize, w.wait_since, t);
             }
         }
         let st = &self.aisle;
@@ -407,5 +412,17 @@ impl PlantModel<'_> {
                 delay_s: st.delay_s[s],
             })
             .collect()
+    }
+}
+
+impl AisleState {
+    /// Segments tracked (0 without segment-by-segment travel).
+    pub(super) fn segment_count(&self) -> usize {
+        self.level.len()
+    }
+
+    /// Segment `s`'s traversals and occupancy area (mover-seconds) so far, at `t`.
+    pub(super) fn segment_totals(&self, s: usize, t: f64) -> (f64, f64) {
+        (self.traversals[s] as f64, self.level[s].area(t))
     }
 }

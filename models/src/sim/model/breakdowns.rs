@@ -10,6 +10,7 @@ use layflow_engine::Calendar;
 
 use super::{Event, PlantModel, NONE};
 use crate::plant::{FailureClock, Interrupted};
+use crate::sim::buckets::Act;
 
 impl PlantModel<'_> {
     /// Schedules the first failure of every machine and mover that can fail.
@@ -282,12 +283,14 @@ impl PlantModel<'_> {
             m.worked = 0.0;
             let w = self.in_window(now, now + c.for_s);
             self.fleets[f].acc.charging_s += w;
+            self.by_fleet(f, Act::Charging, now, now + c.for_s);
             c.for_s
         } else {
             return false;
         };
         let w = self.in_window(now, now + out);
         self.fleets[f].acc.down_s += w;
+        self.by_fleet(f, Act::Down, now, now + out);
         cal.schedule(now + out, Event::MoverBack { mover });
         true
     }

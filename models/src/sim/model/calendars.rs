@@ -23,6 +23,7 @@ impl PlantModel<'_> {
             let first = self.next_shift_change(d);
             if !c.duty.on_at_start {
                 self.departments[d].off_s += self.in_window(0.0, first);
+                self.by_off_shift(d, 0.0, first);
             }
             if first <= self.window.1 {
                 cal.schedule(first, Event::DeptShift { dept: d as u32 });
@@ -50,6 +51,7 @@ impl PlantModel<'_> {
             // Off until the next change: scheduled time is known now, clipped to the window.
             let off = self.in_window(now, next);
             self.departments[d].off_s += off;
+            self.by_off_shift(d, now, next);
             self.departments[d].on_shift = false;
             if pause {
                 for k in machines {

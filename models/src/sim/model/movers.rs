@@ -11,6 +11,7 @@ use layflow_engine::Calendar;
 
 use super::{Event, PlantModel, Request, NONE};
 use crate::plant::{DispatchRule, IdleRule};
+use crate::sim::buckets::Act;
 use crate::sim::{DutyCursor, FleetSet};
 
 impl PlantModel<'_> {
@@ -178,6 +179,7 @@ impl PlantModel<'_> {
 
     #[inline]
     pub(super) fn record_empty(&mut self, f: usize, a: f64, b: f64, d: f64) {
+        self.by_travel(f, false, a, b, d);
         let w = self.in_window(a, b);
         let acc = &mut self.fleets[f].acc;
         acc.empty_s += w;
@@ -190,6 +192,7 @@ impl PlantModel<'_> {
 
     #[inline]
     pub(super) fn record_loaded(&mut self, f: usize, a: f64, b: f64, d: f64) {
+        self.by_travel(f, true, a, b, d);
         let w = self.in_window(a, b);
         let acc = &mut self.fleets[f].acc;
         acc.loaded_s += w;
@@ -221,6 +224,9 @@ impl PlantModel<'_> {
             self.wait_hist.record(wait);
             self.wait_assign_all.add(assign);
             self.wait_drive_all.add(drive);
+            if let Some(c) = self.buckets.as_deref_mut() {
+                c.picked_up(f, wait, assign, drive);
+            }
         }
     }
 
@@ -246,6 +252,7 @@ impl PlantModel<'_> {
         if self.plan.aisles.is_some() {
             // The trip's travel and unloading are credited as it goes (aisles.rs).
             self.fleets[f].acc.handling_s += self.in_window(now, t_load_end);
+            self.by_fleet(f, Act::Handling, now, t_load_end);
             let (a, b) = (self.plan.dept_location[from], self.plan.dept_location[to]);
             let (load_s, unload_s) = (fl.load_s, fl.unload_s);
             self.walk(mover, a, b, true, load_s, unload_s, Event::Deliver { mover }, cal);
@@ -261,6 +268,9 @@ impl PlantModel<'_> {
             } else if counted {
                 fs.acc.distance_loaded_m += d;
             }
+            self.by_fleet(f, Act::Handling, now, t_load_end);
+            self.by_fleet(f, Act::Handling, t_travel_end, t_end);
+            self.by_travel(f, true, t_load_end, t_travel_end, d);
             cal.schedule(t_end, Event::Deliver { mover });
         }
         self.record_pickup(f, m.lot, m.assigned, now);
@@ -281,6 +291,7 @@ impl PlantModel<'_> {
         let from = self.lots[m.lot as usize].department as usize;
         let t_end = now + self.plan.fleets[f].load_s;
         self.fleets[f].acc.handling_s += self.in_window(now, t_end);
+        self.by_fleet(f, Act::Handling, now, t_end);
         self.record_pickup(f, m.lot, m.assigned, now);
         let w = self.weight(m.lot);
         self.departments[from].wip.add(now, -w);
@@ -353,6 +364,7 @@ impl PlantModel<'_> {
         let t_end = t_arrive + fl.unload_s;
         self.record_loaded(f, now, t_arrive, d);
         self.fleets[f].acc.handling_s += self.in_window(t_arrive, t_end);
+        self.by_fleet(f, Act::Handling, t_arrive, t_end);
         let mm = &mut self.movers[mover as usize];
         mm.loads -= 1;
         mm.lot = lot;
@@ -546,6 +558,7 @@ impl PlantModel<'_> {
     /// scheduled off time of every mover is recorded now, clipped to the window.
     fn go_off_duty(&mut self, f: usize, now: f64, until: f64) {
         let off_s = f64::from(self.plan.fleets[f].count) * self.in_window(now, until);
+        self.by_fleet_times(f, Act::Off, now, until, f64::from(self.plan.fleets[f].count));
         let fs = &mut self.fleets[f];
         fs.on_duty = false;
         fs.acc.off_s += off_s;

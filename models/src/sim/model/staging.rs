@@ -14,6 +14,7 @@ use layflow_engine::Calendar;
 
 use super::{Blocked, Event, PlantModel, NONE};
 use crate::plant::DepartmentRole;
+use crate::sim::buckets::Act;
 use crate::sim::stats::Deadlock;
 use crate::sim::FleetSet;
 
@@ -164,6 +165,7 @@ impl PlantModel<'_> {
                 let since = self.movers[who as usize].blocked_since;
                 let f = self.movers[who as usize].fleet as usize;
                 self.fleets[f].acc.blocked_s += self.in_window(since, cal.now());
+                self.by_fleet(f, Act::Blocked, since, cal.now());
                 self.movers[who as usize].blocked_since = f64::NAN;
                 self.set_down(who, cal);
             }
@@ -248,6 +250,7 @@ impl PlantModel<'_> {
             let t_end = t_arrive + fl.unload_s;
             self.record_loaded(f, now, t_arrive, d);
             self.fleets[f].acc.handling_s += self.in_window(t_arrive, t_end);
+            self.by_fleet(f, Act::Handling, t_arrive, t_end);
             self.movers[mover as usize].location = spot as u32;
             cal.schedule(t_end, Event::OverflowDrop { mover });
             return;
