@@ -11,6 +11,7 @@ use layflow_models::plant::Plant;
 use layflow_models::study::warmup::{choose, WarmupChoice, PILOT_REPLICATIONS};
 use layflow_models::suggest::did_you_mean;
 use layflow_models::text::num;
+use layflow_models::timebuckets::{By, Grid};
 use layflow_models::units::{format_duration, parse_duration};
 
 use crate::failure::Failure;
@@ -54,6 +55,11 @@ pub struct SimOptions {
     /// arriving lots away (counted and reported) instead of stopping the run (docs/overload.md).
     #[arg(long)]
     pub allow_overload: bool,
+    /// Also report every metric per time bucket: hour-of-day, shift, shift=ID (a department or
+    /// fleet with a calendar), day-of-week, day, or period=DURATION, e.g. "period=8 h"
+    /// (docs/results-over-time.md).
+    #[arg(long, value_name = "BUCKETS", value_parser = By::parse)]
+    pub by: Option<By>,
 }
 
 /// Load a scenario, turning its error into a bad-input failure.
@@ -194,6 +200,18 @@ impl SimOptions {
             return Err(Failure::input("--replications must be at least 1"));
         }
         replications_ceiling("--replications", u64::from(replications))?;
+        // Bad buckets (a shift with no calendar, a period longer than the
+        // run) fail here, before any pilot run; `grid` checks again against
+        // the window once the warm-up is known.
+        if let Some(by) = &self.by {
+            let warmup_s = match self.warmup.as_deref().map(str::trim) {
+                Some("auto") => 0.0,
+                _ => duration_arg("--warmup", &self.warmup, plant.run.warmup_s)?,
+            };
+            if warmup_s < horizon_s {
+                Grid::new(by, plant, warmup_s, horizon_s).map_err(Failure::input)?;
+            }
+        }
         Ok(Settings {
             horizon_s,
             replications,
@@ -202,6 +220,14 @@ impl SimOptions {
             quiet: self.quiet,
             no_wall_clock: self.no_wall_clock,
         })
+    }
+
+    /// The time buckets of `--by` for the window [`warmup_s`, `horizon_s`], if asked for.
+    pub fn grid(&self, plant: &Plant, warmup_s: f64, horizon_s: f64) -> Result<Option<Grid>, Failure> {
+        self.by
+            .as_ref()
+            .map(|by| Grid::new(by, plant, warmup_s, horizon_s).map_err(Failure::input))
+            .transpose()
     }
 
     /// Checks that one replication of the resolved horizon at `demand_factor`

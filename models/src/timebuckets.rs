@@ -193,6 +193,16 @@ impl Grid {
         Ok(grid)
     }
 
+    /// How long one bucket lasts, s (NaN by shift: shifts differ).
+    pub fn bucket_width_s(&self) -> f64 {
+        match self.by {
+            By::HourOfDay => HOUR_S,
+            By::DayOfWeek | By::Day => DAY_S,
+            By::Period(p) => p,
+            By::Shift(_) => f64::NAN,
+        }
+    }
+
     /// Buckets in the grid.
     pub fn len(&self) -> usize {
         self.labels.len()

@@ -42,6 +42,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let which = layouts(&plant, &args.layout)?;
     let (warmup_s, warmup_auto) = args.sim.warmup(&settings, &plant, &which, factor)?;
     let (horizon_s, replications, seed) = (settings.horizon_s, settings.replications, settings.seed);
+    let grid = args.sim.grid(&plant, warmup_s, horizon_s)?;
 
     let pic = StaticPicture::new(&plant, factor);
     warn_overload(&plant, &pic);
@@ -54,9 +55,12 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     for &l in &which {
         progress.stage(format!("layout {}", plant.layouts[l].name));
         let spec = RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
-        let plan = Plan::new(&plant, l);
+        let mut plan = Plan::new(&plant, l);
+        if let Some(g) = &grid {
+            plan = plan.with_buckets(g.clone());
+        }
         // Each replication is folded into the summary and dropped: memory does not grow with replications.
-        let mut acc = LayoutAccumulator::new(&plant);
+        let mut acc = LayoutAccumulator::new(&plant).with_buckets(grid.as_ref());
         let mut caps = CapTally::default();
         settings.pool.install(|| {
             replicate_fold(

@@ -1,5 +1,6 @@
 //! Drawing results for people: tables, charts, the plant picture, progress, warnings, one colour palette.
 
+pub mod by_bucket;
 pub mod check;
 pub mod compare;
 pub mod experiment;

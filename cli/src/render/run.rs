@@ -292,6 +292,9 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                  busy intersection)"
             );
         }
+        if let Some(b) = &l.by_bucket {
+            s.push_str(&super::by_bucket::layout_table(plant, l, b));
+        }
     }
     if out.layouts.len() > 1 {
         let _ = writeln!(s, "\n== layouts side by side ==");

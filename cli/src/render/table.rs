@@ -16,6 +16,11 @@ pub fn set_wide(on: bool) {
     WIDE.store(on, Ordering::Relaxed);
 }
 
+/// Whether `--wide` was given.
+pub fn wide() -> bool {
+    WIDE.load(Ordering::Relaxed)
+}
+
 /// `--verbose`: show the statistical working (procedure constants, pilot details).
 pub fn set_verbose(on: bool) {
     VERBOSE.store(on, Ordering::Relaxed);

@@ -6,12 +6,14 @@
 //! name a user typed; `estimate.rs` turns replications into intervals;
 //! `summary.rs` is what `run` reports per layout.
 
+pub mod by_bucket;
 pub mod compute;
 pub mod estimate;
 pub mod list;
 pub mod registry;
 pub mod summary;
 
+pub use by_bucket::{bucket_metrics, bucket_values, BucketAccumulator, BucketSummary, Peak};
 pub use compute::{observed, value};
 pub use estimate::{dur, est, est_with_se, DurationEstimate, Estimate, Moments, CONFIDENCE};
 pub use list::{

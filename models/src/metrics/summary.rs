@@ -16,7 +16,9 @@ use crate::analysis::StaticPicture;
 use crate::plant::Plant;
 use crate::sim::{RepStats, RunSpec, TICK_S};
 use crate::study::deadlock::replication_deadlock;
+use crate::timebuckets::Grid;
 
+use super::by_bucket::{BucketAccumulator, BucketSummary};
 use super::compute::value;
 use super::estimate::{with_hist, DurationEstimate, Estimate, Moments};
 use super::list::Features;
@@ -198,6 +200,9 @@ pub struct LayoutSummary {
     /// Per aisle segment, in scenario order; present when the network is simulated segment by segment.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub segments: Option<Vec<SegmentSummary>>,
+    /// Results by time bucket and the peak; present with `--by`.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by_bucket: Option<BucketSummary>,
 }
 
 /// Summarise the replications of layout `spec.layout` (all held in memory;
@@ -230,6 +235,8 @@ pub struct LayoutAccumulator<'a> {
     replications: u64,
     /// The message of the first replication (in order) that deadlocked.
     deadlock: Option<String>,
+    /// Results by time bucket, with `--by`.
+    by: Option<BucketAccumulator>,
 }
 
 impl<'a> LayoutAccumulator<'a> {
@@ -247,7 +254,14 @@ impl<'a> LayoutAccumulator<'a> {
             events: 0,
             replications: 0,
             deadlock: None,
+            by: None,
         }
+    }
+
+    /// Also summarise each replication's time buckets (its `RepStats::by`, from a plan with `grid`).
+    pub fn with_buckets(mut self, grid: Option<&Grid>) -> LayoutAccumulator<'a> {
+        self.by = grid.map(|g| BucketAccumulator::new(self.plant, g));
+        self
     }
 
     /// Fold in the next replication (replication number = replications added so far).
@@ -257,6 +271,9 @@ impl<'a> LayoutAccumulator<'a> {
         }
         self.flow_hist.merge(&r.flow_hist);
         self.wait_hist.merge(&r.move_wait_hist);
+        if let Some(b) = self.by.as_mut() {
+            b.add(self.plant, r);
+        }
         self.events += r.events;
         if self.deadlock.is_none() {
             self.deadlock = replication_deadlock(self.plant, r, self.replications);
@@ -395,6 +412,7 @@ impl<'a> LayoutAccumulator<'a> {
             deadlock: self.deadlock.clone(),
             congestion_delay_s_per_h: features.aisles.then(|| of(Id::CongestionDelay, 0)),
             segments: self.segment_summaries(),
+            by_bucket: self.by.as_ref().map(BucketAccumulator::finish),
         }
     }
 

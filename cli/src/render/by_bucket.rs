@@ -1,0 +1,191 @@
+//! Results by time bucket as tables: the busiest buckets beside the whole window, the peak, and what they cannot tell.
+
+use std::fmt::Write as _;
+
+use layflow_models::metrics::by_bucket::{BucketSummary, Peak, WHOLE};
+use layflow_models::metrics::{Estimate, LayoutSummary, DEFS};
+use layflow_models::plant::{DepartmentRole, Plant};
+
+use super::table::{dur_in, pct, pm, unit_for, wide, wrap, Table};
+
+/// Buckets a default table shows; `--wide` shows every one.
+pub const SHOWN: usize = 8;
+
+/// The buckets a table shows, in time order: every one when there are few
+/// (or with `--wide`), else the [`SHOWN`] with the highest mean WIP.
+pub fn shown(b: &BucketSummary) -> Vec<usize> {
+    let n = b.buckets.len();
+    if n <= SHOWN || wide() {
+        return (0..n).collect();
+    }
+    let wip = |k: usize| b.get(Some(k), "", "wip_mean").map_or(f64::NEG_INFINITY, |e| e.mean);
+    let mut order: Vec<usize> = (0..n).collect();
+    order.sort_by(|&x, &y| wip(y).total_cmp(&wip(x)).then(x.cmp(&y)));
+    order.truncate(SHOWN);
+    order.sort_unstable();
+    order
+}
+
+/// The registry's table label of a plant or subject metric.
+fn label(scope_name: &str) -> &'static str {
+    DEFS.iter().find(|d| d.name == scope_name).map_or("", |d| d.label)
+}
+
+/// "by hour of day": how the grid reads in a heading.
+pub fn heading(b: &BucketSummary) -> String {
+    let what = b.by.split('=').next().unwrap_or(&b.by).replace('-', " ");
+    format!("by {what}{}", b.by.split_once('=').map(|(_, a)| format!(" ({a})")).unwrap_or_default())
+}
+
+/// One layout's results by bucket: the table, then the peak.
+pub fn layout_table(plant: &Plant, l: &LayoutSummary, b: &BucketSummary) -> String {
+    let mut s = String::new();
+    let fleets = !plant.fleets().is_empty();
+    // The busiest department and fleet over the whole window name two columns.
+    let busiest_dept = l
+        .departments
+        .iter()
+        .zip(&plant.departments)
+        .filter(|(_, d)| d.role == DepartmentRole::Work)
+        .max_by(|a, b| a.0.utilization.mean.total_cmp(&b.0.utilization.mean))
+        .map(|(d, _)| d.department.clone());
+    let busiest_fleet = l
+        .fleets
+        .iter()
+        .max_by(|a, b| a.utilization.mean.total_cmp(&b.utilization.mean))
+        .map(|f| f.fleet.clone());
+    let rows = shown(b);
+    let at = |k: Option<usize>, subject: &str, name: &str| b.get(k, subject, name);
+    let flow_u =
+        unit_for(rows.iter().map(|&k| at(Some(k), "", "flow_time_p95_s").map_or(f64::NAN, |e| e.mean)));
+    let wait_u =
+        unit_for(rows.iter().map(|&k| at(Some(k), "", "move_wait_p95_s").map_or(f64::NAN, |e| e.mean)));
+    let mut header = vec![
+        "bucket".to_string(),
+        "h/rep".to_string(),
+        label("wip_mean").to_string(),
+        label("throughput_per_h").to_string(),
+        "flow time".to_string(),
+        "flow p95".to_string(),
+    ];
+    if fleets {
+        header.extend(["wait for a mover".to_string(), "wait p95".to_string()]);
+    }
+    if let Some(d) = &busiest_dept {
+        header.push(format!("{d} util."));
+    }
+    if let Some(f) = &busiest_fleet {
+        header.push(format!("{f} busy"));
+    }
+    header.push(String::new());
+    let mut t = Table::new(&header);
+    // Hidden in this order while the table is wider than the terminal's 100 columns.
+    let mut optional = vec!["flow time".to_string(), "wait for a mover".to_string()];
+    optional.extend(busiest_fleet.iter().map(|f| format!("{f} busy")));
+    optional.extend(busiest_dept.iter().map(|d| format!("{d} util.")));
+    optional.push("h/rep".to_string());
+    t.optional(&optional);
+    let peak_wip = b.peak.wip_mean.as_ref().map(|p| p.bucket.as_str());
+    let peak_wait = b.peak.move_wait_p95_s.as_ref().map(|p| p.bucket.as_str());
+    let cell = |e: Option<Estimate>, f: &dyn Fn(&Estimate) -> String| match e {
+        Some(e) if e.mean.is_finite() => f(&e),
+        _ => "-".to_string(),
+    };
+    let line = |k: Option<usize>, name: &str, hours: String| {
+        let mut row = vec![
+            name.to_string(),
+            hours,
+            cell(at(k, "", "wip_mean"), &|e| pm(e, 1.0)),
+            cell(at(k, "", "throughput_per_h"), &|e| pm(e, 1.0)),
+            cell(at(k, "", "flow_time_s"), &|e| dur_in(e, flow_u)),
+            cell(at(k, "", "flow_time_p95_s"), &|e| dur_in(e, flow_u)),
+        ];
+        if fleets {
+            row.push(cell(at(k, "", "move_wait_s"), &|e| dur_in(e, wait_u)));
+            row.push(cell(at(k, "", "move_wait_p95_s"), &|e| dur_in(e, wait_u)));
+        }
+        if let Some(d) = &busiest_dept {
+            row.push(cell(at(k, d, "utilization"), &pct));
+        }
+        if let Some(f) = &busiest_fleet {
+            row.push(cell(at(k, f, "utilization"), &pct));
+        }
+        let mut marks = Vec::new();
+        if k.is_some() && peak_wip == Some(name) {
+            marks.push("peak WIP");
+        }
+        if k.is_some() && peak_wait == Some(name) {
+            marks.push("peak wait p95");
+        }
+        row.push(marks.join(", "));
+        row
+    };
+    for &k in &rows {
+        t.row(line(Some(k), &b.buckets[k].bucket, format!("{:.0}", b.buckets[k].exposure_h)));
+    }
+    let total_h: f64 = b.buckets.iter().map(|x| x.exposure_h).sum();
+    t.row(line(None, WHOLE, format!("{total_h:.0}")));
+    s.push('\n');
+    s.push_str(&wrap(
+        &format!(
+            "{} ({}; h/rep: hours of each replication's window in the bucket; flow times are of lots \
+             that ship in the bucket{})",
+            heading(b),
+            if b.cyclic { "every cycle folded onto one" } else { "in order through the run" },
+            if fleets { ", waits of moves that start in it" } else { "" }
+        ),
+        2,
+    ));
+    s.push_str(&t.render(2));
+    if rows.len() < b.buckets.len() {
+        s.push_str(&wrap(
+            &format!(
+                "the {} busiest of {} buckets by WIP, in time order; --wide shows every bucket, \
+                 --format json every metric in every bucket",
+                rows.len(),
+                b.buckets.len()
+            ),
+            2,
+        ));
+    }
+    s.push_str(&peak_lines(&b.peak, b));
+    s
+}
+
+/// The peak in words, with what it cannot tell.
+pub fn peak_lines(p: &Peak, b: &BucketSummary) -> String {
+    let mut out = String::new();
+    let mut s = String::new();
+    if let (Some(w), Some(off)) = (&p.wip_mean, p.off_peak_wip_mean) {
+        let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
+        let _ = write!(
+            s,
+            "  peak WIP {}: {} lots; off-peak level {} lots (the quietest quarter of the buckets)",
+            w.bucket,
+            pm(&e, 1.0),
+            layflow_models::text::num(off)
+        );
+        match (p.recovery_h, &p.recovery_note) {
+            (Some(h), _) => {
+                let _ = writeln!(
+                    s,
+                    "; back within 10% of it {} after the peak bucket (to the width of a bucket)",
+                    super::table::dur_plain(h * 3600.0)
+                );
+            }
+            (None, Some(note)) => {
+                let _ = writeln!(s, "; {note}");
+            }
+            (None, None) => s.push('\n'),
+        }
+    }
+    for line in s.lines() {
+        out.push_str(&wrap(line.trim(), 2));
+    }
+    if let Some(w) = &p.move_wait_p95_s {
+        let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
+        let _ = writeln!(out, "  peak wait p95 {}: {}", w.bucket, dur_in(&e, unit_for([w.mean])));
+    }
+    let _ = b;
+    out
+}
