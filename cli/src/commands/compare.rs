@@ -162,6 +162,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
     let started = Instant::now();
     let top = levels.iter().copied().fold(f64::MIN, f64::max);
     let (warmup_s, warmup_auto) = args.sim.warmup(&settings, plant, &which, top)?;
+    let grid = args.sim.grid(plant, warmup_s, settings.horizon_s)?;
     for &factor in &levels {
         warn_overload(plant, &StaticPicture::new(plant, factor));
     }
@@ -177,6 +178,7 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
         warmup_s,
         replications: settings.replications,
         seed: settings.seed,
+        grid: grid.as_ref(),
     };
     let progress = Progress::new(study::planned_replications(&req), settings.quiet);
     let out_levels = settings.pool.install(|| study::run(&req, &progress));

@@ -3,8 +3,9 @@
 use std::fmt::Write as _;
 
 use layflow_models::metrics::by_bucket::{BucketSummary, Peak, WHOLE};
-use layflow_models::metrics::{Estimate, LayoutSummary, DEFS};
+use layflow_models::metrics::{Estimate, Kind, LayoutSummary, Metric, DEFS};
 use layflow_models::plant::{DepartmentRole, Plant};
+use layflow_models::study::compare::Level;
 
 use super::table::{dur_in, pct, pm, unit_for, wide, wrap, Table};
 
@@ -188,4 +189,91 @@ pub fn peak_lines(p: &Peak, b: &BucketSummary) -> String {
     }
     let _ = b;
     out
+}
+
+/// `compare --by`: the ranked metric in the busiest buckets (by the
+/// baseline's WIP), the baseline's value and each layout's paired difference,
+/// then each layout's peak.
+pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
+    let mut s = String::new();
+    let Some(base) = lv.layouts.iter().find(|l| l.layout == baseline) else {
+        return s;
+    };
+    let Some(b) = &base.by_bucket else {
+        return s;
+    };
+    let others: Vec<&LayoutSummary> = lv.layouts.iter().filter(|l| l.layout != baseline).collect();
+    let rows = shown(b);
+    let heads: Vec<String> = ["bucket".to_string(), format!("{baseline} (baseline)")]
+        .into_iter()
+        .chain(others.iter().map(|l| format!("{} − {baseline}", l.layout)))
+        .collect();
+    let mut t = Table::new(&heads);
+    // The paired difference of the ranked metric: in a bucket, or over the whole window.
+    let diff = |layout: &str, bucket: Option<&str>| -> Option<(Estimate, bool)> {
+        let same = |l: &str, m: &str, subj: &str| l == layout && m == ranked.name && subj == ranked.subject;
+        let est = |mean, half_width, n| Estimate { mean, half_width, n };
+        match bucket {
+            Some(k) => lv
+                .bucket_differences
+                .iter()
+                .find(|d| d.bucket == k && same(&d.layout, d.metric, &d.subject))
+                .map(|d| (est(d.mean, d.half_width, d.n), d.excludes_zero)),
+            None => lv
+                .differences
+                .iter()
+                .find(|d| same(&d.layout, d.metric, &d.subject))
+                .map(|d| (est(d.mean, d.half_width, d.n), d.excludes_zero)),
+        }
+    };
+    let keys: Vec<Option<usize>> = rows.iter().map(|&k| Some(k)).chain([None]).collect();
+    let unit = unit_for(keys.iter().filter_map(|&k| b.get(k, &ranked.subject, ranked.name)).map(|e| e.mean));
+    for k in keys {
+        let label = k.map_or(WHOLE.to_string(), |k| b.buckets[k].bucket.clone());
+        let value = |e: Option<Estimate>| match e {
+            Some(e) if e.mean.is_finite() => match ranked.kind {
+                Kind::Duration => dur_in(&e, unit),
+                Kind::Number => pm(&e, 1.0),
+            },
+            _ => "-".to_string(),
+        };
+        let mut row = vec![label.clone(), value(b.get(k, &ranked.subject, ranked.name))];
+        for o in &others {
+            row.push(match diff(&o.layout, k.map(|_| label.as_str())) {
+                Some((e, excludes)) => super::compare::difference_cell(&e, excludes, ranked.kind, unit),
+                None => "-".to_string(),
+            });
+        }
+        t.row(row);
+    }
+    s.push('\n');
+    s.push_str(&wrap(
+        &format!(
+            "{}: {} (the busiest buckets by the baseline's WIP; * the paired interval excludes zero)",
+            heading(b),
+            ranked.human()
+        ),
+        2,
+    ));
+    s.push_str(&t.render(2));
+    if rows.len() < b.buckets.len() {
+        s.push_str(&wrap(
+            &format!(
+                "the {} busiest of {} buckets; --wide shows every bucket, --format json/csv every metric \
+                 in every bucket with its paired difference",
+                rows.len(),
+                b.buckets.len()
+            ),
+            2,
+        ));
+    }
+    for l in &lv.layouts {
+        if let Some(lb) = &l.by_bucket {
+            s.push_str(&wrap(&format!("{}:", l.layout), 2));
+            for line in peak_lines(&lb.peak, lb).lines() {
+                s.push_str(&wrap(line.trim(), 4));
+            }
+        }
+    }
+    s
 }

@@ -11,16 +11,21 @@ use super::table::{dur_in, dur_plain, num, pm, unit_for, whole, Table};
 /// A signed difference in the metric's unit (durations in `unit`, shared by
 /// the row), with its half-width and a mark when the interval excludes zero.
 fn diff_cell(d: &Difference, kind: Kind, unit: (&str, f64)) -> String {
-    if d.n == 0 {
+    let e = Estimate { mean: d.mean, half_width: d.half_width, n: d.n };
+    difference_cell(&e, d.excludes_zero, kind, unit)
+}
+
+/// A paired difference `e` as [`diff_cell`] shows it.
+pub fn difference_cell(e: &Estimate, excludes_zero: bool, kind: Kind, unit: (&str, f64)) -> String {
+    if e.n == 0 {
         return "-".to_string();
     }
     // A plus only on a difference that prints as non-zero.
     let sign = |x: f64| if x > 0.0 && num(x) != "0" { "+" } else { "" };
-    let mark = if d.excludes_zero { " *" } else { "" };
-    let e = Estimate { mean: d.mean, half_width: d.half_width, n: d.n };
+    let mark = if excludes_zero { " *" } else { "" };
     let body = match kind {
-        Kind::Duration => format!("{}{} {}", sign(d.mean), pm(&e, 1.0 / unit.1), unit.0),
-        Kind::Number => format!("{}{}", sign(d.mean), pm(&e, 1.0)),
+        Kind::Duration => format!("{}{} {}", sign(e.mean), pm(e, 1.0 / unit.1), unit.0),
+        Kind::Number => format!("{}{}", sign(e.mean), pm(e, 1.0)),
     };
     format!("{}{mark}", body.replace('-', "−"))
 }
@@ -169,6 +174,7 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
             "  * the 95% paired interval excludes zero: a real difference, not noise. Every metric is in \
              --format json/csv and --out."
         );
+        s.push_str(&super::by_bucket::compare_table(lv, &out.baseline, ranked));
         if let Some(sel) = &lv.selection {
             s.push('\n');
             s.push_str(&super::select::render(sel, ranked));

@@ -2,6 +2,7 @@
 
 use std::path::Path;
 
+use crate::metrics::by_bucket::WHOLE;
 use crate::metrics::estimate::{Estimate, CONFIDENCE};
 use crate::metrics::list::Metric;
 use crate::study::compare::CompareOutput;
@@ -28,10 +29,13 @@ pub fn write(dir: &Path, out: &CompareOutput, metric_list: &[Metric]) -> Result<
 }
 
 /// One row per demand level × layout × metric: the layout's mean and the
-/// paired difference against the baseline.
+/// paired difference against the baseline. With `--by`, a `bucket` column
+/// follows `layout`: `whole window` on these rows, then one row per bucket ×
+/// bucketed metric of each layout.
 pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8>, ResultsError> {
     let mut w = csv::Writer::from_writer(Vec::new());
-    let header = [
+    let by = out.levels.iter().flat_map(|lv| &lv.layouts).any(|l| l.by_bucket.is_some());
+    let mut header = vec![
         "demand_factor",
         "layout",
         "scope",
@@ -46,8 +50,12 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
         "difference_n",
         "difference_excludes_zero",
     ];
-    w.write_record(header).map_err(csv_failure)?;
+    if by {
+        header.insert(2, "bucket");
+    }
+    w.write_record(&header).map_err(csv_failure)?;
     let opt = |x: Option<f64>| x.map_or(String::new(), |v| v.to_string());
+    let mean = |m: f64, n: usize| if n == 0 { String::new() } else { m.to_string() };
     for lv in &out.levels {
         for (li, s) in lv.layouts.iter().enumerate() {
             let mut diffs = lv.differences.iter().filter(|d| d.layout == s.layout);
@@ -55,7 +63,7 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
                 let col: Vec<f64> = lv.values[li].iter().map(|v| v[m]).filter(|x| x.is_finite()).collect();
                 let e: Estimate = layflow_engine::interval(&col, CONFIDENCE).into();
                 let d = if s.layout == out.baseline { None } else { diffs.next() };
-                w.write_record([
+                let mut row = vec![
                     lv.demand_factor.to_string(),
                     s.layout.clone(),
                     metric.scope.as_str().to_string(),
@@ -66,6 +74,33 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
                     e.n.to_string(),
                     out.baseline.clone(),
                     d.map_or(String::new(), |d| if d.n == 0 { String::new() } else { d.mean.to_string() }),
+                    d.map_or(String::new(), |d| opt(d.half_width)),
+                    d.map_or(String::new(), |d| d.n.to_string()),
+                    d.map_or(String::new(), |d| d.excludes_zero.to_string()),
+                ];
+                if by {
+                    row.insert(2, WHOLE.to_string());
+                }
+                w.write_record(&row).map_err(csv_failure)?;
+            }
+            let Some(b) = &s.by_bucket else {
+                continue;
+            };
+            let mut diffs = lv.bucket_differences.iter().filter(|d| d.layout == s.layout);
+            for r in &b.rows {
+                let d = if s.layout == out.baseline { None } else { diffs.next() };
+                w.write_record([
+                    lv.demand_factor.to_string(),
+                    s.layout.clone(),
+                    r.bucket.clone(),
+                    r.scope.as_str().to_string(),
+                    r.subject.clone(),
+                    r.metric.to_string(),
+                    mean(r.mean, r.n),
+                    opt(r.half_width),
+                    r.n.to_string(),
+                    out.baseline.clone(),
+                    d.map_or(String::new(), |d| mean(d.mean, d.n)),
                     d.map_or(String::new(), |d| opt(d.half_width)),
                     d.map_or(String::new(), |d| d.n.to_string()),
                     d.map_or(String::new(), |d| d.excludes_zero.to_string()),

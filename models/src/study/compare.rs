@@ -11,6 +11,7 @@ use layflow_engine::{paired_difference, Interval};
 use serde::Serialize;
 
 use crate::analysis::StaticPicture;
+use crate::metrics::by_bucket::{bucket_metrics, bucket_values};
 use crate::metrics::estimate::CONFIDENCE;
 use crate::metrics::list::{values_mean, Metric};
 use crate::metrics::registry::{Better, Scope};
@@ -18,6 +19,7 @@ use crate::metrics::summary::{LayoutAccumulator, LayoutSummary};
 use crate::plant::Plant;
 use crate::sim::{Plan, RepStats, RunSpec};
 use crate::text::num;
+use crate::timebuckets::Grid;
 
 use super::progress::{Progress, StudyError};
 use super::replicate::replicate_fold;
@@ -77,6 +79,33 @@ pub struct Level {
     /// `values[layout][replication][metric]`, for the tidy CSV.
     #[serde(skip)]
     pub values: Vec<Vec<Vec<f64>>>,
+    /// With `--by`: paired differences of every bucketed metric in every
+    /// bucket, each layout against the baseline (tidy rows).
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub bucket_differences: Vec<BucketDifference>,
+}
+
+/// A paired difference `layout − baseline` of one metric in one time bucket.
+#[derive(Serialize)]
+pub struct BucketDifference {
+    /// The layout compared with the baseline.
+    pub layout: String,
+    /// The bucket's label.
+    pub bucket: String,
+    /// The metric's scope.
+    pub scope: Scope,
+    /// The product, department, fleet or segment; empty for the plant.
+    pub subject: String,
+    /// The metric's registry name.
+    pub metric: &'static str,
+    /// Mean of layout − baseline over the pairs.
+    pub mean: f64,
+    /// Half-width of the 95% paired-t interval.
+    pub half_width: Option<f64>,
+    /// Pairs counted (replications where both observed the metric in this bucket).
+    pub n: usize,
+    /// The interval excludes zero.
+    pub excludes_zero: bool,
 }
 
 /// A paired difference `layout − baseline` of one metric.
@@ -139,6 +168,8 @@ pub struct Request<'a> {
     pub replications: u32,
     /// Base seed.
     pub seed: u64,
+    /// Also compare by time bucket (`--by`).
+    pub grid: Option<&'a Grid>,
 }
 
 /// Replications each level needs without selection (for a progress total).
@@ -159,11 +190,20 @@ pub fn run(req: &Request, progress: &dyn Progress) -> Result<Vec<Level>, StudyEr
         let pic = StaticPicture::new(plant, factor);
         let (horizon_s, warmup_s, seed) = (req.horizon_s, req.warmup_s, req.seed);
         let spec = |l: usize| RunSpec { layout: l, horizon_s, warmup_s, demand_factor: factor, seed };
-        let plans: Vec<Plan> = which.iter().map(|&l| Plan::new(plant, l)).collect();
+        let plans: Vec<Plan> = which
+            .iter()
+            .map(|&l| {
+                let plan = Plan::new(plant, l);
+                match req.grid {
+                    Some(g) => plan.with_buckets(g.clone()),
+                    None => plan,
+                }
+            })
+            .collect();
         // Each layout keeps its summary's moments and each replication's
         // listed values (the paired differences and the CSV need them); the
         // replications themselves are dropped as they are folded.
-        let mut kept: Vec<Kept> = which.iter().map(|_| Kept::new(plant)).collect();
+        let mut kept: Vec<Kept> = which.iter().map(|_| Kept::new(plant, req.grid)).collect();
         let chosen = match req.selection {
             Some(sel) => {
                 let mut fold = |li: usize, r: &RepStats| kept[li].add(plant, req.metrics, r);
@@ -231,6 +271,7 @@ pub fn level(
 ) -> Level {
     let summaries: Vec<LayoutSummary> =
         which.iter().zip(&kept).map(|(&l, k)| k.acc.finish(&spec(l), pic)).collect();
+    let bucket_differences = bucket_differences(plant, which, baseline, &kept, &summaries);
     let values: Vec<Vec<Vec<f64>>> = kept.into_iter().map(|k| k.values).collect();
     let column = |li: usize, m: usize| -> Vec<f64> { values[li].iter().map(|v| v[m]).collect() };
     let mut differences = Vec::new();
@@ -276,7 +317,48 @@ pub fn level(
         ranking,
         selection,
         values,
+        bucket_differences,
     }
+}
+
+/// Paired differences `layout − baseline` of every bucketed metric in every
+/// bucket (`--by`), bucket by bucket; empty without buckets.
+fn bucket_differences(
+    plant: &Plant,
+    which: &[usize],
+    baseline: usize,
+    kept: &[Kept],
+    summaries: &[LayoutSummary],
+) -> Vec<BucketDifference> {
+    let Some(labels) = summaries[baseline].by_bucket.as_ref().map(|b| &b.buckets) else {
+        return Vec::new();
+    };
+    let list = bucket_metrics(plant);
+    let column =
+        |li: usize, b: usize, m: usize| -> Vec<f64> { kept[li].by_values.iter().map(|v| v[b][m]).collect() };
+    let mut out = Vec::new();
+    for (li, &l) in which.iter().enumerate() {
+        if li == baseline {
+            continue;
+        }
+        for (b, info) in labels.iter().enumerate() {
+            for (m, metric) in list.iter().enumerate() {
+                let iv = paired(&column(li, b, m), &column(baseline, b, m));
+                out.push(BucketDifference {
+                    layout: plant.layouts[l].name.clone(),
+                    bucket: info.bucket.clone(),
+                    scope: metric.scope,
+                    subject: metric.subject.clone(),
+                    metric: metric.name,
+                    mean: iv.mean,
+                    half_width: iv.half_width,
+                    n: iv.n,
+                    excludes_zero: iv.excludes_zero(),
+                });
+            }
+        }
+    }
+    out
 }
 
 /// What a comparison keeps of one layout's replications: its summary's
@@ -288,18 +370,31 @@ pub struct Kept<'a> {
     pub acc: LayoutAccumulator<'a>,
     /// `values[replication][metric]`, in the order of the listed metrics.
     pub values: Vec<Vec<f64>>,
+    /// With buckets: `by_values[replication][bucket][metric]`, in the order
+    /// of `bucket_metrics` (8 bytes per bucket and metric per replication).
+    pub by_values: Vec<Vec<Vec<f64>>>,
+    /// The bucketed metrics (empty without buckets).
+    by_list: Vec<Metric>,
 }
 
 impl<'a> Kept<'a> {
-    /// Nothing kept yet.
-    pub fn new(plant: &'a Plant) -> Kept<'a> {
-        Kept { acc: LayoutAccumulator::new(plant), values: Vec::new() }
+    /// Nothing kept yet; with `grid`, each replication's buckets too.
+    pub fn new(plant: &'a Plant, grid: Option<&Grid>) -> Kept<'a> {
+        Kept {
+            acc: LayoutAccumulator::new(plant).with_buckets(grid),
+            values: Vec::new(),
+            by_values: Vec::new(),
+            by_list: if grid.is_some() { bucket_metrics(plant) } else { Vec::new() },
+        }
     }
 
     /// Fold in the layout's next replication.
     pub fn add(&mut self, plant: &Plant, metric_list: &[Metric], r: &RepStats) {
         self.acc.add(r);
         self.values.push(metric_list.iter().map(|m| m.value(plant, r)).collect());
+        if !self.by_list.is_empty() {
+            self.by_values.push(bucket_values(plant, &self.by_list, r));
+        }
     }
 }
 
