@@ -216,6 +216,12 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
         return search_qaplib(args, q, &names, limits);
     }
     let path = args.scenario.as_ref().expect("clap requires a scenario without --qaplib");
+    if args.sim.by.is_some() && !args.validate {
+        return Err(Failure::input(
+            "--by slices simulated results by time; the search itself is static, so --by goes with \
+             --validate (which compares the layouts found by time bucket too)",
+        ));
+    }
     if args.validate && args.format == Format::Json {
         return Err(Failure::input(
             "--validate prints the comparison as a table; for JSON, write the layouts with --out, add the \

@@ -149,6 +149,19 @@ pub fn layout_table(plant: &Plant, l: &LayoutSummary, b: &BucketSummary) -> Stri
             2,
         ));
     }
+    let empty: Vec<&str> =
+        b.buckets.iter().filter(|x| !(x.exposure_h > 0.0)).map(|x| x.bucket.as_str()).collect();
+    if !empty.is_empty() {
+        s.push_str(&wrap(
+            &format!(
+                "no time of the observation window falls in {} (the warm-up or the horizon leaves {} out): \
+                 nothing is known there",
+                empty.join(", "),
+                if empty.len() == 1 { "it" } else { "them" }
+            ),
+            2,
+        ));
+    }
     s.push_str(&peak_lines(&b.peak, b));
     s
 }
