@@ -12,6 +12,7 @@ use std::sync::atomic::{AtomicU64, Ordering};
 
 use layflow_models::load_scenario;
 use layflow_models::sim::{simulate, Plan, RunSpec};
+use layflow_models::timebuckets::{By, Grid};
 
 struct Counting;
 static ALLOCATIONS: AtomicU64 = AtomicU64::new(0);
@@ -54,30 +55,36 @@ fn allocations_do_not_grow_with_the_horizon() {
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         let plant = load_scenario(&path).unwrap();
-        let plan = Plan::new(&plant, 0);
-        let count = |days: f64| {
-            let spec = RunSpec {
-                layout: 0,
-                horizon_s: days * 86400.0,
-                warmup_s: 86400.0,
-                demand_factor: 1.0,
-                seed: 99,
+        // Results by hour of day (24 fixed buckets) must not grow with the horizon either.
+        let hours = Grid::new(&By::HourOfDay, &plant, 86400.0, 10.0 * 86400.0).unwrap();
+        for (plan, by) in
+            [(Plan::new(&plant, 0), ""), (Plan::new(&plant, 0).with_buckets(hours), " --by hour-of-day")]
+        {
+            let name = format!("{name}{by}");
+            let count = |days: f64| {
+                let spec = RunSpec {
+                    layout: 0,
+                    horizon_s: days * 86400.0,
+                    warmup_s: 86400.0,
+                    demand_factor: 1.0,
+                    seed: 99,
+                };
+                let before = ALLOCATIONS.load(Ordering::Relaxed);
+                let r = simulate(&plan, &spec, 0);
+                (ALLOCATIONS.load(Ordering::Relaxed) - before, r.events)
             };
-            let before = ALLOCATIONS.load(Ordering::Relaxed);
-            let r = simulate(&plan, &spec, 0);
-            (ALLOCATIONS.load(Ordering::Relaxed) - before, r.events)
-        };
-        let (short, short_events) = count(10.0);
-        let (long, long_events) = count(100.0);
-        assert!(long_events > 9 * short_events, "{name}: {long_events} vs {short_events} events");
-        // 100 days is about 280,000 events; allow 64 extra allocations for queues and
-        // histograms reaching new maxima, far below one per thousand events.
-        assert!(
-            long <= short + 64,
-            "{name}: allocations grew with the horizon: {short} for 10 d, {long} for 100 d"
-        );
-        eprintln!(
+            let (short, short_events) = count(10.0);
+            let (long, long_events) = count(100.0);
+            assert!(long_events > 9 * short_events, "{name}: {long_events} vs {short_events} events");
+            // 100 days is about 280,000 events; allow 64 extra allocations for queues and
+            // histograms reaching new maxima, far below one per thousand events.
+            assert!(
+                long <= short + 64,
+                "{name}: allocations grew with the horizon: {short} for 10 d, {long} for 100 d"
+            );
+            eprintln!(
             "{name}: allocations: {short} for 10 d ({short_events} events), {long} for 100 d ({long_events} events)"
         );
+        }
     }
 }

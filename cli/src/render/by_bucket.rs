@@ -162,45 +162,43 @@ pub fn layout_table(plant: &Plant, l: &LayoutSummary, b: &BucketSummary) -> Stri
             2,
         ));
     }
-    s.push_str(&peak_lines(&b.peak, b));
+    s.push_str(&peak_lines(&b.peak, 2));
     s
 }
 
-/// The peak in words, with what it cannot tell.
-pub fn peak_lines(p: &Peak, b: &BucketSummary) -> String {
+/// The peak in words, with what it cannot tell, wrapped at `indent`.
+pub fn peak_lines(p: &Peak, indent: usize) -> String {
     let mut out = String::new();
-    let mut s = String::new();
     if let (Some(w), Some(off)) = (&p.wip_mean, p.off_peak_wip_mean) {
         let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
-        let _ = write!(
-            s,
-            "  peak WIP {}: {} lots; off-peak level {} lots (the quietest quarter of the buckets)",
+        let mut line = format!(
+            "peak WIP {}: {} lots; off-peak level {} lots (the quietest quarter of the buckets)",
             w.bucket,
             pm(&e, 1.0),
             layflow_models::text::num(off)
         );
         match (p.recovery_h, &p.recovery_note) {
             (Some(h), _) => {
-                let _ = writeln!(
-                    s,
+                let _ = write!(
+                    line,
                     "; back within 10% of it {} after the peak bucket (to the width of a bucket)",
                     super::table::dur_plain(h * 3600.0)
                 );
             }
             (None, Some(note)) => {
-                let _ = writeln!(s, "; {note}");
+                let _ = write!(line, "; {note}");
             }
-            (None, None) => s.push('\n'),
+            (None, None) => {}
         }
-    }
-    for line in s.lines() {
-        out.push_str(&wrap(line.trim(), 2));
+        out.push_str(&wrap(&line, indent));
     }
     if let Some(w) = &p.move_wait_p95_s {
         let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
-        let _ = writeln!(out, "  peak wait p95 {}: {}", w.bucket, dur_in(&e, unit_for([w.mean])));
+        out.push_str(&wrap(
+            &format!("peak wait p95 {}: {}", w.bucket, dur_in(&e, unit_for([w.mean]))),
+            indent,
+        ));
     }
-    let _ = b;
     out
 }
 
@@ -253,7 +251,7 @@ pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
         let mut row = vec![label.clone(), value(b.get(k, &ranked.subject, ranked.name))];
         for o in &others {
             row.push(match diff(&o.layout, k.map(|_| label.as_str())) {
-                Some((e, excludes)) => super::compare::difference_cell(&e, excludes, ranked.kind, unit),
+                Some((e, excludes)) => super::table::difference_cell(&e, excludes, ranked.kind, unit),
                 None => "-".to_string(),
             });
         }
@@ -283,9 +281,7 @@ pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
     for l in &lv.layouts {
         if let Some(lb) = &l.by_bucket {
             s.push_str(&wrap(&format!("{}:", l.layout), 2));
-            for line in peak_lines(&lb.peak, lb).lines() {
-                s.push_str(&wrap(line.trim(), 4));
-            }
+            s.push_str(&peak_lines(&lb.peak, 4));
         }
     }
     s

@@ -6,28 +6,13 @@ use layflow_models::metrics::{find_metric, Estimate, Kind, LayoutSummary, Metric
 use layflow_models::plant::Plant;
 use layflow_models::study::compare::{CompareOutput, Difference};
 
-use super::table::{dur_in, dur_plain, num, pm, unit_for, whole, Table};
+use super::table::{dur_in, dur_plain, pm, unit_for, whole, Table};
 
 /// A signed difference in the metric's unit (durations in `unit`, shared by
 /// the row), with its half-width and a mark when the interval excludes zero.
 fn diff_cell(d: &Difference, kind: Kind, unit: (&str, f64)) -> String {
     let e = Estimate { mean: d.mean, half_width: d.half_width, n: d.n };
-    difference_cell(&e, d.excludes_zero, kind, unit)
-}
-
-/// A paired difference `e` as [`diff_cell`] shows it.
-pub fn difference_cell(e: &Estimate, excludes_zero: bool, kind: Kind, unit: (&str, f64)) -> String {
-    if e.n == 0 {
-        return "-".to_string();
-    }
-    // A plus only on a difference that prints as non-zero.
-    let sign = |x: f64| if x > 0.0 && num(x) != "0" { "+" } else { "" };
-    let mark = if excludes_zero { " *" } else { "" };
-    let body = match kind {
-        Kind::Duration => format!("{}{} {}", sign(e.mean), pm(e, 1.0 / unit.1), unit.0),
-        Kind::Number => format!("{}{}", sign(e.mean), pm(e, 1.0)),
-    };
-    format!("{}{mark}", body.replace('-', "−"))
+    super::table::difference_cell(&e, d.excludes_zero, kind, unit)
 }
 
 /// Plant metrics shown in the differences table (each with its registry label).

@@ -2,7 +2,7 @@
 
 use std::sync::atomic::{AtomicBool, Ordering};
 
-use layflow_models::metrics::{DurationEstimate, Estimate};
+use layflow_models::metrics::{DurationEstimate, Estimate, Kind};
 pub use layflow_models::text::{num, time_unit};
 
 /// The width default tables fit in, characters; `--wide` lifts it.
@@ -244,6 +244,22 @@ pub fn speed(events: u64, wall_s: f64) -> String {
         "{events} events in {wall_s:.2} s ({:.1} million events/s)",
         events as f64 / wall_s.max(1e-9) / 1e6
     )
+}
+
+/// A signed paired difference in the metric's unit (durations in `unit`,
+/// shared by the row), with its half-width and ` *` when its interval excludes zero.
+pub fn difference_cell(e: &Estimate, excludes_zero: bool, kind: Kind, unit: (&str, f64)) -> String {
+    if e.n == 0 {
+        return "-".to_string();
+    }
+    // A plus only on a difference that prints as non-zero.
+    let sign = |x: f64| if x > 0.0 && num(x) != "0" { "+" } else { "" };
+    let mark = if excludes_zero { " *" } else { "" };
+    let body = match kind {
+        Kind::Duration => format!("{}{} {}", sign(e.mean), pm(e, 1.0 / unit.1), unit.0),
+        Kind::Number => format!("{}{}", sign(e.mean), pm(e, 1.0)),
+    };
+    format!("{}{mark}", body.replace('-', "−"))
 }
 
 #[cfg(test)]
