@@ -9,14 +9,17 @@ use layflow_models::study::compare::Level;
 
 use super::table::{dur_in, pct, pm, unit_for, wide, wrap, Table};
 
-/// Buckets a default table shows; `--wide` shows every one.
+/// Buckets a default table shows of a long grid; `--wide` shows every one.
 pub const SHOWN: usize = 8;
 
-/// The buckets a table shows, in time order: every one when there are few
-/// (or with `--wide`), else the [`SHOWN`] with the highest mean WIP.
+/// Grids this long or shorter are shown whole (a week of days, a fortnight of shifts).
+pub const SHOWN_WHOLE: usize = 14;
+
+/// The buckets a table shows, in time order: every one when there are at
+/// most [`SHOWN_WHOLE`] (or with `--wide`), else the [`SHOWN`] with the highest mean WIP.
 pub fn shown(b: &BucketSummary) -> Vec<usize> {
     let n = b.buckets.len();
-    if n <= SHOWN || wide() {
+    if n <= SHOWN_WHOLE || wide() {
         return (0..n).collect();
     }
     let wip = |k: usize| b.get(Some(k), "", "wip_mean").map_or(f64::NEG_INFINITY, |e| e.mean);
@@ -32,10 +35,12 @@ fn label(scope_name: &str) -> &'static str {
     DEFS.iter().find(|d| d.name == scope_name).map_or("", |d| d.label)
 }
 
-/// "by hour of day": how the grid reads in a heading.
+/// "by hour of day", "by shift of press", "by period of 8 h": how the grid reads in a heading.
 pub fn heading(b: &BucketSummary) -> String {
-    let what = b.by.split('=').next().unwrap_or(&b.by).replace('-', " ");
-    format!("by {what}{}", b.by.split_once('=').map(|(_, a)| format!(" ({a})")).unwrap_or_default())
+    match b.by.split_once('=') {
+        Some((what, arg)) => format!("by {} of {arg}", what.replace('-', " ")),
+        None => format!("by {}", b.by.replace('-', " ")),
+    }
 }
 
 /// One layout's results by bucket: the table, then the peak.
