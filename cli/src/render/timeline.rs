@@ -153,7 +153,7 @@ pub fn draw(folder: &Path, replication: u64, window: (f64, f64), title: &str) ->
     let mut s = String::new();
     let _ = write!(
         s,
-        r#"<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{height:.0}" viewBox="0 0 {WIDTH} {height:.0}" font-family="sans-serif" font-size="11">"#
+        r#"<svg xmlns="http://www.w3.org/2000/svg" width="{WIDTH}" height="{height:.0}" viewBox="0 0 {WIDTH} {height:.0}" font-family="DejaVu Sans, Liberation Sans, Noto Sans, sans-serif" font-size="11">"#
     );
     let _ = write!(s, r#"<rect width="100%" height="100%" fill="white"/>"#);
     let _ =
