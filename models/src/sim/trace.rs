@@ -36,13 +36,13 @@ pub struct TraceOptions {
     /// lot's stay, a visit, a move) overlaps this window, or its state
     /// change falls in it; each lane also gets a row at `from` with its state then.
     pub window: (f64, f64),
-    /// Department ids, by index.
+    /// Department ids, by index, as CSV fields (quoted where they need it).
     pub departments: Vec<String>,
-    /// Product ids, by index.
+    /// Product ids, by index, as CSV fields.
     pub products: Vec<String>,
-    /// Each product's step names, by routing index.
+    /// Each product's step names, by routing index, as CSV fields.
     pub steps: Vec<Vec<String>>,
-    /// Fleet ids, by index.
+    /// Fleet ids, by index, as CSV fields.
     pub fleets: Vec<String>,
 }
 
