@@ -57,7 +57,8 @@ fn the_trace_of_the_demo_plant_adds_up_to_runs_numbers() {
 
 /// Plants that exercise what else the tracer follows: operators' shifts
 /// (off_duty), idle rules (park, reserve, always home), nearest-idle fleet
-/// choice and nearest-request dispatch, an order trace, a warm-up of 0.
+/// choice and nearest-request dispatch, an order trace, a warm-up of 0, and
+/// machines with breakdowns, calendars and setups (availability checked too).
 #[test]
 fn traces_of_the_other_traceable_validation_plants_add_up_too() {
     for file in [
@@ -70,6 +71,12 @@ fn traces_of_the_other_traceable_validation_plants_add_up_too() {
         "validation/orders-trace.yaml",
         "validation/tiny-forklift.yaml",
         "orders-demo.yaml",
+        // Tracked machines: breakdowns (down), calendars (off_shift, paused or finishing), setups.
+        "validation/machine-availability.yaml",
+        "validation/calendar-shifts-mg1.yaml",
+        "validation/calendar-shifts-mg1-finish.yaml",
+        "validation/calendar-week.yaml",
+        "validation/setups-alternating.yaml",
     ] {
         adds_up(file, 0);
     }
@@ -153,30 +160,33 @@ fn adds_up(file: &str, replication: u64) {
             .or_default()
             .push((f(&r, "time").unwrap(), r["state"].clone()));
     }
-    let mut busy: BTreeMap<String, (f64, u32)> = BTreeMap::new();
+    // (busy or setting up, down) machine-seconds and lanes, per department.
+    let mut busy: BTreeMap<String, (f64, f64, u32)> = BTreeMap::new();
     for ((dept, _), mut changes) in lanes {
         // File order is decision order; a stable sort by time keeps the later decision last.
         changes.sort_by(|a, b| a.0.total_cmp(&b.0));
         assert_eq!(changes[0].0, w0, "{file}: every lane starts with its state at the window's start");
-        let mut s = 0.0;
+        let (mut s, mut down) = (0.0, 0.0);
         for (i, (t, state)) in changes.iter().enumerate() {
-            let end = changes.get(i + 1).map_or(w1, |c| c.0);
-            if state == "busy" {
-                s += end.min(w1) - t.max(w0);
+            let span = changes.get(i + 1).map_or(w1, |c| c.0).min(w1) - t.max(w0);
+            // A setup holds the machine for its lot: `run` counts it busy (and reports it apart too).
+            if state == "busy" || state == "setup" {
+                s += span;
+            } else if state == "down" {
+                down += span;
             }
         }
-        let e = busy.entry(dept).or_insert((0.0, 0));
+        let e = busy.entry(dept).or_insert((0.0, 0.0, 0));
         e.0 += s;
-        e.1 += 1;
+        e.1 += down;
+        e.2 += 1;
     }
     for (d, dep) in plant.departments.iter().enumerate() {
-        if let Some(&(s, machines)) = busy.get(&dep.id) {
-            assert_eq!(machines, dep.machines, "{}: a lane per machine", dep.id);
-            close(
-                &format!("utilisation of {}", dep.id),
-                s / (f64::from(machines) * (w1 - w0)),
-                rep.utilization[d],
-            );
+        if let Some(&(s, down, machines)) = busy.get(&dep.id) {
+            assert_eq!(machines, dep.machines, "{file}: {}: a lane per machine", dep.id);
+            let capacity = f64::from(machines) * (w1 - w0);
+            close(&format!("{file}: utilisation of {}", dep.id), s / capacity, rep.utilization[d]);
+            close(&format!("{file}: availability of {}", dep.id), 1.0 - down / capacity, rep.availability[d]);
         } else {
             assert_eq!(dep.machines, 0, "{file}: {}: a work department has lanes", dep.id);
         }

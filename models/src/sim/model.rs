@@ -987,5 +987,8 @@ impl Model for PlantModel<'_> {
             Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
             Event::Step { mover } => self.step(mover, cal),
         }
+        if self.trace.is_some() {
+            self.trace_poll(cal.now());
+        }
     }
 }

@@ -74,11 +74,10 @@ fn csv_field(name: &str) -> String {
 
 /// Why a plant cannot be traced yet, in the user's words; `None` when it can.
 ///
-/// The tracer follows lots, single-load movers on direct trips, and machines
-/// of departments that keep a plain busy count. Staging limits, split lots,
-/// tow trains, the simulated aisle network, mover breakdowns or charging,
-/// and machine breakdowns, calendars or setups add states the tracer does
-/// not record yet, so a trace of such a plant would not add up to `run`'s
+/// The tracer follows lots, single-load movers on direct trips, and
+/// machines (with breakdowns, calendars and setups too). Staging limits,
+/// split lots, tow trains, the simulated aisle network, and mover
+/// breakdowns or charging add states the tracer does not record yet, so a trace of such a plant would not add up to `run`'s
 /// numbers; it is refused rather than written wrong.
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
     if plan.staging || plan.overflow {
@@ -91,8 +90,6 @@ pub fn untraceable(plan: &Plan) -> Option<&'static str> {
         Some("a fleet carries several loads per trip (capacity above 1)")
     } else if plan.fleets.iter().any(|f| f.service) {
         Some("a fleet has breakdowns or battery charging")
-    } else if plan.tracked.iter().any(|&t| t) {
-        Some("a department has breakdowns, a working calendar or setups")
     } else {
         None
     }

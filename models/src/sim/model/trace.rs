@@ -5,9 +5,11 @@
 //! their bodies stay out of the hot loop. They only read the model and write
 //! rows: a traced replication gives exactly the statistics of an untraced one.
 //!
-//! Lanes: a machine lane per machine of every work department (a lot takes
-//! the lowest-numbered free machine, since those departments keep only a
-//! busy count), a mover lane per mover. Their state rows are filtered to the
+//! Lanes: a machine lane per machine of every work department, a mover lane
+//! per mover. A department that keeps only a busy count gets machine numbers
+//! here (a starting lot takes the lowest-numbered free lane); the machines of
+//! a department with breakdowns, a calendar or setups are the model's own,
+//! and their state is read off the model after every event (`trace_poll`). Their state rows are filtered to the
 //! window with one row per lane at the window's start (docs/traces.md).
 
 use std::io::Write;
@@ -28,6 +30,9 @@ pub(super) enum State {
     Handling,
     OffDuty,
     Busy,
+    Setup,
+    Down,
+    OffShift,
 }
 
 impl State {
@@ -39,6 +44,9 @@ impl State {
             State::Handling => "handling",
             State::OffDuty => "off_duty",
             State::Busy => "busy",
+            State::Setup => "setup",
+            State::Down => "down",
+            State::OffShift => "off_shift",
         }
     }
 }
@@ -62,8 +70,15 @@ pub(super) struct Tracer<'a> {
     /// Per slab entry: the lot's number (release order, from 1), 0 when free.
     lot_no: Vec<u64>,
     next_lot: u64,
-    /// Per slab entry: when it reached its current department (NaN once started).
+    /// Per slab entry: when it reached its current department (NaN once its
+    /// visit row is written, or while it is moved).
     arrival: Vec<f64>,
+    /// Per slab entry: when a tracked machine took it (NaN: not on one).
+    started: Vec<f64>,
+    /// Per tracked machine (`PlantModel::machines`): the state last written,
+    /// and the lot it held at the last look.
+    machine_state: Vec<State>,
+    machine_lot: Vec<u32>,
     /// Per department: the slab entry on each machine lane (NONE: free).
     on_machine: Vec<Vec<u32>>,
     /// First machine lane of each department in `lanes`.
@@ -137,6 +152,9 @@ fn simulate_with_trace(
         lot_no: Vec::new(),
         next_lot: 0,
         arrival: Vec::new(),
+        started: Vec::new(),
+        machine_state: vec![State::Idle; m.machines.len()],
+        machine_lot: vec![NONE; m.machines.len()],
         on_machine,
         first_lane,
         lanes,
@@ -236,11 +254,62 @@ impl<'a> PlantModel<'a> {
     /// start is written by `go_off_duty` right after).
     #[cold]
     fn trace_begin(&mut self) {
-        let t = self.tracer();
+        let t = self.trace.as_mut().expect("only called when tracing");
         for lane in 0..t.lanes.len() {
             t.state(lane, 0.0, State::Idle);
         }
+        // A department whose calendar starts off shift (set when the run starts).
+        for (k, m) in self.machines.iter().enumerate() {
+            let d = m.dept as usize;
+            if self.plan.calendars[d].as_ref().is_some_and(|c| !c.duty.on_at_start) {
+                t.machine_state[k] = State::OffShift;
+                let lane = t.first_lane[d] + (k - self.departments[d].first_machine as usize);
+                t.state(lane, 0.0, State::OffShift);
+            }
+        }
         t.open(0.0);
+    }
+
+    /// After every event: the state of each tracked machine (breakdowns,
+    /// calendars, setups), read off the model, with a row where it changed;
+    /// a lot newly on a machine starts its visit now.
+    #[cold]
+    pub(super) fn trace_poll(&mut self, now: f64) {
+        if self.machines.is_empty() {
+            return;
+        }
+        let t = self.trace.as_mut().expect("only called when tracing");
+        t.open(now);
+        for (k, m) in self.machines.iter().enumerate() {
+            let d = m.dept as usize;
+            let on_shift = self.departments[d].on_shift;
+            let state = if !m.up {
+                State::Down
+            } else if m.running && m.in_setup {
+                State::Setup
+            } else if m.running {
+                State::Busy
+            } else if m.lot != NONE && on_shift {
+                // Up, on shift, holding a lot it is not working on: finished
+                // and waiting to leave (not reached without staging limits).
+                State::Busy
+            } else if m.lot != NONE || !on_shift {
+                State::OffShift
+            } else {
+                State::Idle
+            };
+            if m.lot != t.machine_lot[k] {
+                t.machine_lot[k] = m.lot;
+                if m.lot != NONE {
+                    t.started[m.lot as usize] = now;
+                }
+            }
+            if state != t.machine_state[k] {
+                t.machine_state[k] = state;
+                let lane = t.first_lane[d] + (k - self.departments[d].first_machine as usize);
+                t.state(lane, now, state);
+            }
+        }
     }
 
     /// Lot `id` has just been released (it is in the slab).
@@ -252,10 +321,12 @@ impl<'a> PlantModel<'a> {
         if t.lot_no.len() <= i {
             t.lot_no.resize(i + 1, 0);
             t.arrival.resize(i + 1, f64::NAN);
+            t.started.resize(i + 1, f64::NAN);
         }
         t.next_lot += 1;
         t.lot_no[i] = t.next_lot;
         t.arrival[i] = f64::NAN;
+        t.started[i] = f64::NAN;
     }
 
     /// Lot `id` has reached the department of its current operation.
@@ -287,9 +358,25 @@ impl<'a> PlantModel<'a> {
     /// Lot `id` has finished its operation: its machine lane turns idle (a waiting lot may take it at once).
     #[cold]
     pub(super) fn trace_end_operation(&mut self, id: u32, now: f64) {
-        let dept = self.lots[id as usize].department as usize;
-        let t = self.tracer();
+        let lot = &self.lots[id as usize];
+        let (p, op, dept) = (lot.product as usize, lot.op as usize, lot.department as usize);
+        let tracked = self.plan.tracked[dept];
+        let t = self.trace.as_mut().expect("only called when tracing");
         t.open(now);
+        if tracked {
+            // The visit's row now that its end is known (failures and pauses may have stretched it).
+            let (arrival, start) = (t.arrival[id as usize], t.started[id as usize]);
+            if t.in_window(arrival, now) {
+                t.visit_row(id, p, op, dept, arrival, Some((start, now)));
+            }
+            t.arrival[id as usize] = f64::NAN;
+            t.started[id as usize] = f64::NAN;
+            // Seen afresh by the next look, should it start again on this machine (rework).
+            if let Some(k) = t.machine_lot.iter().position(|&l| l == id) {
+                t.machine_lot[k] = NONE;
+            }
+            return;
+        }
         if let Some(k) = t.on_machine[dept].iter().position(|&l| l == id) {
             t.on_machine[dept][k] = NONE;
             let lane = t.first_lane[dept] + k;
@@ -407,7 +494,8 @@ impl<'a> PlantModel<'a> {
         for &(id, p, op, dept) in &queued {
             let arrival = t.arrival[id as usize];
             if !arrival.is_nan() && t.in_window(arrival, f64::INFINITY) {
-                t.visit_row(id, p, op, dept, arrival, None);
+                let start = t.started[id as usize];
+                t.visit_row(id, p, op, dept, arrival, (!start.is_nan()).then_some((start, f64::NAN)));
             }
         }
         for &(id, p, born) in &lots {
@@ -438,7 +526,12 @@ impl Tracer<'_> {
         match times {
             Some((start, end)) => {
                 num(&mut self.line, start);
-                num(&mut self.line, end);
+                if end.is_nan() {
+                    // On a machine at the end of the run: its end is not known.
+                    self.line.push(',');
+                } else {
+                    num(&mut self.line, end);
+                }
                 num(&mut self.line, start - arrival);
             }
             None => self.line.push_str(",,,"),
