@@ -15,6 +15,7 @@ mod output;
 mod render;
 mod settings;
 mod signals;
+mod trace;
 
 use std::process::ExitCode;
 

@@ -32,6 +32,8 @@ pub struct RunArgs {
     pub format: Format,
     #[command(flatten)]
     pub sim: SimOptions,
+    #[command(flatten)]
+    pub trace: crate::trace::TraceArgs,
 }
 
 /// Simulate and report.
@@ -40,6 +42,8 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let settings = args.sim.resolve(&plant)?;
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;
+    // Every trace flag is checked, and its files opened, before anything runs.
+    let traces = args.trace.prepare(&plant, &which, settings.replications, settings.horizon_s)?;
     let (warmup_s, warmup_auto) = args.sim.warmup(&settings, &plant, &which, factor)?;
     let (horizon_s, replications, seed) = (settings.horizon_s, settings.replications, settings.seed);
     let grid = args.sim.grid(&plant, warmup_s, horizon_s)?;
@@ -89,6 +93,10 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
         output::note!("{note}");
     }
     let wall_s = started.elapsed().as_secs_f64();
+    if let Some(traces) = traces {
+        let spec = RunSpec { layout: which[0], horizon_s, warmup_s, demand_factor: factor, seed };
+        traces.write(&plant, &spec)?;
+    }
     let events = summaries.iter().map(|s| s.events).sum();
 
     let out = RunOutput {

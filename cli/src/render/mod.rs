@@ -13,4 +13,5 @@ pub mod run;
 pub mod search;
 pub mod select;
 pub mod table;
+pub mod timeline;
 pub mod warnings;

@@ -10,7 +10,9 @@ mod buckets;
 mod model;
 pub mod overload;
 mod stats;
+pub mod trace;
 
+pub use model::trace::simulate_traced;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
 pub use stats::{Deadlock, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
 

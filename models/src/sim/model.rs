@@ -19,6 +19,7 @@ mod calendars;
 mod lots;
 mod movers;
 mod staging;
+pub(super) mod trace;
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
@@ -303,6 +304,8 @@ struct PlantModel<'a> {
     /// bucket edge (infinite without buckets, so `handle` tests one compare).
     buckets: Option<Box<super::buckets::Collector>>,
     next_edge: f64,
+    /// The tracer (`--trace`), or `None`: every hook is one branch on this.
+    trace: Option<Box<trace::Tracer<'a>>>,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -358,8 +361,14 @@ type Run = (RepStats, Vec<f64>, Vec<(f64, u32)>, u64);
 
 fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f64>, log: bool) -> Run {
     let mut m = PlantModel::new(plan, spec, replication);
-    m.buckets = m.new_collector();
     m.log_releases = log;
+    drive(m, spec, step)
+}
+
+/// Run a model built by `PlantModel::new` (and set up by its caller) to the horizon.
+fn drive(mut m: PlantModel<'_>, spec: &RunSpec, step: Option<f64>) -> Run {
+    let plan = m.plan;
+    m.buckets = m.new_collector();
     let mut cal = Calendar::with_capacity(256);
     if let Some(step) = step {
         m.series_step = step;
@@ -387,6 +396,9 @@ fn simulate_inner(plan: &Plan, spec: &RunSpec, replication: u64, step: Option<f6
     let areas = std::mem::take(&mut m.series_area);
     let releases = std::mem::take(&mut m.releases);
     let steps = m.scan_steps;
+    if m.trace.is_some() {
+        m.trace_end(spec.horizon_s);
+    }
     (m.finish(spec.horizon_s, events), areas, releases, steps)
 }
 
@@ -538,6 +550,7 @@ impl<'a> PlantModel<'a> {
             aisle: aisles::AisleState::new(plan, slots_movers),
             buckets: None,
             next_edge: f64::INFINITY,
+            trace: None,
         }
     }
 
@@ -690,6 +703,9 @@ impl<'a> PlantModel<'a> {
             rng: stream(self.seed, self.replication, &[LOT, p as u64, n]),
         };
         let id = self.alloc_lot(lot);
+        if self.trace.is_some() {
+            self.trace_release(id, now);
+        }
         self.wip.add(now, 1.0);
         self.departments[prod.enters_at].wip.add(now, 1.0);
         self.route(id, 0, prod.entry, cal);
@@ -770,12 +786,18 @@ impl<'a> PlantModel<'a> {
                 return;
             }
             let born = lot.born;
+            if self.trace.is_some() {
+                self.trace_ship(id, now);
+            }
             self.ship(p, born, now);
             self.free_lots.push(id);
             return;
         }
         let w = self.weight(id);
         self.departments[dept].wip.add(now, w);
+        if self.trace.is_some() {
+            self.trace_arrive(id, now);
+        }
         self.start_or_queue(id, cal);
     }
 
@@ -825,11 +847,17 @@ impl<'a> PlantModel<'a> {
         // A load is worked for its share of the lot's time (× 1 exactly for a whole lot).
         let t = if self.plan.split { t * self.aux[id as usize].weight } else { t };
         cal.schedule(cal.now() + t, Event::EndOperation { lot: id });
+        if self.trace.is_some() {
+            self.trace_start(id, cal.now(), cal.now() + t);
+        }
     }
 
     /// Lot `id` has finished its operation on `machine` (NONE in a department without breakdowns).
     fn end_operation(&mut self, id: u32, machine: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if self.trace.is_some() {
+            self.trace_end_operation(id, now);
+        }
         let lot = &mut self.lots[id as usize];
         let dept = lot.department as usize;
         let op = &self.plan.products[lot.product as usize].ops[lot.op as usize];
@@ -984,6 +1012,9 @@ impl Model for PlantModel<'_> {
             Event::MoverBack { mover } => self.mover_back(mover, cal),
             Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
             Event::Step { mover } => self.step(mover, cal),
+        }
+        if self.trace.is_some() {
+            self.trace_poll(cal.now());
         }
     }
 }

@@ -31,6 +31,9 @@ impl PlantModel<'_> {
         let to = prod.ops[op as usize].department;
         let from = lot.department as usize;
         if to == from {
+            if self.trace.is_some() {
+                self.trace_arrive(id, now);
+            }
             self.start_or_queue(id, cal);
             return;
         }
@@ -175,6 +178,9 @@ impl PlantModel<'_> {
         // A delay that overflows to infinity (a validated but extreme speed of
         // 1e-300 m/s) is fine: the calendar puts it after every finite time.
         cal.schedule(now + t, Event::Pickup { mover });
+        if self.trace.is_some() {
+            self.trace_dispatch(mover, now, d);
+        }
     }
 
     #[inline]
@@ -272,6 +278,9 @@ impl PlantModel<'_> {
             self.by_fleet(f, Act::Handling, t_travel_end, t_end);
             self.by_travel(f, true, t_load_end, t_travel_end, d);
             cal.schedule(t_end, Event::Deliver { mover });
+            if self.trace.is_some() {
+                self.trace_pickup(mover, now, t_load_end, t_travel_end, t_end, from, to, d);
+            }
         }
         self.record_pickup(f, m.lot, m.assigned, now);
         let w = self.weight(m.lot);
@@ -418,6 +427,9 @@ impl PlantModel<'_> {
         }
         if !self.fleets[f].on_duty {
             self.fleets[f].off.push(mover);
+            if self.trace.is_some() {
+                self.trace_mover(mover, now, super::trace::State::OffDuty);
+            }
             return;
         }
         let plan = self.plan;
@@ -478,6 +490,9 @@ impl PlantModel<'_> {
         let m = &mut self.movers[mover as usize];
         m.idle_since = now;
         self.fleets[m.fleet as usize].idle.push(mover);
+        if self.trace.is_some() {
+            self.trace_mover(mover, now, super::trace::State::Idle);
+        }
     }
 
     /// Drive `mover` empty to location `to`; `arrival` fires when it gets
@@ -500,6 +515,9 @@ impl PlantModel<'_> {
         let t = self.plan.fleets[f].travel_s(d, false);
         self.record_empty(f, now, now + t, d);
         cal.schedule(now + t, arrival);
+        if self.trace.is_some() {
+            self.trace_mover(mover, now, super::trace::State::Empty);
+        }
     }
 
     /// A mover has reached the reserve.
@@ -557,6 +575,9 @@ impl PlantModel<'_> {
     /// busy one stops after its current delivery (in `mover_free`). The
     /// scheduled off time of every mover is recorded now, clipped to the window.
     fn go_off_duty(&mut self, f: usize, now: f64, until: f64) {
+        if self.trace.is_some() {
+            self.trace_off_duty(f, now);
+        }
         let off_s = f64::from(self.plan.fleets[f].count) * self.in_window(now, until);
         self.by_fleet_times(f, Act::Off, now, until, f64::from(self.plan.fleets[f].count));
         let fs = &mut self.fleets[f];
