@@ -282,7 +282,8 @@ fn a_stationary_plant_has_no_bucket_bias() {
     // computed (the two share the replication, so the paired difference
     // removes the replication's common noise), and its mean over the
     // replications must be within t·SE of 0, Bonferroni over buckets ×
-    // metrics of both grids (t at 1 − 0.01/k, k = (24 + 36)·4 = 240).
+    // metrics of both grids (t at 1 − 0.01/k, k = (24 + 72)·4 = 384: 4.47 at
+    // df = 79).
     let plant = load("demo.yaml");
     let spec = own_spec(&plant);
     // Four times the scenario's 20 replications, to halve the noise (about
