@@ -3,6 +3,16 @@
 //! Target: at least 3 million plant events per second (release build).
 //! Criterion's "thrpt" line reports events per second directly.
 //!
+//! `demo_plant_by_hour`: the same replication of the demo's first layout with
+//! results per hour of day (`Plan::with_buckets`, as `--by hour-of-day`).
+//! Target: at most 15% fewer events per second than `demo_plant`. Measured
+//! when it was added (issue 16, 2 cores shared with other builds, so only the
+//! best of several interleaved rounds means much): about 8.4 million events
+//! per second without buckets and 4.8 million with, 40–45% fewer, over the
+//! target. A profile put most of the gap in `Grid::locate` (called by
+//! `Grid::split` for every ahead-of-time credit) and in recording the
+//! per-bucket histograms.
+//!
 //! `held_at_dock`: a week of `scenarios/validation/held-at-dock.yaml`, lots
 //! held at a receiving dock in an ever-longer line while another product
 //! waits upstream at a full outbound area (issue 15, class 3). It once ran at
@@ -12,6 +22,7 @@
 use criterion::{criterion_group, criterion_main, Criterion, Throughput};
 use layflow_models::load_scenario;
 use layflow_models::sim::{simulate, Plan, RunSpec};
+use layflow_models::timebuckets::{By, Grid};
 use std::hint::black_box;
 use std::path::Path;
 
@@ -38,6 +49,29 @@ fn demo(c: &mut Criterion) {
     g.finish();
 }
 
+fn demo_by_hour(c: &mut Criterion) {
+    let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/demo.yaml");
+    let plant = load_scenario(&path).expect("the demo scenario loads");
+    let spec = RunSpec {
+        layout: 0,
+        horizon_s: 20.0 * 86400.0,
+        warmup_s: 2.0 * 86400.0,
+        demand_factor: plant.demand_factor,
+        seed: plant.run.seed,
+    };
+    let grid =
+        Grid::new(&By::HourOfDay, &plant, spec.warmup_s, spec.horizon_s).expect("18 days hold 24 hours");
+    let plan = Plan::new(&plant, 0).with_buckets(grid);
+    let events = simulate(&plan, &spec, 0).events;
+    let mut g = c.benchmark_group("demo_plant_by_hour");
+    g.throughput(Throughput::Elements(events));
+    g.sample_size(20);
+    g.bench_function(format!("replication_20d/{}", plant.layouts[0].name), |b| {
+        b.iter(|| black_box(simulate(&plan, &spec, 0)).events)
+    });
+    g.finish();
+}
+
 fn held_at_dock(c: &mut Criterion) {
     let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios/validation/held-at-dock.yaml");
     let mut plant = load_scenario(&path).expect("the held-at-dock scenario loads");
@@ -60,5 +94,5 @@ fn held_at_dock(c: &mut Criterion) {
     g.finish();
 }
 
-criterion_group!(benches, demo, held_at_dock);
+criterion_group!(benches, demo, demo_by_hour, held_at_dock);
 criterion_main!(benches);
