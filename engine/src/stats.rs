@@ -29,6 +29,17 @@ impl Tally {
         self.m2 += d * (x - self.mean);
     }
 
+    /// A tally of `n` observations summing to `total`, for collectors that
+    /// keep only counts and sums where no variance is needed: its mean is
+    /// `total / n` and its variance NaN (unknown), never a false 0.
+    pub fn from_sum(n: u64, total: f64) -> Self {
+        if n == 0 {
+            Tally::new()
+        } else {
+            Tally { n, mean: total / n as f64, m2: f64::NAN }
+        }
+    }
+
     /// Number of observations.
     pub fn count(&self) -> u64 {
         self.n
@@ -150,10 +161,37 @@ impl TickHistogram {
         TickHistogram { hist, tick_s }
     }
 
+    /// As [`TickHistogram::with_digits`], with room from the start for values
+    /// up to `expected_s` seconds, so that recording up to there never grows
+    /// (and copies) the counts; larger values still fit, by growing.
+    ///
+    /// # Panics
+    /// As [`TickHistogram::with_digits`].
+    pub fn with_room(tick_s: f64, digits: u8, expected_s: f64) -> Self {
+        assert!(tick_s > 0.0 && tick_s.is_finite(), "tick must be positive");
+        let high = (expected_s / tick_s).ceil().max(2.0) as u64;
+        let mut hist = Histogram::new_with_max(high, digits).expect("a valid range and 1 to 5 digits");
+        hist.auto(true);
+        TickHistogram { hist, tick_s }
+    }
+
     /// Record one duration in seconds (negative values count as 0).
     #[inline]
     pub fn record(&mut self, seconds: f64) {
-        let ticks = (seconds / self.tick_s).round().max(0.0) as u64;
+        self.record_ticks(self.ticks(seconds));
+    }
+
+    /// `seconds` as this histogram's integer ticks (negative values count as
+    /// 0): what [`TickHistogram::record`] records. Computed once, it can be
+    /// recorded into several histograms of the same tick.
+    #[inline]
+    pub fn ticks(&self, seconds: f64) -> u64 {
+        (seconds / self.tick_s).round().max(0.0) as u64
+    }
+
+    /// Record a duration already converted by [`TickHistogram::ticks`] (of a histogram with the same tick).
+    #[inline]
+    pub fn record_ticks(&mut self, ticks: u64) {
         // With auto-resize on, recording a u64 cannot fail.
         let _ = self.hist.record(ticks);
     }

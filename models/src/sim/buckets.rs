@@ -11,9 +11,11 @@
 //!   difference goes to the bucket just left: nothing per event;
 //! - activity credited ahead of time (a trip's travel, a shift's time off,
 //!   a wait in the aisles) is split over the buckets it overlaps;
-//! - flow times and move waits are tallied into the current bucket as they
-//!   are recorded, with histograms of two significant digits (quantiles
-//!   within 1%, an eighth of the memory of the whole run's).
+//! - flow times and move waits are counted and summed into the current
+//!   bucket as they are recorded (a bucket reports means, not variances), with
+//!   histograms of two significant digits (quantiles within 1%, an eighth of
+//!   the memory of the whole run's); every fleet's waits pooled and every
+//!   product's flow times pooled are added up at the end.
 
 use layflow_engine::{Tally, TickHistogram};
 
@@ -60,6 +62,10 @@ pub(crate) struct Shape {
     pub(crate) segments: usize,
 }
 
+/// Per fleet: loaded, empty, handling, blocked, off-duty, down, charging and
+/// congestion seconds, loaded and empty metres.
+pub(crate) const FLEET_TOTALS: usize = 10;
+
 /// Per department: WIP, busy machines, queue, blocked machines, machines up, machines setting up (areas).
 pub(crate) const DEPT_LEVELS: usize = 6;
 
@@ -87,15 +93,34 @@ impl Shape {
     pub(crate) fn moves(&self, f: usize) -> usize {
         self.overflow() + 1 + f
     }
+    /// Fleet `f`'s activity totals, in `FleetStats` order (see `snapshot`).
+    pub(crate) fn fleet(&self, f: usize, field: usize) -> usize {
+        self.moves(self.fleets) + FLEET_TOTALS * f + field
+    }
+    pub(crate) fn off_shift(&self, d: usize) -> usize {
+        self.fleet(self.fleets, 0) + d
+    }
     pub(crate) fn traversals(&self, s: usize) -> usize {
-        self.moves(self.fleets) + 2 * s
+        self.off_shift(self.departments) + 3 * s
     }
     pub(crate) fn occupancy(&self, s: usize) -> usize {
         self.traversals(s) + 1
     }
+    pub(crate) fn segment_delay(&self, s: usize) -> usize {
+        self.traversals(s) + 2
+    }
     pub(crate) fn len(&self) -> usize {
         self.traversals(self.segments)
     }
+}
+
+/// Pick-ups in a bucket with their waits summed, whole and in the two parts.
+#[derive(Debug, Clone, Copy, Default)]
+struct Waits {
+    n: u64,
+    wait: f64,
+    assign: f64,
+    drive: f64,
 }
 
 /// What one bucket saw in one replication.
@@ -104,21 +129,19 @@ struct Bucket {
     exposure_s: f64,
     /// Differences of the cumulative totals over the bucket's stretches.
     sums: Vec<f64>,
-    /// Time activities and distances, split over buckets (moves come from `sums`).
+    /// Corrections to the fleets' activity, off-shift time and aisle waits
+    /// that `sums` credits to the stretch in which they were booked: the
+    /// parts of credits booked ahead (or late) that lie in other buckets.
     fleets: Vec<FleetStats>,
     off_shift_s: Vec<f64>,
     segment_delay_s: Vec<f64>,
-    flow: Vec<Tally>,
-    flow_all: Tally,
+    /// Per product: lots shipped and their flow times summed (a mean is all
+    /// a bucket reports, so no variance is kept: fewer divisions per event).
+    flow: Vec<(u64, f64)>,
     flow_hist: TickHistogram,
-    wait: Vec<Tally>,
+    /// Per fleet: pick-ups, and their waits and the waits' parts summed.
+    wait: Vec<Waits>,
     wait_hist_fleet: Vec<TickHistogram>,
-    wait_assign: Vec<Tally>,
-    wait_drive: Vec<Tally>,
-    wait_all: Tally,
-    wait_hist: TickHistogram,
-    wait_assign_all: Tally,
-    wait_drive_all: Tally,
 }
 
 impl Bucket {
@@ -130,33 +153,19 @@ impl Bucket {
             fleets: vec![FleetStats::default(); s.fleets],
             off_shift_s: vec![0.0; s.departments],
             segment_delay_s: vec![0.0; s.segments],
-            flow: vec![Tally::new(); s.products],
-            flow_all: Tally::new(),
+            flow: vec![(0, 0.0); s.products],
             flow_hist: h(),
-            wait: vec![Tally::new(); s.fleets],
+            wait: vec![Waits::default(); s.fleets],
             wait_hist_fleet: (0..s.fleets).map(|_| h()).collect(),
-            wait_assign: vec![Tally::new(); s.fleets],
-            wait_drive: vec![Tally::new(); s.fleets],
-            wait_all: Tally::new(),
-            wait_hist: h(),
-            wait_assign_all: Tally::new(),
-            wait_drive_all: Tally::new(),
         }
     }
 
     /// Forget what was tallied during the warm-up (split credits are clipped to the window already).
     fn clear_tallies(&mut self) {
-        self.flow.iter_mut().for_each(Tally::reset);
-        self.flow_all.reset();
+        self.flow.iter_mut().for_each(|x| *x = (0, 0.0));
         self.flow_hist.reset();
-        self.wait.iter_mut().for_each(Tally::reset);
+        self.wait.iter_mut().for_each(|x| *x = Waits::default());
         self.wait_hist_fleet.iter_mut().for_each(TickHistogram::reset);
-        self.wait_assign.iter_mut().for_each(Tally::reset);
-        self.wait_drive.iter_mut().for_each(Tally::reset);
-        self.wait_all.reset();
-        self.wait_hist.reset();
-        self.wait_assign_all.reset();
-        self.wait_drive_all.reset();
     }
 }
 
@@ -179,7 +188,8 @@ impl Collector {
         Collector {
             shape,
             current: 0,
-            stretch_start: 0.0,
+            // Until the window opens no credit can take the current bucket's shortcut.
+            stretch_start: f64::INFINITY,
             before: vec![0.0; shape.len()],
             now: vec![0.0; shape.len()],
             buckets: (0..n).map(|_| Bucket::new(&shape)).collect(),
@@ -233,27 +243,28 @@ impl Collector {
         self.buckets[b].segment_delay_s[s] += secs;
     }
 
-    /// A lot of product `p` shipped now, after `flow` seconds in the plant.
+    /// A lot of product `p` shipped now, after `flow` seconds in the plant
+    /// (`ticks` of [`TICK_S`]).
     #[inline]
-    pub(crate) fn shipped(&mut self, p: usize, flow: f64) {
+    pub(crate) fn shipped(&mut self, p: usize, flow: f64, ticks: u64) {
         let b = &mut self.buckets[self.current];
-        b.flow[p].add(flow);
-        b.flow_all.add(flow);
-        b.flow_hist.record(flow);
+        let s = &mut b.flow[p];
+        s.0 += 1;
+        s.1 += flow;
+        b.flow_hist.record_ticks(ticks);
     }
 
-    /// A load picked up now by fleet `f`, after waiting `wait` (`assign` + `drive`).
+    /// A load picked up now by fleet `f`, after waiting `wait` (`ticks` of
+    /// [`TICK_S`]; `assign` + `drive`).
     #[inline]
-    pub(crate) fn picked_up(&mut self, f: usize, wait: f64, assign: f64, drive: f64) {
+    pub(crate) fn picked_up(&mut self, f: usize, wait: f64, ticks: u64, assign: f64, drive: f64) {
         let b = &mut self.buckets[self.current];
-        b.wait[f].add(wait);
-        b.wait_hist_fleet[f].record(wait);
-        b.wait_assign[f].add(assign);
-        b.wait_drive[f].add(drive);
-        b.wait_all.add(wait);
-        b.wait_hist.record(wait);
-        b.wait_assign_all.add(assign);
-        b.wait_drive_all.add(drive);
+        let s = &mut b.wait[f];
+        s.n += 1;
+        s.wait += wait;
+        s.assign += assign;
+        s.drive += drive;
+        b.wait_hist_fleet[f].record_ticks(ticks);
     }
 
     /// Each bucket's figures as a replication's, windows being exposures.
@@ -277,35 +288,55 @@ impl Collector {
                         mean(sh.dept(d, level)) / machines(d)
                     }
                 };
+                // Every fleet's waits pooled: the fleets' histograms added (counts add exactly).
+                let mut wait_hist = TickHistogram::with_digits(TICK_S, DIGITS);
+                for h in &b.wait_hist_fleet {
+                    wait_hist.merge(h);
+                }
+                // Means from counts and sums; all products and all fleets pooled.
+                let sum = |n: u64, x: f64| Tally::from_sum(n, x);
+                let total = |f: fn(&Waits) -> f64| b.wait.iter().map(f).sum::<f64>();
+                let pickups: u64 = b.wait.iter().map(|w| w.n).sum();
                 let mut fleets = b.fleets.clone();
                 for (f, s) in fleets.iter_mut().enumerate() {
                     s.moves = b.sums[sh.moves(f)] as u64;
+                    let t = |k: usize| b.sums[sh.fleet(f, k)];
+                    s.loaded_s += t(0);
+                    s.empty_s += t(1);
+                    s.handling_s += t(2);
+                    s.blocked_s += t(3);
+                    s.off_s += t(4);
+                    s.down_s += t(5);
+                    s.charging_s += t(6);
+                    s.congestion_s += t(7);
+                    s.distance_loaded_m += t(8);
+                    s.distance_empty_m += t(9);
                 }
                 RepStats {
                     window_s: w,
                     events: 0,
                     shipped: (0..sh.products).map(|p| b.sums[sh.shipped(p)] as u64).collect(),
-                    flow_time: b.flow,
-                    flow_time_all: b.flow_all,
+                    flow_time: b.flow.iter().map(|&(n, x)| sum(n, x)).collect(),
+                    flow_time_all: sum(b.flow.iter().map(|f| f.0).sum(), b.flow.iter().map(|f| f.1).sum()),
                     flow_hist: b.flow_hist,
                     wip_total: mean(Shape::WIP),
                     wip_department: (0..nd).map(|d| mean(sh.dept(d, 0))).collect(),
                     wip_transit: mean(Shape::TRANSIT),
                     utilization: (0..nd).map(|d| share(d, 1)).collect(),
                     queue: (0..nd).map(|d| mean(sh.dept(d, 2))).collect(),
-                    move_wait: b.wait,
-                    move_wait_all: b.wait_all,
-                    move_wait_hist: b.wait_hist,
+                    move_wait: b.wait.iter().map(|w| sum(w.n, w.wait)).collect(),
+                    move_wait_all: sum(pickups, total(|w| w.wait)),
+                    move_wait_hist: wait_hist,
                     move_wait_hist_fleet: b.wait_hist_fleet,
-                    move_wait_assign: b.wait_assign,
-                    move_wait_drive: b.wait_drive,
-                    move_wait_assign_all: b.wait_assign_all,
-                    move_wait_drive_all: b.wait_drive_all,
+                    move_wait_assign: b.wait.iter().map(|w| sum(w.n, w.assign)).collect(),
+                    move_wait_drive: b.wait.iter().map(|w| sum(w.n, w.drive)).collect(),
+                    move_wait_assign_all: sum(pickups, total(|w| w.assign)),
+                    move_wait_drive_all: sum(pickups, total(|w| w.drive)),
                     move_wait_assign_hist_fleet: Vec::new(),
                     move_wait_drive_hist_fleet: Vec::new(),
                     fleets,
                     blocked: (0..nd).map(|d| share(d, 3)).collect(),
-                    off_shift_s: b.off_shift_s,
+                    off_shift_s: (0..nd).map(|d| b.sums[sh.off_shift(d)] + b.off_shift_s[d]).collect(),
                     setup: (0..nd).map(|d| share(d, 5)).collect(),
                     availability: (0..nd).map(|d| if plan.tracked[d] { share(d, 4) } else { 1.0 }).collect(),
                     overflow_moves: b.sums[sh.overflow()] as u64,
@@ -319,7 +350,7 @@ impl Collector {
                         .map(|s| super::SegmentStats {
                             traversals: b.sums[sh.traversals(s)] as u64,
                             occupancy: mean(sh.occupancy(s)),
-                            delay_s: b.segment_delay_s[s],
+                            delay_s: b.sums[sh.segment_delay(s)] + b.segment_delay_s[s],
                         })
                         .collect(),
                     by: Vec::new(),

@@ -811,9 +811,10 @@ impl<'a> PlantModel<'a> {
             self.shipped[p] += 1;
             self.flow[p].add(flow);
             self.flow_all.add(flow);
-            self.flow_hist.record(flow);
+            let ticks = self.flow_hist.ticks(flow);
+            self.flow_hist.record_ticks(ticks);
             if let Some(c) = self.buckets.as_deref_mut() {
-                c.shipped(p, flow);
+                c.shipped(p, flow, ticks);
             }
         }
     }
@@ -887,6 +888,7 @@ impl<'a> PlantModel<'a> {
     fn finish(mut self, t: f64, events: u64) -> RepStats {
         let window_s = self.window.1 - self.window.0;
         let nd = self.plan.n_departments;
+        self.advance_buckets(t);
         // Movers still waiting at a full inbound area: their wait so far.
         for m in 0..self.movers.len() {
             let since = self.movers[m].blocked_since;

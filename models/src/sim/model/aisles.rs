@@ -421,6 +421,11 @@ impl AisleState {
         self.level.len()
     }
 
+    /// Mover-seconds of waiting to enter segment `s` credited so far.
+    pub(super) fn segment_delay(&self, s: usize) -> f64 {
+        self.delay_s[s]
+    }
+
     /// Segment `s`'s traversals and occupancy area (mover-seconds) so far, at `t`.
     pub(super) fn segment_totals(&self, s: usize, t: f64) -> (f64, f64) {
         (self.traversals[s] as f64, self.level[s].area(t))

@@ -4,7 +4,7 @@
 //! without `--by` takes the same paths and gives the same bytes as before.
 
 use super::PlantModel;
-use crate::sim::buckets::{Act, Collector, Shape};
+use crate::sim::buckets::{Act, Collector, Shape, FLEET_TOTALS};
 
 impl PlantModel<'_> {
     /// The collector for a plan with buckets.
@@ -49,12 +49,30 @@ impl PlantModel<'_> {
         v[sh.capped()] = self.capped as f64;
         v[sh.overflow()] = self.overflow_moves as f64;
         for f in 0..sh.fleets {
-            v[sh.moves(f)] = self.fleets[f].acc.moves as f64;
+            let a = &self.fleets[f].acc;
+            v[sh.moves(f)] = a.moves as f64;
+            let activity = [
+                a.loaded_s,
+                a.empty_s,
+                a.handling_s,
+                a.blocked_s,
+                a.off_s,
+                a.down_s,
+                a.charging_s,
+                a.congestion_s,
+                a.distance_loaded_m,
+                a.distance_empty_m,
+            ];
+            v[sh.fleet(f, 0)..sh.fleet(f, 0) + FLEET_TOTALS].copy_from_slice(&activity);
+        }
+        for d in 0..nd {
+            v[sh.off_shift(d)] = self.departments[d].off_s;
         }
         for s in 0..sh.segments {
             let (n, area) = self.aisle.segment_totals(s, t);
             v[sh.traversals(s)] = n;
             v[sh.occupancy(s)] = area;
+            v[sh.segment_delay(s)] = self.aisle.segment_delay(s);
         }
         let c = self.buckets.as_deref_mut().expect("checked above");
         c.now = v;
@@ -104,17 +122,35 @@ impl PlantModel<'_> {
         }
     }
 
-    /// Calls `f(collector, bucket, seconds)` for each bucket that [a, b],
-    /// clipped to the window, overlaps.
-    #[inline]
-    fn over_buckets(&mut self, a: f64, b: f64, mut f: impl FnMut(&mut Collector, usize, f64)) {
-        let (Some(grid), Some(c)) = (self.plan.buckets.as_ref(), self.buckets.as_deref_mut()) else {
+    /// A credit over [a, b] (made now, in the current stretch) has gone into
+    /// the whole run's totals, so the next edge's snapshot gives all of it to
+    /// the current bucket. Most credits lie within the current stretch and
+    /// that is right: nothing to do. Otherwise move the parts that lie
+    /// elsewhere: `f(collector, bucket, seconds)` takes −(the whole, clipped)
+    /// from the current bucket and adds each bucket's overlap. A credit made
+    /// in the warm-up is in the totals before the window opens, so it is only added.
+    #[inline(always)]
+    fn over_buckets(&mut self, a: f64, b: f64, f: impl FnMut(&mut Collector, usize, f64)) {
+        let Some(c) = self.buckets.as_deref() else {
             return;
         };
         let (a, b) = (a.max(self.window.0), b.min(self.window.1));
-        if b > a {
-            grid.split(a, b, |k, s| f(c, k, s));
+        if b > a && !(a >= c.stretch_start && b <= self.next_edge) {
+            self.move_credit(a, b, f);
         }
+    }
+
+    /// [`Self::over_buckets`] for a credit [a, b] (clipped) that leaves the current stretch.
+    #[cold]
+    #[inline(never)]
+    fn move_credit(&mut self, a: f64, b: f64, mut f: impl FnMut(&mut Collector, usize, f64)) {
+        let (Some(grid), Some(c)) = (self.plan.buckets.as_ref(), self.buckets.as_deref_mut()) else {
+            return;
+        };
+        if c.stretch_start.is_finite() {
+            f(c, c.current, -(b - a));
+        }
+        grid.split(a, b, |k, s| f(c, k, s));
     }
 
     /// Fleet `f`'s activity `act` over [a, b], for the buckets.
@@ -133,22 +169,17 @@ impl PlantModel<'_> {
     }
 
     /// Fleet `f` travels `d` metres over [a, b], loaded or empty: the time
-    /// and the distance pro rata, for the buckets (as the whole run clips them).
+    /// and the distance pro rata, for the buckets (as the whole run clips
+    /// them). A trip of no duration is made now, in the current stretch.
     #[inline]
     pub(super) fn by_travel(&mut self, f: usize, loaded: bool, a: f64, b: f64, d: f64) {
-        if self.buckets.is_none() {
-            return;
-        }
-        let act = if loaded { Act::Loaded } else { Act::Empty };
-        if b > a {
+        if self.buckets.is_some() && b > a {
+            let act = if loaded { Act::Loaded } else { Act::Empty };
+            let per_s = d / (b - a);
             self.over_buckets(a, b, |c, k, s| {
                 c.credit(k, f, act, s);
-                c.distance(k, f, loaded, d * s / (b - a));
+                c.distance(k, f, loaded, per_s * s);
             });
-        } else if a >= self.window.0 && a < self.window.1 {
-            let grid = self.plan.buckets.as_ref().expect("checked above");
-            let k = grid.locate(a).0;
-            self.buckets.as_deref_mut().expect("checked above").distance(k, f, loaded, d);
         }
     }
 
@@ -166,6 +197,14 @@ impl PlantModel<'_> {
                 c.credit(k, f, Act::Congestion, s);
                 c.segment_delay(k, seg, s);
             });
+        }
+    }
+
+    /// Close every bucket edge before `t`, so that credits made at `t` (the
+    /// end of the run) fall in the stretch that holds `t`.
+    pub(super) fn advance_buckets(&mut self, t: f64) {
+        if t >= self.next_edge {
+            self.cross_edges(t);
         }
     }
 }

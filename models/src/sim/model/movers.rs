@@ -219,19 +219,21 @@ impl PlantModel<'_> {
         if now >= self.window.0 && now < self.window.1 {
             let (assign, drive) = (assigned - requested, now - assigned);
             let fs = &mut self.fleets[f];
+            // Every wait histogram has the same tick: convert once.
+            let ticks = fs.wait_hist.ticks(wait);
             fs.acc.moves += 1;
             fs.wait.add(wait);
-            fs.wait_hist.record(wait);
+            fs.wait_hist.record_ticks(ticks);
             fs.wait_assign.add(assign);
             fs.wait_drive.add(drive);
             fs.assign_hist.record(assign);
             fs.drive_hist.record(drive);
             self.wait_all.add(wait);
-            self.wait_hist.record(wait);
+            self.wait_hist.record_ticks(ticks);
             self.wait_assign_all.add(assign);
             self.wait_drive_all.add(drive);
             if let Some(c) = self.buckets.as_deref_mut() {
-                c.picked_up(f, wait, assign, drive);
+                c.picked_up(f, wait, ticks, assign, drive);
             }
         }
     }
