@@ -475,7 +475,7 @@ pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> 
         let (message, hint) = crate::scenario::type_error(&raw, &path).unwrap_or((raw, None));
         let what = if path == "." { message } else { format!("{path}: {message}") };
         let hint = hint.unwrap_or_else(|| {
-            "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, and \
+            "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, by, and \
              `factors:` (every combination) or `points:` (a list)"
                 .to_string()
         });
