@@ -377,6 +377,8 @@ fn bad_plans_and_mixed_results_are_refused() {
         ("points: []\n", "`points:` is empty"),
         ("", "no `factors:` and no `points:`"),
         ("factors:\n  layout: [current]\nrepliations: 3\n", "unknown field"),
+        // Issue 16: a bad `by:` names the field and its line (line 3, after scenario and replications).
+        ("by: hour-of-week\nfactors:\n  layout: [current]\n", "yaml, line 3: by:"),
     ];
     for (i, (body, needle)) in cases.iter().enumerate() {
         let p = t.path().join(format!("plan-{i}.yaml"));
@@ -726,4 +728,73 @@ fn summarize_refuses_a_folder_mixing_two_studies() {
     let err = text(&out.stderr);
     assert_eq!(out.status.code(), Some(2), "{err}");
     assert!(err.contains("replications.csv") && err.contains("layflow-results.json"), "{err}");
+}
+
+/// Issue 16: a plan with `by:` journals each unit's bucket values, and a
+/// resumed run and a merge of shards give the same bytes as one run
+/// (by_bucket.csv included); a different `by:` on resume is refused, naming it.
+#[test]
+fn a_plan_by_hour_of_day_resumes_and_merges_to_the_same_bytes() {
+    let t = tempfile::tempdir().unwrap();
+    let plan = plan(t.path(), 3, "3 d");
+    let text_of = std::fs::read_to_string(&plan).unwrap();
+    std::fs::write(&plan, format!("by: hour-of-day\n{text_of}")).unwrap();
+    let whole = t.path().join("whole");
+    let out = run(&["experiment", s(&plan), "--out", s(&whole), "--quiet"]);
+    let csv = std::fs::read_to_string(whole.join("by_bucket.csv")).unwrap();
+    assert_eq!(
+        csv.lines().next().unwrap(),
+        "point,layout,fleets.forklifts.count,bucket,scope,subject,metric,mean,half_width,n"
+    );
+    // Every design point has all 24 hours.
+    for p in 1..=4 {
+        let hours: std::collections::BTreeSet<&str> = csv
+            .lines()
+            .filter(|l| l.starts_with(&format!("{p},")))
+            .map(|l| l.split(',').nth(3).unwrap())
+            .collect();
+        assert_eq!(hours.len(), 24, "point {p}");
+    }
+    let summary: serde_json::Value =
+        serde_json::from_slice(&std::fs::read(whole.join("summary.json")).unwrap()).unwrap();
+    assert!(summary["points"][0]["by_bucket"]["peak_wip_mean"]["bucket"].is_string());
+    // Resumed from a journal cut after five units and a torn sixth line.
+    let journal = std::fs::read(whole.join("units.jsonl")).unwrap();
+    let ends: Vec<usize> =
+        journal.iter().enumerate().filter(|(_, &b)| b == b'\n').map(|(i, _)| i + 1).collect();
+    let cut = t.path().join("cut");
+    std::fs::create_dir(&cut).unwrap();
+    std::fs::write(cut.join("units.jsonl"), &journal[..ends[5] + 40]).unwrap();
+    let resumed = run(&["experiment", s(&plan), "--out", s(&cut), "--resume", "--quiet"]);
+    let mut files = OUTPUTS.to_vec();
+    files.push("by_bucket.csv");
+    for f in &files {
+        assert!(
+            std::fs::read(whole.join(f)).unwrap() == std::fs::read(cut.join(f)).unwrap(),
+            "{f} after resume"
+        );
+    }
+    assert_eq!(resumed.stdout, out.stdout);
+    // Two shards merged.
+    let mut shards = Vec::new();
+    for k in 1..=2 {
+        let d = t.path().join(format!("shard-{k}"));
+        run(&["experiment", s(&plan), "--shard", &format!("{k}/2"), "--out", s(&d), "--quiet"]);
+        shards.push(d);
+    }
+    let merged = t.path().join("merged");
+    run(&["merge", s(&shards[0]), s(&shards[1]), "--out", s(&merged)]);
+    for f in &files {
+        assert!(
+            std::fs::read(whole.join(f)).unwrap() == std::fs::read(merged.join(f)).unwrap(),
+            "{f} after merge"
+        );
+    }
+    assert_eq!(run(&["summarize", s(&merged)]).stdout, out.stdout);
+    // The same folder resumed with another `by:` is refused, naming the field.
+    std::fs::write(&plan, format!("by: day-of-week\n{text_of}")).unwrap();
+    let other = layflow(&["experiment", s(&plan), "--out", s(&cut), "--resume", "--quiet"]);
+    let err = text(&other.stderr);
+    assert_eq!(other.status.code(), Some(2), "{err}");
+    assert!(err.contains("by (hour-of-day there, day-of-week now)"), "{err}");
 }

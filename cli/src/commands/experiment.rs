@@ -275,7 +275,11 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         folder::write(&args.out, &header, &units)?;
         let summary = results::summarize(&header, &units).map_err(Failure::run)?;
         out(&render(&summary, plan.units())).map_err(|f| f.and(&safe_in(&args.out)))?;
-        note!("results in {}: units.jsonl, results.csv, summary.csv, summary.json", args.out.display());
+        note!(
+            "results in {}: units.jsonl, results.csv, summary.csv, summary.json{}",
+            args.out.display(),
+            if header.by.is_some() { ", by_bucket.csv" } else { "" }
+        );
     } else {
         write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
         layflow_models::results::folder::write_manifest(&args.out, Kind::Experiment, &[journal::FILE])?;
@@ -365,7 +369,7 @@ fn open_journal(
         }
         // The derived files describe the smaller plan; they go first, so a
         // crash from here on leaves a folder that simply resumes.
-        for f in ["results.csv", "summary.csv", "summary.json"] {
+        for f in ["results.csv", "summary.csv", "summary.json", "by_bucket.csv"] {
             let p = args.out.join(f);
             if p.is_file() {
                 std::fs::remove_file(&p)

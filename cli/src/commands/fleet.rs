@@ -121,6 +121,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
 
     let top = study::sized(&plant, f, *sizes.first().expect("at least one size"));
     let (warmup_s, warmup_auto) = args.sim.warmup(&settings, &top, &[layout], factor)?;
+    let grid = args.sim.grid(&top, warmup_s, settings.horizon_s)?;
     let started = Instant::now();
     let progress = Progress::new(sizes.len() as u64 * u64::from(settings.replications), settings.quiet);
     let spec = RunSpec {
@@ -138,10 +139,13 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         spec,
         replications: settings.replications,
         analytic: &analytic,
+        buckets: grid.as_ref(),
     };
     let result = settings.pool.install(|| study::sweep(&sweep, &progress));
     progress.finish();
-    let study::SweepResult { sizes: results, advice, events } = result?;
+    let study::SweepResult { sizes: results, advice, events, by_bucket } = result?;
+    let sized: Vec<u32> = results.iter().map(|r| r.movers).collect();
+    let by_bucket = study::FleetBuckets::new(&fleet_id, &sized, by_bucket);
     let wall_s = started.elapsed().as_secs_f64();
     let smallest = results.iter().find(|r| r.meets_every_target).map(|r| r.movers);
     let out = FleetOutput {
@@ -163,6 +167,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         advice,
         events,
         wall_s: (!settings.no_wall_clock).then_some(wall_s),
+        by_bucket,
     };
     if let Some(path) = &args.plot {
         let svg = crate::render::plot::fleet_svg(

@@ -58,8 +58,11 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         ]
         .map(String::from),
     );
+    if s.by.is_some() {
+        head.push("peak WIP at".into());
+    }
     let mut t = Table::new(&head);
-    t.optional(&["handling cost (/h)", "WIP (lots)", "flow time p95"]);
+    t.optional(&["handling cost (/h)", "WIP (lots)", "flow time p95", "peak WIP at"]);
     // One unit per column, chosen from the column's values.
     let unit = |m: &str| unit_for(s.points.iter().filter_map(|p| estimate(p, m)).map(|e| e.mean));
     fn p95_of(p: &PointSummary) -> Option<&Percentile> {
@@ -81,9 +84,24 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         row.push(number("wip_mean"));
         row.push(duration("move_wait_s", wait_u));
         row.push(number("handling_cost_per_h"));
+        if s.by.is_some() {
+            let peak = p.by_bucket.as_ref().and_then(|b| b.peak_wip_mean.as_ref());
+            row.push(peak.map_or("-".into(), |k| k.bucket.clone()));
+        }
         t.row(row);
     }
     out.push_str(&t.render(2));
+    if let Some(by) = &s.by {
+        out.push_str(&super::table::wrap(
+            &format!(
+                "by {by}: every metric of every point in every bucket, with 95% intervals, in by_bucket.csv \
+                 (and summary.json, with each point's peak WIP and peak wait p95 bucket); peak WIP at = the \
+                 bucket with the highest mean WIP. A point's bucket means carry no verdict: a point that looks \
+                 best over the whole window may still be worst in its busiest bucket."
+            ),
+            2,
+        ));
+    }
     out.push_str(
         "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
     );

@@ -4,8 +4,8 @@ use std::fmt::Write as _;
 
 use layflow_models::metrics::registry::find;
 use layflow_models::metrics::{Estimate, Scope, Unit};
-use layflow_models::study::fleet::{Advice, AdviceKind, Analytic, SizeResult};
-use layflow_models::study::targets::Target;
+use layflow_models::study::fleet::{Advice, AdviceKind, Analytic, FleetBuckets, SizeResult};
+use layflow_models::study::targets::{Op, Target};
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
@@ -52,6 +52,9 @@ pub struct FleetOutput {
     /// Wall-clock seconds (left out with --no-wall-clock).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub wall_s: Option<f64>,
+    /// With `--by`: every metric of every size in every time bucket, and each size's peaks.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by_bucket: Option<FleetBuckets>,
 }
 
 /// The analytic estimate in words, with its arithmetic.
@@ -258,6 +261,154 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
     };
     s.push_str(&render_advice(out));
     s.push_str(&render_agreement(out));
+    if let Some(b) = &out.by_bucket {
+        s.push_str(&render_by_bucket(out, b));
+    }
+    s
+}
+
+/// The sizes side by side per time bucket: the sized fleet's p95 wait and
+/// busy share in the busiest buckets, each size's peaks, and what a bucket
+/// table cannot tell about the recommended size.
+fn render_by_bucket(out: &FleetOutput, fb: &FleetBuckets) -> String {
+    let mut s = String::new();
+    let sizes: Vec<u32> = out.sizes.iter().map(|r| r.movers).collect();
+    let Some(last) = fb.summaries.len().checked_sub(1) else { return s };
+    // The size the buckets are ranked and columns kept by: the recommended one, else the largest.
+    let at = out.smallest_meeting_targets.and_then(|n| sizes.iter().position(|&m| m == n)).unwrap_or(last);
+    let reference = &fb.summaries[at];
+    let rows = super::by_bucket::shown(reference);
+    let fleet = out.fleet.as_str();
+    let get = |i: usize, k: Option<usize>, name: &str| fb.summaries[i].get(k, fleet, name);
+    let wait_u = unit_for(
+        (0..fb.summaries.len())
+            .flat_map(|i| rows.iter().map(move |&k| (i, k)))
+            .filter_map(|(i, k)| get(i, Some(k), "move_wait_p95_s"))
+            .map(|e| e.mean),
+    );
+    let mut head = vec!["bucket".to_string()];
+    for n in &sizes {
+        head.push(format!("{n}: wait p95"));
+        head.push(format!("{n}: busy"));
+    }
+    let mut t = Table::new(&head);
+    // Sizes farthest from the reference size are hidden first to fit.
+    let mut order: Vec<usize> = (0..sizes.len()).filter(|&i| i != at).collect();
+    order.sort_by_key(|&i| (std::cmp::Reverse(i.abs_diff(at)), i));
+    for i in order {
+        t.optional(&[format!("{}: busy", sizes[i]), format!("{}: wait p95", sizes[i])]);
+    }
+    let cell = |e: Option<Estimate>, f: &dyn Fn(&Estimate) -> String| match e {
+        Some(e) if e.mean.is_finite() => f(&e),
+        _ => "-".to_string(),
+    };
+    let line = |k: Option<usize>, name: &str| {
+        let mut row = vec![name.to_string()];
+        for i in 0..sizes.len() {
+            row.push(cell(get(i, k, "move_wait_p95_s"), &|e| dur_in(e, wait_u)));
+            row.push(cell(get(i, k, "utilization"), &pct));
+        }
+        row
+    };
+    for &k in &rows {
+        t.row(line(Some(k), &reference.buckets[k].bucket));
+    }
+    t.row(line(None, layflow_models::metrics::by_bucket::WHOLE));
+    s.push('\n');
+    s.push_str(&super::table::wrap(
+        &format!(
+            "Fleet {fleet} {} ({}): each size's wait p95 (the 95th percentile of the wait for a mover of moves \
+             that start in the bucket, averaged over replications) and busy share",
+            super::by_bucket::heading(reference),
+            if reference.cyclic { "every cycle folded onto one" } else { "in order through the run" },
+        ),
+        2,
+    ));
+    s.push_str(&t.render(2));
+    if rows.len() < reference.buckets.len() {
+        s.push_str(&super::table::wrap(
+            &format!(
+                "the {} busiest of {} buckets by plant WIP at {} movers, in time order; --wide shows every \
+                 bucket, --format json every metric of every size in every bucket",
+                rows.len(),
+                reference.buckets.len(),
+                sizes[at]
+            ),
+            2,
+        ));
+    }
+    for p in &fb.peaks {
+        let mut parts = Vec::new();
+        if let Some(w) = &p.fleet_move_wait_p95_s {
+            let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
+            parts.push(format!(
+                "{fleet} wait p95 highest at {}: {}",
+                w.bucket,
+                dur_in(&e, unit_for([w.mean]))
+            ));
+        }
+        if let Some(w) = &p.plant.wip_mean {
+            let e = Estimate { mean: w.mean, half_width: w.half_width, n: 0 };
+            parts.push(format!("plant WIP highest at {}: {} lots", w.bucket, pm(&e, 1.0)));
+        }
+        if !parts.is_empty() {
+            s.push_str(&super::table::wrap(&format!("peak at {} movers: {}", p.movers, parts.join("; ")), 2));
+        }
+    }
+    s.push_str(&peak_verdicts(out, fb, at));
+    s
+}
+
+/// What the bucket table cannot tell, in one line, and for the recommended
+/// size each target whose worst bucket misses it on average, said outright.
+fn peak_verdicts(out: &FleetOutput, fb: &FleetBuckets, at: usize) -> String {
+    let mut s = String::new();
+    s.push_str(&super::table::wrap(
+        "Targets are judged over the whole window only: a bucket's mean carries no verdict, so a size that \
+         meets a target on average may still miss it in its busiest bucket.",
+        2,
+    ));
+    let Some(n) = out.smallest_meeting_targets else { return s };
+    let b = &fb.summaries[at];
+    for t in &out.targets {
+        let (subject, name) = t.name.split_once('/').unwrap_or(("", t.name.as_str()));
+        let lower_better = matches!(t.op, Op::AtMost | Op::Below);
+        let worst =
+            (0..b.buckets.len())
+                .filter_map(|k| b.get(Some(k), subject, name).map(|e| (k, e)))
+                .filter(|(_, e)| e.mean.is_finite())
+                .max_by(|x, y| {
+                    if lower_better {
+                        x.1.mean.total_cmp(&y.1.mean)
+                    } else {
+                        y.1.mean.total_cmp(&x.1.mean)
+                    }
+                });
+        let Some((k, e)) = worst else { continue };
+        let misses = match t.op {
+            Op::AtMost => e.mean > t.value,
+            Op::Below => e.mean >= t.value,
+            Op::AtLeast => e.mean < t.value,
+            Op::Above => e.mean <= t.value,
+        };
+        let value = format!(
+            "{}{}",
+            in_unit(Some(t), e.mean),
+            e.half_width.map_or(String::new(), |h| format!(" ± {}", in_unit(Some(t), h)))
+        );
+        let text = if misses {
+            format!(
+                "size {n} meets the target '{}' over the whole window but its {} at {} is {value}",
+                t.text, t.name, b.buckets[k].bucket
+            )
+        } else {
+            format!(
+                "size {n} meets the target '{}' in every bucket on average too (worst: {} at {} is {value})",
+                t.text, t.name, b.buckets[k].bucket
+            )
+        };
+        s.push_str(&super::table::wrap(&text, 2));
+    }
     s
 }
 

@@ -96,6 +96,22 @@ pub struct Header {
     /// changed (absent in files written before they were recorded).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub settings: Option<Settings>,
+    /// With `by:` in the plan: the buckets and the metrics every unit reports
+    /// per bucket (absent without `by:`, so such files are as before).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub by: Option<BucketHeader>,
+}
+
+/// What a unit's `by` arrays mean: the grid and the metric order, given once.
+#[derive(Debug, Clone, PartialEq, Serialize, Deserialize)]
+pub struct BucketHeader {
+    /// How the clock was sliced, as the plan gives it (`hour-of-day`).
+    pub by: String,
+    /// Bucket labels of design point 1, in order (every point has as many:
+    /// a point whose grid differs in length is refused when it compiles).
+    pub buckets: Vec<String>,
+    /// The metrics of each bucket's array, in order (registry names).
+    pub metrics: Vec<MetricName>,
 }
 
 /// What decides the results besides the factors, recorded to explain a changed hash.
@@ -152,6 +168,18 @@ impl Header {
                 horizon_s: exp.first().spec.horizon_s,
                 warmup_s: exp.first().spec.warmup_s,
                 scenario_sha256: exp.scenario_sha256.clone(),
+            }),
+            by: exp.first().sim.buckets().map(|g| BucketHeader {
+                by: g.by.name(),
+                buckets: g.labels.clone(),
+                metrics: crate::metrics::bucket_metrics(&exp.first().plant)
+                    .into_iter()
+                    .map(|m| MetricName {
+                        scope: m.scope.as_str().into(),
+                        subject: m.subject,
+                        name: m.name.into(),
+                    })
+                    .collect(),
             }),
         }
     }
@@ -237,6 +265,8 @@ impl Header {
                 ));
             }
         }
+        let by = |h: &Header| h.by.as_ref().map_or("none".to_string(), |b| b.by.clone());
+        differ(&mut out, "by", by(self), by(now));
         if self.metrics != now.metrics {
             out.push("the scenario's products, departments or fleets (the metrics differ)".to_string());
         }
@@ -278,6 +308,10 @@ pub struct Unit {
     pub flow_time_hist: String,
     /// Move-wait histogram (every fleet), V2 base64, ticks of [`TICK_S`].
     pub move_wait_hist: String,
+    /// With `by:`: every bucketed metric in every bucket, `[bucket][metric]`
+    /// in the header's `by` order; `null` where the bucket observed nothing.
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub by: Option<Vec<Vec<Option<f64>>>>,
 }
 
 impl Unit {
@@ -297,6 +331,13 @@ impl Unit {
                 .collect(),
             flow_time_hist: b64(&rep.flow_hist),
             move_wait_hist: b64(&rep.move_wait_hist),
+            by: (!rep.by.is_empty()).then(|| {
+                let list = crate::metrics::bucket_metrics(plant);
+                crate::metrics::bucket_values(plant, &list, rep)
+                    .into_iter()
+                    .map(|row| row.into_iter().map(|v| v.is_finite().then_some(v)).collect())
+                    .collect()
+            }),
         }
     }
 
@@ -475,7 +516,14 @@ pub fn read(path: &Path) -> Result<Contents, String> {
                         &header.hash[..16]
                     ));
                 }
-                if u.values.len() != header.metrics.len() || u.unit >= header.units {
+                let by_fits = match (&header.by, &u.by) {
+                    (None, None) => true,
+                    (Some(h), Some(b)) => {
+                        b.len() == h.buckets.len() && b.iter().all(|row| row.len() == h.metrics.len())
+                    }
+                    _ => false,
+                };
+                if u.values.len() != header.metrics.len() || u.unit >= header.units || !by_fits {
                     return Err(format!(
                         "{}, line {}: does not fit the header (wrong unit or metric count)",
                         path.display(),

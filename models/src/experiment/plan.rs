@@ -28,6 +28,7 @@ use sha2::{Digest, Sha256};
 
 use crate::plant::Plant;
 use crate::sim::{Plan, RunSpec};
+use crate::timebuckets::{By, Grid};
 use crate::units::parse_duration;
 
 /// A plan as written (see the module notes).
@@ -43,6 +44,8 @@ struct PlanSpec {
     common_random_numbers: bool,
     factors: Option<Mapping>,
     points: Option<Vec<Mapping>>,
+    /// Time buckets every unit also reports by (`hour-of-day`, `shift`, …).
+    by: Option<String>,
 }
 
 fn yes() -> bool {
@@ -191,6 +194,8 @@ struct Compiler {
     warmup: Option<f64>,
     seed: u64,
     common_random_numbers: bool,
+    /// `by:`: every point's units also report by these time buckets.
+    by: Option<By>,
     /// `--allow-overload`: every point's plant runs with the WIP cap.
     allow_overload: bool,
 }
@@ -212,6 +217,8 @@ pub struct Experiment {
     pub common_random_numbers: bool,
     /// The factors, in plan order.
     pub factors: Vec<Factor>,
+    /// `by:`: every unit also reports each metric per time bucket.
+    pub by: Option<By>,
     /// The design points, in plan order (full factorial: the last factor varies fastest).
     design: Design,
     compiler: Compiler,
@@ -299,6 +306,16 @@ impl Experiment {
                 "factors may change values, not the plant's structure",
             ));
         }
+        let labels = |x: &Setup| x.sim.buckets().map(|g| g.labels.clone());
+        if labels(&s) != labels(&self.first) {
+            return Err(err(
+                &self.compiler.file,
+                line_of(&self.compiler.text, "by"),
+                format!("by: design point {} has other time buckets than design point 1", p + 1),
+                "every point must have the same buckets: vary the horizon or the calendars with a cyclic `by:` \
+                 (hour-of-day, day-of-week), or run the points as separate plans",
+            ));
+        }
         Ok(s)
     }
 
@@ -318,6 +335,10 @@ impl Experiment {
         let mut h = Sha256::new();
         h.update(format!("layflow {}\n", env!("CARGO_PKG_VERSION")));
         h.update(format!("{:?}\n{}\n{}\n", replications, self.seed, self.common_random_numbers));
+        // Only when given, so a plan without `by:` keeps the hash it had before `by:` existed.
+        if let Some(by) = &self.by {
+            h.update(format!("by {}\n", by.name()));
+        }
         for (s, f) in self.factors.iter().enumerate() {
             h.update(format!("factor {s} {:?}\n", f));
         }
@@ -454,7 +475,7 @@ pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> 
         let (message, hint) = crate::scenario::type_error(&raw, &path).unwrap_or((raw, None));
         let what = if path == "." { message } else { format!("{path}: {message}") };
         let hint = hint.unwrap_or_else(|| {
-            "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, and \
+            "a plan holds scenario, replications, optional seed, horizon, warmup, common_random_numbers, by, and \
              `factors:` (every combination) or `points:` (a list)"
                 .to_string()
         });
@@ -505,6 +526,20 @@ pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> 
     let horizon = duration("horizon", &spec.horizon)?;
     let warmup = duration("warmup", &spec.warmup)?;
     let seed = spec.seed.unwrap_or(base_plant.run.seed);
+    let by = spec
+        .by
+        .as_deref()
+        .map(|t| {
+            By::parse(t).map_err(|e| {
+                err(
+                    file,
+                    line_of(&text, "by"),
+                    format!("by: {e}"),
+                    "write e.g. `by: hour-of-day`, `by: shift`, `by: day-of-week`, `by: day` or `by: period=8 h`",
+                )
+            })
+        })
+        .transpose()?;
     let scenario_sha256: String =
         Sha256::digest(scenario_text.as_bytes()).iter().map(|b| format!("{b:02x}")).collect();
     let compiler = Compiler {
@@ -518,6 +553,7 @@ pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> 
         warmup,
         seed,
         common_random_numbers: spec.common_random_numbers,
+        by: by.clone(),
         allow_overload,
     };
     // Design point 1 at once: whatever else is wrong, this is said first.
@@ -531,6 +567,7 @@ pub fn load(file: &Path, allow_overload: bool) -> Result<Experiment, PlanError> 
         seed,
         common_random_numbers: spec.common_random_numbers,
         factors,
+        by,
         design,
         compiler,
         first: Arc::new(first),
@@ -697,7 +734,13 @@ fn compile_point(
     }
     let mut plant = plant;
     plant.run.allow_overload = c.allow_overload;
-    let sim = Plan::new(&plant, layout_index);
+    let mut sim = Plan::new(&plant, layout_index);
+    // The grid is per point: a factor may change the horizon, the warm-up or the calendars.
+    if let Some(by) = &c.by {
+        let grid = Grid::new(by, &plant, spec.warmup_s, spec.horizon_s)
+            .map_err(|e| err(file, line_of(text, "by"), format!("by: {}: {e}", describe()), ""))?;
+        sim = sim.with_buckets(grid);
+    }
     Ok(Setup { plant, spec, sim })
 }
 

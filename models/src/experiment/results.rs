@@ -60,6 +60,50 @@ pub struct PointSummary {
     pub metrics: Vec<MetricSummary>,
     /// Pooled percentiles of flow time and move wait.
     pub percentiles: Vec<Percentile>,
+    /// With `by:` in the plan: every bucketed metric in every bucket, and the peak.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by_bucket: Option<PointBuckets>,
+}
+
+/// One metric in one bucket of a design point, across its replications (a tidy row).
+#[derive(Debug, Clone, Serialize)]
+pub struct BucketMetric {
+    /// The bucket's label.
+    pub bucket: String,
+    /// plant, product, department or fleet.
+    pub scope: String,
+    /// The product, department or fleet id; empty for the plant.
+    pub subject: String,
+    /// The registry name.
+    pub metric: String,
+    /// Replications that observed it in this bucket.
+    pub n: usize,
+    /// Mean over them.
+    pub mean: Option<f64>,
+    /// Half-width of the 95% interval.
+    pub half_width: Option<f64>,
+}
+
+/// The bucket where a plant metric is highest, with its estimate.
+#[derive(Debug, Clone, Serialize)]
+pub struct PointPeak {
+    /// The bucket's label.
+    pub bucket: String,
+    /// Mean over replications.
+    pub mean: f64,
+    /// Half-width of the 95% interval.
+    pub half_width: Option<f64>,
+}
+
+/// A design point's results by time bucket.
+#[derive(Debug, Clone, Serialize)]
+pub struct PointBuckets {
+    /// Every bucketed metric in every bucket, bucket by bucket.
+    pub rows: Vec<BucketMetric>,
+    /// The bucket with the highest mean plant WIP.
+    pub peak_wip_mean: Option<PointPeak>,
+    /// The bucket with the highest mean plant 95th-percentile move wait (none without movers).
+    pub peak_move_wait_p95_s: Option<PointPeak>,
 }
 
 /// The whole experiment's summary.
@@ -73,6 +117,9 @@ pub struct Summary {
     pub confidence: f64,
     /// Per design point.
     pub points: Vec<PointSummary>,
+    /// The plan's `by:`, when it has one (each point then has `by_bucket`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub by: Option<String>,
 }
 
 /// Sort units by number and check each appears once (duplicates must be identical).
@@ -115,6 +162,7 @@ pub fn summarize(header: &Header, units: &[Unit]) -> Result<Summary, String> {
         factors: header.factors.clone(),
         confidence: CONFIDENCE,
         points,
+        by: header.by.as_ref().map(|b| b.by.clone()),
     })
 }
 
@@ -162,6 +210,69 @@ pub fn summarize_point(header: &Header, p: usize, mine: &[&Unit]) -> Result<Poin
         events: mine.iter().map(|u| u.events).sum(),
         metrics,
         percentiles,
+        by_bucket: point_buckets(header, mine),
+    })
+}
+
+/// A point's buckets from its units' `by` arrays (`None` without `by:`).
+fn point_buckets(header: &Header, mine: &[&Unit]) -> Option<PointBuckets> {
+    let h = header.by.as_ref()?;
+    let mut rows = Vec::with_capacity(h.buckets.len() * h.metrics.len());
+    for (b, label) in h.buckets.iter().enumerate() {
+        for (m, name) in h.metrics.iter().enumerate() {
+            let xs: Vec<f64> = mine
+                .iter()
+                .filter_map(|u| u.by.as_ref().and_then(|v| v.get(b)?.get(m).copied().flatten()))
+                .collect();
+            let iv = interval(&xs, CONFIDENCE);
+            rows.push(BucketMetric {
+                bucket: label.clone(),
+                scope: name.scope.clone(),
+                subject: name.subject.clone(),
+                metric: name.name.clone(),
+                n: xs.len(),
+                mean: iv.mean.is_finite().then_some(iv.mean),
+                half_width: iv.half_width,
+            });
+        }
+    }
+    let peak = |metric: &str| {
+        rows.iter()
+            .filter(|r| r.scope == "plant" && r.metric == metric)
+            .filter_map(|r| r.mean.map(|x| (r, x)))
+            .max_by(|a, b| a.1.total_cmp(&b.1))
+            .filter(|(_, x)| *x > 0.0)
+            .map(|(r, x)| PointPeak { bucket: r.bucket.clone(), mean: x, half_width: r.half_width })
+    };
+    let (peak_wip_mean, peak_move_wait_p95_s) = (peak("wip_mean"), peak("move_wait_p95_s"));
+    Some(PointBuckets { rows, peak_wip_mean, peak_move_wait_p95_s })
+}
+
+/// `by_bucket.csv`: one row per design point, bucket and metric (point,
+/// factor levels, bucket, scope, subject, metric, mean, half_width, n).
+pub fn by_bucket_csv(s: &Summary) -> Vec<u8> {
+    csv_bytes(|w| {
+        let mut head = vec!["point".to_string()];
+        head.extend(s.factors.iter().cloned());
+        head.extend(["bucket", "scope", "subject", "metric", "mean", "half_width", "n"].map(String::from));
+        w.write_record(&head)?;
+        for p in &s.points {
+            for r in p.by_bucket.iter().flat_map(|b| &b.rows) {
+                let mut row = vec![p.point.to_string()];
+                row.extend(p.levels.iter().cloned());
+                row.extend([
+                    r.bucket.clone(),
+                    r.scope.clone(),
+                    r.subject.clone(),
+                    r.metric.clone(),
+                    cell(r.mean),
+                    cell(r.half_width),
+                    r.n.to_string(),
+                ]);
+                w.write_record(&row)?;
+            }
+        }
+        Ok(())
     })
 }
 

@@ -10,6 +10,9 @@ use super::folder::{write_atomic, write_manifest, Kind, ResultsError};
 /// The files an experiment folder holds, in reading order.
 pub const FILES: &[&str] = &[journal::FILE, "results.csv", "summary.csv", "summary.json"];
 
+/// The results by time bucket of a plan with `by:`.
+pub const BY_BUCKET: &str = "by_bucket.csv";
+
 /// The journal's path in `dir`.
 pub fn journal_path(dir: &Path) -> PathBuf {
     dir.join(journal::FILE)
@@ -36,5 +39,11 @@ pub fn write(dir: &Path, header: &Header, units: &[Unit]) -> Result<(), ResultsE
     write_atomic(dir, "results.csv", &results::results_csv(&whole, units))?;
     write_atomic(dir, "summary.csv", &results::summary_csv(&summary))?;
     write_atomic(dir, "summary.json", &results::summary_json(&summary))?;
-    write_manifest(dir, Kind::Experiment, FILES)
+    let mut files = FILES.to_vec();
+    // Only with `by:` in the plan, so other folders hold what they always did.
+    if whole.by.is_some() {
+        write_atomic(dir, BY_BUCKET, &results::by_bucket_csv(&summary))?;
+        files.push(BY_BUCKET);
+    }
+    write_manifest(dir, Kind::Experiment, &files)
 }

@@ -79,7 +79,7 @@ impl std::error::Error for ResultsError {}
 /// Every file name a study writes into a folder (besides the manifest):
 /// the only files `--force` ever deletes.
 pub const STUDY_FILES: &[&str] =
-    &["summary.json", "summary.csv", "replications.csv", "units.jsonl", "results.csv"];
+    &["summary.json", "summary.csv", "replications.csv", "units.jsonl", "results.csv", "by_bucket.csv"];
 
 /// What a folder holds of ours: its manifest, and each study file present
 /// with the kind of study its content shows (`None` where it cannot tell).
@@ -158,6 +158,10 @@ impl Holding {
 fn kind_of_file(dir: &Path, name: &str) -> Option<Kind> {
     match name {
         "units.jsonl" | "results.csv" => Some(Kind::Experiment),
+        "by_bucket.csv" => {
+            let text = std::fs::read_to_string(dir.join(name)).ok()?;
+            (text.lines().next()?.split(',').next()? == "point").then_some(Kind::Experiment)
+        }
         "replications.csv" => Some(Kind::Compare),
         "summary.csv" => {
             let text = std::fs::read_to_string(dir.join(name)).ok()?;

@@ -10,6 +10,7 @@ use serde::ser::SerializeMap as _;
 use serde::Serialize;
 
 use crate::analysis::StaticPicture;
+use crate::metrics::by_bucket::{BucketAccumulator, BucketInfo, BucketRow, BucketSummary, Peak, PeakBucket};
 use crate::metrics::estimate::{est_with_se, Estimate, Moments};
 use crate::metrics::list::{every_metric, Metric};
 use crate::metrics::registry::Scope;
@@ -17,6 +18,7 @@ use crate::plant::{Handling, Plant};
 use crate::sim::{Plan, RepStats, RunSpec};
 use crate::sizing::{fleet_estimate, EmptyRule, FleetEstimate};
 use crate::suggest::did_you_mean;
+use crate::timebuckets::Grid;
 
 use super::compare::paired;
 use super::deadlock::replication_deadlock;
@@ -209,6 +211,8 @@ pub struct Sweep<'a> {
     pub replications: u32,
     /// The analytic estimate, for its utilisation column and the advice.
     pub analytic: &'a Analytic,
+    /// Time buckets (`--by`): every size also reports each metric per bucket.
+    pub buckets: Option<&'a Grid>,
 }
 
 /// What a sweep found: every size, the advice, and the events simulated.
@@ -219,6 +223,9 @@ pub struct SweepResult {
     pub advice: Advice,
     /// Events simulated, every size.
     pub events: u64,
+    /// With [`Sweep::buckets`], one summary per size in the order of
+    /// [`SweepResult::sizes`]; empty without.
+    pub by_bucket: Vec<BucketSummary>,
 }
 
 /// Simulate every size on the current rayon pool, then judge what to advise.
@@ -232,24 +239,36 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyErr
     let mut before_last: Vec<Vec<f64>> = Vec::new();
     let mut floors = Vec::new();
     let mut floors_before = Vec::new();
+    let mut by_bucket = Vec::new();
     for &n in s.sizes {
         let p = sized(s.plant, s.fleet, n);
         progress.stage(format!("{id} × {n}"));
-        let plan = Plan::new(&p, s.spec.layout);
+        let mut plan = Plan::new(&p, s.spec.layout);
+        if let Some(g) = s.buckets {
+            plan = plan.with_buckets(g.clone());
+        }
         let list = every_metric(&p);
         let mut kept = SizeKept::new(s, &list);
+        // Moments per bucket and metric: memory does not grow with replications.
+        let mut buckets = s.buckets.map(|g| BucketAccumulator::new(&p, g));
         replicate_fold(
             &plan,
             &s.spec,
             0..u64::from(s.replications),
             |r| progress.done(r),
-            |_, r| kept.add(&p, &list, s.targets, &r),
+            |_, r| {
+                if let Some(b) = &mut buckets {
+                    b.add(&p, &r);
+                }
+                kept.add(&p, &list, s.targets, &r);
+            },
         );
         if let Some(why) = &kept.deadlock {
             return Err(StudyError::Run(format!("with {n} movers in {id}: {why}")));
         }
         events += kept.events;
         results.push(size_result(s, n, &list, &kept));
+        by_bucket.extend(buckets.map(|b| b.finish()));
         before_last = std::mem::take(&mut last);
         floors_before = std::mem::take(&mut floors);
         floors = s
@@ -261,7 +280,7 @@ pub fn sweep(s: &Sweep, progress: &dyn Progress) -> Result<SweepResult, StudyErr
         last = kept.target_values;
     }
     let advice = advise(s, &results, &before_last, &last, &floors, &floors_before);
-    Ok(SweepResult { sizes: results, advice, events })
+    Ok(SweepResult { sizes: results, advice, events, by_bucket })
 }
 
 /// The part of a wait metric that more movers cannot remove, as the metric
@@ -679,4 +698,88 @@ fn size_result(s: &Sweep, n: u32, list: &[Metric], kept: &SizeKept) -> SizeResul
         meets_every_target: verdicts.iter().all(|v| v.met),
         targets: verdicts,
     }
+}
+
+/// One metric of the sized plant in one bucket at one fleet size (a tidy row).
+#[derive(Debug, Clone, Serialize)]
+pub struct SizeBucketRow {
+    /// Movers in the fleet.
+    pub movers: u32,
+    /// Bucket, scope, subject, registry name, mean, half-width and count.
+    #[serde(flatten)]
+    pub row: BucketRow,
+}
+
+/// A size's peaks: where the sized fleet's wait and the plant's WIP are highest.
+#[derive(Debug, Clone, Serialize)]
+pub struct SizePeak {
+    /// Movers in the fleet.
+    pub movers: u32,
+    /// The bucket with the highest mean 95th percentile of the sized fleet's move wait.
+    pub fleet_move_wait_p95_s: Option<PeakBucket>,
+    /// The plant's peak (WIP, plant-wide wait, recovery), as `run --by` reports it.
+    pub plant: Peak,
+}
+
+/// A sweep's results by time bucket: every metric of every size in every bucket.
+#[derive(Debug, Clone, Serialize)]
+pub struct FleetBuckets {
+    /// How the clock was sliced, as typed.
+    pub by: String,
+    /// Every repetition of the cycle folded onto one set of buckets.
+    pub cyclic: bool,
+    /// The buckets in time order, with their exposure (the same at every size).
+    pub buckets: Vec<BucketInfo>,
+    /// Every bucketed metric in every bucket at every size: size by size, bucket by bucket.
+    pub rows: Vec<SizeBucketRow>,
+    /// The same metrics over the whole window (bucket `whole window`), size by size.
+    pub whole: Vec<SizeBucketRow>,
+    /// Each size's peaks.
+    pub peaks: Vec<SizePeak>,
+    /// Each size's summary, in the order of the sizes (for tables).
+    #[serde(skip)]
+    pub summaries: Vec<BucketSummary>,
+}
+
+impl FleetBuckets {
+    /// The sweep's bucket summaries of fleet `fleet` (by id) at `sizes`,
+    /// `None` when the sweep had no buckets.
+    pub fn new(fleet: &str, sizes: &[u32], summaries: Vec<BucketSummary>) -> Option<FleetBuckets> {
+        let first = summaries.first()?;
+        let tag = |n: u32, rows: &[BucketRow]| {
+            rows.iter().map(move |r| SizeBucketRow { movers: n, row: r.clone() }).collect::<Vec<_>>()
+        };
+        let peaks = sizes
+            .iter()
+            .zip(&summaries)
+            .map(|(&n, b)| SizePeak {
+                movers: n,
+                fleet_move_wait_p95_s: fleet_wait_peak(b, fleet),
+                plant: b.peak.clone(),
+            })
+            .collect();
+        Some(FleetBuckets {
+            by: first.by.clone(),
+            cyclic: first.cyclic,
+            buckets: first.buckets.clone(),
+            rows: sizes.iter().zip(&summaries).flat_map(|(&n, b)| tag(n, &b.rows)).collect(),
+            whole: sizes.iter().zip(&summaries).flat_map(|(&n, b)| tag(n, &b.whole)).collect(),
+            peaks,
+            summaries,
+        })
+    }
+}
+
+/// The bucket where fleet `fleet`'s mean p95 move wait is highest (none when it never waits).
+pub fn fleet_wait_peak(b: &BucketSummary, fleet: &str) -> Option<PeakBucket> {
+    (0..b.buckets.len())
+        .filter_map(|k| b.get(Some(k), fleet, "move_wait_p95_s").map(|e| (k, e)))
+        .filter(|(_, e)| e.mean.is_finite())
+        .max_by(|a, b| a.1.mean.total_cmp(&b.1.mean))
+        .filter(|(_, e)| e.mean > 0.0)
+        .map(|(k, e)| PeakBucket {
+            bucket: b.buckets[k].bucket.clone(),
+            mean: e.mean,
+            half_width: e.half_width,
+        })
 }
