@@ -19,6 +19,11 @@ mod trace;
 
 use std::process::ExitCode;
 
+/// Freed memory stays with the process for the next replication instead of
+/// going back to the system (the workspace Cargo.toml says why and what it saved).
+#[global_allocator]
+static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
+
 use clap::{Parser, Subcommand};
 
 use commands::{check, compare, draw, experiment, fleet, run, search};

@@ -216,11 +216,22 @@ impl Grid {
     /// The bucket time `t` (s since the start of the run) falls in, and the
     /// time its stretch of that bucket ends (> t).
     pub fn locate(&self, t: f64) -> (usize, f64) {
-        if !self.by.cyclic() {
-            let k = (t / self.cycle_s).floor();
-            let end = (k + 1.0) * self.cycle_s;
-            let b = (k as u64).saturating_sub(self.first) as usize;
-            return (b.min(self.len() - 1), if end > t { end } else { t + self.cycle_s });
+        let t = t.max(0.0);
+        // Buckets of one width (all but shifts): one division, no search.
+        let width = self.bucket_width_s();
+        if width > 0.0 {
+            // t ≥ 0, so the cast is the floor; a quotient rounded down past an edge is stepped over.
+            let mut k = (t / width) as u64;
+            if (k + 1) as f64 * width <= t {
+                k += 1;
+            }
+            let end = (k + 1) as f64 * width;
+            let b = if self.by.cyclic() {
+                (k % self.len() as u64) as usize
+            } else {
+                (k.saturating_sub(self.first) as usize).min(self.len() - 1)
+            };
+            return (b, end);
         }
         let c = (t / self.cycle_s).floor();
         let base = c * self.cycle_s;

@@ -289,8 +289,12 @@ impl Collector {
                     }
                 };
                 // Every fleet's waits pooled: the fleets' histograms added (counts add exactly).
-                let mut wait_hist = TickHistogram::with_digits(TICK_S, DIGITS);
-                for h in &b.wait_hist_fleet {
+                let mut fleet_hists = b.wait_hist_fleet.iter();
+                let mut wait_hist = match fleet_hists.next() {
+                    Some(first) => first.clone(),
+                    None => TickHistogram::with_digits(TICK_S, DIGITS),
+                };
+                for h in fleet_hists {
                     wait_hist.merge(h);
                 }
                 // Means from counts and sums; all products and all fleets pooled.
