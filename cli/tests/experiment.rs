@@ -757,7 +757,9 @@ fn a_plan_by_hour_of_day_resumes_and_merges_to_the_same_bytes() {
     }
     let summary: serde_json::Value =
         serde_json::from_slice(&std::fs::read(whole.join("summary.json")).unwrap()).unwrap();
-    assert!(summary["points"][0]["by_bucket"]["peak_wip_mean"]["bucket"].is_string());
+    assert!(summary["points"][0]["by_bucket"]["peak"]["wip_mean"]["bucket"].is_string());
+    let peak = &summary["points"][0]["by_bucket"]["peak"];
+    assert!(peak["recovery_h"].is_number() || peak["recovery_note"].is_string(), "{peak}");
     // Resumed from a journal cut after five units and a torn sixth line.
     let journal = std::fs::read(whole.join("units.jsonl")).unwrap();
     let ends: Vec<usize> =

@@ -96,6 +96,16 @@ impl By {
     pub fn cyclic(&self) -> bool {
         matches!(self, By::HourOfDay | By::Shift(_) | By::DayOfWeek)
     }
+
+    /// How long one bucket lasts, s (NaN by shift: shifts differ).
+    pub fn bucket_width_s(&self) -> f64 {
+        match self {
+            By::HourOfDay => HOUR_S,
+            By::DayOfWeek | By::Day => DAY_S,
+            By::Period(p) => *p,
+            By::Shift(_) => f64::NAN,
+        }
+    }
 }
 
 /// The buckets of one run: labels and the map from a time to its bucket.
@@ -195,12 +205,7 @@ impl Grid {
 
     /// How long one bucket lasts, s (NaN by shift: shifts differ).
     pub fn bucket_width_s(&self) -> f64 {
-        match self.by {
-            By::HourOfDay => HOUR_S,
-            By::DayOfWeek | By::Day => DAY_S,
-            By::Period(p) => p,
-            By::Shift(_) => f64::NAN,
-        }
+        self.by.bucket_width_s()
     }
 
     /// Buckets in the grid.

@@ -85,7 +85,7 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         row.push(duration("move_wait_s", wait_u));
         row.push(number("handling_cost_per_h"));
         if s.by.is_some() {
-            let peak = p.by_bucket.as_ref().and_then(|b| b.peak_wip_mean.as_ref());
+            let peak = p.by_bucket.as_ref().and_then(|b| b.peak.wip_mean.as_ref());
             row.push(peak.map_or("-".into(), |k| k.bucket.clone()));
         }
         t.row(row);
@@ -95,7 +95,7 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         out.push_str(&super::table::wrap(
             &format!(
                 "by {by}: every metric of every point in every bucket, with 95% intervals, in by_bucket.csv \
-                 (and summary.json, with each point's peak WIP and peak wait p95 bucket); peak WIP at = the \
+                 (and summary.json, with each point's peak WIP and peak wait p95 bucket, and the recovery from the peak); peak WIP at = the \
                  bucket with the highest mean WIP. A point's bucket means carry no verdict: a point that looks \
                  best over the whole window may still be worst in its busiest bucket."
             ),

@@ -7,8 +7,9 @@
 use layflow_engine::{interval, TickHistogram};
 use serde::Serialize;
 
-use crate::metrics::CONFIDENCE;
+use crate::metrics::{Estimate, Peak, CONFIDENCE};
 use crate::sim::TICK_S;
+use crate::timebuckets::By;
 
 use super::journal::{Header, Unit};
 
@@ -84,26 +85,13 @@ pub struct BucketMetric {
     pub half_width: Option<f64>,
 }
 
-/// The bucket where a plant metric is highest, with its estimate.
-#[derive(Debug, Clone, Serialize)]
-pub struct PointPeak {
-    /// The bucket's label.
-    pub bucket: String,
-    /// Mean over replications.
-    pub mean: f64,
-    /// Half-width of the 95% interval.
-    pub half_width: Option<f64>,
-}
-
 /// A design point's results by time bucket.
 #[derive(Debug, Clone, Serialize)]
 pub struct PointBuckets {
     /// Every bucketed metric in every bucket, bucket by bucket.
     pub rows: Vec<BucketMetric>,
-    /// The bucket with the highest mean plant WIP.
-    pub peak_wip_mean: Option<PointPeak>,
-    /// The bucket with the highest mean plant 95th-percentile move wait (none without movers).
-    pub peak_move_wait_p95_s: Option<PointPeak>,
+    /// The peak and the recovery from it, as `run --by` reports them.
+    pub peak: Peak,
 }
 
 /// The whole experiment's summary.
@@ -236,16 +224,23 @@ fn point_buckets(header: &Header, mine: &[&Unit]) -> Option<PointBuckets> {
             });
         }
     }
-    let peak = |metric: &str| {
-        rows.iter()
-            .filter(|r| r.scope == "plant" && r.metric == metric)
-            .filter_map(|r| r.mean.map(|x| (r, x)))
-            .max_by(|a, b| a.1.total_cmp(&b.1))
-            .filter(|(_, x)| *x > 0.0)
-            .map(|(r, x)| PointPeak { bucket: r.bucket.clone(), mean: x, half_width: r.half_width })
+    let column = |metric: &str| -> Option<Vec<Estimate>> {
+        let col: Vec<Estimate> = rows
+            .iter()
+            .filter(|r| r.scope == "plant" && r.subject.is_empty() && r.metric == metric)
+            .map(|r| Estimate { mean: r.mean.unwrap_or(f64::NAN), half_width: r.half_width, n: r.n })
+            .collect();
+        (col.len() == h.buckets.len()).then_some(col)
     };
-    let (peak_wip_mean, peak_move_wait_p95_s) = (peak("wip_mean"), peak("move_wait_p95_s"));
-    Some(PointBuckets { rows, peak_wip_mean, peak_move_wait_p95_s })
+    // The grid's name was checked when the plan was read.
+    let by = By::parse(&h.by).unwrap_or(By::HourOfDay);
+    let peak = Peak::from_buckets(
+        &by,
+        &h.buckets,
+        column("wip_mean").as_deref(),
+        column("move_wait_p95_s").as_deref(),
+    );
+    Some(PointBuckets { rows, peak })
 }
 
 /// `by_bucket.csv`: one row per design point, bucket and metric (point,

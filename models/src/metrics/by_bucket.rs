@@ -10,7 +10,7 @@ use serde::Serialize;
 
 use crate::plant::Plant;
 use crate::sim::RepStats;
-use crate::timebuckets::Grid;
+use crate::timebuckets::{By, Grid};
 
 use super::estimate::{Estimate, Moments};
 use super::list::{every_metric, Metric};
@@ -142,9 +142,16 @@ impl BucketAccumulator {
                 }
             })
             .collect();
-        let est = |b: usize, k: usize| self.moments[b * nm + k].estimate();
         let find = |id: Id| self.metrics.iter().position(|m| m.def.id == id && m.scope == Scope::Plant);
-        let peak = Peak::find(&self.grid, find(Id::Wip), find(Id::MoveWaitQuantile(Percentile::P95)), &est);
+        let column = |k: Option<usize>| -> Option<Vec<Estimate>> {
+            k.map(|k| (0..self.grid.len()).map(|b| self.moments[b * nm + k].estimate()).collect())
+        };
+        let peak = Peak::from_buckets(
+            &self.grid.by,
+            &self.grid.labels,
+            column(find(Id::Wip)).as_deref(),
+            column(find(Id::MoveWaitQuantile(Percentile::P95))).as_deref(),
+        );
         BucketSummary { by: self.grid.by.name(), cyclic: self.grid.by.cyclic(), buckets, rows, whole, peak }
     }
 }
@@ -252,21 +259,25 @@ pub struct Peak {
 }
 
 impl Peak {
-    fn find(
-        grid: &Grid,
-        wip: Option<usize>,
-        wait: Option<usize>,
-        est: &dyn Fn(usize, usize) -> Estimate,
+    /// The peak of the buckets `labels` of a grid sliced `by`, from each
+    /// bucket's plant WIP and 95th-percentile move wait across replications
+    /// (`None`: the metric is not reported).
+    pub fn from_buckets(
+        by: &By,
+        labels: &[String],
+        wip: Option<&[Estimate]>,
+        wait: Option<&[Estimate]>,
     ) -> Peak {
-        let n = grid.len();
-        let top = |k: usize| -> Option<(usize, Estimate)> {
-            (0..n)
-                .map(|b| (b, est(b, k)))
+        let n = labels.len();
+        let top = |col: &[Estimate]| -> Option<(usize, Estimate)> {
+            col.iter()
+                .copied()
+                .enumerate()
                 .filter(|(_, e)| e.mean.is_finite())
                 .max_by(|a, b| a.1.mean.total_cmp(&b.1.mean))
         };
         let pb = |(b, e): (usize, Estimate)| PeakBucket {
-            bucket: grid.labels[b].clone(),
+            bucket: labels[b].clone(),
             mean: e.mean,
             half_width: e.half_width,
         };
@@ -279,10 +290,10 @@ impl Peak {
             recovery_h: None,
             recovery_note: None,
         };
-        let (Some(k), Some((at, _))) = (wip, wip_peak) else {
+        let (Some(col), Some((at, _))) = (wip, wip_peak) else {
             return peak;
         };
-        let levels: Vec<f64> = (0..n).map(|b| est(b, k).mean).collect();
+        let levels: Vec<f64> = col.iter().map(|e| e.mean).collect();
         let mut quiet: Vec<f64> = levels.iter().copied().filter(|x| x.is_finite()).collect();
         quiet.sort_by(f64::total_cmp);
         quiet.truncate((quiet.len() / 4).max(1));
@@ -296,12 +307,12 @@ impl Peak {
             );
             return peak;
         }
-        if matches!(grid.by, crate::timebuckets::By::Shift(_)) {
+        if matches!(by, By::Shift(_)) {
             peak.recovery_note = Some("shift buckets are not in time order".into());
             return peak;
         }
-        let width_h = grid.bucket_width_s() / 3600.0;
-        let steps = if grid.by.cyclic() { n - 1 } else { n - 1 - at };
+        let width_h = by.bucket_width_s() / 3600.0;
+        let steps = if by.cyclic() { n - 1 } else { n - 1 - at };
         for s in 1..=steps {
             let b = (at + s) % n;
             if levels[b].is_finite() && levels[b] <= (1.0 + RECOVERED_WITHIN) * off {
@@ -309,7 +320,7 @@ impl Peak {
                 return peak;
             }
         }
-        peak.recovery_note = Some(if grid.by.cyclic() {
+        peak.recovery_note = Some(if by.cyclic() {
             "WIP stays more than 10% above the off-peak level all round the cycle".into()
         } else {
             "WIP is still more than 10% above the off-peak level at the end of the run".into()
