@@ -391,11 +391,12 @@ fn peak_verdicts(out: &FleetOutput, fb: &FleetBuckets, at: usize) -> String {
             Op::AtLeast => e.mean < t.value,
             Op::Above => e.mean <= t.value,
         };
-        let value = format!(
-            "{}{}",
-            in_unit(Some(t), e.mean),
-            e.half_width.map_or(String::new(), |h| format!(" ± {}", in_unit(Some(t), h)))
-        );
+        // Mean and half-width to the same decimals, in one unit.
+        let value = match t.unit {
+            Unit::Seconds => super::table::dur_in(&e, super::table::unit_for([e.mean])),
+            Unit::Share => super::table::pct(&e),
+            _ => super::table::pm(&e, 1.0),
+        };
         let text = if misses {
             format!(
                 "size {n} meets the target '{}' over the whole window but its {} at {} is {value}",
