@@ -328,11 +328,11 @@ fn render_by_bucket(out: &FleetOutput, fb: &FleetBuckets) -> String {
     if rows.len() < reference.buckets.len() {
         s.push_str(&super::table::wrap(
             &format!(
-                "the {} busiest of {} buckets by plant WIP at {} movers, in time order; --wide shows every \
+                "the {} busiest of {} buckets by plant WIP at {}, in time order; --wide shows every \
                  bucket, --format json every metric of every size in every bucket",
                 rows.len(),
                 reference.buckets.len(),
-                sizes[at]
+                movers(u64::from(sizes[at]))
             ),
             2,
         ));
@@ -352,7 +352,10 @@ fn render_by_bucket(out: &FleetOutput, fb: &FleetBuckets) -> String {
             parts.push(format!("plant WIP highest at {}: {} lots", w.bucket, pm(&e, 1.0)));
         }
         if !parts.is_empty() {
-            s.push_str(&super::table::wrap(&format!("peak at {} movers: {}", p.movers, parts.join("; ")), 2));
+            s.push_str(&super::table::wrap(
+                &format!("peak at {}: {}", movers(u64::from(p.movers)), parts.join("; ")),
+                2,
+            ));
         }
     }
     s.push_str(&peak_verdicts(out, fb, at));
