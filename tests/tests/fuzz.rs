@@ -30,6 +30,7 @@ use std::time::{Duration, Instant};
 
 use layflow_models::analysis::StaticPicture;
 use layflow_models::sim::{simulate, Plan, RunSpec};
+use layflow_models::timebuckets::{By, Grid};
 use serde_norway::Value;
 
 /// Cases CI runs: about 25 s in release mode on one core.
@@ -299,11 +300,25 @@ fn one_case(origin: &Path, text: &str) -> Result<Outcome, String> {
         demand_factor: plant.demand_factor,
         seed: plant.run.seed,
     };
-    catch_unwind(AssertUnwindSafe(|| {
+    // With results in four time buckets as well (they never change the run
+    // itself), so the bucket bookkeeping meets every mutated plant too.
+    let by = By::Period((horizon_s / 4.0).max(60.0));
+    let grid = Grid::new(&by, &plant, 0.0, horizon_s).ok();
+    let r = catch_unwind(AssertUnwindSafe(|| {
         let plan = Plan::new(&plant, 0);
+        let plan = match grid {
+            Some(g) => plan.with_buckets(g),
+            None => plan,
+        };
         simulate(&plan, &spec, 0)
     }))
     .map_err(|_| format!("a short run ({horizon_s} s) panicked: {}", last_panic()))?;
+    if !r.by.is_empty() && r.overload.is_none() && r.deadlock.is_none() {
+        let exposure: f64 = r.by.iter().map(|b| b.window_s).sum();
+        if (exposure - r.window_s).abs() > 1e-9 * r.window_s {
+            return Err(format!("the time buckets cover {exposure} s of a {} s window", r.window_s));
+        }
+    }
     Ok(Outcome::Accepted)
 }
 
