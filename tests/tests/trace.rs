@@ -23,6 +23,7 @@
 use std::collections::BTreeMap;
 use std::path::Path;
 
+use layflow_models::plant::Plant;
 use layflow_models::sim::trace::{untraceable, TraceOptions, TraceSink};
 use layflow_models::sim::{simulate, simulate_traced, Plan, RunSpec};
 use layflow_tests::load;
@@ -82,12 +83,32 @@ fn traces_of_the_other_traceable_validation_plants_add_up_too() {
     }
 }
 
+/// Forklifts that break down (clock time) and go on charge every 6 h of
+/// work, with operators' shifts: the validation plant of `fleet` and `run`
+/// agreeing, with its staging limits lifted here so that only the movers'
+/// service is new. Their down and charging seconds are checked in `adds_up`;
+/// here, that there are some in the window, so the check means something.
+#[test]
+fn the_trace_of_movers_that_break_down_and_charge_adds_up() {
+    let mut plant = load("validation/fleet-run-agree.yaml");
+    for d in &mut plant.departments {
+        d.staging = Default::default();
+    }
+    let spent = adds_up_plant("fleet-run-agree.yaml without staging", &plant, 1);
+    assert!(spent("down") > 0.0 && spent("charging") > 0.0, "repairs and charges in the window");
+}
+
 /// Trace replication `replication` of the first layout of `file` over its
 /// observation window and recompute its numbers from the files alone.
 fn adds_up(file: &str, replication: u64) {
-    let plant = load(file);
+    let _ = adds_up_plant(file, &load(file), replication);
+}
+
+/// As [`adds_up`], for a plant built in the test; returns the mover-seconds
+/// in each state in the window, over every fleet.
+fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -> f64 {
     let layout = 0;
-    let plan = Plan::new(&plant, layout);
+    let plan = Plan::new(plant, layout);
     assert!(untraceable(&plan).is_none());
     let spec = RunSpec {
         layout,
@@ -99,7 +120,7 @@ fn adds_up(file: &str, replication: u64) {
     let (w0, w1) = (spec.warmup_s, spec.horizon_s);
     let dir = tempfile::tempdir().expect("temp dir");
     let mut sink = TraceSink::create(dir.path()).expect("trace files");
-    let opts = TraceOptions::new(&plant, (w0, w1));
+    let opts = TraceOptions::new(plant, (w0, w1));
     let traced = simulate_traced(&plan, &spec, replication, &mut sink, &opts).expect("trace written");
     sink.flush().expect("flushed");
     let rep = simulate(&plan, &spec, replication);
@@ -215,6 +236,9 @@ fn adds_up(file: &str, replication: u64) {
         close(&format!("{file}: {} loaded s", fleet.id), got("loaded"), acc.loaded_s);
         close(&format!("{file}: {} empty s", fleet.id), got("empty"), acc.empty_s);
         close(&format!("{file}: {} handling s", fleet.id), got("handling"), acc.handling_s);
+        // `run`'s down time holds the charging time too (models/src/sim/stats.rs, `FleetStats`).
+        close(&format!("{file}: {} down s", fleet.id), got("down") + got("charging"), acc.down_s);
+        close(&format!("{file}: {} charging s", fleet.id), got("charging"), acc.charging_s);
     }
 
     // Every visit row's waiting column is start − arrival.
@@ -223,6 +247,11 @@ fn adds_up(file: &str, replication: u64) {
             assert_eq!(f(&r, "waiting").unwrap(), s - a);
         }
     }
+    let mut by_state: BTreeMap<String, f64> = BTreeMap::new();
+    for ((_, state), s) in spent {
+        *by_state.entry(state).or_default() += s;
+    }
+    move |state: &str| by_state.get(state).copied().unwrap_or(0.0)
 }
 
 #[test]

@@ -74,11 +74,12 @@ fn csv_field(name: &str) -> String {
 
 /// Why a plant cannot be traced yet, in the user's words; `None` when it can.
 ///
-/// The tracer follows lots, single-load movers on direct trips, and
-/// machines (with breakdowns, calendars and setups too). Staging limits,
-/// split lots, tow trains, the simulated aisle network, and mover
-/// breakdowns or charging add states the tracer does not record yet, so a trace of such a plant would not add up to `run`'s
-/// numbers; it is refused rather than written wrong.
+/// The tracer follows lots, single-load movers on direct trips (with
+/// breakdowns and charging too), and machines (with breakdowns, calendars
+/// and setups too). Staging limits, split lots, tow trains and the
+/// simulated aisle network add states the tracer does not record yet, so a
+/// trace of such a plant would not add up to `run`'s numbers; it is refused
+/// rather than written wrong.
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
     if plan.staging || plan.overflow {
         Some("a department has limited staging (inbound/outbound/overflow)")
@@ -88,8 +89,6 @@ pub fn untraceable(plan: &Plan) -> Option<&'static str> {
         Some("the aisle network is simulated segment by segment (capacity, speed limit or zone)")
     } else if plan.fleets.iter().any(|f| f.capacity > 1) {
         Some("a fleet carries several loads per trip (capacity above 1)")
-    } else if plan.fleets.iter().any(|f| f.service) {
-        Some("a fleet has breakdowns or battery charging")
     } else {
         None
     }

@@ -33,6 +33,7 @@ pub(super) enum State {
     Setup,
     Down,
     OffShift,
+    Charging,
 }
 
 impl State {
@@ -47,6 +48,7 @@ impl State {
             State::Setup => "setup",
             State::Down => "down",
             State::OffShift => "off_shift",
+            State::Charging => "charging",
         }
     }
 }
