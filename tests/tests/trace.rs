@@ -98,6 +98,28 @@ fn the_trace_of_movers_that_break_down_and_charge_adds_up() {
     assert!(spent("down") > 0.0 && spent("charging") > 0.0, "repairs and charges in the window");
 }
 
+/// Staging limits: machines blocked after service (instant moves in the
+/// two-station line; forklifts with machine breakdowns, an overflow yard
+/// and movers waiting at a full inbound area in the demo and in the
+/// fleet/run agreement plant, which adds mover breakdowns and charging).
+/// `adds_up` checks each department's blocked share from visits.csv, the
+/// fleets' blocked seconds and the overflow moves; here, that they are
+/// there to check.
+#[test]
+fn traces_of_plants_with_staging_limits_add_up() {
+    // (file, replication, movers wait at a full inbound area, loads go to an overflow area)
+    for (file, rep, wait, overflow) in [
+        ("validation/two-station-blocking.yaml", 0, false, false),
+        ("staging-breakdowns.yaml", 0, false, true),
+        ("validation/fleet-run-agree.yaml", 0, true, false),
+    ] {
+        let spent = adds_up_plant(file, &load(file), rep);
+        assert!(spent("blocked machine") > 0.0, "{file}: machines blocked in the window");
+        assert_eq!(spent("blocked") > 0.0, wait, "{file}: movers blocked in the window");
+        assert_eq!(spent("overflow moves") > 0.0, overflow, "{file}: overflow moves in the window");
+    }
+}
+
 /// Trace replication `replication` of the first layout of `file` over its
 /// observation window and recompute its numbers from the files alone.
 fn adds_up(file: &str, replication: u64) {
@@ -159,9 +181,15 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
 
     // Mean move wait, request to pick-up, of the loads picked up in the window.
     let moves = read(dir.path(), "moves.csv");
+    // A load taken on to an overflow area is a move with no request.
+    let overflow = moves
+        .iter()
+        .filter(|r| r["requested"].is_empty() && f(r, "picked_up").is_some_and(|p| p >= w0 && p < w1))
+        .count();
+    assert_eq!(overflow as u64, rep.overflow_moves, "{file}: overflow moves");
     let waits: Vec<f64> = moves
         .iter()
-        .filter(|r| f(r, "picked_up").is_some_and(|p| p > w0 && p < w1))
+        .filter(|r| !r["requested"].is_empty() && f(r, "picked_up").is_some_and(|p| p > w0 && p < w1))
         .map(|r| f(r, "picked_up").unwrap() - f(r, "requested").unwrap())
         .collect();
     assert_eq!(waits.len() as u64, rep.move_wait_all.count(), "{file}: moves picked up in the window");
@@ -239,14 +267,32 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
         // `run`'s down time holds the charging time too (models/src/sim/stats.rs, `FleetStats`).
         close(&format!("{file}: {} down s", fleet.id), got("down") + got("charging"), acc.down_s);
         close(&format!("{file}: {} charging s", fleet.id), got("charging"), acc.charging_s);
+        close(&format!("{file}: {} blocked s", fleet.id), got("blocked"), acc.blocked_s);
     }
 
-    // Every visit row's waiting column is start − arrival.
+    // Every visit row's waiting column is start − arrival; a lot is held on
+    // its machine from `end` for `blocked` seconds (to the end of the run if
+    // empty), and those spells clipped to the window, ÷ (machines × window),
+    // are the department's blocked share.
+    let mut held: BTreeMap<String, f64> = BTreeMap::new();
     for r in read(dir.path(), "visits.csv") {
         if let (Some(a), Some(s)) = (f(&r, "arrival"), f(&r, "start")) {
             assert_eq!(f(&r, "waiting").unwrap(), s - a);
         }
+        if let Some(end) = f(&r, "end") {
+            let until = f(&r, "blocked").map_or(w1, |b| end + b);
+            *held.entry(r["department"].clone()).or_default() += (until.min(w1) - end.max(w0)).max(0.0);
+        }
     }
+    for (d, dep) in plant.departments.iter().enumerate() {
+        if dep.machines > 0 {
+            let h = held.get(&dep.id).copied().unwrap_or(0.0);
+            let share = h / (f64::from(dep.machines) * (w1 - w0));
+            close(&format!("{file}: blocked share of {}", dep.id), share, rep.blocked[d]);
+        }
+    }
+    spent.insert((String::new(), "blocked machine".into()), held.values().sum());
+    spent.insert((String::new(), "overflow moves".into()), overflow as f64);
     let mut by_state: BTreeMap<String, f64> = BTreeMap::new();
     for ((_, state), s) in spent {
         *by_state.entry(state).or_default() += s;
@@ -256,6 +302,6 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
 
 #[test]
 fn plants_with_states_the_tracer_does_not_follow_are_refused() {
-    let plant = load("staging-breakdowns.yaml");
+    let plant = load("aisles-demo.yaml");
     assert!(untraceable(&Plan::new(&plant, 0)).is_some());
 }

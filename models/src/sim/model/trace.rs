@@ -34,6 +34,7 @@ pub(super) enum State {
     Down,
     OffShift,
     Charging,
+    Blocked,
 }
 
 impl State {
@@ -49,6 +50,7 @@ impl State {
             State::Down => "down",
             State::OffShift => "off_shift",
             State::Charging => "charging",
+            State::Blocked => "blocked",
         }
     }
 }
@@ -77,6 +79,15 @@ pub(super) struct Tracer<'a> {
     arrival: Vec<f64>,
     /// Per slab entry: when a tracked machine took it (NaN: not on one).
     started: Vec<f64>,
+    /// Per slab entry, plants with staging limits: when its operation ended
+    /// (NaN: not yet); its visit row waits until it leaves the machine.
+    ended: Vec<f64>,
+    /// Per slab entry: (operation, department) of the visit whose machine
+    /// holds it, finished, for room downstream (NONE: not held).
+    held: Vec<(u32, u32)>,
+    /// The plant has staging limits: visit rows are written when the lot
+    /// leaves its machine, with the time it was held there.
+    staging: bool,
     /// Per tracked machine (`PlantModel::machines`): the state last written,
     /// and the lot it held at the last look.
     machine_state: Vec<State>,
@@ -155,6 +166,9 @@ fn simulate_with_trace(
         next_lot: 0,
         arrival: Vec::new(),
         started: Vec::new(),
+        ended: Vec::new(),
+        held: Vec::new(),
+        staging: plan.staging,
         machine_state: vec![State::Idle; m.machines.len()],
         machine_lot: vec![NONE; m.machines.len()],
         on_machine,
@@ -291,9 +305,12 @@ impl<'a> PlantModel<'a> {
                 State::Setup
             } else if m.running {
                 State::Busy
+            } else if m.blocked {
+                // Holding its finished lot: the outbound area is full.
+                State::Blocked
             } else if m.lot != NONE && on_shift {
-                // Up, on shift, holding a lot it is not working on: finished
-                // and waiting to leave (not reached without staging limits).
+                // Up, on shift, holding a lot it is not working on (not
+                // reached: such a lot is running, blocked or paused).
                 State::Busy
             } else if m.lot != NONE || !on_shift {
                 State::OffShift
@@ -324,11 +341,15 @@ impl<'a> PlantModel<'a> {
             t.lot_no.resize(i + 1, 0);
             t.arrival.resize(i + 1, f64::NAN);
             t.started.resize(i + 1, f64::NAN);
+            t.ended.resize(i + 1, f64::NAN);
+            t.held.resize(i + 1, (NONE, NONE));
         }
         t.next_lot += 1;
         t.lot_no[i] = t.next_lot;
         t.arrival[i] = f64::NAN;
         t.started[i] = f64::NAN;
+        t.ended[i] = f64::NAN;
+        t.held[i] = (NONE, NONE);
     }
 
     /// Lot `id` has reached the department of its current operation.
@@ -346,14 +367,19 @@ impl<'a> PlantModel<'a> {
         let (p, op, dept) = (lot.product as usize, lot.op as usize, lot.department as usize);
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(now);
-        let arrival = std::mem::replace(&mut t.arrival[id as usize], f64::NAN);
         let k =
             t.on_machine[dept].iter().position(|&l| l == NONE).expect("a free machine for a starting lot");
         t.on_machine[dept][k] = id;
         let lane = t.first_lane[dept] + k;
         t.state(lane, now, State::Busy);
+        if t.staging {
+            // The row waits until the lot leaves the machine (`trace_leave`, `trace_unblocked`).
+            t.started[id as usize] = now;
+            return;
+        }
+        let arrival = std::mem::replace(&mut t.arrival[id as usize], f64::NAN);
         if t.in_window(arrival, end) {
-            t.visit_row(id, p, op, dept, arrival, Some((now, end)));
+            t.visit_row(id, p, op, dept, arrival, Some((now, end)), Some(0.0));
         }
     }
 
@@ -365,11 +391,19 @@ impl<'a> PlantModel<'a> {
         let tracked = self.plan.tracked[dept];
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(now);
+        if t.staging {
+            // It may be held on its machine: the row and the lane wait until it leaves.
+            t.ended[id as usize] = now;
+            if let Some(k) = t.machine_lot.iter().position(|&l| l == id) {
+                t.machine_lot[k] = NONE;
+            }
+            return;
+        }
         if tracked {
             // The visit's row now that its end is known (failures and pauses may have stretched it).
             let (arrival, start) = (t.arrival[id as usize], t.started[id as usize]);
             if t.in_window(arrival, now) {
-                t.visit_row(id, p, op, dept, arrival, Some((start, now)));
+                t.visit_row(id, p, op, dept, arrival, Some((start, now)), Some(0.0));
             }
             t.arrival[id as usize] = f64::NAN;
             t.started[id as usize] = f64::NAN;
@@ -384,6 +418,54 @@ impl<'a> PlantModel<'a> {
             let lane = t.first_lane[dept] + k;
             t.state(lane, now, State::Idle);
         }
+    }
+
+    /// Plants with staging limits: lot `id` has finished at `dept` and leaves
+    /// its machine now (blocked for no time): its visit row, and an
+    /// untracked machine lane turns idle.
+    #[cold]
+    pub(super) fn trace_leave(&mut self, id: u32, dept: usize, now: f64) {
+        let lot = &self.lots[id as usize];
+        let (p, op) = (lot.product as usize, lot.op as usize);
+        let tracked = self.plan.tracked[dept];
+        let t = self.tracer();
+        if !t.staging {
+            return; // its row was written at the end of its operation
+        }
+        t.open(now);
+        t.left_machine(id, p, op, dept, tracked, now);
+    }
+
+    /// Lot `id` has finished at `dept` and stays on its machine: the outbound area is full.
+    #[cold]
+    pub(super) fn trace_block(&mut self, id: u32, dept: usize, now: f64) {
+        let op = self.lots[id as usize].op;
+        let tracked = self.plan.tracked[dept];
+        let t = self.tracer();
+        t.open(now);
+        t.held[id as usize] = (op, dept as u32);
+        if !tracked {
+            let k = t.on_machine[dept].iter().position(|&l| l == id).expect("a lane holds the lot");
+            let lane = t.first_lane[dept] + k;
+            t.state(lane, now, State::Blocked);
+        }
+    }
+
+    /// Lot `id` may be leaving the machine that held it: if it was held, its
+    /// visit row (with the time held) and an untracked machine lane turns idle.
+    #[cold]
+    pub(super) fn trace_unblocked(&mut self, id: u32, now: f64) {
+        let p = self.lots[id as usize].product as usize;
+        let t = self.tracer();
+        let (op, dept) = t.held[id as usize];
+        if op == NONE {
+            return; // it waited in the outbound area, not on its machine
+        }
+        t.open(now);
+        t.held[id as usize] = (NONE, NONE);
+        let tracked = self.plan.tracked[dept as usize];
+        let t = self.tracer();
+        t.left_machine(id, p, op as usize, dept as usize, tracked, now);
     }
 
     /// Lot `id` leaves the plant now at the shipping dock.
@@ -451,6 +533,35 @@ impl<'a> PlantModel<'a> {
         t.empty_m[mover as usize] = 0.0;
     }
 
+    /// `mover` found department `to` full and takes its load on to the
+    /// overflow area, `d` metres away: driving until `arrive`, unloading
+    /// until `end`. A move row for that leg (its load was already on board:
+    /// no request, no assignment).
+    #[cold]
+    pub(super) fn trace_overflow(&mut self, mover: u32, now: f64, arrive: f64, end: f64, to: usize, d: f64) {
+        use std::fmt::Write as _;
+        let lot = self.movers[mover as usize].lot;
+        let f = self.movers[mover as usize].fleet as usize;
+        let nd = self.plan.n_departments;
+        let t = self.tracer();
+        t.open(now);
+        let lane = t.machines + mover as usize;
+        t.state(lane, now, State::Loaded);
+        t.state(lane, arrive, State::Handling);
+        if t.in_window(now, end) {
+            let r = t.replication;
+            let no = t.lot_no[lot as usize];
+            let k = t.owner[lane].1 + 1;
+            let _ = write!(t.line, "{r},{no},{},{k},,,", t.opts.fleets[f]);
+            num(&mut t.line, now);
+            num(&mut t.line, end);
+            let _ = write!(t.line, "{},{},", t.opts.departments[to], t.opts.departments[nd + to]);
+            num(&mut t.line, d);
+            t.line.push_str("0,0");
+            t.emit(MOVES);
+        }
+    }
+
     /// `mover` is in state `state` from now on.
     #[cold]
     pub(super) fn trace_mover(&mut self, mover: u32, now: f64, state: State) {
@@ -484,20 +595,32 @@ impl<'a> PlantModel<'a> {
                 .map(|&(_, id)| (id, self.lots[id as usize].product as usize, self.lots[id as usize].born))
                 .collect()
         };
-        let queued: Vec<(u32, usize, usize, usize)> = lots
-            .iter()
-            .map(|&(id, _, _)| {
-                let l = &self.lots[id as usize];
-                (id, l.product as usize, l.op as usize, l.department as usize)
-            })
-            .collect();
+        let queued: Vec<(u32, usize, usize, usize)> = {
+            let t = self.trace.as_ref().expect("only called when tracing");
+            lots.iter()
+                .map(|&(id, _, _)| {
+                    let l = &self.lots[id as usize];
+                    match t.held[id as usize] {
+                        // Held on its machine: the visit is the finished operation's.
+                        (op, dept) if op != NONE => (id, l.product as usize, op as usize, dept as usize),
+                        _ => (id, l.product as usize, l.op as usize, l.department as usize),
+                    }
+                })
+                .collect()
+        };
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(horizon);
         for &(id, p, op, dept) in &queued {
             let arrival = t.arrival[id as usize];
             if !arrival.is_nan() && t.in_window(arrival, f64::INFINITY) {
-                let start = t.started[id as usize];
-                t.visit_row(id, p, op, dept, arrival, (!start.is_nan()).then_some((start, f64::NAN)));
+                let (start, end) = (t.started[id as usize], t.ended[id as usize]);
+                if t.held[id as usize].0 != NONE {
+                    // Still held at the end of the run: how long is not known.
+                    t.visit_row(id, p, op, dept, arrival, Some((start, end)), None);
+                } else {
+                    let times = (!start.is_nan()).then_some((start, f64::NAN));
+                    t.visit_row(id, p, op, dept, arrival, times, Some(0.0));
+                }
             }
         }
         for &(id, p, born) in &lots {
@@ -509,7 +632,31 @@ impl<'a> PlantModel<'a> {
 }
 
 impl Tracer<'_> {
-    /// A visit row; `times` is (start, end), `None` for a lot still waiting at the end of the run.
+    /// Plants with staging limits: lot `id` leaves the machine of its visit
+    /// (`op` at `dept`) now, having finished at `ended`: its visit row, with
+    /// the time held; an untracked lane turns idle (tracked ones are polled).
+    fn left_machine(&mut self, id: u32, p: usize, op: usize, dept: usize, tracked: bool, now: f64) {
+        let i = id as usize;
+        let (arrival, start, end) = (self.arrival[i], self.started[i], self.ended[i]);
+        if self.in_window(arrival, now) {
+            self.visit_row(id, p, op, dept, arrival, Some((start, end)), Some(now - end));
+        }
+        self.arrival[i] = f64::NAN;
+        self.started[i] = f64::NAN;
+        self.ended[i] = f64::NAN;
+        if !tracked {
+            if let Some(k) = self.on_machine[dept].iter().position(|&l| l == id) {
+                self.on_machine[dept][k] = NONE;
+                let lane = self.first_lane[dept] + k;
+                self.state(lane, now, State::Idle);
+            }
+        }
+    }
+
+    /// A visit row; `times` is (start, end), `None` for a lot still waiting
+    /// at the end of the run; `blocked` is `None` for a lot still held on
+    /// its machine at the end of the run.
+    #[allow(clippy::too_many_arguments)] // one row's fields
     fn visit_row(
         &mut self,
         id: u32,
@@ -518,6 +665,7 @@ impl Tracer<'_> {
         dept: usize,
         arrival: f64,
         times: Option<(f64, f64)>,
+        blocked: Option<f64>,
     ) {
         use std::fmt::Write as _;
         let r = self.replication;
@@ -538,7 +686,10 @@ impl Tracer<'_> {
             }
             None => self.line.push_str(",,,"),
         }
-        self.line.push('0');
+        match blocked {
+            Some(b) => num(&mut self.line, b),
+            None => self.line.push(','),
+        }
         self.emit(VISITS);
     }
 
