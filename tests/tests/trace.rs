@@ -120,6 +120,28 @@ fn traces_of_plants_with_staging_limits_add_up() {
     }
 }
 
+/// The aisle network simulated segment by segment: movers held up at full
+/// segments and busy zones (state `congestion`, checked in `adds_up`
+/// against the fleets' congestion seconds), and each move's congestion
+/// delay, which is its mover's `congestion` spells from assignment to
+/// delivery (checked in `adds_up` for the moves made inside the window).
+#[test]
+fn traces_over_simulated_aisles_add_up() {
+    for file in [
+        "aisles-demo.yaml",
+        "validation/aisles-one-way.yaml",
+        "validation/aisles-single-lane.yaml",
+        "validation/aisles-two-way-lane.yaml",
+    ] {
+        let plant = load(file);
+        let spent = adds_up_plant(file, &plant, 0);
+        if file == "aisles-demo.yaml" {
+            assert!(spent("congestion") > 0.0, "{file}: movers held up in the window");
+            assert!(spent("moves' congestion") > 0.0, "{file}: moves held up in the window");
+        }
+    }
+}
+
 /// Trace replication `replication` of the first layout of `file` over its
 /// observation window and recompute its numbers from the files alone.
 fn adds_up(file: &str, replication: u64) {
@@ -250,8 +272,10 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
             .push((f(&r, "time").unwrap(), r["state"].clone()));
     }
     let mut spent: BTreeMap<(String, String), f64> = BTreeMap::new();
-    for ((fleet, _), mut changes) in movers {
+    let mut lanes_of = BTreeMap::new();
+    for ((fleet, mover), mut changes) in movers {
         changes.sort_by(|a, b| a.0.total_cmp(&b.0));
+        lanes_of.insert((fleet.clone(), mover), changes.clone());
         assert_eq!(changes[0].0, w0, "{file}: every mover lane starts at the window's start");
         for (i, (t, state)) in changes.iter().enumerate() {
             let end = changes.get(i + 1).map_or(w1, |c| c.0);
@@ -268,6 +292,7 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
         close(&format!("{file}: {} down s", fleet.id), got("down") + got("charging"), acc.down_s);
         close(&format!("{file}: {} charging s", fleet.id), got("charging"), acc.charging_s);
         close(&format!("{file}: {} blocked s", fleet.id), got("blocked"), acc.blocked_s);
+        close(&format!("{file}: {} congestion s", fleet.id), got("congestion"), acc.congestion_s);
     }
 
     // Every visit row's waiting column is start − arrival; a lot is held on
@@ -293,6 +318,31 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
     }
     spent.insert((String::new(), "blocked machine".into()), held.values().sum());
     spent.insert((String::new(), "overflow moves".into()), overflow as f64);
+    // A move's congestion delay: its mover's congestion spells from its
+    // assignment to its delivery, for the moves made inside the window.
+    // Absolute tolerance 1e-6 s: the same time differences summed in
+    // another grouping, about 1e-16 × 1e6 s of clock each.
+    let mut congestion = 0.0;
+    for r in &moves {
+        let (Some(a), Some(d)) = (f(r, "assigned"), f(r, "delivered")) else { continue };
+        if a < w0 || d > w1 {
+            continue;
+        }
+        let lane = &lanes_of[&(r["fleet"].clone(), r["mover"].clone())];
+        let mut held = 0.0;
+        // From the spell under way at the assignment to the delivery.
+        let first = lane.partition_point(|c| c.0 <= a).saturating_sub(1);
+        for (i, (t, state)) in lane.iter().enumerate().skip(first).take_while(|(_, c)| c.0 < d) {
+            if state == "congestion" {
+                let end = lane.get(i + 1).map_or(w1, |c| c.0);
+                held += (end.min(d) - t.max(a)).max(0.0);
+            }
+        }
+        let c = f(r, "congestion_s").unwrap();
+        assert!((c - held).abs() <= 1e-6, "{file}: a move's congestion {c} s, its mover's spells {held} s");
+        congestion += c;
+    }
+    spent.insert((String::new(), "moves' congestion".into()), congestion);
     let mut by_state: BTreeMap<String, f64> = BTreeMap::new();
     for ((_, state), s) in spent {
         *by_state.entry(state).or_default() += s;
@@ -302,6 +352,6 @@ fn adds_up_plant(file: &str, plant: &Plant, replication: u64) -> impl Fn(&str) -
 
 #[test]
 fn plants_with_states_the_tracer_does_not_follow_are_refused() {
-    let plant = load("aisles-demo.yaml");
+    let plant = load("shifts-setups-lots.yaml");
     assert!(untraceable(&Plan::new(&plant, 0)).is_some());
 }

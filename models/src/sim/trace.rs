@@ -83,15 +83,13 @@ fn csv_field(name: &str) -> String {
 ///
 /// The tracer follows lots, single-load movers on direct trips (with
 /// breakdowns and charging too), and machines (with breakdowns, calendars,
-/// setups and staging limits too). Split lots, tow trains and the
-/// simulated aisle network add states the tracer does not record yet, so a
+/// setups and staging limits too), over direct trips or the simulated aisle
+/// network. Split lots and tow trains add rows the tracer does not record yet, so a
 /// trace of such a plant would not add up to `run`'s numbers; it is refused
 /// rather than written wrong.
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
     if plan.split {
         Some("a product's lots move in several unit loads (lot: transfer_batch)")
-    } else if plan.aisles.is_some() {
-        Some("the aisle network is simulated segment by segment (capacity, speed limit or zone)")
     } else if plan.fleets.iter().any(|f| f.capacity > 1) {
         Some("a fleet carries several loads per trip (capacity above 1)")
     } else {

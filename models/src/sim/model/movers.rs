@@ -166,6 +166,9 @@ impl PlantModel<'_> {
         let loaded = m.loads > 0;
         if self.plan.aisles.is_some() {
             let from = m.location as usize;
+            if self.trace.is_some() {
+                self.trace_dispatch(mover, now, d);
+            }
             self.walk(mover, from, pickup, loaded, 0.0, 0.0, Event::Pickup { mover }, cal);
             return;
         }
@@ -263,6 +266,9 @@ impl PlantModel<'_> {
             self.by_fleet(f, Act::Handling, now, t_load_end);
             let (a, b) = (self.plan.dept_location[from], self.plan.dept_location[to]);
             let (load_s, unload_s) = (fl.load_s, fl.unload_s);
+            if self.trace.is_some() {
+                self.trace_pickup_walk(mover, now, from, to, d);
+            }
             self.walk(mover, a, b, true, load_s, unload_s, Event::Deliver { mover }, cal);
         } else {
             let handling = self.in_window(now, t_load_end) + self.in_window(t_travel_end, t_end);
@@ -384,6 +390,9 @@ impl PlantModel<'_> {
 
     /// The mover has set a load down at its destination.
     pub(super) fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        if self.trace.is_some() {
+            self.trace_deliver(mover, cal.now());
+        }
         let lot = self.movers[mover as usize].lot;
         let to = self.destination(lot);
         self.movers[mover as usize].location = to as u32;

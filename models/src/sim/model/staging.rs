@@ -252,6 +252,10 @@ impl PlantModel<'_> {
             }
             if self.plan.aisles.is_some() {
                 let (from, unload_s) = (m.location as usize, self.plan.fleets[f].unload_s);
+                if self.trace.is_some() {
+                    let d = self.plan.dist(from, spot);
+                    self.trace_overflow_walk(mover, now, to, d);
+                }
                 self.movers[mover as usize].location = spot as u32;
                 self.walk(mover, from, spot, true, 0.0, unload_s, Event::OverflowDrop { mover }, cal);
                 return;
@@ -282,6 +286,9 @@ impl PlantModel<'_> {
     /// for a place in its department.
     pub(super) fn overflow_drop(&mut self, mover: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if self.trace.is_some() {
+            self.trace_deliver(mover, now);
+        }
         let m = self.movers[mover as usize];
         let lot = m.lot;
         let l = &self.lots[lot as usize];

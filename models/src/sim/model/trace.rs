@@ -35,6 +35,7 @@ pub(super) enum State {
     OffShift,
     Charging,
     Blocked,
+    Congestion,
 }
 
 impl State {
@@ -51,6 +52,7 @@ impl State {
             State::OffShift => "off_shift",
             State::Charging => "charging",
             State::Blocked => "blocked",
+            State::Congestion => "congestion",
         }
     }
 }
@@ -63,6 +65,34 @@ struct Lane {
     before: State,
     at_from: bool,
 }
+
+/// A move under way over a simulated aisle network: its row is written at
+/// its delivery, when its time and its congestion delay are known.
+#[derive(Debug, Clone, Copy)]
+struct Trip {
+    /// The lot (NONE: no move under way).
+    lot: u32,
+    /// NaN for a load taken on to an overflow area (no request, no assignment).
+    requested: f64,
+    assigned: f64,
+    picked_up: f64,
+    /// Departments (the plan's numbering: overflow areas after the departments).
+    from: u32,
+    to: u32,
+    loaded_m: f64,
+    empty_m: f64,
+}
+
+const NO_TRIP: Trip = Trip {
+    lot: NONE,
+    requested: f64::NAN,
+    assigned: f64::NAN,
+    picked_up: f64::NAN,
+    from: NONE,
+    to: NONE,
+    loaded_m: 0.0,
+    empty_m: 0.0,
+};
 
 /// What the hooks need between events: lot numbers, arrival times, which
 /// machine lane holds which lot, each mover's move in progress.
@@ -104,6 +134,12 @@ pub(super) struct Tracer<'a> {
     owner: Vec<(usize, u32)>,
     /// Per mover: the empty metres of its current drive to a pick-up.
     empty_m: Vec<f64>,
+    /// Per mover, simulated aisles: seconds held up since it was given its
+    /// current request, and the move it is making.
+    congestion: Vec<f64>,
+    trip: Vec<Trip>,
+    /// The aisle network is simulated: states are written as each segment is entered.
+    aisles: bool,
     /// The rows at the window's start have been written.
     opened: bool,
     /// Reused for number formatting: no allocation per row.
@@ -175,6 +211,9 @@ fn simulate_with_trace(
         first_lane,
         lanes,
         empty_m: vec![0.0; m.movers.len()],
+        congestion: vec![0.0; m.movers.len()],
+        trip: vec![NO_TRIP; m.movers.len()],
+        aisles: plan.aisles.is_some(),
         machines,
         owner,
         opened: false,
@@ -485,8 +524,12 @@ impl<'a> PlantModel<'a> {
         let t = self.tracer();
         t.open(now);
         t.empty_m[mover as usize] = d;
-        let lane = t.machines + mover as usize;
-        t.state(lane, now, State::Empty);
+        t.congestion[mover as usize] = 0.0;
+        if !t.aisles {
+            // Over simulated aisles the walk writes the states, segment by segment.
+            let lane = t.machines + mover as usize;
+            t.state(lane, now, State::Empty);
+        }
     }
 
     /// `mover` picks up its lot now: loading until `loaded`, driving `d`
@@ -562,6 +605,69 @@ impl<'a> PlantModel<'a> {
         }
     }
 
+    /// Simulated aisles: `mover` picks up its lot now, to be driven from
+    /// department `from` to `to` (`d` metres); its row waits for the delivery.
+    #[cold]
+    pub(super) fn trace_pickup_walk(&mut self, mover: u32, now: f64, from: usize, to: usize, d: f64) {
+        let m = self.movers[mover as usize];
+        let requested = self.lots[m.lot as usize].requested;
+        let t = self.tracer();
+        t.open(now);
+        let empty_m = std::mem::replace(&mut t.empty_m[mover as usize], 0.0);
+        t.trip[mover as usize] = Trip {
+            lot: m.lot,
+            requested,
+            assigned: m.assigned,
+            picked_up: now,
+            from: from as u32,
+            to: to as u32,
+            loaded_m: d,
+            empty_m,
+        };
+    }
+
+    /// Simulated aisles: `mover` found department `to` full and drives its
+    /// load on to the overflow area, `d` metres; its row waits for the drop.
+    #[cold]
+    pub(super) fn trace_overflow_walk(&mut self, mover: u32, now: f64, to: usize, d: f64) {
+        let lot = self.movers[mover as usize].lot;
+        let nd = self.plan.n_departments;
+        let t = self.tracer();
+        t.open(now);
+        t.congestion[mover as usize] = 0.0;
+        t.trip[mover as usize] =
+            Trip { lot, picked_up: now, from: to as u32, to: (nd + to) as u32, loaded_m: d, ..NO_TRIP };
+    }
+
+    /// Simulated aisles: `mover` sets its load down now (or finds its
+    /// department full): the move's row, with its congestion delay.
+    #[cold]
+    pub(super) fn trace_deliver(&mut self, mover: u32, now: f64) {
+        let t = self.tracer();
+        t.open(now);
+        t.trip_row(mover, now);
+    }
+
+    /// Simulated aisles: `mover` starts a walk now, with `pre_s` of handling
+    /// first; `post_s` of handling follows at once when the path is empty.
+    #[cold]
+    pub(super) fn trace_walk(&mut self, mover: u32, now: f64, pre_s: f64, post_s: f64, empty_path: bool) {
+        if pre_s > 0.0 || (empty_path && post_s > 0.0) {
+            self.trace_mover(mover, now, State::Handling);
+        }
+    }
+
+    /// Simulated aisles: `mover` enters a segment now, loaded or not, after
+    /// waiting since `since` (NaN: it did not wait).
+    #[cold]
+    pub(super) fn trace_enter(&mut self, mover: u32, now: f64, loaded: bool, since: f64) {
+        let t = self.tracer();
+        if !since.is_nan() {
+            t.congestion[mover as usize] += now - since;
+        }
+        self.trace_mover(mover, now, if loaded { State::Loaded } else { State::Empty });
+    }
+
     /// `mover` is in state `state` from now on.
     #[cold]
     pub(super) fn trace_mover(&mut self, mover: u32, now: f64, state: State) {
@@ -626,6 +732,10 @@ impl<'a> PlantModel<'a> {
         for &(id, p, born) in &lots {
             t.lot_row(id, p, born, None);
         }
+        // Moves still under way over simulated aisles.
+        for mover in 0..t.trip.len() {
+            t.trip_row(mover as u32, f64::NAN);
+        }
         // A failure stays in the sink, and `simulate_traced` reports it.
         let _ = t.sink.flush();
     }
@@ -651,6 +761,39 @@ impl Tracer<'_> {
                 self.state(lane, now, State::Idle);
             }
         }
+    }
+
+    /// The row of `mover`'s move under way over simulated aisles, if any,
+    /// delivered at `delivered` (NaN: still under way at the end of the run).
+    fn trip_row(&mut self, mover: u32, delivered: f64) {
+        use std::fmt::Write as _;
+        let trip = std::mem::replace(&mut self.trip[mover as usize], NO_TRIP);
+        if trip.lot == NONE {
+            return;
+        }
+        let first = if trip.requested.is_nan() { trip.picked_up } else { trip.requested };
+        if !self.in_window(first, if delivered.is_nan() { f64::INFINITY } else { delivered }) {
+            return;
+        }
+        let lane = self.machines + mover as usize;
+        let (f, k) = self.owner[lane];
+        let r = self.replication;
+        let no = self.lot_no[trip.lot as usize];
+        let _ = write!(self.line, "{r},{no},{},{},", self.opts.fleets[f], k + 1);
+        for x in [trip.requested, trip.assigned, trip.picked_up, delivered] {
+            if x.is_nan() {
+                self.line.push(',');
+            } else {
+                num(&mut self.line, x);
+            }
+        }
+        let o = self.opts;
+        let _ =
+            write!(self.line, "{},{},", o.departments[trip.from as usize], o.departments[trip.to as usize]);
+        num(&mut self.line, trip.loaded_m);
+        num(&mut self.line, trip.empty_m);
+        num(&mut self.line, self.congestion[mover as usize]);
+        self.emit(MOVES);
     }
 
     /// A visit row; `times` is (start, end), `None` for a lot still waiting
