@@ -142,6 +142,18 @@ fn traces_over_simulated_aisles_add_up() {
     }
 }
 
+/// Tow trains: several loads per trip, one move row per load (written at
+/// its drop), the train's states as any mover's.
+#[test]
+fn traces_of_tow_trains_add_up() {
+    for file in TRAINS {
+        adds_up(file, 0);
+    }
+}
+
+/// Plants with tow trains (capacity above 1).
+const TRAINS: [&str; 2] = ["validation/tow-train.yaml", "validation/all-fleet-rules.yaml"];
+
 /// Trace replication `replication` of the first layout of `file` over its
 /// observation window and recompute its numbers from the files alone.
 fn adds_up(file: &str, replication: u64) {

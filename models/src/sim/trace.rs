@@ -90,8 +90,6 @@ fn csv_field(name: &str) -> String {
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
     if plan.split {
         Some("a product's lots move in several unit loads (lot: transfer_batch)")
-    } else if plan.fleets.iter().any(|f| f.capacity > 1) {
-        Some("a fleet carries several loads per trip (capacity above 1)")
     } else {
         None
     }

@@ -319,6 +319,9 @@ impl PlantModel<'_> {
         mm.lot = NONE;
         mm.location = self.plan.dept_location[from] as u32;
         cal.schedule(t_end, Event::Loaded { mover });
+        if self.trace.is_some() {
+            self.trace_train_pickup(mover, m.lot, now, from);
+        }
         if self.plan.staging {
             self.departments[from].out_count -= 1;
             self.unblock(from, cal);
@@ -372,6 +375,9 @@ impl PlantModel<'_> {
             mm.loads -= 1;
             mm.lot = lot;
             let unload_s = self.plan.fleets[f].unload_s;
+            if self.trace.is_some() {
+                self.trace_train_drive(mover, now, f64::NAN, self.plan.dist(here, to));
+            }
             self.walk(mover, here, to, true, 0.0, unload_s, Event::Deliver { mover }, cal);
             return;
         }
@@ -386,6 +392,9 @@ impl PlantModel<'_> {
         mm.loads -= 1;
         mm.lot = lot;
         cal.schedule(t_end, Event::Deliver { mover });
+        if self.trace.is_some() {
+            self.trace_train_drive(mover, now, t_arrive, d);
+        }
     }
 
     /// The mover has set a load down at its destination.

@@ -138,6 +138,10 @@ pub(super) struct Tracer<'a> {
     /// current request, and the move it is making.
     congestion: Vec<f64>,
     trip: Vec<Trip>,
+    /// Tow trains: per slab entry, the move of a load on a cart (its row is
+    /// written at its drop); per mover, metres driven loaded so far.
+    on_cart: Vec<Trip>,
+    odometer: Vec<f64>,
     /// The aisle network is simulated: states are written as each segment is entered.
     aisles: bool,
     /// The rows at the window's start have been written.
@@ -213,6 +217,8 @@ fn simulate_with_trace(
         empty_m: vec![0.0; m.movers.len()],
         congestion: vec![0.0; m.movers.len()],
         trip: vec![NO_TRIP; m.movers.len()],
+        on_cart: Vec::new(),
+        odometer: vec![0.0; m.movers.len()],
         aisles: plan.aisles.is_some(),
         machines,
         owner,
@@ -382,6 +388,7 @@ impl<'a> PlantModel<'a> {
             t.started.resize(i + 1, f64::NAN);
             t.ended.resize(i + 1, f64::NAN);
             t.held.resize(i + 1, (NONE, NONE));
+            t.on_cart.resize(i + 1, NO_TRIP);
         }
         t.next_lot += 1;
         t.lot_no[i] = t.next_lot;
@@ -521,14 +528,60 @@ impl<'a> PlantModel<'a> {
     /// `mover` sets off now, empty, for a pick-up `d` metres away, reached at `at`.
     #[cold]
     pub(super) fn trace_dispatch(&mut self, mover: u32, now: f64, d: f64) {
+        let loaded = self.movers[mover as usize].loads > 0;
         let t = self.tracer();
         t.open(now);
-        t.empty_m[mover as usize] = d;
-        t.congestion[mover as usize] = 0.0;
+        if loaded {
+            // A train fetching another load drives with those on board.
+            t.empty_m[mover as usize] = 0.0;
+            t.odometer[mover as usize] += d;
+        } else {
+            t.empty_m[mover as usize] = d;
+            t.congestion[mover as usize] = 0.0;
+        }
         if !t.aisles {
             // Over simulated aisles the walk writes the states, segment by segment.
             let lane = t.machines + mover as usize;
-            t.state(lane, now, State::Empty);
+            t.state(lane, now, if loaded { State::Loaded } else { State::Empty });
+        }
+    }
+
+    /// A train puts lot `id` on a cart now; the load's row waits for its drop.
+    #[cold]
+    pub(super) fn trace_train_pickup(&mut self, mover: u32, id: u32, now: f64, from: usize) {
+        let m = self.movers[mover as usize];
+        let lot = &self.lots[id as usize];
+        let (requested, to) =
+            (lot.requested, self.plan.products[lot.product as usize].ops[lot.op as usize].department);
+        let t = self.tracer();
+        t.open(now);
+        let lane = t.machines + mover as usize;
+        t.state(lane, now, State::Handling);
+        let empty_m = std::mem::replace(&mut t.empty_m[mover as usize], 0.0);
+        t.on_cart[id as usize] = Trip {
+            lot: id,
+            requested,
+            assigned: m.assigned,
+            picked_up: now,
+            from: from as u32,
+            to: to as u32,
+            // Metres on the odometer at the pick-up: the load's own are the difference at its drop.
+            loaded_m: t.odometer[mover as usize],
+            empty_m,
+        };
+    }
+
+    /// A train drives `d` metres now to drop a load, arriving at `arrive`
+    /// (`NaN` over simulated aisles, where the walk writes the states).
+    #[cold]
+    pub(super) fn trace_train_drive(&mut self, mover: u32, now: f64, arrive: f64, d: f64) {
+        let t = self.tracer();
+        t.open(now);
+        t.odometer[mover as usize] += d;
+        if !arrive.is_nan() {
+            let lane = t.machines + mover as usize;
+            t.state(lane, now, State::Loaded);
+            t.state(lane, arrive, State::Handling);
         }
     }
 
@@ -643,9 +696,16 @@ impl<'a> PlantModel<'a> {
     /// department full): the move's row, with its congestion delay.
     #[cold]
     pub(super) fn trace_deliver(&mut self, mover: u32, now: f64) {
+        let lot = self.movers[mover as usize].lot;
         let t = self.tracer();
         t.open(now);
         t.trip_row(mover, now);
+        if lot != NONE && (lot as usize) < t.on_cart.len() && t.on_cart[lot as usize].lot == lot {
+            let mut trip = std::mem::replace(&mut t.on_cart[lot as usize], NO_TRIP);
+            trip.loaded_m = t.odometer[mover as usize] - trip.loaded_m;
+            t.trip[mover as usize] = trip;
+            t.trip_row(mover, now);
+        }
     }
 
     /// Simulated aisles: `mover` starts a walk now, with `pre_s` of handling
@@ -736,6 +796,25 @@ impl<'a> PlantModel<'a> {
         for mover in 0..t.trip.len() {
             t.trip_row(mover as u32, f64::NAN);
         }
+        // Loads still on a train's carts, or being dropped, at the end of the run.
+        let mut carts: Vec<(u32, u32)> = Vec::new();
+        for (k, m) in self.movers.iter().enumerate() {
+            let (base, n) = (m.slots as usize, m.loads as usize);
+            let on_board = if self.onboard.is_empty() { &[][..] } else { &self.onboard[base..base + n] };
+            carts.extend(on_board.iter().chain((m.lot != NONE).then_some(&m.lot)).map(|&l| (k as u32, l)));
+        }
+        {
+            for &(mover, lot) in &carts {
+                let t = self.trace.as_mut().expect("only called when tracing");
+                if (lot as usize) < t.on_cart.len() && t.on_cart[lot as usize].lot == lot {
+                    let mut trip = std::mem::replace(&mut t.on_cart[lot as usize], NO_TRIP);
+                    trip.loaded_m = t.odometer[mover as usize] - trip.loaded_m;
+                    t.trip[mover as usize] = trip;
+                    t.trip_row(mover, f64::NAN);
+                }
+            }
+        }
+        let t = self.trace.as_mut().expect("only called when tracing");
         // A failure stays in the sink, and `simulate_traced` reports it.
         let _ = t.sink.flush();
     }
