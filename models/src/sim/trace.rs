@@ -81,12 +81,12 @@ fn csv_field(name: &str) -> String {
 
 /// Why a plant cannot be traced yet, in the user's words; `None` when it can.
 ///
-/// The tracer follows lots, single-load movers on direct trips (with
-/// breakdowns and charging too), and machines (with breakdowns, calendars,
-/// setups and staging limits too), over direct trips or the simulated aisle
-/// network. Split lots and tow trains add rows the tracer does not record yet, so a
-/// trace of such a plant would not add up to `run`'s numbers; it is refused
-/// rather than written wrong.
+/// The tracer follows lots, movers (single loads and tow trains, with
+/// breakdowns and charging too) over direct trips or the simulated aisle
+/// network, and machines (with breakdowns, calendars, setups and staging
+/// limits too). Lots split into unit loads add rows the tracer does not
+/// record yet, so a trace of such a plant would not add up to `run`'s
+/// numbers; it is refused rather than written wrong.
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
     if plan.split {
         Some("a product's lots move in several unit loads (lot: transfer_batch)")
