@@ -109,7 +109,7 @@ fn trace_mistakes_exit_2_before_anything_runs() {
     }
     assert!(!dir.path().join("t").exists(), "no folder made by a refused run");
     assert_eq!(std::fs::read_dir(busy).unwrap().count(), 1, "the busy folder is left alone");
-    let o = layflow(&["run", "scenarios/staging-breakdowns.yaml", "-q", "--trace", t]);
+    let o = layflow(&["run", "scenarios/shifts-setups-lots.yaml", "-q", "--trace", t]);
     assert_eq!(o.status.code(), Some(2), "{}", text(&o.stderr));
     assert!(text(&o.stderr).contains("cannot be traced yet"), "{}", text(&o.stderr));
 }

@@ -363,7 +363,9 @@ pub fn draw(folder: &Path, replication: u64, window: (f64, f64), title: &str) ->
         }
         lx += 14.0;
     }
-    lx += 16.0;
+    // The chart's lines on a row of their own: with every state in use the
+    // state legends alone fill the width.
+    let (mut lx, ly) = (LEFT, ly + 18.0);
     let mut entries = vec![("WIP (plant)".to_string(), SLATE)];
     for (q, c) in qs.iter().zip(queue_colours) {
         entries.push((format!("queue at {}", q.0), c));

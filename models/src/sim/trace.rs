@@ -36,7 +36,9 @@ pub struct TraceOptions {
     /// lot's stay, a visit, a move) overlaps this window, or its state
     /// change falls in it; each lane also gets a row at `from` with its state then.
     pub window: (f64, f64),
-    /// Department ids, by index, as CSV fields (quoted where they need it).
+    /// Department ids, by index, as CSV fields (quoted where they need it),
+    /// then each department's overflow area as `<id> overflow`, by
+    /// department index + the number of departments (the plan's numbering).
     pub departments: Vec<String>,
     /// Product ids, by index, as CSV fields.
     pub products: Vec<String>,
@@ -51,7 +53,12 @@ impl TraceOptions {
     pub fn new(plant: &Plant, window: (f64, f64)) -> TraceOptions {
         TraceOptions {
             window,
-            departments: plant.departments.iter().map(|d| csv_field(&d.id)).collect(),
+            departments: plant
+                .departments
+                .iter()
+                .map(|d| csv_field(&d.id))
+                .chain(plant.departments.iter().map(|d| csv_field(&format!("{} overflow", d.id))))
+                .collect(),
             products: plant.products.iter().map(|p| csv_field(&p.id)).collect(),
             steps: plant
                 .products
@@ -74,22 +81,15 @@ fn csv_field(name: &str) -> String {
 
 /// Why a plant cannot be traced yet, in the user's words; `None` when it can.
 ///
-/// The tracer follows lots, single-load movers on direct trips, and
-/// machines (with breakdowns, calendars and setups too). Staging limits,
-/// split lots, tow trains, the simulated aisle network, and mover
-/// breakdowns or charging add states the tracer does not record yet, so a trace of such a plant would not add up to `run`'s
+/// The tracer follows lots, movers (single loads and tow trains, with
+/// breakdowns and charging too) over direct trips or the simulated aisle
+/// network, and machines (with breakdowns, calendars, setups and staging
+/// limits too). Lots split into unit loads add rows the tracer does not
+/// record yet, so a trace of such a plant would not add up to `run`'s
 /// numbers; it is refused rather than written wrong.
 pub fn untraceable(plan: &Plan) -> Option<&'static str> {
-    if plan.staging || plan.overflow {
-        Some("a department has limited staging (inbound/outbound/overflow)")
-    } else if plan.split {
+    if plan.split {
         Some("a product's lots move in several unit loads (lot: transfer_batch)")
-    } else if plan.aisles.is_some() {
-        Some("the aisle network is simulated segment by segment (capacity, speed limit or zone)")
-    } else if plan.fleets.iter().any(|f| f.capacity > 1) {
-        Some("a fleet carries several loads per trip (capacity above 1)")
-    } else if plan.fleets.iter().any(|f| f.service) {
-        Some("a fleet has breakdowns or battery charging")
     } else {
         None
     }

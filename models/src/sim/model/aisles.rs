@@ -176,6 +176,9 @@ impl PlantModel<'_> {
             wait_seg: NONE,
             extra_s,
         };
+        if self.trace.is_some() {
+            self.trace_walk(mover, now, pre_s, post_s, net.path(from, to).is_empty());
+        }
         if net.path(from, to).is_empty() {
             let t_end = now + pre_s + post_s;
             self.fleets[f].acc.handling_s += self.in_window(now + pre_s, t_end);
@@ -198,6 +201,9 @@ impl PlantModel<'_> {
             self.fleets[f].acc.handling_s += self.in_window(now, now + w.post_s);
             self.by_fleet(f, Act::Handling, now, now + w.post_s);
             cal.schedule(now + w.post_s, w.then);
+            if self.trace.is_some() && w.post_s > 0.0 {
+                self.trace_mover(mover, now, super::trace::State::Handling);
+            }
             self.aisle.walks[mover as usize].seg = NONE;
             self.release_segment(w.seg as usize, cal);
             let node = w.node as usize;
@@ -239,12 +245,16 @@ impl PlantModel<'_> {
         };
         if blocker != usize::MAX {
             let wk = &mut self.aisle.walks[mover as usize];
-            if wk.waiting_on == NONE {
+            let starts = wk.waiting_on == NONE;
+            if starts {
                 wk.wait_since = now;
                 wk.wait_seg = s as u32;
             }
             wk.waiting_on = blocker as u32;
             self.aisle.queues[blocker].push_back(mover);
+            if self.trace.is_some() && starts {
+                self.trace_mover(mover, now, super::trace::State::Congestion);
+            }
             self.check_aisle_deadlock(blocker, cal);
             return;
         }
@@ -286,6 +296,10 @@ impl PlantModel<'_> {
             self.record_empty(f, now, now + t, seg.length_m);
         }
         cal.schedule(now + t, Event::Step { mover });
+        if self.trace.is_some() {
+            let since = if w.waiting_on != NONE { w.wait_since } else { f64::NAN };
+            self.trace_enter(mover, now, w.loaded, since);
+        }
         // Only now, with this mover's move done, may the movers behind it go.
         if w.seg != NONE {
             self.release_segment(w.seg as usize, cal);

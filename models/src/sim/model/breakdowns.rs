@@ -268,6 +268,7 @@ impl PlantModel<'_> {
                 }
             }
         }
+        let mut state = super::trace::State::Down;
         let out = if m.fail_due {
             m.fail_due = false;
             let b = fl.breakdowns.as_ref().expect("only fleets with breakdowns fail");
@@ -281,6 +282,7 @@ impl PlantModel<'_> {
             repair
         } else if let Some(c) = fl.charging.filter(|c| m.worked >= c.every_s) {
             m.worked = 0.0;
+            state = super::trace::State::Charging;
             let w = self.in_window(now, now + c.for_s);
             self.fleets[f].acc.charging_s += w;
             self.by_fleet(f, Act::Charging, now, now + c.for_s);
@@ -292,6 +294,9 @@ impl PlantModel<'_> {
         self.fleets[f].acc.down_s += w;
         self.by_fleet(f, Act::Down, now, now + out);
         cal.schedule(now + out, Event::MoverBack { mover });
+        if self.trace.is_some() {
+            self.trace_mover(mover, now, state);
+        }
         true
     }
 

@@ -166,6 +166,9 @@ impl PlantModel<'_> {
         let loaded = m.loads > 0;
         if self.plan.aisles.is_some() {
             let from = m.location as usize;
+            if self.trace.is_some() {
+                self.trace_dispatch(mover, now, d);
+            }
             self.walk(mover, from, pickup, loaded, 0.0, 0.0, Event::Pickup { mover }, cal);
             return;
         }
@@ -263,6 +266,9 @@ impl PlantModel<'_> {
             self.by_fleet(f, Act::Handling, now, t_load_end);
             let (a, b) = (self.plan.dept_location[from], self.plan.dept_location[to]);
             let (load_s, unload_s) = (fl.load_s, fl.unload_s);
+            if self.trace.is_some() {
+                self.trace_pickup_walk(mover, now, from, to, d);
+            }
             self.walk(mover, a, b, true, load_s, unload_s, Event::Deliver { mover }, cal);
         } else {
             let handling = self.in_window(now, t_load_end) + self.in_window(t_travel_end, t_end);
@@ -313,6 +319,9 @@ impl PlantModel<'_> {
         mm.lot = NONE;
         mm.location = self.plan.dept_location[from] as u32;
         cal.schedule(t_end, Event::Loaded { mover });
+        if self.trace.is_some() {
+            self.trace_train_pickup(mover, m.lot, now, from);
+        }
         if self.plan.staging {
             self.departments[from].out_count -= 1;
             self.unblock(from, cal);
@@ -366,6 +375,9 @@ impl PlantModel<'_> {
             mm.loads -= 1;
             mm.lot = lot;
             let unload_s = self.plan.fleets[f].unload_s;
+            if self.trace.is_some() {
+                self.trace_train_drive(mover, now, f64::NAN, self.plan.dist(here, to));
+            }
             self.walk(mover, here, to, true, 0.0, unload_s, Event::Deliver { mover }, cal);
             return;
         }
@@ -380,10 +392,16 @@ impl PlantModel<'_> {
         mm.loads -= 1;
         mm.lot = lot;
         cal.schedule(t_end, Event::Deliver { mover });
+        if self.trace.is_some() {
+            self.trace_train_drive(mover, now, t_arrive, d);
+        }
     }
 
     /// The mover has set a load down at its destination.
     pub(super) fn deliver(&mut self, mover: u32, cal: &mut Calendar<Event>) {
+        if self.trace.is_some() {
+            self.trace_deliver(mover, cal.now());
+        }
         let lot = self.movers[mover as usize].lot;
         let to = self.destination(lot);
         self.movers[mover as usize].location = to as u32;

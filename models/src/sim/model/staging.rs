@@ -61,9 +61,15 @@ impl PlantModel<'_> {
             let out_full = self.departments[dept].out_count >= plan.outbound_cap[dept];
             let must_wait = !plan.instant || !self.has_room(to);
             if out_full && must_wait {
+                if self.trace.is_some() {
+                    self.trace_block(id, dept, cal.now());
+                }
                 self.block(id, dept, machine, op, set, cal);
                 return;
             }
+        }
+        if self.trace.is_some() {
+            self.trace_leave(id, dept, cal.now());
         }
         // Route first, then free the machine: a lot that stays for rework
         // joins the back of the queue before the machine takes the front,
@@ -176,6 +182,9 @@ impl PlantModel<'_> {
     /// the outbound area (or the machine) it waited in upstream.
     fn admit_lot(&mut self, id: u32, to: usize, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if self.trace.is_some() {
+            self.trace_unblocked(id, now);
+        }
         let origin = self.lots[id as usize].department as usize;
         self.departments[origin].wip.add(now, -1.0);
         self.arrive(id, cal);
@@ -206,6 +215,9 @@ impl PlantModel<'_> {
             let Some(b) = self.departments[dept].blocked.pop_front() else {
                 return;
             };
+            if self.trace.is_some() {
+                self.trace_unblocked(b.lot, cal.now());
+            }
             if self.plan.instant {
                 // Now waiting in the outbound area instead of on the machine.
                 self.departments[dept].out_count += 1;
@@ -240,6 +252,10 @@ impl PlantModel<'_> {
             }
             if self.plan.aisles.is_some() {
                 let (from, unload_s) = (m.location as usize, self.plan.fleets[f].unload_s);
+                if self.trace.is_some() {
+                    let d = self.plan.dist(from, spot);
+                    self.trace_overflow_walk(mover, now, to, d);
+                }
                 self.movers[mover as usize].location = spot as u32;
                 self.walk(mover, from, spot, true, 0.0, unload_s, Event::OverflowDrop { mover }, cal);
                 return;
@@ -253,9 +269,15 @@ impl PlantModel<'_> {
             self.by_fleet(f, Act::Handling, t_arrive, t_end);
             self.movers[mover as usize].location = spot as u32;
             cal.schedule(t_end, Event::OverflowDrop { mover });
+            if self.trace.is_some() {
+                self.trace_overflow(mover, now, t_arrive, t_end, to, d);
+            }
             return;
         }
         self.movers[mover as usize].blocked_since = now;
+        if self.trace.is_some() {
+            self.trace_mover(mover, now, super::trace::State::Blocked);
+        }
         self.departments[to].waiting.push_back((mover, NONE));
         self.check_deadlock(cal);
     }
@@ -264,6 +286,9 @@ impl PlantModel<'_> {
     /// for a place in its department.
     pub(super) fn overflow_drop(&mut self, mover: u32, cal: &mut Calendar<Event>) {
         let now = cal.now();
+        if self.trace.is_some() {
+            self.trace_deliver(mover, now);
+        }
         let m = self.movers[mover as usize];
         let lot = m.lot;
         let l = &self.lots[lot as usize];

@@ -33,6 +33,9 @@ pub(super) enum State {
     Setup,
     Down,
     OffShift,
+    Charging,
+    Blocked,
+    Congestion,
 }
 
 impl State {
@@ -47,6 +50,9 @@ impl State {
             State::Setup => "setup",
             State::Down => "down",
             State::OffShift => "off_shift",
+            State::Charging => "charging",
+            State::Blocked => "blocked",
+            State::Congestion => "congestion",
         }
     }
 }
@@ -59,6 +65,34 @@ struct Lane {
     before: State,
     at_from: bool,
 }
+
+/// A move under way over a simulated aisle network: its row is written at
+/// its delivery, when its time and its congestion delay are known.
+#[derive(Debug, Clone, Copy)]
+struct Trip {
+    /// The lot (NONE: no move under way).
+    lot: u32,
+    /// NaN for a load taken on to an overflow area (no request, no assignment).
+    requested: f64,
+    assigned: f64,
+    picked_up: f64,
+    /// Departments (the plan's numbering: overflow areas after the departments).
+    from: u32,
+    to: u32,
+    loaded_m: f64,
+    empty_m: f64,
+}
+
+const NO_TRIP: Trip = Trip {
+    lot: NONE,
+    requested: f64::NAN,
+    assigned: f64::NAN,
+    picked_up: f64::NAN,
+    from: NONE,
+    to: NONE,
+    loaded_m: 0.0,
+    empty_m: 0.0,
+};
 
 /// What the hooks need between events: lot numbers, arrival times, which
 /// machine lane holds which lot, each mover's move in progress.
@@ -75,6 +109,15 @@ pub(super) struct Tracer<'a> {
     arrival: Vec<f64>,
     /// Per slab entry: when a tracked machine took it (NaN: not on one).
     started: Vec<f64>,
+    /// Per slab entry, plants with staging limits: when its operation ended
+    /// (NaN: not yet); its visit row waits until it leaves the machine.
+    ended: Vec<f64>,
+    /// Per slab entry: (operation, department) of the visit whose machine
+    /// holds it, finished, for room downstream (NONE: not held).
+    held: Vec<(u32, u32)>,
+    /// The plant has staging limits: visit rows are written when the lot
+    /// leaves its machine, with the time it was held there.
+    staging: bool,
     /// Per tracked machine (`PlantModel::machines`): the state last written,
     /// and the lot it held at the last look.
     machine_state: Vec<State>,
@@ -91,6 +134,16 @@ pub(super) struct Tracer<'a> {
     owner: Vec<(usize, u32)>,
     /// Per mover: the empty metres of its current drive to a pick-up.
     empty_m: Vec<f64>,
+    /// Per mover, simulated aisles: seconds held up since it was given its
+    /// current request, and the move it is making.
+    congestion: Vec<f64>,
+    trip: Vec<Trip>,
+    /// Tow trains: per slab entry, the move of a load on a cart (its row is
+    /// written at its drop); per mover, metres driven loaded so far.
+    on_cart: Vec<Trip>,
+    odometer: Vec<f64>,
+    /// The aisle network is simulated: states are written as each segment is entered.
+    aisles: bool,
     /// The rows at the window's start have been written.
     opened: bool,
     /// Reused for number formatting: no allocation per row.
@@ -153,12 +206,20 @@ fn simulate_with_trace(
         next_lot: 0,
         arrival: Vec::new(),
         started: Vec::new(),
+        ended: Vec::new(),
+        held: Vec::new(),
+        staging: plan.staging,
         machine_state: vec![State::Idle; m.machines.len()],
         machine_lot: vec![NONE; m.machines.len()],
         on_machine,
         first_lane,
         lanes,
         empty_m: vec![0.0; m.movers.len()],
+        congestion: vec![0.0; m.movers.len()],
+        trip: vec![NO_TRIP; m.movers.len()],
+        on_cart: Vec::new(),
+        odometer: vec![0.0; m.movers.len()],
+        aisles: plan.aisles.is_some(),
         machines,
         owner,
         opened: false,
@@ -289,9 +350,12 @@ impl<'a> PlantModel<'a> {
                 State::Setup
             } else if m.running {
                 State::Busy
+            } else if m.blocked {
+                // Holding its finished lot: the outbound area is full.
+                State::Blocked
             } else if m.lot != NONE && on_shift {
-                // Up, on shift, holding a lot it is not working on: finished
-                // and waiting to leave (not reached without staging limits).
+                // Up, on shift, holding a lot it is not working on (not
+                // reached: such a lot is running, blocked or paused).
                 State::Busy
             } else if m.lot != NONE || !on_shift {
                 State::OffShift
@@ -322,11 +386,16 @@ impl<'a> PlantModel<'a> {
             t.lot_no.resize(i + 1, 0);
             t.arrival.resize(i + 1, f64::NAN);
             t.started.resize(i + 1, f64::NAN);
+            t.ended.resize(i + 1, f64::NAN);
+            t.held.resize(i + 1, (NONE, NONE));
+            t.on_cart.resize(i + 1, NO_TRIP);
         }
         t.next_lot += 1;
         t.lot_no[i] = t.next_lot;
         t.arrival[i] = f64::NAN;
         t.started[i] = f64::NAN;
+        t.ended[i] = f64::NAN;
+        t.held[i] = (NONE, NONE);
     }
 
     /// Lot `id` has reached the department of its current operation.
@@ -344,14 +413,19 @@ impl<'a> PlantModel<'a> {
         let (p, op, dept) = (lot.product as usize, lot.op as usize, lot.department as usize);
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(now);
-        let arrival = std::mem::replace(&mut t.arrival[id as usize], f64::NAN);
         let k =
             t.on_machine[dept].iter().position(|&l| l == NONE).expect("a free machine for a starting lot");
         t.on_machine[dept][k] = id;
         let lane = t.first_lane[dept] + k;
         t.state(lane, now, State::Busy);
+        if t.staging {
+            // The row waits until the lot leaves the machine (`trace_leave`, `trace_unblocked`).
+            t.started[id as usize] = now;
+            return;
+        }
+        let arrival = std::mem::replace(&mut t.arrival[id as usize], f64::NAN);
         if t.in_window(arrival, end) {
-            t.visit_row(id, p, op, dept, arrival, Some((now, end)));
+            t.visit_row(id, p, op, dept, arrival, Some((now, end)), Some(0.0));
         }
     }
 
@@ -363,11 +437,19 @@ impl<'a> PlantModel<'a> {
         let tracked = self.plan.tracked[dept];
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(now);
+        if t.staging {
+            // It may be held on its machine: the row and the lane wait until it leaves.
+            t.ended[id as usize] = now;
+            if let Some(k) = t.machine_lot.iter().position(|&l| l == id) {
+                t.machine_lot[k] = NONE;
+            }
+            return;
+        }
         if tracked {
             // The visit's row now that its end is known (failures and pauses may have stretched it).
             let (arrival, start) = (t.arrival[id as usize], t.started[id as usize]);
             if t.in_window(arrival, now) {
-                t.visit_row(id, p, op, dept, arrival, Some((start, now)));
+                t.visit_row(id, p, op, dept, arrival, Some((start, now)), Some(0.0));
             }
             t.arrival[id as usize] = f64::NAN;
             t.started[id as usize] = f64::NAN;
@@ -384,6 +466,54 @@ impl<'a> PlantModel<'a> {
         }
     }
 
+    /// Plants with staging limits: lot `id` has finished at `dept` and leaves
+    /// its machine now (blocked for no time): its visit row, and an
+    /// untracked machine lane turns idle.
+    #[cold]
+    pub(super) fn trace_leave(&mut self, id: u32, dept: usize, now: f64) {
+        let lot = &self.lots[id as usize];
+        let (p, op) = (lot.product as usize, lot.op as usize);
+        let tracked = self.plan.tracked[dept];
+        let t = self.tracer();
+        if !t.staging {
+            return; // its row was written at the end of its operation
+        }
+        t.open(now);
+        t.left_machine(id, p, op, dept, tracked, now);
+    }
+
+    /// Lot `id` has finished at `dept` and stays on its machine: the outbound area is full.
+    #[cold]
+    pub(super) fn trace_block(&mut self, id: u32, dept: usize, now: f64) {
+        let op = self.lots[id as usize].op;
+        let tracked = self.plan.tracked[dept];
+        let t = self.tracer();
+        t.open(now);
+        t.held[id as usize] = (op, dept as u32);
+        if !tracked {
+            let k = t.on_machine[dept].iter().position(|&l| l == id).expect("a lane holds the lot");
+            let lane = t.first_lane[dept] + k;
+            t.state(lane, now, State::Blocked);
+        }
+    }
+
+    /// Lot `id` may be leaving the machine that held it: if it was held, its
+    /// visit row (with the time held) and an untracked machine lane turns idle.
+    #[cold]
+    pub(super) fn trace_unblocked(&mut self, id: u32, now: f64) {
+        let p = self.lots[id as usize].product as usize;
+        let t = self.tracer();
+        let (op, dept) = t.held[id as usize];
+        if op == NONE {
+            return; // it waited in the outbound area, not on its machine
+        }
+        t.open(now);
+        t.held[id as usize] = (NONE, NONE);
+        let tracked = self.plan.tracked[dept as usize];
+        let t = self.tracer();
+        t.left_machine(id, p, op as usize, dept as usize, tracked, now);
+    }
+
     /// Lot `id` leaves the plant now at the shipping dock.
     #[cold]
     pub(super) fn trace_ship(&mut self, id: u32, now: f64) {
@@ -398,11 +528,61 @@ impl<'a> PlantModel<'a> {
     /// `mover` sets off now, empty, for a pick-up `d` metres away, reached at `at`.
     #[cold]
     pub(super) fn trace_dispatch(&mut self, mover: u32, now: f64, d: f64) {
+        let loaded = self.movers[mover as usize].loads > 0;
         let t = self.tracer();
         t.open(now);
-        t.empty_m[mover as usize] = d;
+        if loaded {
+            // A train fetching another load drives with those on board.
+            t.empty_m[mover as usize] = 0.0;
+            t.odometer[mover as usize] += d;
+        } else {
+            t.empty_m[mover as usize] = d;
+            t.congestion[mover as usize] = 0.0;
+        }
+        if !t.aisles {
+            // Over simulated aisles the walk writes the states, segment by segment.
+            let lane = t.machines + mover as usize;
+            t.state(lane, now, if loaded { State::Loaded } else { State::Empty });
+        }
+    }
+
+    /// A train puts lot `id` on a cart now; the load's row waits for its drop.
+    #[cold]
+    pub(super) fn trace_train_pickup(&mut self, mover: u32, id: u32, now: f64, from: usize) {
+        let m = self.movers[mover as usize];
+        let lot = &self.lots[id as usize];
+        let (requested, to) =
+            (lot.requested, self.plan.products[lot.product as usize].ops[lot.op as usize].department);
+        let t = self.tracer();
+        t.open(now);
         let lane = t.machines + mover as usize;
-        t.state(lane, now, State::Empty);
+        t.state(lane, now, State::Handling);
+        let empty_m = std::mem::replace(&mut t.empty_m[mover as usize], 0.0);
+        t.on_cart[id as usize] = Trip {
+            lot: id,
+            requested,
+            assigned: m.assigned,
+            picked_up: now,
+            from: from as u32,
+            to: to as u32,
+            // Metres on the odometer at the pick-up: the load's own are the difference at its drop.
+            loaded_m: t.odometer[mover as usize],
+            empty_m,
+        };
+    }
+
+    /// A train drives `d` metres now to drop a load, arriving at `arrive`
+    /// (`NaN` over simulated aisles, where the walk writes the states).
+    #[cold]
+    pub(super) fn trace_train_drive(&mut self, mover: u32, now: f64, arrive: f64, d: f64) {
+        let t = self.tracer();
+        t.open(now);
+        t.odometer[mover as usize] += d;
+        if !arrive.is_nan() {
+            let lane = t.machines + mover as usize;
+            t.state(lane, now, State::Loaded);
+            t.state(lane, arrive, State::Handling);
+        }
     }
 
     /// `mover` picks up its lot now: loading until `loaded`, driving `d`
@@ -449,6 +629,105 @@ impl<'a> PlantModel<'a> {
         t.empty_m[mover as usize] = 0.0;
     }
 
+    /// `mover` found department `to` full and takes its load on to the
+    /// overflow area, `d` metres away: driving until `arrive`, unloading
+    /// until `end`. A move row for that leg (its load was already on board:
+    /// no request, no assignment).
+    #[cold]
+    pub(super) fn trace_overflow(&mut self, mover: u32, now: f64, arrive: f64, end: f64, to: usize, d: f64) {
+        use std::fmt::Write as _;
+        let lot = self.movers[mover as usize].lot;
+        let f = self.movers[mover as usize].fleet as usize;
+        let nd = self.plan.n_departments;
+        let t = self.tracer();
+        t.open(now);
+        let lane = t.machines + mover as usize;
+        t.state(lane, now, State::Loaded);
+        t.state(lane, arrive, State::Handling);
+        if t.in_window(now, end) {
+            let r = t.replication;
+            let no = t.lot_no[lot as usize];
+            let k = t.owner[lane].1 + 1;
+            let _ = write!(t.line, "{r},{no},{},{k},,,", t.opts.fleets[f]);
+            num(&mut t.line, now);
+            num(&mut t.line, end);
+            let _ = write!(t.line, "{},{},", t.opts.departments[to], t.opts.departments[nd + to]);
+            num(&mut t.line, d);
+            t.line.push_str("0,0");
+            t.emit(MOVES);
+        }
+    }
+
+    /// Simulated aisles: `mover` picks up its lot now, to be driven from
+    /// department `from` to `to` (`d` metres); its row waits for the delivery.
+    #[cold]
+    pub(super) fn trace_pickup_walk(&mut self, mover: u32, now: f64, from: usize, to: usize, d: f64) {
+        let m = self.movers[mover as usize];
+        let requested = self.lots[m.lot as usize].requested;
+        let t = self.tracer();
+        t.open(now);
+        let empty_m = std::mem::replace(&mut t.empty_m[mover as usize], 0.0);
+        t.trip[mover as usize] = Trip {
+            lot: m.lot,
+            requested,
+            assigned: m.assigned,
+            picked_up: now,
+            from: from as u32,
+            to: to as u32,
+            loaded_m: d,
+            empty_m,
+        };
+    }
+
+    /// Simulated aisles: `mover` found department `to` full and drives its
+    /// load on to the overflow area, `d` metres; its row waits for the drop.
+    #[cold]
+    pub(super) fn trace_overflow_walk(&mut self, mover: u32, now: f64, to: usize, d: f64) {
+        let lot = self.movers[mover as usize].lot;
+        let nd = self.plan.n_departments;
+        let t = self.tracer();
+        t.open(now);
+        t.congestion[mover as usize] = 0.0;
+        t.trip[mover as usize] =
+            Trip { lot, picked_up: now, from: to as u32, to: (nd + to) as u32, loaded_m: d, ..NO_TRIP };
+    }
+
+    /// Simulated aisles: `mover` sets its load down now (or finds its
+    /// department full): the move's row, with its congestion delay.
+    #[cold]
+    pub(super) fn trace_deliver(&mut self, mover: u32, now: f64) {
+        let lot = self.movers[mover as usize].lot;
+        let t = self.tracer();
+        t.open(now);
+        t.trip_row(mover, now);
+        if lot != NONE && (lot as usize) < t.on_cart.len() && t.on_cart[lot as usize].lot == lot {
+            let mut trip = std::mem::replace(&mut t.on_cart[lot as usize], NO_TRIP);
+            trip.loaded_m = t.odometer[mover as usize] - trip.loaded_m;
+            t.trip[mover as usize] = trip;
+            t.trip_row(mover, now);
+        }
+    }
+
+    /// Simulated aisles: `mover` starts a walk now, with `pre_s` of handling
+    /// first; `post_s` of handling follows at once when the path is empty.
+    #[cold]
+    pub(super) fn trace_walk(&mut self, mover: u32, now: f64, pre_s: f64, post_s: f64, empty_path: bool) {
+        if pre_s > 0.0 || (empty_path && post_s > 0.0) {
+            self.trace_mover(mover, now, State::Handling);
+        }
+    }
+
+    /// Simulated aisles: `mover` enters a segment now, loaded or not, after
+    /// waiting since `since` (NaN: it did not wait).
+    #[cold]
+    pub(super) fn trace_enter(&mut self, mover: u32, now: f64, loaded: bool, since: f64) {
+        let t = self.tracer();
+        if !since.is_nan() {
+            t.congestion[mover as usize] += now - since;
+        }
+        self.trace_mover(mover, now, if loaded { State::Loaded } else { State::Empty });
+    }
+
     /// `mover` is in state `state` from now on.
     #[cold]
     pub(super) fn trace_mover(&mut self, mover: u32, now: f64, state: State) {
@@ -482,32 +761,124 @@ impl<'a> PlantModel<'a> {
                 .map(|&(_, id)| (id, self.lots[id as usize].product as usize, self.lots[id as usize].born))
                 .collect()
         };
-        let queued: Vec<(u32, usize, usize, usize)> = lots
-            .iter()
-            .map(|&(id, _, _)| {
-                let l = &self.lots[id as usize];
-                (id, l.product as usize, l.op as usize, l.department as usize)
-            })
-            .collect();
+        let queued: Vec<(u32, usize, usize, usize)> = {
+            let t = self.trace.as_ref().expect("only called when tracing");
+            lots.iter()
+                .map(|&(id, _, _)| {
+                    let l = &self.lots[id as usize];
+                    match t.held[id as usize] {
+                        // Held on its machine: the visit is the finished operation's.
+                        (op, dept) if op != NONE => (id, l.product as usize, op as usize, dept as usize),
+                        _ => (id, l.product as usize, l.op as usize, l.department as usize),
+                    }
+                })
+                .collect()
+        };
         let t = self.trace.as_mut().expect("only called when tracing");
         t.open(horizon);
         for &(id, p, op, dept) in &queued {
             let arrival = t.arrival[id as usize];
             if !arrival.is_nan() && t.in_window(arrival, f64::INFINITY) {
-                let start = t.started[id as usize];
-                t.visit_row(id, p, op, dept, arrival, (!start.is_nan()).then_some((start, f64::NAN)));
+                let (start, end) = (t.started[id as usize], t.ended[id as usize]);
+                if t.held[id as usize].0 != NONE {
+                    // Still held at the end of the run: how long is not known.
+                    t.visit_row(id, p, op, dept, arrival, Some((start, end)), None);
+                } else {
+                    let times = (!start.is_nan()).then_some((start, f64::NAN));
+                    t.visit_row(id, p, op, dept, arrival, times, Some(0.0));
+                }
             }
         }
         for &(id, p, born) in &lots {
             t.lot_row(id, p, born, None);
         }
+        // Moves still under way over simulated aisles.
+        for mover in 0..t.trip.len() {
+            t.trip_row(mover as u32, f64::NAN);
+        }
+        // Loads still on a train's carts, or being dropped, at the end of the run.
+        let mut carts: Vec<(u32, u32)> = Vec::new();
+        for (k, m) in self.movers.iter().enumerate() {
+            let (base, n) = (m.slots as usize, m.loads as usize);
+            let on_board = if self.onboard.is_empty() { &[][..] } else { &self.onboard[base..base + n] };
+            carts.extend(on_board.iter().chain((m.lot != NONE).then_some(&m.lot)).map(|&l| (k as u32, l)));
+        }
+        {
+            for &(mover, lot) in &carts {
+                let t = self.trace.as_mut().expect("only called when tracing");
+                if (lot as usize) < t.on_cart.len() && t.on_cart[lot as usize].lot == lot {
+                    let mut trip = std::mem::replace(&mut t.on_cart[lot as usize], NO_TRIP);
+                    trip.loaded_m = t.odometer[mover as usize] - trip.loaded_m;
+                    t.trip[mover as usize] = trip;
+                    t.trip_row(mover, f64::NAN);
+                }
+            }
+        }
+        let t = self.trace.as_mut().expect("only called when tracing");
         // A failure stays in the sink, and `simulate_traced` reports it.
         let _ = t.sink.flush();
     }
 }
 
 impl Tracer<'_> {
-    /// A visit row; `times` is (start, end), `None` for a lot still waiting at the end of the run.
+    /// Plants with staging limits: lot `id` leaves the machine of its visit
+    /// (`op` at `dept`) now, having finished at `ended`: its visit row, with
+    /// the time held; an untracked lane turns idle (tracked ones are polled).
+    fn left_machine(&mut self, id: u32, p: usize, op: usize, dept: usize, tracked: bool, now: f64) {
+        let i = id as usize;
+        let (arrival, start, end) = (self.arrival[i], self.started[i], self.ended[i]);
+        if self.in_window(arrival, now) {
+            self.visit_row(id, p, op, dept, arrival, Some((start, end)), Some(now - end));
+        }
+        self.arrival[i] = f64::NAN;
+        self.started[i] = f64::NAN;
+        self.ended[i] = f64::NAN;
+        if !tracked {
+            if let Some(k) = self.on_machine[dept].iter().position(|&l| l == id) {
+                self.on_machine[dept][k] = NONE;
+                let lane = self.first_lane[dept] + k;
+                self.state(lane, now, State::Idle);
+            }
+        }
+    }
+
+    /// The row of `mover`'s move under way over simulated aisles, if any,
+    /// delivered at `delivered` (NaN: still under way at the end of the run).
+    fn trip_row(&mut self, mover: u32, delivered: f64) {
+        use std::fmt::Write as _;
+        let trip = std::mem::replace(&mut self.trip[mover as usize], NO_TRIP);
+        if trip.lot == NONE {
+            return;
+        }
+        let first = if trip.requested.is_nan() { trip.picked_up } else { trip.requested };
+        if !self.in_window(first, if delivered.is_nan() { f64::INFINITY } else { delivered }) {
+            return;
+        }
+        let lane = self.machines + mover as usize;
+        let (f, k) = self.owner[lane];
+        let r = self.replication;
+        let no = self.lot_no[trip.lot as usize];
+        let _ = write!(self.line, "{r},{no},{},{},", self.opts.fleets[f], k + 1);
+        for x in [trip.requested, trip.assigned, trip.picked_up, delivered] {
+            if x.is_nan() {
+                self.line.push(',');
+            } else {
+                num(&mut self.line, x);
+            }
+        }
+        let o = self.opts;
+        let _ =
+            write!(self.line, "{},{},", o.departments[trip.from as usize], o.departments[trip.to as usize]);
+        num(&mut self.line, trip.loaded_m);
+        num(&mut self.line, trip.empty_m);
+        num(&mut self.line, self.congestion[mover as usize]);
+        self.emit(MOVES);
+    }
+
+    /// A visit row; `times` is (start, end), `None` for a lot still waiting
+    /// at the end of the run; `blocked` is `None` for a lot still held on
+    /// its machine at the end of the run.
+    #[allow(clippy::too_many_arguments)] // one row's fields
     fn visit_row(
         &mut self,
         id: u32,
@@ -516,6 +887,7 @@ impl Tracer<'_> {
         dept: usize,
         arrival: f64,
         times: Option<(f64, f64)>,
+        blocked: Option<f64>,
     ) {
         use std::fmt::Write as _;
         let r = self.replication;
@@ -536,7 +908,10 @@ impl Tracer<'_> {
             }
             None => self.line.push_str(",,,"),
         }
-        self.line.push('0');
+        match blocked {
+            Some(b) => num(&mut self.line, b),
+            None => self.line.push(','),
+        }
         self.emit(VISITS);
     }
 
