@@ -37,6 +37,7 @@ fn fill(state: &str) -> Option<(u8, u8, u8)> {
 }
 
 /// One lane: its label and its state changes (time, state) in file order.
+#[derive(Default)]
 struct Lane {
     label: String,
     changes: Vec<(f64, String)>,
@@ -88,7 +89,26 @@ fn lanes(
         // Decision order to time order; equal times keep decision order (the later decision holds).
         l.changes.sort_by(|a, b| a.0.total_cmp(&b.0));
     }
-    Ok(out)
+    // Owners in order of first appearance, and within each its machines or
+    // movers by number (the first rows come in decision order: mover 2 may
+    // be written before mover 1).
+    let mut owners: Vec<String> = Vec::new();
+    for k in index.keys() {
+        if !owners.contains(&k.0) {
+            owners.push(k.0.clone());
+        }
+    }
+    let first = |o: &str| index.iter().filter(|(k, _)| k.0 == o).map(|(_, &i)| i).min().unwrap_or(usize::MAX);
+    owners.sort_by_key(|o| first(o));
+    let mut keyed: Vec<((usize, u64, String), Lane)> = index
+        .into_iter()
+        .map(|(k, i)| {
+            let owner = owners.iter().position(|o| *o == k.0).unwrap_or(usize::MAX);
+            ((owner, k.1.parse().unwrap_or(u64::MAX), k.1), std::mem::take(&mut out[i]))
+        })
+        .collect();
+    keyed.sort_by(|a, b| a.0.cmp(&b.0));
+    Ok(keyed.into_iter().map(|(_, l)| l).collect())
 }
 
 /// A step series from (time, change) events: its level at `from` and its steps inside the window.
