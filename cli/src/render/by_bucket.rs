@@ -5,7 +5,7 @@ use std::fmt::Write as _;
 use layflow_models::metrics::by_bucket::{BucketSummary, Peak, WHOLE};
 use layflow_models::metrics::{Estimate, Kind, LayoutSummary, Metric, DEFS};
 use layflow_models::plant::{DepartmentRole, Plant};
-use layflow_models::study::compare::Level;
+use layflow_models::study::compare::{Difference, Level};
 
 use super::table::{dur_in, pct, pm, unit_for, wide, wrap, Table};
 
@@ -226,20 +226,17 @@ pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
         .collect();
     let mut t = Table::new(&heads);
     // The paired difference of the ranked metric: in a bucket, or over the whole window.
-    let diff = |layout: &str, bucket: Option<&str>| -> Option<(Estimate, bool)> {
-        let same = |l: &str, m: &str, subj: &str| l == layout && m == ranked.name && subj == ranked.subject;
-        let est = |mean, half_width, n| Estimate { mean, half_width, n };
+    let diff = |layout: &str, bucket: Option<&str>| -> Option<&Difference> {
+        let same =
+            |d: &Difference| d.layout == layout && d.metric == ranked.name && d.subject == ranked.subject;
         match bucket {
             Some(k) => lv
                 .bucket_differences
                 .iter()
-                .find(|d| d.bucket == k && same(&d.layout, d.metric, &d.subject))
-                .map(|d| (est(d.mean, d.half_width, d.n), d.excludes_zero)),
-            None => lv
-                .differences
-                .iter()
-                .find(|d| same(&d.layout, d.metric, &d.subject))
-                .map(|d| (est(d.mean, d.half_width, d.n), d.excludes_zero)),
+                .filter(|d| d.bucket == k)
+                .map(|d| &d.difference)
+                .find(|d| same(d)),
+            None => lv.differences.iter().find(|d| same(d)),
         }
     };
     let keys: Vec<Option<usize>> = rows.iter().map(|&k| Some(k)).chain([None]).collect();
@@ -256,7 +253,7 @@ pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
         let mut row = vec![label.clone(), value(b.get(k, &ranked.subject, ranked.name))];
         for o in &others {
             row.push(match diff(&o.layout, k.map(|_| label.as_str())) {
-                Some((e, excludes)) => super::table::difference_cell(&e, excludes, ranked.kind, unit),
+                Some(d) => super::table::difference_cell(&d.estimate(), d.excludes_zero, ranked.kind, unit),
                 None => "-".to_string(),
             });
         }

@@ -2,7 +2,7 @@
 
 use std::fmt::Write as _;
 
-use layflow_models::metrics::{find_metric, Estimate, Kind, LayoutSummary, Metric};
+use layflow_models::metrics::{find_metric, Kind, LayoutSummary, Metric};
 use layflow_models::plant::Plant;
 use layflow_models::study::compare::{CompareOutput, Difference};
 
@@ -11,8 +11,7 @@ use super::table::{dur_in, dur_plain, pm, unit_for, whole, Table};
 /// A signed difference in the metric's unit (durations in `unit`, shared by
 /// the row), with its half-width and a mark when the interval excludes zero.
 fn diff_cell(d: &Difference, kind: Kind, unit: (&str, f64)) -> String {
-    let e = Estimate { mean: d.mean, half_width: d.half_width, n: d.n };
-    super::table::difference_cell(&e, d.excludes_zero, kind, unit)
+    super::table::difference_cell(&d.estimate(), d.excludes_zero, kind, unit)
 }
 
 /// Plant metrics shown in the differences table (each with its registry label).

@@ -5,7 +5,7 @@ use std::path::Path;
 use crate::metrics::by_bucket::WHOLE;
 use crate::metrics::estimate::{Estimate, CONFIDENCE};
 use crate::metrics::list::Metric;
-use crate::study::compare::CompareOutput;
+use crate::study::compare::{CompareOutput, Difference};
 
 use super::folder::{sha256_hex, write_atomic, write_manifest_for, Kind, ResultsError};
 
@@ -55,7 +55,21 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
     }
     w.write_record(&header).map_err(csv_failure)?;
     let opt = |x: Option<f64>| x.map_or(String::new(), |v| v.to_string());
-    let mean = |m: f64, n: usize| if n == 0 { String::new() } else { m.to_string() };
+    // A row's last eight cells: the estimate, then the paired difference against the baseline.
+    let cells = |e: Estimate, d: Option<&Difference>| -> [String; 8] {
+        let mean = |m: f64, n: usize| if n == 0 { String::new() } else { m.to_string() };
+        let of = |f: &dyn Fn(&Difference) -> String| d.map_or(String::new(), f);
+        [
+            mean(e.mean, e.n),
+            opt(e.half_width),
+            e.n.to_string(),
+            out.baseline.clone(),
+            of(&|d| mean(d.mean, d.n)),
+            of(&|d| opt(d.half_width)),
+            of(&|d| d.n.to_string()),
+            of(&|d| d.excludes_zero.to_string()),
+        ]
+    };
     for lv in &out.levels {
         for (li, s) in lv.layouts.iter().enumerate() {
             let mut diffs = lv.differences.iter().filter(|d| d.layout == s.layout);
@@ -69,15 +83,8 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
                     metric.scope.as_str().to_string(),
                     metric.subject.clone(),
                     metric.name.to_string(),
-                    if e.n == 0 { String::new() } else { e.mean.to_string() },
-                    opt(e.half_width),
-                    e.n.to_string(),
-                    out.baseline.clone(),
-                    d.map_or(String::new(), |d| if d.n == 0 { String::new() } else { d.mean.to_string() }),
-                    d.map_or(String::new(), |d| opt(d.half_width)),
-                    d.map_or(String::new(), |d| d.n.to_string()),
-                    d.map_or(String::new(), |d| d.excludes_zero.to_string()),
                 ];
+                row.extend(cells(e, d));
                 if by {
                     row.insert(2, WHOLE.to_string());
                 }
@@ -86,26 +93,20 @@ pub fn summary_csv(out: &CompareOutput, metric_list: &[Metric]) -> Result<Vec<u8
             let Some(b) = &s.by_bucket else {
                 continue;
             };
-            let mut diffs = lv.bucket_differences.iter().filter(|d| d.layout == s.layout);
+            let mut diffs =
+                lv.bucket_differences.iter().map(|d| &d.difference).filter(|d| d.layout == s.layout);
             for r in &b.rows {
                 let d = if s.layout == out.baseline { None } else { diffs.next() };
-                w.write_record([
+                let mut row = vec![
                     lv.demand_factor.to_string(),
                     s.layout.clone(),
                     r.bucket.clone(),
                     r.scope.as_str().to_string(),
                     r.subject.clone(),
                     r.metric.to_string(),
-                    mean(r.mean, r.n),
-                    opt(r.half_width),
-                    r.n.to_string(),
-                    out.baseline.clone(),
-                    d.map_or(String::new(), |d| mean(d.mean, d.n)),
-                    d.map_or(String::new(), |d| opt(d.half_width)),
-                    d.map_or(String::new(), |d| d.n.to_string()),
-                    d.map_or(String::new(), |d| d.excludes_zero.to_string()),
-                ])
-                .map_err(csv_failure)?;
+                ];
+                row.extend(cells(Estimate { mean: r.mean, half_width: r.half_width, n: r.n }, d));
+                w.write_record(&row).map_err(csv_failure)?;
             }
         }
     }

@@ -12,7 +12,7 @@ use serde::Serialize;
 
 use crate::analysis::StaticPicture;
 use crate::metrics::by_bucket::{bucket_metrics, bucket_values};
-use crate::metrics::estimate::CONFIDENCE;
+use crate::metrics::estimate::{Estimate, CONFIDENCE};
 use crate::metrics::list::{values_mean, Metric};
 use crate::metrics::registry::{Better, Scope};
 use crate::metrics::summary::{LayoutAccumulator, LayoutSummary};
@@ -85,27 +85,15 @@ pub struct Level {
     pub bucket_differences: Vec<BucketDifference>,
 }
 
-/// A paired difference `layout − baseline` of one metric in one time bucket.
+/// A paired difference `layout − baseline` of one metric in one time bucket
+/// (the pairs: replications where both observed the metric in this bucket).
 #[derive(Serialize)]
 pub struct BucketDifference {
-    /// The layout compared with the baseline.
-    pub layout: String,
     /// The bucket's label.
     pub bucket: String,
-    /// The metric's scope.
-    pub scope: Scope,
-    /// The product, department, fleet or segment; empty for the plant.
-    pub subject: String,
-    /// The metric's registry name.
-    pub metric: &'static str,
-    /// Mean of layout − baseline over the pairs.
-    pub mean: f64,
-    /// Half-width of the 95% paired-t interval.
-    pub half_width: Option<f64>,
-    /// Pairs counted (replications where both observed the metric in this bucket).
-    pub n: usize,
-    /// The interval excludes zero.
-    pub excludes_zero: bool,
+    /// The difference in that bucket; its fields sit beside `bucket` in JSON.
+    #[serde(flatten)]
+    pub difference: Difference,
 }
 
 /// A paired difference `layout − baseline` of one metric.
@@ -127,6 +115,29 @@ pub struct Difference {
     pub n: usize,
     /// The interval excludes zero: a real difference, not noise.
     pub excludes_zero: bool,
+}
+
+impl Difference {
+    /// The paired difference of `metric` between `layout` (its values per
+    /// replication) and the baseline's values.
+    fn paired(layout: &str, metric: &Metric, values: &[f64], baseline: &[f64]) -> Difference {
+        let iv = paired(values, baseline);
+        Difference {
+            layout: layout.to_string(),
+            scope: metric.scope,
+            subject: metric.subject.clone(),
+            metric: metric.name,
+            mean: iv.mean,
+            half_width: iv.half_width,
+            n: iv.n,
+            excludes_zero: iv.excludes_zero(),
+        }
+    }
+
+    /// Its mean and interval.
+    pub fn estimate(&self) -> Estimate {
+        Estimate { mean: self.mean, half_width: self.half_width, n: self.n }
+    }
 }
 
 /// Static and simulated rank of one layout.
@@ -280,17 +291,8 @@ pub fn level(
             continue;
         }
         for (m, metric) in metric_list.iter().enumerate() {
-            let iv = paired(&column(li, m), &column(baseline, m));
-            differences.push(Difference {
-                layout: plant.layouts[l].name.clone(),
-                scope: metric.scope,
-                subject: metric.subject.clone(),
-                metric: metric.name,
-                mean: iv.mean,
-                half_width: iv.half_width,
-                n: iv.n,
-                excludes_zero: iv.excludes_zero(),
-            });
+            let name = &plant.layouts[l].name;
+            differences.push(Difference::paired(name, metric, &column(li, m), &column(baseline, m)));
         }
     }
     let static_ld: Vec<f64> = summaries.iter().map(|s| s.load_distance_static_m_per_h).collect();
@@ -343,18 +345,9 @@ fn bucket_differences(
         }
         for (b, info) in labels.iter().enumerate() {
             for (m, metric) in list.iter().enumerate() {
-                let iv = paired(&column(li, b, m), &column(baseline, b, m));
-                out.push(BucketDifference {
-                    layout: plant.layouts[l].name.clone(),
-                    bucket: info.bucket.clone(),
-                    scope: metric.scope,
-                    subject: metric.subject.clone(),
-                    metric: metric.name,
-                    mean: iv.mean,
-                    half_width: iv.half_width,
-                    n: iv.n,
-                    excludes_zero: iv.excludes_zero(),
-                });
+                let name = &plant.layouts[l].name;
+                let difference = Difference::paired(name, metric, &column(li, b, m), &column(baseline, b, m));
+                out.push(BucketDifference { bucket: info.bucket.clone(), difference });
             }
         }
     }
