@@ -18,7 +18,7 @@ use crate::sim::{RepStats, RunSpec, TICK_S};
 use crate::study::deadlock::replication_deadlock;
 use crate::timebuckets::Grid;
 
-use super::by_bucket::{BucketAccumulator, BucketSummary};
+use super::by_bucket::{bucket_values, BucketAccumulator, BucketSummary};
 use super::compute::value;
 use super::estimate::{with_hist, DurationEstimate, Estimate, Moments};
 use super::list::Features;
@@ -266,13 +266,20 @@ impl<'a> LayoutAccumulator<'a> {
 
     /// Fold in the next replication (replication number = replications added so far).
     pub fn add(&mut self, r: &RepStats) {
+        let buckets = self.by.as_ref().map(|b| bucket_values(self.plant, b.metrics(), r));
+        self.add_with_buckets(r, buckets.as_deref());
+    }
+
+    /// As [`Self::add`], with the replication's bucket values already
+    /// computed (`bucket_values` over `bucket_metrics`), for a caller that keeps them too.
+    pub fn add_with_buckets(&mut self, r: &RepStats, buckets: Option<&[Vec<f64>]>) {
         for (m, &(id, i)) in self.moments.iter_mut().zip(&self.slots) {
             m.add(value(id, self.plant, r, i));
         }
         self.flow_hist.merge(&r.flow_hist);
         self.wait_hist.merge(&r.move_wait_hist);
-        if let Some(b) = self.by.as_mut() {
-            b.add(self.plant, r);
+        if let (Some(b), Some(values)) = (self.by.as_mut(), buckets) {
+            b.add_values(self.plant, values, r);
         }
         self.events += r.events;
         if self.deadlock.is_none() {

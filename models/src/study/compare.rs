@@ -383,10 +383,14 @@ impl<'a> Kept<'a> {
 
     /// Fold in the layout's next replication.
     pub fn add(&mut self, plant: &Plant, metric_list: &[Metric], r: &RepStats) {
-        self.acc.add(r);
         self.values.push(metric_list.iter().map(|m| m.value(plant, r)).collect());
-        if !self.by_list.is_empty() {
-            self.by_values.push(bucket_values(plant, &self.by_list, r));
+        if self.by_list.is_empty() {
+            self.acc.add(r);
+        } else {
+            // Computed once: the summary's buckets and the paired differences both read them.
+            let buckets = bucket_values(plant, &self.by_list, r);
+            self.acc.add_with_buckets(r, Some(&buckets));
+            self.by_values.push(buckets);
         }
     }
 }
