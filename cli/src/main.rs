@@ -13,6 +13,7 @@ mod commands;
 mod failure;
 mod output;
 mod render;
+mod report;
 mod settings;
 mod signals;
 mod trace;
@@ -43,7 +44,8 @@ use commands::{check, compare, draw, experiment, fleet, run, search};
                   layflow fleet scenarios/demo.yaml --fleet forklifts --sizes 1..5 --target 'move_wait_p95_s <= 2 min'\n  \
                   layflow search scenarios/demo.yaml --out found.yaml --validate\n  \
                   layflow experiment scenarios/plans/overnight.yaml --out results\n  \
-                  layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n\n\
+                  layflow draw scenarios/aisles-demo.yaml --layout proposed -o plant.svg\n  \
+                  layflow report results -o report.html\n\n\
                   Exit codes: 0 success, 2 bad input (scenario or arguments), 1 the run failed or its output\n  \
                   could not be written, 130 stopped by Ctrl-C or SIGTERM, 141 stdout closed early (`| head`)."
 )]
@@ -86,6 +88,10 @@ enum Command {
     /// Draw one layout as an SVG picture: locations, departments, docks, the aisle
     /// network and flows between departments (width ∝ loads per hour).
     Draw(draw::DrawArgs),
+    /// Write one self-contained HTML page from results folders: the answer,
+    /// the plant side by side, charts, results over time, assumptions, and a
+    /// replay of a day from a trace (--replay).
+    Report(report::ReportArgs),
 }
 
 /// The last guard: output goes through `output.rs`, which returns write
@@ -133,6 +139,7 @@ fn main() -> ExitCode {
         Command::Merge(a) => experiment::merge(&a),
         Command::Summarize(a) => experiment::summarize(&a),
         Command::Draw(a) => draw::draw(&a),
+        Command::Report(a) => report::report(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -17,6 +17,7 @@ use crate::output::{self, note};
 use crate::render::compare::render;
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
+use crate::report::ReportFlags;
 use crate::settings::{layouts, SimOptions};
 
 /// Arguments of `layflow compare`.
@@ -49,9 +50,11 @@ pub struct CompareArgs {
     pub out: Option<PathBuf>,
     /// With --out: replace the results the folder holds (its summary.json, summary.csv,
     /// replications.csv, units.jsonl, results.csv and manifest; nothing else). Without it,
-    /// a folder holding any study's results is refused.
-    #[arg(long, requires = "out")]
+    /// a folder holding any study's results is refused. With --report: replace the page.
+    #[arg(long)]
     pub force: bool,
+    #[command(flatten)]
+    pub report: ReportFlags,
     #[command(flatten)]
     pub sim: SimOptions,
 }
@@ -158,6 +161,12 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
             note!("--force: deleted {} from {}", held.names(), dir.display());
         }
     }
+    if args.force && args.out.is_none() && args.report.report.is_none() {
+        return Err(Failure::input(
+            "--force replaces what --out or --report would write: add one of them, or leave --force out",
+        ));
+    }
+    let report = args.report.prepare(plant, &args.scenario, args.force)?;
 
     let started = Instant::now();
     let top = levels.iter().copied().fold(f64::MIN, f64::max);
@@ -216,6 +225,16 @@ pub fn compare_plant(plant: &Plant, args: &CompareArgs) -> Result<(), Failure> {
         if !settings.quiet {
             note!("wrote summary.json, summary.csv and replications.csv to {}", dir.display());
         }
+    }
+    if let Some(r) = &report {
+        let csv = files::summary_csv(&out, &metric_list)?;
+        r.write(
+            results::Kind::Compare,
+            plant,
+            &args.scenario,
+            (&files::summary_json(&out), &csv),
+            args.out.as_deref(),
+        )?;
     }
     Ok(())
 }

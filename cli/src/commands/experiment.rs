@@ -50,6 +50,10 @@ pub struct ExperimentArgs {
     /// else) and run afresh.
     #[arg(long, conflicts_with = "resume")]
     pub force: bool,
+    /// When every unit is done: also write the results as one self-contained HTML
+    /// page (see docs/report.md). With --resume or --force an existing page is replaced.
+    #[command(flatten)]
+    pub report: crate::report::ReportFlags,
     /// Run only shard K of N (units are dealt round-robin); combine the shards with `layflow merge`.
     #[arg(long, value_name = "K/N")]
     pub shard: Option<String>,
@@ -144,6 +148,25 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
         Mode::Continue
     } else {
         Mode::Fresh
+    };
+    let report = match &args.report.report {
+        Some(_) if shard != Shard::ALL => {
+            return Err(Failure::input(
+                "--report needs every unit: a shard holds only some; make the page after `layflow merge` with \
+                 `layflow report MERGED_DIR -o report.html`",
+            ));
+        }
+        Some(_) => {
+            let plant = crate::settings::load(&plan.scenario)?;
+            let r = args.report.prepare(&plant, &plan.scenario, args.force || args.resume)?;
+            r.map(|r| (r, plant))
+        }
+        None if args.report.replay.replay.is_some() => {
+            return Err(Failure::input(
+                "--replay adds a replay to the HTML page: it needs --report FILE.html",
+            ));
+        }
+        None => None,
     };
     let held = prepare(&args.out, Kind::Experiment, mode)?;
     if args.force && !held.is_empty() {
@@ -280,6 +303,9 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
             args.out.display(),
             if header.by.is_some() { ", by_bucket.csv" } else { "" }
         );
+        if let Some((r, plant)) = &report {
+            r.write_from_folder(plant, &plan.scenario, &args.out)?;
+        }
     } else {
         write_atomic(&args.out, journal::FILE, &results::units_jsonl(&header, &units))?;
         layflow_models::results::folder::write_manifest(&args.out, Kind::Experiment, &[journal::FILE])?;

@@ -6,6 +6,7 @@ use std::time::Instant;
 use clap::{Args, ValueEnum};
 use layflow_models::analysis::StaticPicture;
 use layflow_models::metrics::{every_metric, CONFIDENCE};
+use layflow_models::results;
 use layflow_models::sim::RunSpec;
 use layflow_models::study::fleet::{self as study, Sweep};
 use layflow_models::study::targets::{self, Target};
@@ -15,6 +16,7 @@ use crate::output::{self, note, out};
 use crate::render::fleet::{render, render_analytic, FleetOutput};
 use crate::render::progress::Progress;
 use crate::render::warnings::warn_overload;
+use crate::report::ReportFlags;
 use crate::settings::{demand_factor, layout, SimOptions};
 
 /// Arguments of `layflow fleet`.
@@ -49,9 +51,16 @@ pub struct FleetArgs {
     /// against fleet size, with the target lines and the recommended size, into this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
-    /// Replace the --plot file if it exists (without it, an existing file is refused, never overwritten).
+    /// Also write summary.json and summary.csv (one row per size × metric) into this
+    /// directory (created if missing), for `layflow report` and for pandas, R or a spreadsheet.
+    #[arg(long, value_name = "DIR")]
+    pub out: Option<PathBuf>,
+    /// Replace the --plot and --report files, and the results an --out folder holds (only a
+    /// study's files), if they exist (without it, existing results are refused, never overwritten).
     #[arg(long)]
     pub force: bool,
+    #[command(flatten)]
+    pub report: ReportFlags,
     /// Output format.
     #[arg(long, value_enum, default_value_t = FleetFormat::Table)]
     pub format: FleetFormat,
@@ -111,6 +120,14 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
         }
         layflow_models::results::folder::check_new_file(p, "--plot", args.force)?;
     }
+    if let Some(dir) = &args.out {
+        let mode = if args.force { results::Mode::Force } else { results::Mode::Fresh };
+        let held = results::prepare(dir, results::Kind::Fleet, mode)?;
+        if args.force && !held.is_empty() && !args.sim.quiet {
+            note!("--force: deleted {} from {}", held.names(), dir.display());
+        }
+    }
+    let report = args.report.prepare(&plant, &args.scenario, args.force)?;
     let pic = StaticPicture::new(&plant, factor);
     warn_overload(&plant, &pic);
     let analytic = study::analytic(&plant, &pic, layout, f, efficiency)?;
@@ -183,11 +200,23 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
             .ok_or_else(|| Failure::input("--plot: bad file name"))?;
         layflow_models::results::write_atomic(dir, name, svg.as_bytes())?;
     }
-    match args.format {
-        FleetFormat::Json => {
-            output::out(&(serde_json::to_string_pretty(&out).expect("results serialise") + "\n"))?;
+    let json = serde_json::to_string_pretty(&out).expect("results serialise") + "\n";
+    if args.out.is_some() || report.is_some() {
+        let csv = results::fleet::summary_csv(&out.fleet, &out.sizes, out.by_bucket.as_ref())?;
+        if let Some(dir) = &args.out {
+            let scenario = std::fs::read(&args.scenario).ok().map(|t| results::folder::sha256_hex(&t));
+            results::fleet::write(dir, &json, &csv, scenario)?;
         }
+        if let Some(r) = &report {
+            r.write(results::Kind::Fleet, &plant, &args.scenario, (&json, &csv), args.out.as_deref())?;
+        }
+    }
+    match args.format {
+        FleetFormat::Json => output::out(&json)?,
         FleetFormat::Table => output::out(&render(&out, wall_s))?,
+    }
+    if let (Some(dir), false) = (&args.out, settings.quiet) {
+        note!("wrote summary.json and summary.csv to {}", dir.display());
     }
     if let (Some(p), false) = (&args.plot, settings.quiet) {
         note!("wrote {}", p.display());

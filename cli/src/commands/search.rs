@@ -21,6 +21,7 @@ use crate::render::search::{
     trace_series, Found, MethodRun, Report,
 };
 use crate::render::table::{whole, Table};
+use crate::report::ReportFlags;
 use crate::settings::{duration_arg, layout, Format, SimOptions};
 
 /// How long each method runs when neither --time-limit nor --iterations is given.
@@ -92,9 +93,12 @@ pub struct SearchArgs {
     /// Draw the best-so-far cost over time for each method to this SVG file.
     #[arg(long, value_name = "FILE.svg")]
     pub plot: Option<PathBuf>,
-    /// Replace the --out and --plot files if it exists (without it, an existing file is refused, never overwritten).
+    /// Replace the --out, --plot and --report files if they exist (without it, an existing file is refused, never overwritten).
     #[arg(long)]
     pub force: bool,
+    /// With --validate: also write the comparison as one self-contained HTML page (see docs/report.md).
+    #[command(flatten)]
+    pub report: ReportFlags,
     /// Output format on stdout (the --validate comparison is a table).
     #[arg(long, value_enum, default_value_t = Format::Table)]
     pub format: Format,
@@ -221,6 +225,14 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
             "--by slices simulated results by time; the search itself is static, so --by goes with \
              --validate (which compares the layouts found by time bucket too)",
         ));
+    }
+    if args.report.report.is_some() && !args.validate {
+        return Err(Failure::input(
+            "--report writes the simulated comparison of the layouts found: it goes with --validate",
+        ));
+    }
+    if let Some(r) = &args.report.report {
+        crate::report::check_out(r, "--report", args.force)?;
     }
     if args.validate && args.format == Format::Json {
         return Err(Failure::input(
@@ -396,7 +408,8 @@ fn validate(
         select: args.select.clone(),
         format: CompareFormat::Table,
         out: None,
-        force: false,
+        force: args.force && args.report.report.is_some(),
+        report: args.report.clone(),
         sim: args.sim.clone(),
     };
     compare_plant(&plant, &compare)

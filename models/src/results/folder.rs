@@ -22,6 +22,8 @@ pub enum Kind {
     Compare,
     /// `layflow experiment` and `merge`: units.jsonl, results.csv, summary.csv, summary.json.
     Experiment,
+    /// `layflow fleet --out`: summary.json, summary.csv.
+    Fleet,
 }
 
 impl Kind {
@@ -30,9 +32,22 @@ impl Kind {
         match self {
             Kind::Compare => "layflow compare --out",
             Kind::Experiment => "layflow experiment",
+            Kind::Fleet => "layflow fleet --out",
+        }
+    }
+
+    /// The study in words, for messages: "a comparison (`layflow compare --out`)".
+    pub fn study(self) -> &'static str {
+        match self {
+            Kind::Compare => "a comparison (`layflow compare --out`)",
+            Kind::Experiment => "an experiment",
+            Kind::Fleet => "a fleet sizing (`layflow fleet --out`)",
         }
     }
 }
+
+/// Every kind, in the order messages list them.
+const KINDS: [Kind; 3] = [Kind::Compare, Kind::Experiment, Kind::Fleet];
 
 /// What the manifest records.
 #[derive(Debug, Clone, Serialize, Deserialize, PartialEq, Eq)]
@@ -123,30 +138,35 @@ impl Holding {
         let of = |k: Kind| -> Vec<&str> {
             self.files.iter().filter(|(_, f)| *f == Some(k)).map(|(n, _)| n.as_str()).collect()
         };
-        let (c, e) = (of(Kind::Compare), of(Kind::Experiment));
         if let Some(m) = &self.manifest {
-            let other = if m.kind == Kind::Compare { &e } else { &c };
-            if !other.is_empty() {
+            let other: Vec<(Kind, Vec<&str>)> = KINDS
+                .into_iter()
+                .filter(|&k| k != m.kind)
+                .map(|k| (k, of(k)))
+                .filter(|(_, f)| !f.is_empty())
+                .collect();
+            if let Some((k, files)) = other.first() {
                 return Some(format!(
                     "{}: {MANIFEST} says the folder holds results of `{}`, but {} {} from {}",
                     dir.display(),
                     m.kind.command(),
-                    other.join(", "),
-                    if other.len() == 1 { "comes" } else { "come" },
-                    if m.kind == Kind::Compare {
-                        "an experiment"
-                    } else {
-                        "a comparison (`layflow compare --out`)"
-                    }
+                    files.join(", "),
+                    if files.len() == 1 { "comes" } else { "come" },
+                    k.study()
                 ));
             }
-        } else if !c.is_empty() && !e.is_empty() {
+            return None;
+        }
+        let present: Vec<(Kind, Vec<&str>)> =
+            KINDS.into_iter().map(|k| (k, of(k))).filter(|(_, f)| !f.is_empty()).collect();
+        if present.len() > 1 {
+            let parts: Vec<String> =
+                present.iter().map(|(k, f)| format!("{} from {}", f.join(", "), k.study())).collect();
             return Some(format!(
-                "{}: the files come from two studies: {} from a comparison (`layflow compare --out`), {} from an \
-                 experiment",
+                "{}: the files come from {} studies: {}",
                 dir.display(),
-                c.join(", "),
-                e.join(", ")
+                if present.len() == 2 { "two" } else { "three" },
+                parts.join(", ")
             ));
         }
         None
@@ -168,6 +188,7 @@ fn kind_of_file(dir: &Path, name: &str) -> Option<Kind> {
             match text.lines().next()?.split(',').next()? {
                 "point" => Some(Kind::Experiment),
                 "demand_factor" => Some(Kind::Compare),
+                "fleet" => Some(Kind::Fleet),
                 _ => None,
             }
         }
@@ -177,6 +198,8 @@ fn kind_of_file(dir: &Path, name: &str) -> Option<Kind> {
             let o = v.as_object()?;
             if o.contains_key("plan_hash") {
                 Some(Kind::Experiment)
+            } else if o.contains_key("sizes") && o.contains_key("fleet") {
+                Some(Kind::Fleet)
             } else if o.contains_key("baseline") {
                 Some(Kind::Compare)
             } else {

@@ -73,11 +73,14 @@ pub fn read_segments(
         );
     };
     let layout_col = col("layout");
+    // With --by, the whole window's rows only (the buckets' rows follow them).
+    let bucket_col = col("bucket");
     // Demand levels (compare) or design points (experiment): the manifest
     // says which; a folder from before manifests is told by its columns.
     let group_col = match read_manifest(dir)?.map(|m| m.kind) {
         Some(Kind::Compare) => col("demand_factor"),
         Some(Kind::Experiment) => col("point"),
+        Some(Kind::Fleet) => col("movers"),
         None => col("demand_factor").or(col("point")),
     };
     let mut group: Option<String> = None;
@@ -89,6 +92,9 @@ pub fn read_segments(
             continue;
         }
         if layout_col.is_some_and(|c| row.get(c) != Some(plant.layouts[layout].name.as_str())) {
+            continue;
+        }
+        if bucket_col.is_some_and(|c| row.get(c) != Some(crate::metrics::by_bucket::WHOLE)) {
             continue;
         }
         if let Some(c) = group_col {
@@ -129,11 +135,12 @@ pub fn read_segments(
 }
 
 /// The SHA-256 of the scenario text a folder's study ran, where it was
-/// recorded: an experiment's units.jsonl header, or a comparison's manifest.
-fn recorded_scenario(dir: &Path) -> Result<Option<String>, ResultsError> {
+/// recorded: an experiment's units.jsonl header, or the manifest of a
+/// comparison or a fleet sizing.
+pub fn recorded_scenario(dir: &Path) -> Result<Option<String>, ResultsError> {
     let Some(m) = read_manifest(dir)? else { return Ok(None) };
     Ok(match m.kind {
-        Kind::Compare => m.scenario_sha256,
+        Kind::Compare | Kind::Fleet => m.scenario_sha256,
         Kind::Experiment => {
             let path = dir.join(crate::experiment::journal::FILE);
             if !path.is_file() {
