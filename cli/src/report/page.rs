@@ -212,10 +212,15 @@ fn compare_answer(st: &Study) -> String {
     let word = if higher { "highest" } else { "lowest" };
     let base_row = compare_row(st, &level, baseline, "plant", "", ranked);
     let base_e = base_row.map(|r| estimate(st, r, ""));
+    let at = if j["levels"].as_array().map_or(0, Vec::len) > 1 {
+        format!(" at demand ×{}", esc(&level))
+    } else {
+        String::new()
+    };
     if best == baseline {
         let _ = write!(
             s,
-            "<p><strong>Keep {b}</strong>, the baseline: it has the {word} mean {label}, <span class=\"num\">{v}</span>.",
+            "<p><strong>Keep {b}</strong>, the baseline: it has the {word} mean {label}{at}, <span class=\"num\">{v}</span>.",
             b = esc(&best),
             v = esc(&value_text(def, &best_e))
         );
@@ -243,7 +248,7 @@ fn compare_answer(st: &Study) -> String {
         let pct = if base_mean.abs() > 0.0 { 100.0 * d.mean.abs() / base_mean.abs() } else { f64::NAN };
         let _ = write!(
             s,
-            "<p><strong>Move to {b}</strong>: its mean {label} is <span class=\"num\">{v}</span>, {diff}{pct} {dir} \
+            "<p><strong>Move to {b}</strong>: its mean {label}{at} is <span class=\"num\">{v}</span>, {diff}{pct} {dir} \
              than <strong>{base}</strong>'s {bv}.",
             b = esc(&best),
             v = esc(&value_text(def, &best_e)),
@@ -266,6 +271,40 @@ fn compare_answer(st: &Study) -> String {
                  cannot be told apart on {label}</span>; run more replications before moving anything.</p>"
             );
         }
+    }
+    // A demand sweep: the same metric's differences at every other level, one line each.
+    let levels: Vec<String> = {
+        let mut v: Vec<String> = Vec::new();
+        for r in 0..st.csv.rows.len() {
+            let l = st.csv.get(r, "demand_factor");
+            if !v.iter().any(|x| x == l) {
+                v.push(l.to_string());
+            }
+        }
+        v
+    };
+    if levels.len() > 1 {
+        s.push_str("<ul>");
+        for lv in &levels[1..] {
+            let parts: Vec<String> = layouts
+                .iter()
+                .filter(|l| l.as_str() != baseline)
+                .filter_map(|l| {
+                    let r = compare_row(st, lv, l, "plant", "", ranked)?;
+                    let d = estimate(st, r, "difference");
+                    let sure = st.csv.get(r, "difference_excludes_zero") == "true";
+                    Some(format!("{} {}", esc(l), esc(&difference_text(def, &d, sure, d.mean))))
+                })
+                .collect();
+            let _ = write!(
+                s,
+                "<li>At demand ×{}: {label} against {}: {}.</li>",
+                esc(lv),
+                esc(baseline),
+                parts.join("; ")
+            );
+        }
+        s.push_str("</ul>");
     }
     if let Some(sel) = j["levels"][0].get("selection").filter(|v| !v.is_null()) {
         if let Some(chosen) = sel["layouts"].as_array().and_then(|a| a.iter().find(|l| l["selected"] == true))
@@ -826,6 +865,92 @@ fn fleet_sections(inp: &Inputs, k: usize, st: &Study) -> String {
         let _ = write!(s, "<td>{meets}</td></tr>");
     }
     s.push_str("</tbody></table></div></section>");
+    s.push_str(&fleet_buckets(k, st, &sizes, &fleet));
+    s
+}
+
+/// With `--by`: the sized fleet's wait p95 per time bucket, one line per size.
+fn fleet_buckets(k: usize, st: &Study, sizes: &[String], fleet: &str) -> String {
+    if st.csv.col("bucket").is_none() {
+        return String::new();
+    }
+    let by = st.json["by_bucket"]["by"].as_str().unwrap_or("bucket").replace('-', " ");
+    let buckets: Vec<String> = st.json["by_bucket"]["buckets"]
+        .as_array()
+        .map(|a| a.iter().filter_map(|b| b["bucket"].as_str().map(str::to_string)).collect())
+        .unwrap_or_default();
+    let metric = "move_wait_p95_s";
+    let target = st.json["targets"].as_array().into_iter().flatten().find_map(|t| {
+        (t["name"].as_str()?.rsplit('/').next() == Some(metric))
+            .then(|| Some((t["value"].as_f64()?, format!("target: {}", t["text"].as_str()?))))
+            .flatten()
+    });
+    let row = |z: &str, b: &str| {
+        (0..st.csv.rows.len()).find(|&r| {
+            st.csv.get(r, "movers") == z
+                && st.csv.get(r, "bucket") == b
+                && st.csv.get(r, "scope") == "fleet"
+                && st.csv.get(r, "metric") == metric
+        })
+    };
+    let mut series = Vec::new();
+    for z in sizes {
+        series.push(Series {
+            points: buckets
+                .iter()
+                .map(|b| {
+                    row(z, b).and_then(|r| st.csv.num(r, "mean").map(|m| (m, st.csv.num(r, "half_width"))))
+                })
+                .collect(),
+        });
+    }
+    let (unit, unit_s) =
+        crate::render::table::unit_for(series.iter().flat_map(|x| x.points.iter().flatten().map(|p| p.0)));
+    let mut legend = String::from("<div class=\"legend\">");
+    for (i, z) in sizes.iter().enumerate() {
+        let _ = write!(
+            legend,
+            "<span><span class=\"key\" style=\"background:{}\"></span>size {} ({})</span>",
+            crate::render::palette::rgb(charts::series_colour(i)),
+            esc(z),
+            esc(fleet)
+        );
+    }
+    legend.push_str("</div>");
+    let mut s = format!(
+        "<section id=\"over-time\"><h2>Wait for a mover over the {by}</h2><p class=\"note\">The {fleet}' wait \
+         p95 in each bucket, each size with its 95% band (log scale): a size that meets a target over the whole \
+         window can miss it in the peak hour.</p><div class=\"chart\">{}</div>{legend}",
+        charts::line_chart(&buckets, &series, &Marks { log: true, target, ..Marks::default() }, &format!("wait p95 ({unit})"), unit_s),
+        by = esc(&by),
+        fleet = esc(fleet)
+    );
+    let _ = write!(
+        s,
+        "<details><summary>as a table</summary><div class=\"scroll\"><table><thead><tr><th>{}</th>",
+        esc(&by)
+    );
+    for z in sizes {
+        let _ = write!(s, "<th>{} {}</th>", esc(z), esc(fleet));
+    }
+    s.push_str("</tr></thead><tbody>");
+    for b in &buckets {
+        let _ = write!(s, "<tr><td>{}</td>", esc(b));
+        for z in sizes {
+            match row(z, b) {
+                Some(r) => s.push_str(&num_td(
+                    k,
+                    st,
+                    r,
+                    "mean",
+                    &value_text(def_of_row(st, r), &estimate(st, r, "")),
+                )),
+                None => s.push_str("<td>-</td>"),
+            }
+        }
+        s.push_str("</tr>");
+    }
+    s.push_str("</tbody></table></div></details></section>");
     s
 }
 
