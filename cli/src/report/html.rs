@@ -110,6 +110,10 @@ pub fn cell_attrs(study_index: usize, study: &Study, row: usize, col: &str) -> S
 
 /// A table cell showing `text` for summary.csv's cell (`row`, `col`).
 pub fn num_td(study_index: usize, study: &Study, row: usize, col: &str, text: &str) -> String {
+    if study.csv.get(row, col).is_empty() {
+        // Nothing observed (a product that shipped nothing): no number to tie.
+        return "<td class=\"num\">-</td>".to_string();
+    }
     format!("<td class=\"num\"{}>{}</td>", cell_attrs(study_index, study, row, col), esc(text))
 }
 

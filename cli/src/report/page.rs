@@ -159,18 +159,11 @@ fn compare_row(
     (0..st.csv.rows.len()).find(|&r| {
         st.csv.get(r, "demand_factor") == level
             && st.csv.get(r, "layout") == layout
-            && st.whole_row(r)
+            && st.csv.whole(r)
             && st.csv.get(r, "scope") == scope
             && st.csv.get(r, "subject") == subject
             && st.csv.get(r, "metric") == metric
     })
-}
-
-impl Study {
-    /// Whether row `r` is a whole-window row.
-    fn whole_row(&self, r: usize) -> bool {
-        self.csv.whole(r)
-    }
 }
 
 /// "5 replications of 5 d after a 1 d warm-up, seed 20261201".
