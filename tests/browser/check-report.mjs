@@ -6,7 +6,7 @@
 // written to OUT_DIR; the pictures' content and the frame budget are judged by
 // cli/tests/report_browser.rs, which runs this script.
 //
-//   node tests/browser/check-report.mjs PAGE.html OUT_DIR
+//   node tests/browser/check-report.mjs [--fail-fast] PAGE.html OUT_DIR
 //
 // Exit 0 when every check passed, 1 otherwise (result.json says which), 2 on
 // bad arguments. LAYFLOW_CHROMIUM names the browser (default /usr/bin/chromium).
@@ -24,9 +24,13 @@ const LOAD_LIMIT_MS = 2000; // issue 17: the page loads in under 2 s
 const PLAY_MS = 5000; // issue 17: the replay after 5 s of play
 const STEP_TIMEOUT_MS = 15000; // any single wait; a hung page fails, never hangs CI
 
-const [pageArg, outArg] = process.argv.slice(2);
+const argv = process.argv.slice(2);
+// --fail-fast: stop before the replay (and its 5 s of play) once a check has
+// failed; the tests that prove a broken page fails use it to save time.
+const failFast = argv.includes("--fail-fast");
+const [pageArg, outArg] = argv.filter((a) => a !== "--fail-fast");
 if (!pageArg || !outArg) {
-  console.error("usage: node check-report.mjs PAGE.html OUT_DIR");
+  console.error("usage: node check-report.mjs [--fail-fast] PAGE.html OUT_DIR");
   process.exit(2);
 }
 const page_path = resolve(pageArg);
@@ -151,6 +155,11 @@ try {
   result.screenshots.top = join(out, "top.png");
   await page.screenshot({ path: result.screenshots.top });
 
+  const broken = () =>
+    result.checks.some((c) => !c.ok) ||
+    [result.console_errors, result.page_errors, result.failed_requests, result.blocked_requests].some((l) => l.length);
+  if (failFast && broken()) throw new Error("--fail-fast: a check failed before the replay; the replay was not played");
+
   // The replay: before play, after 5 s of play, then the slider.
   const replay = page.locator("#replay");
   const ids = await page.evaluate(() =>
@@ -160,6 +169,14 @@ try {
   );
   check("replay: every element of the contract is there", ids.length === 0, ids.length ? `missing #${ids.join(", #")}` : null);
   await replay.scrollIntoViewIfNeeded();
+  // Where the canvas lies inside the #replay screenshot (CSS pixels, which are
+  // image pixels at deviceScaleFactor 1): the Rust test compares the two
+  // screenshots there, so "the replay moved" means the drawing, not the clock.
+  result.measurements.canvas_box = await page.evaluate(() => {
+    const s = document.getElementById("replay").getBoundingClientRect();
+    const c = document.getElementById("replay-canvas").getBoundingClientRect();
+    return { x: Math.round(c.left - s.left), y: Math.round(c.top - s.top), width: Math.round(c.width), height: Math.round(c.height) };
+  });
   result.screenshots.replay_0s = join(out, "replay-0s.png");
   await replay.screenshot({ path: result.screenshots.replay_0s });
   const clock = () => page.locator("#replay-clock").innerText();
