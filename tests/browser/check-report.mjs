@@ -67,7 +67,9 @@ try {
     executablePath,
     headless: true,
     // playwright-core gives every launch a fresh, temporary user-data dir
-    // (removed on close), so no profile, cache or cookie carries over.
+    // (removed on close), so no profile, cache or cookie carries over; its
+    // default switches also include --disable-dev-shm-usage, which a
+    // container's small /dev/shm needs.
     args: [
       "--no-sandbox", // CI runs as root in a container, where the sandbox cannot start
       "--disable-gpu",
