@@ -59,9 +59,9 @@ fn browser() -> Option<()> {
     let what = missing.join(", ");
     assert!(
         std::env::var_os("LAYFLOW_REQUIRE_BROWSER").is_none(),
-        "the browser test is required but {what} is missing"
+        "the browser test is required (LAYFLOW_REQUIRE_BROWSER is set) but not found: {what}"
     );
-    eprintln!("NOTICE: {what} not found; the HTML report was not checked in a browser (CI installs them)");
+    eprintln!("NOTICE: not found: {what}; the HTML report was not checked in a browser (CI installs them)");
     None
 }
 
