@@ -217,19 +217,20 @@ try {
   check("replay: pause puts the button back to \"Play\"", m.button_paused === "Play", m.button_paused);
 
   // The slider: a value a quarter of the window away from where it stands
-  // (wrapping round), set as a user's drag would: value, then input and change.
+  // (wrapping round), set as a user's drag would: playwright's fill on a range
+  // input checks it is visible and enabled, sets the value, then dispatches
+  // input and change.
   const before = await clock();
-  const slid = await page.evaluate(() => {
-    const s = document.getElementById("replay-slider");
+  const slider = page.locator("#replay-slider");
+  const slid = await slider.evaluate((s) => {
     const min = Number(s.min || 0), max = Number(s.max || 100), now = Number(s.value);
     const span = max - min;
     let v = now + span / 4;
     if (v > max) v -= span / 2;
-    s.value = String(v);
-    s.dispatchEvent(new Event("input", { bubbles: true }));
-    s.dispatchEvent(new Event("change", { bubbles: true }));
-    return { min, max, from: now, to: Number(s.value) };
+    return { min, max, from: now, to: Math.round(v) };
   });
+  await slider.fill(String(slid.to));
+  slid.to = Number(await slider.inputValue()); // as the browser snapped it to the step
   await page.waitForTimeout(200); // one or two frames for a clock drawn on the next rAF
   m.slider = slid;
   m.clock_before_slider = before;
