@@ -169,7 +169,9 @@ try {
       (id) => !document.getElementById(id)
     )
   );
-  check("replay: every element of the contract is there", ids.length === 0, ids.length ? `missing #${ids.join(", #")}` : null);
+  if (!check("replay: every element of the contract is there", ids.length === 0, ids.length ? `missing #${ids.join(", #")}` : null)) {
+    throw new Error("the replay was not played: its elements are missing");
+  }
   await replay.scrollIntoViewIfNeeded();
   // Where the canvas lies inside the #replay screenshot (CSS pixels, which are
   // image pixels at deviceScaleFactor 1): the Rust test compares the two
