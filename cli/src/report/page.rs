@@ -411,7 +411,7 @@ fn compare_sections(inp: &Inputs, k: usize, st: &Study) -> String {
         inp,
         &shadings,
         &format!(
-            "Each department is shaded by its simulated utilisation at demand ×{level} (hover for the mean queue); \
+            "All layouts are drawn to one scale. Each department is shaded by its simulated utilisation at demand ×{level} (hover for the mean queue); \
              flows are the from-to chart's loads per hour, coloured by the fleet that carries them."
         ),
     ));

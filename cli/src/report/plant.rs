@@ -149,7 +149,16 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
                 to = esc(&plant.departments[j].id)
             );
         }
-        // Departments on top.
+        // Departments on top, every name in one size: the largest that fits the longest.
+        let longest = plant
+            .departments
+            .iter()
+            .filter(|d| d.role == DepartmentRole::Work)
+            .map(|d| d.id.chars().count())
+            .max()
+            .unwrap_or(1)
+            .max(1) as f64;
+        let name_px = (2.0 * hp * 0.9 / (0.68 * longest)).clamp(9.0, 15.0);
         for (d, dep) in plant.departments.iter().enumerate() {
             let loc = &plant.locations[lay.location_of[d]];
             let (x, y) = px(loc.x, loc.y);
@@ -179,7 +188,7 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
                 tip = esc(&tip),
                 sl = rgb(SLATE)
             );
-            let size = (2.0 * hw * 0.9 / (0.68 * dep.id.chars().count().max(1) as f64)).clamp(8.0, 15.0);
+            let size = if dock { 11.0 } else { name_px };
             let (ty, tc) = if dock {
                 (y - hh - 5.0, rgb(SLATE))
             } else if u.is_some() {
@@ -205,12 +214,18 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
             }
             s.push_str("</g>");
         }
+        // A scale bar: a round length near a sixth of the panel.
+        let bar_m = nice_length((PANEL_PX - 2.0 * PAD) / scale / 6.0);
+        let (bx, by) = (PAD, height - 12.0);
         let _ = write!(
             s,
-            "<text x=\"{PAD}\" y=\"{:.1}\" font-size=\"11\" fill=\"{}\">{}</text></svg></div>",
-            height - 8.0,
-            rgb(SLATE),
-            scale_bar_text(scale)
+            "<g class=\"scale-bar\"><line x1=\"{bx}\" y1=\"{by:.1}\" x2=\"{:.1}\" y2=\"{by:.1}\" stroke=\"{sl}\" \
+             stroke-width=\"3\"/><text x=\"{:.1}\" y=\"{:.1}\" font-size=\"12\" fill=\"{sl}\">{} m</text></g></svg></div>",
+            bx + bar_m * scale,
+            bx + bar_m * scale + 8.0,
+            by + 4.0,
+            bar_m,
+            sl = rgb(SLATE)
         );
         out.push_str(&s);
     }
@@ -251,7 +266,11 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
     out + &legend
 }
 
-/// "scale: 10 m = 38 px", for the corner of each panel.
-fn scale_bar_text(scale: f64) -> String {
-    format!("same scale in every panel: 10 m = {:.0} px of {PANEL_PX:.0}", 10.0 * scale)
+/// A round length (1, 2 or 5 × a power of ten metres) at or below `m`.
+fn nice_length(m: f64) -> f64 {
+    if !(m > 0.0) || !m.is_finite() {
+        return 1.0;
+    }
+    let p = 10f64.powf(m.log10().floor());
+    [5.0, 2.0, 1.0].into_iter().map(|k| k * p).find(|&v| v <= m).unwrap_or(p)
 }
