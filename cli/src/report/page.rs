@@ -241,15 +241,21 @@ fn compare_answer(st: &Study) -> String {
         let pct = if base_mean.abs() > 0.0 { 100.0 * d.mean.abs() / base_mean.abs() } else { f64::NAN };
         let _ = write!(
             s,
-            "<p><strong>Move to {b}</strong>: its mean {label}{at} is <span class=\"num\">{v}</span>, {diff}{pct} {dir} \
+            "<p>{lead}: its mean {label}{at} is <span class=\"num\">{v}</span>, {diff}{pct} {dir} \
              than <strong>{base}</strong>'s {bv}.",
-            b = esc(&best),
+            lead = if sure {
+                format!("<strong>Move to {}</strong>", esc(&best))
+            } else {
+                format!("<strong>{}</strong> may be better, not yet shown to be", esc(&best))
+            },
             v = esc(&value_text(def, &best_e)),
             diff = esc(&magnitude(def, &d, best_e.mean)),
             pct = if pct.is_finite() { format!(" ({pct:.1}%)") } else { String::new() },
             dir = if d.mean < 0.0 { "lower" } else { "higher" },
             base = esc(baseline),
-            bv = esc(&base_e.map_or("-".to_string(), |e| value_text(def, &Estimate { half_width: None, ..e })))
+            bv = esc(
+                &base_e.map_or("-".to_string(), |e| value_text(def, &Estimate { half_width: None, ..e }))
+            )
         );
         if sure {
             let _ = write!(
