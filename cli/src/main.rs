@@ -13,6 +13,7 @@ mod commands;
 mod failure;
 mod output;
 mod render;
+mod report;
 mod settings;
 mod signals;
 mod trace;
