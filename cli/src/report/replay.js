@@ -47,6 +47,7 @@
     });
   });
   var queues = D.queues.map(function (q) { return { t: cumul(q.t), n: Int32Array.from(q.n) }; });
+  var wip = { t: cumul(D.wip.t), n: Int32Array.from(D.wip.n) };
   var machines = D.machines.map(function (m) { return { t: cumul(m.t), c: Int32Array.from(m.c) }; });
   var NS = D.states.length;
   var stateColour = {
@@ -194,6 +195,7 @@
       drawMachines(b, machines[i]);
       drawQueue(b, queues[i]);
     }
+    drawTotals();
     var r = Math.max(4, Math.min(8, D.half * G.scale * 0.09));
     for (i = 0; i < movers.length; i++) {
       var m = movers[i];
@@ -209,6 +211,18 @@
       ctx.lineWidth = 2.2; ctx.strokeStyle = fleetColour[m.fleet]; ctx.stroke();
     }
   }
+  // The plant at a glance, top right: lots in the plant, and how many wait for a machine.
+  function drawTotals() {
+    var j = find(wip.t, now), inPlant = j >= 0 ? wip.n[j] : 0, waiting = 0;
+    for (var i = 0; i < queues.length; i++) {
+      var k = find(queues[i].t, now);
+      if (k >= 0) { waiting += queues[i].n[k]; }
+    }
+    ctx.textAlign = "right"; ctx.fillStyle = C.slate;
+    ctx.font = "bold 13px " + FONT;
+    ctx.fillText(inPlant + " lots in the plant · " + waiting + " waiting for a machine", G.w - 10, 17);
+  }
+
   // A department box from the top: its name, the lots waiting (a count and a stack of
   // small squares growing up from the machines), and a row of squares, one per machine,
   // coloured by state.

@@ -253,6 +253,8 @@ struct Trace {
     machine_states: HashMap<String, HashMap<u32, Vec<(f64, String)>>>,
     /// (department, arrival, start): the lot waits for a machine from arrival to start.
     visits: Vec<(String, f64, Option<f64>)>,
+    /// (released, shipped): the lot is in the plant from release to shipping.
+    lots: Vec<(f64, Option<f64>)>,
 }
 
 /// Reads `file`'s rows of `replication` as (header → column) and records.
@@ -362,7 +364,10 @@ impl Trace {
         let (de, ar, stt) = (c.index("department")?, c.index("arrival")?, c.index("start")?);
         let visits =
             rows.iter().filter_map(|r| Some((r[de].to_string(), time(r, ar)?, time(r, stt)))).collect();
-        Ok(Trace { moves, delivered, mover_states, machine_states, visits })
+        let (c, rows) = read_rows(folder, "lots.csv", rep)?;
+        let (re, sh) = (c.index("released")?, c.index("shipped")?);
+        let lots = rows.iter().filter_map(|r| Some((time(r, re)?, time(r, sh)))).collect();
+        Ok(Trace { moves, delivered, mover_states, machine_states, visits, lots })
     }
 }
 
@@ -400,6 +405,27 @@ fn push_step<T: PartialEq + Clone>(ts: &mut Vec<i64>, vs: &mut Vec<T>, t: i64, v
         ts.push(t);
         vs.push(v);
     }
+}
+
+/// A count over time from +1/−1 events, as a step series {t: delta ticks, n: levels} from tick 0.
+/// At equal times a −1 comes first: a lot that starts (or ships) the moment it arrives was
+/// never counted (`arrival ≤ t < start`).
+fn counts(mut ev: Vec<(f64, i64)>, window: (f64, f64)) -> Value {
+    ev.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
+    let (mut ts, mut ns) = (Vec::new(), Vec::new());
+    let mut level = 0i64;
+    for (t, d) in ev {
+        if t >= window.1 {
+            break;
+        }
+        level += d;
+        push_step(&mut ts, &mut ns, tick(t, window), level);
+    }
+    if ts.first() != Some(&0) {
+        ts.insert(0, 0);
+        ns.insert(0, 0);
+    }
+    json!({ "t": delta(&ts), "n": ns })
 }
 
 /// Paths movers drive, each once: a polyline of metres, keyed by (from, to) location.
@@ -623,28 +649,16 @@ fn data(
             queue_events[d].push((*s, -1));
         }
     }
-    let queues: Vec<Value> = queue_events
-        .into_iter()
-        .map(|mut ev| {
-            // At equal times a start comes before an arrival: a lot that starts
-            // the moment it arrives never waited (arrival ≤ t < start).
-            ev.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
-            let (mut ts, mut ns) = (Vec::new(), Vec::new());
-            let mut level = 0i64;
-            for (t, d) in ev {
-                if t >= window.1 {
-                    break;
-                }
-                level += d;
-                push_step(&mut ts, &mut ns, tick(t, window), level);
-            }
-            if ts.first() != Some(&0) {
-                ts.insert(0, 0);
-                ns.insert(0, 0);
-            }
-            json!({ "t": delta(&ts), "n": ns })
-        })
-        .collect();
+    let queues: Vec<Value> = queue_events.into_iter().map(|ev| counts(ev, window)).collect();
+    // Work in process: lots from release to shipping.
+    let mut wip_events = Vec::with_capacity(2 * trace.lots.len());
+    for &(released, shipped) in &trace.lots {
+        wip_events.push((released, 1));
+        if let Some(s) = shipped {
+            wip_events.push((s, -1));
+        }
+    }
+    let wip = counts(wip_events, window);
     // Machines: count of machines in each state, after every change.
     let machines: Vec<Value> = plant
         .departments
@@ -717,6 +731,7 @@ fn data(
         "paths": paths.lines,
         "fleets": fleets,
         "queues": queues,
+        "wip": wip,
         "machines": machines,
         "states": MACHINE_STATES,
         "colours": {
