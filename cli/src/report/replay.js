@@ -129,8 +129,14 @@
     D.depts.forEach(function (d) { held[d[1]] = true; });
     var hp = D.half * G.scale;
     c.setLineDash([4, 3]); c.strokeStyle = C.empty_loc; c.lineWidth = 1.2;
+    c.textAlign = "center"; c.fillStyle = C.empty_loc;
+    c.font = Math.max(10, Math.min(13, hp / 5)) + "px " + FONT;
     for (var l = 0; l < held.length; l++) {
-      if (!held[l]) { c.strokeRect(px(locs[2 * l]) - hp, py(locs[2 * l + 1]) - hp, 2 * hp, 2 * hp); }
+      if (!held[l]) {
+        // An empty location keeps its name: an overflow yard or a parking spot is one.
+        c.strokeRect(px(locs[2 * l]) - hp, py(locs[2 * l + 1]) - hp, 2 * hp, 2 * hp);
+        c.fillText(D.loc_names[l], px(locs[2 * l]), py(locs[2 * l + 1]) + 4);
+      }
     }
     c.setLineDash([]);
     boxes = D.depts.map(function (_, d) { return boxOf(d); });

@@ -111,11 +111,11 @@ pub fn build(plant: &Plant, scenario_sha256: &str, req: &ReplayRequest) -> Resul
         None => match busiest_day(&trace.delivered, (w0, w1)) {
             Some((day, moves)) => (
                 (day, day + DAY_S),
-                format!("the busiest whole day of the trace: the most moves delivered ({moves})"),
+                format!("the busiest whole day of the trace (most moves delivered: {moves})"),
             ),
             None => (
                 (w0, w1.min(w0 + DAY_S)),
-                "the trace holds no whole day: its window, at most 24 h of it".to_string(),
+                "the trace holds no whole day, so its window (at most 24 h of it)".to_string(),
             ),
         },
     };
@@ -759,7 +759,7 @@ pub(crate) fn clock(t: f64) -> String {
 
 fn caption(layout: &str, replication: u64, window: (f64, f64), why: &str) -> String {
     format!(
-        "Layout {}, replication {replication}, from {} to {}: {}.",
+        "Layout {}, replication {replication}, {} to {} \u{2014} {}.",
         esc(layout),
         clock(window.0),
         clock(window.1),
