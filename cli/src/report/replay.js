@@ -135,18 +135,22 @@
       if (!held[l]) {
         // An empty location keeps its name: an overflow yard or a parking spot is one.
         c.strokeRect(px(locs[2 * l]) - hp, py(locs[2 * l + 1]) - hp, 2 * hp, 2 * hp);
-        c.fillText(D.loc_names[l], px(locs[2 * l]), py(locs[2 * l + 1]) + 4);
+        c.fillText(D.loc_names[l], px(locs[2 * l]), py(locs[2 * l + 1]) - hp + Math.max(14, Math.min(20, hp / 4)));
       }
     }
     c.setLineDash([]);
     boxes = D.depts.map(function (_, d) { return boxOf(d); });
+    // One size for every department's name, the largest that fits the longest (at least 11 px).
+    var nameSize = 16;
+    boxes.forEach(function (b) { if (b.role === "w") { nameSize = Math.min(nameSize, fitFont(b.name, b.w - 8, 16)); } });
+    nameSize = Math.max(11, nameSize);
     boxes.forEach(function (b) {
       c.fillStyle = b.role === "w" ? C.dept_fill : C.dock_fill;
       c.strokeStyle = C.slate; c.lineWidth = 1.4;
       roundRect(c, b.x, b.y, b.w, b.h, 4); c.fill(); c.stroke();
       c.fillStyle = C.slate; c.textAlign = "center"; c.textBaseline = "alphabetic";
       if (b.role === "w") {
-        var size = fitFont(b.name, b.w - 8, 16);
+        var size = nameSize;
         b.font = size;
         c.font = "bold " + size + "px " + FONT;
         c.fillText(b.name, b.cx, b.y + size + 5);
@@ -157,9 +161,15 @@
         b.font = 13;
       }
     });
-    c.textAlign = "left";
-    c.font = "12px " + FONT; c.fillStyle = C.slate;
-    c.fillText(D.plant + " \u2014 layout " + D.layout + ", replication " + D.replication, 8, 16);
+    // The plant's name, top left, where the totals (top right) leave room for it.
+    var title = D.plant + " \u2014 layout " + D.layout + ", replication " + D.replication;
+    c.font = "bold 13px " + FONT;
+    var room = G.w - 30 - c.measureText("9999 lots in the plant \u00b7 9999 waiting for a machine").width;
+    c.font = "12px " + FONT;
+    if (c.measureText(title).width <= room) {
+      c.textAlign = "left"; c.fillStyle = C.slate;
+      c.fillText(title, 8, 16);
+    }
   }
   function roundRect(c, x, y, w, h, r) {
     c.beginPath();
