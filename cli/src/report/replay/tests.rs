@@ -384,3 +384,53 @@ fn staging_and_breakdowns_show_down_machines_and_drives_to_the_overflow_yard() {
     assert!(to_yard, "a path ends at the overflow yard");
     assert!(r.data_bytes <= 3_000_000);
 }
+
+#[test]
+fn tow_trains_and_every_fleet_rule_replay_inside_their_moves() {
+    for name in ["validation/tow-train.yaml", "validation/all-fleet-rules.yaml"] {
+        let tmp = tempfile::tempdir().unwrap();
+        let dir = tmp.path().join("trace");
+        let plant = layflow_models::load_scenario(&scenario(name)).unwrap();
+        let first = plant.layouts[0].name.clone();
+        let (plant, sha) = trace(name, &[&first], &dir);
+        let r = build(&plant, &sha, &request(&dir, None, None)).ok().expect("the replay builds");
+        let d = data(&r);
+        let (w0, n) = (r.window.0, d["n"].as_i64().unwrap());
+        let tick = |t: f64| ((t - w0) * TICKS_PER_S).round() as i64;
+        let moves = rows(&dir, "moves.csv");
+        let mut loaded_legs = 0;
+        // Every loaded drive lies inside one of its mover's moves (a tow train's drive between two
+        // pick-ups lies inside the first load's move), and a mover is drawn loaded only then.
+        for (fi, fleet) in plant.fleets().iter().enumerate() {
+            for k in 0..fleet.count as usize {
+                let m = &d["fleets"][fi]["movers"][k];
+                let starts = cumul(&m["t"]);
+                let mine: Vec<(i64, i64)> = moves
+                    .iter()
+                    .filter(|mv| mv["fleet"] == fleet.id && mv["mover"] == (k + 1).to_string())
+                    .filter_map(|mv| Some((tick(num(mv, "picked_up")?), tick(num(mv, "delivered")?))))
+                    .collect();
+                for (i, p) in m["p"].as_array().unwrap().iter().enumerate() {
+                    if p.as_i64().unwrap() % 2 == 1 {
+                        let (s, e) = (starts[i], starts[i] + m["d"][i].as_i64().unwrap());
+                        assert!(
+                            mine.iter().any(|(a, b)| *a.max(&0) <= s && e <= *b.min(&n)),
+                            "{name}: {} {}: the loaded drive {s}..{e} lies in a move",
+                            fleet.id,
+                            k + 1
+                        );
+                        loaded_legs += 1;
+                    }
+                }
+            }
+        }
+        // The tow-train check has four lots: out to bay-a with three, on to bay-b, and out again with one.
+        assert!(loaded_legs >= 3, "{name}: {loaded_legs} loaded drives");
+        if name.contains("tow") {
+            assert_eq!(loaded_legs, 3);
+            // A one-hour run holds no whole day: the replay is of the traced window.
+            assert_eq!(r.window, (0.0, 3600.0));
+            assert!(r.html.contains("holds no whole day"));
+        }
+    }
+}
