@@ -12,10 +12,11 @@ use std::time::Instant;
 
 use clap::Args;
 use layflow_models::plant::Plant;
-use layflow_models::results::folder::check_new_file;
+use layflow_models::results::folder::{check_new_file, sha256_hex, write_atomic};
 use layflow_models::sim::trace::{untraceable, TraceOptions, TraceSink, TRACE_FILES};
 use layflow_models::sim::{simulate_traced, Plan, RunSpec};
 use layflow_models::units::{format_duration, parse_duration};
+use serde::{Deserialize, Serialize};
 
 use crate::failure::Failure;
 use crate::output::note;
@@ -43,6 +44,36 @@ pub struct TraceArgs {
     pub force: bool,
 }
 
+/// The name of a trace folder's manifest, written beside its five CSV files.
+pub(crate) const TRACE_MANIFEST: &str = "trace.json";
+
+/// `trace.json`: what a trace folder holds, so that a later reader (the
+/// report's replay) can tell which scenario, layout and window it is of
+/// without being told again (docs/traces.md, "The manifest").
+#[derive(Debug, Clone, Serialize, Deserialize, PartialEq)]
+pub(crate) struct TraceManifest {
+    /// The layflow version that wrote the trace.
+    pub layflow_version: String,
+    /// The scenario file as given on the command line.
+    pub scenario: String,
+    /// SHA-256 of the scenario file's text, hex (as results folders name it).
+    pub scenario_sha256: String,
+    /// The plant's name.
+    pub plant: String,
+    /// The layout traced in this folder.
+    pub layout: String,
+    /// The replications traced, numbered from 1 as `run` reports them.
+    pub replications: Vec<u64>,
+    /// The traced window, simulated seconds [from, to].
+    pub window_s: (f64, f64),
+    /// The run's horizon, s.
+    pub horizon_s: f64,
+    /// The run's warm-up, s.
+    pub warmup_s: f64,
+    /// The run's base seed.
+    pub seed: u64,
+}
+
 /// The checked trace request: folders opened, files created with their headers.
 pub struct TracePlan {
     /// Replications to trace, 0-based.
@@ -55,7 +86,7 @@ pub struct TracePlan {
 }
 
 /// A layout's folder name: its name with anything but letters, digits, `.`, `-` and `_` made `_`.
-fn folder_name(name: &str) -> String {
+pub(crate) fn folder_name(name: &str) -> String {
     let s: String = name
         .chars()
         .map(|c| if c.is_alphanumeric() || matches!(c, '.' | '-' | '_') { c } else { '_' })
@@ -67,9 +98,10 @@ fn folder_name(name: &str) -> String {
     }
 }
 
-/// Reads `--trace-window "FROM..TO"` in seconds.
-fn parse_window(text: &str, horizon_s: f64) -> Result<(f64, f64), Failure> {
-    let bad = |why: String| Failure::input(format!("--trace-window {text:?}: {why}"));
+/// Reads `--trace-window "FROM..TO"` in seconds (the report's `--replay-window` too).
+/// `flag` names the option in messages.
+pub(crate) fn parse_window(flag: &str, text: &str, horizon_s: f64) -> Result<(f64, f64), Failure> {
+    let bad = |why: String| Failure::input(format!("{flag} {text:?}: {why}"));
     let (a, b) = text
         .split_once("..")
         .ok_or_else(|| bad("write it as FROM..TO with units, e.g. \"2 d..3 d\" or \"36 h..48 h\"".into()))?;
@@ -117,7 +149,8 @@ impl TraceArgs {
         let mut reps: Vec<u64> = reps.iter().map(|r| r - 1).collect();
         reps.sort_unstable();
         reps.dedup();
-        let window = self.trace_window.as_deref().map(|w| parse_window(w, horizon_s)).transpose()?;
+        let window =
+            self.trace_window.as_deref().map(|w| parse_window("--trace-window", w, horizon_s)).transpose()?;
         for &l in layouts {
             if let Some(why) = untraceable(&Plan::new(plant, l)) {
                 return Err(Failure::input(format!(
@@ -174,12 +207,12 @@ impl TraceArgs {
         if !self.force {
             return Err(Failure::input(format!(
                 "--trace {}: the folder is not empty; choose a new or empty folder, or add --force to replace \
-                 the trace files in it (it deletes only {})",
+                 the trace files in it (it deletes only {} and {TRACE_MANIFEST})",
                 folder.display(),
                 TRACE_FILES.join(", ")
             )));
         }
-        for f in TRACE_FILES {
+        for f in TRACE_FILES.iter().chain([&TRACE_MANIFEST]) {
             let path = folder.join(f);
             if path.is_file() {
                 std::fs::remove_file(&path)
@@ -191,9 +224,15 @@ impl TraceArgs {
 }
 
 impl TracePlan {
-    /// Run the traced replications of every traced layout, then draw the timeline.
-    pub fn write(mut self, plant: &Plant, spec: &RunSpec) -> Result<(), Failure> {
+    /// Run the traced replications of every traced layout, write each
+    /// folder's `trace.json`, then draw the timeline. `scenario` is the
+    /// scenario file as given (its text is hashed into the manifest).
+    pub fn write(mut self, plant: &Plant, spec: &RunSpec, scenario: &Path) -> Result<(), Failure> {
         let window = self.window.unwrap_or((spec.warmup_s, spec.horizon_s));
+        let text = std::fs::read(scenario).map_err(|e| {
+            Failure::input(format!("{}: cannot read the scenario again: {e}", scenario.display()))
+        })?;
+        let scenario_sha256 = sha256_hex(&text);
         let started = Instant::now();
         for (l, folder, sink) in &mut self.sinks {
             let spec = RunSpec { layout: *l, ..*spec };
@@ -203,6 +242,20 @@ impl TracePlan {
                 simulate_traced(&plan, &spec, r, sink, &opts).map_err(|e| Failure::run(e.to_string()))?;
             }
             sink.flush().map_err(|e| Failure::run(e.to_string()))?;
+            let manifest = TraceManifest {
+                layflow_version: env!("CARGO_PKG_VERSION").to_string(),
+                scenario: scenario.display().to_string(),
+                scenario_sha256: scenario_sha256.clone(),
+                plant: plant.name.clone(),
+                layout: plant.layouts[*l].name.clone(),
+                replications: self.replications.iter().map(|r| r + 1).collect(),
+                window_s: window,
+                horizon_s: spec.horizon_s,
+                warmup_s: spec.warmup_s,
+                seed: spec.seed,
+            };
+            let json = serde_json::to_string_pretty(&manifest).expect("a trace manifest serialises") + "\n";
+            write_atomic(folder, TRACE_MANIFEST, json.as_bytes())?;
             note!(
                 "trace: layout \"{}\", replication{} {}, {} to {}: {}",
                 plant.layouts[*l].name,

@@ -276,11 +276,10 @@ fn a_console_error_or_an_external_picture_fails_the_check() {
     assert_eq!(r["blocked_requests"][0], "https://example.invalid/logo.png", "{r}");
 }
 
-/// The real page: a report of a small demo comparison with a replay, made by
-/// the three commands of the issue-17 contract (notes/report-contract.md),
-/// passes every check in the browser.
+/// The real page: a report of a small demo comparison by hour of day with a
+/// replay of the busiest traced day, made as a user would (compare --out,
+/// run --trace, report --replay), passes every check in the browser.
 #[test]
-#[ignore = "enabled when layflow report lands"]
 fn the_report_page_passes_in_chromium() {
     let Some(()) = browser() else { return };
     let t = tempfile::tempdir().unwrap();
@@ -298,6 +297,8 @@ fn the_report_page_passes_in_chromium() {
             "5d",
             "--warmup",
             "1d",
+            "--by",
+            "hour-of-day",
             "--out",
             &results,
             "--quiet",

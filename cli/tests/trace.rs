@@ -63,6 +63,18 @@ fn a_trace_writes_five_files_and_leaves_runs_output_unchanged() {
         let reps: std::collections::BTreeSet<&str> = lines.map(|l| l.split(',').next().unwrap()).collect();
         assert_eq!(reps.into_iter().collect::<Vec<_>>(), ["1", "2"], "{file}: both replications, numbered from 1");
     }
+    // The manifest names the scenario by its text's hash, the layout, the replications and the window.
+    let manifest: serde_json::Value =
+        serde_json::from_str(&std::fs::read_to_string(trace.join("trace.json")).expect("trace.json"))
+            .unwrap();
+    let demo_text = std::fs::read(common::root().join(DEMO)).unwrap();
+    assert_eq!(manifest["scenario_sha256"].as_str().unwrap().len(), 64);
+    assert_eq!(manifest["scenario_sha256"], layflow_models::results::folder::sha256_hex(&demo_text));
+    assert_eq!(manifest["layout"], "current");
+    assert_eq!(manifest["replications"], serde_json::json!([1, 2]));
+    assert_eq!(manifest["window_s"], serde_json::json!([259_200.0, 432_000.0]));
+    assert_eq!(manifest["horizon_s"], 20.0 * 86_400.0);
+    assert_eq!(manifest["layflow_version"], env!("CARGO_PKG_VERSION"));
     // Every state row lies in the window (3 d..5 d = 259200..432000 s).
     for file in ["mover_states.csv", "machine_states.csv"] {
         let body = std::fs::read_to_string(trace.join(file)).unwrap();
@@ -121,10 +133,17 @@ fn force_replaces_only_the_trace_files() {
     std::fs::create_dir(&t).unwrap();
     std::fs::write(t.join("notes.txt"), "mine").unwrap();
     std::fs::write(t.join("lots.csv"), "old").unwrap();
+    std::fs::write(t.join("trace.json"), "old").unwrap();
     let args =
         ["run", DEMO, "-q", "--layout", "proposed", "--replications", "1", "--trace", t.to_str().unwrap()];
     let o = layflow(&[&args[..], &["--force"]].concat());
     assert!(o.status.success(), "{}", text(&o.stderr));
     assert_eq!(std::fs::read_to_string(t.join("notes.txt")).unwrap(), "mine");
     assert!(std::fs::read_to_string(t.join("lots.csv")).unwrap().starts_with("replication,lot"));
+    let manifest = std::fs::read_to_string(t.join("trace.json")).unwrap();
+    assert!(manifest.contains("\"layout\": \"proposed\""), "trace.json replaced: {manifest}");
+    // Without --force the folder, now full, is refused, and the message names the manifest too.
+    let o = layflow(&args);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o.stderr).contains("machine_states.csv and trace.json"), "{}", text(&o.stderr));
 }

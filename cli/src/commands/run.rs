@@ -95,7 +95,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let wall_s = started.elapsed().as_secs_f64();
     if let Some(traces) = traces {
         let spec = RunSpec { layout: which[0], horizon_s, warmup_s, demand_factor: factor, seed };
-        traces.write(&plant, &spec)?;
+        traces.write(&plant, &spec, &args.scenario)?;
     }
     let events = summaries.iter().map(|s| s.events).sum();
 

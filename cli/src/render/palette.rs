@@ -15,6 +15,11 @@ pub const LEGEND_BORDER: (u8, u8, u8) = (200, 200, 200);
 /// Chart grid lines.
 pub const GRID: (u8, u8, u8) = (235, 235, 235);
 
+/// Each fleet's colour, in the order the scenario lists the fleets (the report's
+/// flows and the replay's movers): slate, amber, then mixes; never teal, the
+/// departments' colour, nor brick, which marks limits and congestion.
+pub const FLEETS: [(u8, u8, u8); 4] = [SLATE, AMBER, (140, 100, 60), (95, 130, 160)];
+
 /// A colour as SVG's `rgb(r,g,b)`.
 pub fn rgb(c: (u8, u8, u8)) -> String {
     format!("rgb({},{},{})", c.0, c.1, c.2)

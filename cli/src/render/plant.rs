@@ -109,7 +109,7 @@ fn label(x: f64, y: f64, size: f64, content: &str) -> Text {
 }
 
 /// The median distance from each location to its nearest neighbour, m.
-pub fn typical_spacing(plant: &Plant) -> f64 {
+pub(crate) fn typical_spacing(plant: &Plant) -> f64 {
     let mut nn: Vec<f64> = plant
         .locations
         .iter()

@@ -8,7 +8,6 @@ use layflow_models::plant::{DepartmentRole, Plant};
 use crate::render::palette::{mix, rgb, AISLE_IDLE, AMBER, BRICK, SLATE, TEAL};
 use crate::render::plot::FONT_FAMILY;
 
-use super::charts::series_colour;
 use super::html::esc;
 
 /// What the simulation says about one layout, for its drawing.
@@ -30,8 +29,7 @@ const PAD: f64 = 26.0;
 
 /// The colour a fleet's flows are drawn in (the same in the replay's legend).
 pub fn fleet_colour(f: usize) -> (u8, u8, u8) {
-    // Departments are teal; the fleets take the other colours first.
-    series_colour([2, 1, 3, 0].get(f).copied().unwrap_or(f))
+    crate::render::palette::FLEETS[f % crate::render::palette::FLEETS.len()]
 }
 
 /// Departments' fill: pale at 0% utilisation, full teal at 100%.
