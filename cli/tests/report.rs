@@ -317,8 +317,48 @@ fn bad_input_is_refused_with_exit_2() {
     refused(&["report", &mixed, "-o", &out], "comes from an experiment");
     // Results of another scenario.
     refused(&["report", &res, "--scenario", "scenarios/aisles-demo.yaml", "-o", &out], "another scenario");
-    // A replay without a trace.
+    // A replay without a trace, and a window outside the traced one.
     refused(&["report", &res, "--replay", &d("no-trace"), "-o", &out], "no-trace");
+    let trace = d("trace");
+    let o = layflow(&[
+        "run",
+        "scenarios/demo.yaml",
+        "--layout",
+        "current",
+        "--replications",
+        "1",
+        "--horizon",
+        "2 d",
+        "--warmup",
+        "1 d",
+        "--trace",
+        &trace,
+        "-q",
+    ]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    refused(
+        &["report", &res, "--replay", &trace, "--replay-window", "5 d..6 d", "-o", &out],
+        "--replay-window",
+    );
+    // A trace of another scenario.
+    let other = d("other-trace");
+    let o = layflow(&[
+        "run",
+        "scenarios/aisles-demo.yaml",
+        "--layout",
+        "current",
+        "--replications",
+        "1",
+        "--horizon",
+        "2 d",
+        "--warmup",
+        "1 d",
+        "--trace",
+        &other,
+        "-q",
+    ]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    refused(&["report", &res, "--replay", &other, "-o", &out], "scenario");
     // --report on a shard; --replay without --report.
     refused(&["compare", "scenarios/demo.yaml", "--replications", "2", "--replay", &d("t")], "--report");
 }

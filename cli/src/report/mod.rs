@@ -156,7 +156,10 @@ pub fn check_out(out: &Path, flag: &str, force: bool) -> Result<(), Failure> {
     }
     // Writable? A temporary file in the folder tells, and goes at once.
     tempfile::Builder::new().prefix(".layflow-report-check.").tempfile_in(dir).map_err(|e| {
-        Failure::input(format!("{flag} {}: cannot write in {}: {e}", out.display(), dir.display()))
+        // tempfile adds the temporary file's name, which means nothing to the user.
+        let why = e.to_string();
+        let why = why.split(" at path ").next().unwrap_or(&why).to_string();
+        Failure::input(format!("{flag} {}: cannot write in {}: {why}", out.display(), dir.display()))
     })?;
     Ok(())
 }
