@@ -258,6 +258,13 @@ fn an_experiment_page_reads_back_and_a_comparison_joins_it() {
     ]);
     assert!(o.status.success(), "{}", text(&o.stderr));
     let page = std::fs::read_to_string(&both).unwrap();
+    // The plant once; every section id once.
+    assert_eq!(page.matches("<section id=\"plant\"").count(), 1);
+    let ids: Vec<&str> = page.split("<section id=\"").skip(1).map(|x| x.split('"').next().unwrap()).collect();
+    let mut unique = ids.clone();
+    unique.sort_unstable();
+    unique.dedup();
+    assert_eq!(ids.len(), unique.len(), "duplicate section ids: {ids:?}");
     let cells = number_cells(&page);
     // Each study's cells read back against its own summary.csv.
     for (k, dir) in [(0, &cmp), (1, &res)] {

@@ -107,7 +107,7 @@ pub fn page(inp: &Inputs) -> String {
         kinds = esc(&kinds.join(", ")),
         scen = esc(&inp.scenario),
     );
-    s.push_str(&body);
+    s.push_str(&unique_section_ids(&body));
     if let Some(r) = inp.replay {
         s.push_str(&r.html);
     }
@@ -127,8 +127,36 @@ pub fn page(inp: &Inputs) -> String {
     s
 }
 
+/// Several studies on one page each bring their sections: the second
+/// `over-time` becomes `over-time-2`, so every id stays unique.
+fn unique_section_ids(body: &str) -> String {
+    let mut seen: Vec<String> = Vec::new();
+    let mut out = String::with_capacity(body.len());
+    let mut rest = body;
+    while let Some(i) = rest.find("<section id=\"") {
+        let start = i + "<section id=\"".len();
+        out.push_str(&rest[..start]);
+        let end = start + rest[start..].find('"').unwrap_or(0);
+        let id = &rest[start..end];
+        let n = seen.iter().filter(|x| *x == id).count();
+        out.push_str(id);
+        if n > 0 {
+            let _ = write!(out, "-{}", n + 1);
+        }
+        seen.push(id.to_string());
+        rest = &rest[end..];
+    }
+    out.push_str(rest);
+    out
+}
+
+/// Whether an earlier study on the page has drawn the plant already.
+fn plant_drawn_before(inp: &Inputs, k: usize) -> bool {
+    inp.studies[..k].iter().any(|s| matches!(s.kind, Kind::Compare | Kind::Experiment))
+}
+
 /// The size of a difference without its sign, in a unit that reads well: "4.83 ± 1.17 min".
-fn magnitude(def: Option<&layflow_models::metrics::registry::Def>, d: &Estimate, _scale: f64) -> String {
+fn magnitude(def: Option<&layflow_models::metrics::registry::Def>, d: &Estimate) -> String {
     let e = Estimate { mean: d.mean.abs(), ..*d };
     match def.map(|x| x.unit) {
         Some(Unit::Seconds) => crate::render::table::dur_in(&e, crate::render::table::unit_for([e.mean])),
@@ -224,7 +252,7 @@ fn compare_answer(st: &Study) -> String {
                 s,
                 " The next, <strong>{}</strong>, is {} {}{}.",
                 esc(o),
-                esc(&magnitude(def, &d, best_e.mean)),
+                esc(&magnitude(def, &d)),
                 if d.mean < 0.0 { "lower" } else { "higher" },
                 if sure {
                     ": a real difference (its 95% paired interval excludes zero)"
@@ -249,7 +277,7 @@ fn compare_answer(st: &Study) -> String {
                 format!("<strong>{}</strong> may be better, not yet shown to be", esc(&best))
             },
             v = esc(&value_text(def, &best_e)),
-            diff = esc(&magnitude(def, &d, best_e.mean)),
+            diff = esc(&magnitude(def, &d)),
             pct = if pct.is_finite() { format!(" ({pct:.1}%)") } else { String::new() },
             dir = if d.mean < 0.0 { "lower" } else { "higher" },
             base = esc(baseline),
@@ -413,7 +441,8 @@ fn compare_sections(inp: &Inputs, k: usize, st: &Study) -> String {
         .iter()
         .filter_map(|l| shading_of(inp, st, l, &|r| st.csv.get(r, "demand_factor") == level))
         .collect();
-    s.push_str(&plant_section(
+    if !plant_drawn_before(inp, k) {
+        s.push_str(&plant_section(
         inp,
         &shadings,
         &format!(
@@ -421,6 +450,7 @@ fn compare_sections(inp: &Inputs, k: usize, st: &Study) -> String {
              flows are the from-to chart's loads per hour, coloured by the fleet that carries them."
         ),
     ));
+    }
 
     // The chart: plant metrics with a better direction.
     let others: Vec<&String> = layouts.iter().filter(|l| **l != baseline).collect();
@@ -997,7 +1027,7 @@ fn experiment_sections(inp: &Inputs, k: usize, st: &Study) -> String {
         .filter_map(|f| f.as_str().map(str::to_string))
         .collect();
     let mut s = String::new();
-    if factors.iter().any(|f| f == "layout") {
+    if factors.iter().any(|f| f == "layout") && !plant_drawn_before(inp, k) {
         let mut seen: Vec<String> = Vec::new();
         let mut shadings = Vec::new();
         for r in 0..st.csv.rows.len() {
