@@ -27,7 +27,7 @@ static ALLOCATOR: mimalloc::MiMalloc = mimalloc::MiMalloc;
 
 use clap::{Parser, Subcommand};
 
-use commands::{check, compare, draw, experiment, fleet, run, search};
+use commands::{check, compare, draw, experiment, fleet, generate, run, search};
 
 /// Simulate work in process moving through a plant laid out by departments,
 /// and compare layouts on throughput, WIP, flow time and handling cost.
@@ -92,6 +92,10 @@ enum Command {
     /// the plant side by side, charts, results over time, assumptions, and a
     /// replay of a day from a trace (--replay).
     Report(report::ReportArgs),
+    /// Write a synthetic plant of real size (80 departments, 1,000 products by
+    /// default) as a scenario file, for trials and benchmarks (docs/speed.md).
+    #[command(hide = true)]
+    Generate(generate::GenerateArgs),
 }
 
 /// The last guard: output goes through `output.rs`, which returns write
@@ -140,6 +144,7 @@ fn main() -> ExitCode {
         Command::Summarize(a) => experiment::summarize(&a),
         Command::Draw(a) => draw::draw(&a),
         Command::Report(a) => report::report(&a),
+        Command::Generate(a) => generate::generate(&a),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

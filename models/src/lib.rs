@@ -10,6 +10,7 @@
 pub mod analysis;
 pub mod dist;
 pub mod experiment;
+pub mod generate;
 pub mod limits;
 pub mod metrics;
 pub mod network;

@@ -5,5 +5,6 @@ pub mod compare;
 pub mod draw;
 pub mod experiment;
 pub mod fleet;
+pub mod generate;
 pub mod run;
 pub mod search;
