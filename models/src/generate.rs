@@ -68,6 +68,9 @@ impl Seq {
     }
 }
 
+/// Groups of departments that product families mostly visit.
+const GROUPS: usize = 10;
+
 /// The fleets a generated plant may have, in order: id, kind, count, speed, handling, capacity.
 const FLEETS: [(&str, &str, &str, &str); 4] = [
     ("forklifts", "forklift", "{ loaded: 8 km/h, empty: 10 km/h }", "{ load: 40 s, unload: 30 s }"),
@@ -93,10 +96,20 @@ pub fn scenario(spec: &Spec) -> String {
     let products: Vec<Product> = (0..np)
         .map(|_| {
             let n = rng.between(lo, hi);
-            // A job shop's variable path: departments drawn at random, never the same twice in a row.
+            // A job shop's variable path, but not a uniform one: a product
+            // belongs to a family that does three operations in four in its
+            // own group of departments (every tenth department), the rest
+            // anywhere. The starting grid scatters each group, so a search
+            // has real flow to gather, as in a plant that grew over time.
+            let family = rng.between(0, GROUPS.min(nd) - 1);
+            let in_group = (0..nd).filter(|d| d % GROUPS.min(nd) == family).count();
             let mut ops: Vec<(usize, f64)> = Vec::with_capacity(n);
             for _ in 0..n {
-                let mut d = rng.between(0, nd - 1);
+                let mut d = if rng.unit() < 0.75 {
+                    family + GROUPS.min(nd) * rng.between(0, in_group - 1)
+                } else {
+                    rng.between(0, nd - 1)
+                };
                 if ops.last().is_some_and(|&(p, _)| p == d) {
                     d = (d + 1) % nd;
                 }
