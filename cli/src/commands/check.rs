@@ -34,5 +34,8 @@ pub fn check(args: &CheckArgs) -> Result<(), Failure> {
         Format::Json => out(&(serde_json::to_string_pretty(&to_json(&plant, &pic)).expect("JSON") + "\n"))?,
     }
     warn_overload(&plant, &pic);
+    for m in layflow_models::areas::misfits(&plant) {
+        crate::output::note!("WARNING: {m}");
+    }
     Ok(())
 }

@@ -4,7 +4,8 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use layflow_models::analysis::StaticPicture;
-use layflow_models::plant::{Demand, DepartmentRole, Handling, LoadStart, Plant};
+use layflow_models::areas;
+use layflow_models::plant::{Demand, DepartmentRole, Footprint, Handling, LoadStart, Plant};
 use layflow_models::units::format_duration;
 use serde_json::json;
 
@@ -184,7 +185,42 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             );
         }
     }
+    if areas::has_areas(plant) {
+        area_tables(&mut s, plant);
+    }
     s
+}
+
+/// Per layout, the area each department needs against the area its location
+/// offers (only for a plant that gives areas, so other plants' output is unchanged).
+fn area_tables(s: &mut String, plant: &Plant) {
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "Areas: floor each department needs (its `area`/`size`) against what its location offers, m²"
+    );
+    let cell = |f: &Option<Footprint>| f.as_ref().map_or("-".to_string(), areas::describe);
+    for l in 0..plant.layouts.len() {
+        let _ = writeln!(s, "  layout {}", plant.layouts[l].name);
+        let mut t = Table::new(&["department", "location", "needs", "offers", ""]);
+        for r in areas::rows(plant, l) {
+            t.row(vec![
+                plant.departments[r.department].id.clone(),
+                plant.locations[r.location].id.clone(),
+                cell(&r.needed),
+                cell(&r.available),
+                match r.fits() {
+                    Some(false) => "DOES NOT FIT".into(),
+                    Some(true) => String::new(),
+                    None if r.needed.is_some() => "location gives no area".into(),
+                    None => String::new(),
+                },
+            ]);
+        }
+        s.push_str(&t.render(4));
+    }
+    let _ =
+        writeln!(s, "  (areas are checked and drawn only: the simulation and the search do not use them)");
 }
 
 /// Departments with flow in or out beyond which the from-to chart is listed
@@ -274,7 +310,7 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
         .filter(|e| e.2 > 0.0)
         .map(|(i, j, f)| json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }))
         .collect();
-    json!({
+    let mut j = json!({
         "plant": plant.name,
         "demand_factor": pic.demand_factor,
         "products": plant.products.iter().enumerate().map(|(p, prod)| json!({
@@ -309,5 +345,28 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
                 "utilization_lower_bound": lp.fleet_utilization_lower_bound[f],
             })).collect::<Vec<_>>(),
         })).collect::<Vec<_>>(),
+    });
+    // Only for a plant that gives areas, so other plants' JSON is unchanged.
+    if areas::has_areas(plant) {
+        j["areas"] = areas_json(plant);
+    }
+    j
+}
+
+/// Per layout, each department's area needed and its location's area available (m²), and the misfit warnings.
+fn areas_json(plant: &Plant) -> serde_json::Value {
+    let fp = |f: &Option<Footprint>| f.map(|f| json!({ "area_m2": f.area_m2, "size_m": f.size_m }));
+    json!({
+        "layouts": (0..plant.layouts.len()).map(|l| json!({
+            "layout": plant.layouts[l].name,
+            "departments": areas::rows(plant, l).iter().map(|r| json!({
+                "department": plant.departments[r.department].id,
+                "location": plant.locations[r.location].id,
+                "needed": fp(&r.needed),
+                "available": fp(&r.available),
+                "fits": r.fits(),
+            })).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
+        "warnings": areas::misfits(plant),
     })
 }
