@@ -12,6 +12,7 @@ pub mod areas;
 pub mod dist;
 pub mod experiment;
 pub mod limits;
+pub mod measured;
 pub mod metrics;
 pub mod network;
 pub mod plant;
