@@ -77,3 +77,18 @@ fn draw_puts_each_location_to_scale() {
         assert!((got / scale - metres).abs() < 1e-9, "{got} px is not {metres} m at {scale} px/m");
     }
 }
+
+#[test]
+fn draw_outlines_a_department_that_does_not_fit() {
+    let dir = tempfile::tempdir().unwrap();
+    let out = dir.path().join("swapped.svg");
+    let o = layflow(&["draw", DEMO, "--layout", "swapped", "--out", out.to_str().unwrap()]);
+    assert_eq!(o.status.code(), Some(0), "{}", text(&o.stderr));
+    let svg = std::fs::read_to_string(&out).unwrap();
+    // Exactly one: press-brake (180 m²) on bay-4 (100 m²).
+    assert_eq!(svg.matches("data-misfit=\"true\"").count(), 1, "{svg}");
+    assert!(svg.contains("press-brake needs 180 m² but bay-4 offers 100 m²"));
+    let o = layflow(&["draw", DEMO, "--layout", "current", "--out", out.to_str().unwrap(), "--force"]);
+    assert_eq!(o.status.code(), Some(0), "{}", text(&o.stderr));
+    assert!(!std::fs::read_to_string(&out).unwrap().contains("data-misfit"));
+}

@@ -415,16 +415,34 @@ fn locations(plant: &Plant, layout: usize, frame: &Frame, half_px: f64, net: Opt
             Some(DepartmentRole::Work) => (rgb(mix(TEAL, (255, 255, 255), 0.9)), rgb(SLATE), "none"),
             Some(_) => (rgb(mix(AMBER, (255, 255, 255), 0.75)), rgb(SLATE), "none"),
         };
+        // A department that needs more floor than its location offers: a brick outline and a tooltip.
+        let misfit = holder[l].and_then(|d| {
+            let need = plant.departments[d].footprint?;
+            let have = loc.footprint?;
+            (!have.holds(&need)).then(|| {
+                format!(
+                    "{} needs {} but {} offers {}",
+                    plant.departments[d].id,
+                    layflow_models::areas::describe(&need),
+                    loc.id,
+                    layflow_models::areas::describe(&have)
+                )
+            })
+        });
+        let (stroke, width) = if misfit.is_some() { (rgb(BRICK), 3.0) } else { (stroke, 1.4) };
+        let mut rect = Rectangle::new();
+        if let Some(why) = misfit {
+            rect = rect.set("data-misfit", "true").add(Title::new(why));
+        }
         g = g.add(
-            Rectangle::new()
-                .set("x", x - hw)
+            rect.set("x", x - hw)
                 .set("y", y - hh)
                 .set("width", 2.0 * hw)
                 .set("height", 2.0 * hh)
                 .set("rx", 3)
                 .set("fill", fill)
                 .set("stroke", stroke)
-                .set("stroke-width", 1.4)
+                .set("stroke-width", width)
                 .set("stroke-dasharray", dash)
                 .set("class", "location")
                 .set("data-id", loc.id.clone()),
