@@ -110,4 +110,15 @@ mod tests {
         assert!(!loc.holds(&Footprint { area_m2: 121.0, size_m: None }));
         assert!(loc.holds(&Footprint { area_m2: 120.0, size_m: None }), "exactly the area fits");
     }
+
+    #[test]
+    fn a_location_without_a_footprint_prints_as_before_footprints_existed() {
+        // An experiment's content hash covers the plant's debug text: a plant
+        // without areas must keep the text (and so the hash) it had.
+        use crate::plant::Location;
+        let l = Location { id: "bay".into(), x: 1.0, y: 2.5, footprint: None };
+        assert_eq!(format!("{l:?}"), "Location { id: \"bay\", x: 1.0, y: 2.5 }");
+        let l = Location { footprint: Some(Footprint { area_m2: 4.0, size_m: None }), ..l };
+        assert!(format!("{l:?}").contains("footprint"));
+    }
 }
