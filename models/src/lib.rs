@@ -8,10 +8,12 @@
 //! fleet size and the layout search, and `experiment` runs plans durably.
 
 pub mod analysis;
+pub mod areas;
 pub mod dist;
 pub mod experiment;
 pub mod generate;
 pub mod limits;
+pub mod measured;
 pub mod metrics;
 pub mod network;
 pub mod plant;

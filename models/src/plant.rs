@@ -5,6 +5,8 @@
 //! and the static analysis read only this; nothing in it is a string that the
 //! hot loop needs to look at.
 
+use std::fmt;
+
 use crate::dist::Dist;
 
 /// A whole plant as the scenario describes it, with every layout it names.
@@ -43,7 +45,7 @@ pub struct Plant {
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
-#[derive(Debug, Clone)]
+#[derive(Clone)]
 pub struct Location {
     /// The scenario's name for it.
     pub id: String,
@@ -51,6 +53,67 @@ pub struct Location {
     pub x: f64,
     /// Pick-up/drop-off point, metres.
     pub y: f64,
+    /// The floor area the slot offers (`area`, `size`); `None` when not given.
+    pub footprint: Option<Footprint>,
+}
+
+// Written out so that a location without a footprint prints as it did before
+// footprints existed: an experiment's content hash covers the plant's debug
+// text, and a plan's hash must not change for a scenario that gives no areas.
+impl fmt::Debug for Location {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Location");
+        s.field("id", &self.id).field("x", &self.x).field("y", &self.y);
+        if let Some(fp) = &self.footprint {
+            s.field("footprint", fp);
+        }
+        s.finish()
+    }
+}
+
+impl Location {
+    /// Half the width and half the depth of the slot's rectangle in metres, for
+    /// drawing to scale: its `size`, or the square of its `area`; `None` without either.
+    /// The rectangle is centred on the pick-up/drop-off point.
+    pub fn half_extent_m(&self) -> Option<(f64, f64)> {
+        self.footprint.map(|f| f.half_extent_m())
+    }
+}
+
+/// A floor area in square metres, and the rectangle (width along x, depth
+/// along y, metres) where one was given. When both were given they agree to
+/// within 1% (the loader checks), and `area_m2` is the one written.
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Footprint {
+    /// Square metres.
+    pub area_m2: f64,
+    /// `[width, depth]` in metres, where given.
+    pub size_m: Option<[f64; 2]>,
+}
+
+impl Footprint {
+    /// Half the width and half the depth, metres: the size's, or a square's of the area.
+    pub fn half_extent_m(&self) -> (f64, f64) {
+        match self.size_m {
+            Some([w, d]) => (w / 2.0, d / 2.0),
+            None => {
+                let side = self.area_m2.sqrt();
+                (side / 2.0, side / 2.0)
+            }
+        }
+    }
+
+    /// Whether `need` fits in this footprint: its area is no larger and, when
+    /// both have a rectangle, the rectangle fits as given or turned by 90°.
+    pub fn holds(&self, need: &Footprint) -> bool {
+        if need.area_m2 > self.area_m2 {
+            return false;
+        }
+        match (need.size_m, self.size_m) {
+            (Some([w, d]), Some([lw, ld])) => (w <= lw && d <= ld) || (d <= lw && w <= ld),
+            _ => true,
+        }
+    }
 }
 
 /// Where the location-to-location distances came from.
@@ -94,7 +157,7 @@ pub enum DepartmentRole {
 }
 
 /// A department (or dock).
-#[derive(Debug, Clone)]
+#[derive(Clone)]
 pub struct Department {
     /// The scenario's name for it.
     pub id: String,
@@ -113,6 +176,27 @@ pub struct Department {
     pub calendar: Option<WorkCalendar>,
     /// Setup times when a machine changes product; `None`: no setups.
     pub setups: Option<Setups>,
+    /// The floor area the department needs (`area`, `size`); `None` when not given.
+    pub footprint: Option<Footprint>,
+}
+
+// Written out for the reason given at `Location`'s: no footprint, the debug text of before.
+impl fmt::Debug for Department {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Department");
+        s.field("id", &self.id)
+            .field("role", &self.role)
+            .field("machines", &self.machines)
+            .field("staging", &self.staging)
+            .field("breakdowns", &self.breakdowns)
+            .field("turn_away", &self.turn_away)
+            .field("calendar", &self.calendar)
+            .field("setups", &self.setups);
+        if let Some(fp) = &self.footprint {
+            s.field("footprint", fp);
+        }
+        s.finish()
+    }
 }
 
 /// When a department works, and what becomes of an operation under way when a shift ends.

@@ -11,6 +11,7 @@ use layflow_models::search::{
     self, AnnealParams, Limits, Method, PlantProblem, Problem, Ranked, Settings, TabuParams,
 };
 
+use crate::commands::check::FromToArgs;
 use crate::commands::compare::{compare_plant, CompareArgs, CompareFormat, SelectArgs};
 use crate::failure::Failure;
 use crate::output::out;
@@ -49,7 +50,7 @@ pub struct SearchArgs {
     pub scenario: Option<PathBuf>,
     /// Search a QAPLIB instance (NAME.dat) instead of a scenario, to see how the methods do on a
     /// problem with a published optimum; NAME.sln beside it gives the gap.
-    #[arg(long, value_name = "FILE.dat", conflicts_with_all = ["scenario", "out", "validate", "from"])]
+    #[arg(long, value_name = "FILE.dat", conflicts_with_all = ["scenario", "out", "validate", "from", "from_to"])]
     pub qaplib: Option<PathBuf>,
     /// Methods to run, separated by commas: tabu (robust tabu search, Taillard 1991), anneal
     /// (simulated annealing), exchange (steepest-descent pairwise exchange with random restarts), or all.
@@ -74,6 +75,8 @@ pub struct SearchArgs {
     /// (overrides demand_factor; also used by --validate).
     #[arg(long, value_name = "FACTOR", value_parser = crate::settings::parse_demand)]
     pub demand: Option<f64>,
+    #[command(flatten)]
+    pub from_to: FromToArgs,
     /// Write the layouts found to this YAML file; add it to the scenario with
     /// `layout_files: [FILE]` and `layflow compare` runs them.
     #[arg(long, value_name = "FILE.yaml")]
@@ -257,7 +260,11 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
             layout(&plant, name).map_err(|f| Failure::input(f.message().replace("--layout ", "--from ")))?
         }
     };
-    let picture = StaticPicture::new(&plant, factor);
+    let measured = args.from_to.read(&plant)?;
+    let mut picture = StaticPicture::new(&plant, factor);
+    if let Some(m) = &measured {
+        picture = m.apply(&plant, picture);
+    }
     let pp = PlantProblem::new(&plant, &picture)
         .map_err(|e| Failure::input(format!("{}: {e}", path.display())))?;
     let start_layout = &plant.layouts[from].location_of;
@@ -314,10 +321,29 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
         write_file(file, layouts_yaml(&report, path, &found, file).as_bytes(), "--out")?;
     }
     match args.format {
-        Format::Table => out(&render(&report, &found, args.out.as_deref(), args.validate))?,
+        Format::Table => {
+            if let Some(m) = &measured {
+                out(&format!("{}\n\n", crate::render::check::measured_note(&plant, m)))?;
+            }
+            out(&render(&report, &found, args.out.as_deref(), args.validate))?
+        }
         Format::Json => {
             let json = json_output(&report, &found, args.sim.no_wall_clock);
-            out(&(serde_json::to_string_pretty(&json).expect("plain data serializes") + "\n"))?;
+            let text = match &measured {
+                None => serde_json::to_string_pretty(&json),
+                // A value only with a measured chart (its keys then sorted), so the usual output keeps its form.
+                Some(m) => {
+                    let mut v = serde_json::to_value(&json).expect("plain data serializes");
+                    v["from_to_source"] = serde_json::json!({
+                        "measured": true,
+                        "file": m.file,
+                        "loads_counted_per_s": m.per_s,
+                        "note": "not derived from the routings; run, compare and --validate still simulate the routings",
+                    });
+                    serde_json::to_string_pretty(&v)
+                }
+            };
+            out(&(text.expect("plain data serializes") + "\n"))?;
         }
     }
     if args.validate {

@@ -4,14 +4,17 @@ use std::fmt::Write as _;
 use std::path::Path;
 
 use layflow_models::analysis::StaticPicture;
-use layflow_models::plant::{Demand, DepartmentRole, Handling, LoadStart, Plant};
+use layflow_models::areas;
+use layflow_models::measured::MeasuredChart;
+use layflow_models::plant::{Demand, DepartmentRole, Footprint, Handling, LoadStart, Plant};
 use layflow_models::units::format_duration;
 use serde_json::json;
 
 use super::table::{count, num, share, whole, Table};
 
 /// The static picture as tables.
-pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
+/// With `measured`, the from-to chart and the load-distance come from it, and the output says so.
+pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<&MeasuredChart>) -> String {
     let mut s = String::new();
     let docks = plant.departments.iter().filter(|d| d.role != DepartmentRole::Work).count();
     let _ = writeln!(s, "{}", plant.name);
@@ -39,6 +42,9 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
         format!(" ({}, {}{travel})", count(n.nodes.len(), "node"), count(n.segments.len(), "segment"))
     });
     let _ = writeln!(s, "distances: {}{network}", plant.distance_rule.describe());
+    if let Some(m) = measured {
+        let _ = writeln!(s, "{}", measured_note(plant, m));
+    }
     let _ = writeln!(s);
     let _ = writeln!(s, "Demand: long-run mean lots per hour (demand factor applied)");
     let w = plant.products.iter().map(|p| p.id.chars().count()).max().unwrap_or(0);
@@ -63,8 +69,12 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     }
     let _ = writeln!(s);
 
-    from_to_chart(&mut s, plant, pic);
-    let _ = writeln!(s, "Departments: predicted utilisation = arrivals × mean processing time ÷ machines");
+    from_to_chart(&mut s, plant, pic, measured.is_some());
+    let _ = writeln!(
+        s,
+        "Departments: predicted utilisation = arrivals × mean processing time ÷ machines{}",
+        if measured.is_some() { " (from the routings and demand, not the measured chart)" } else { "" }
+    );
     let breakdowns = plant.departments.iter().any(|d| d.breakdowns.is_some());
     let calendars = plant.departments.iter().any(|d| d.calendar.is_some());
     let setups = plant.departments.iter().any(|d| d.setups.is_some());
@@ -149,10 +159,13 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     );
     let mut header: Vec<String> =
         vec!["layout".into(), "load-distance (load-m/h)".into(), "static cost (/h)".into()];
-    for f in plant.fleets() {
+    // The fleets' bounds split each product's moves among fleets: a measured
+    // chart has no products, so they are left out rather than mixed with it.
+    let fleets = if measured.is_some() { &[][..] } else { plant.fleets() };
+    for f in fleets {
         header.push(format!("{} util ≥", f.id));
     }
-    let fleet_service = plant.fleets().iter().any(|f| f.breakdowns.is_some() || f.charging.is_some());
+    let fleet_service = fleets.iter().any(|f| f.breakdowns.is_some() || f.charging.is_some());
     let mut t = Table::new(&header);
     for (l, lp) in pic.layouts.iter().enumerate() {
         let mut row = vec![
@@ -160,7 +173,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             whole(lp.load_distance_m_per_h),
             format!("{:.2}", lp.handling_cost_per_h),
         ];
-        row.extend(lp.fleet_utilization_lower_bound.iter().zip(plant.fleets()).map(|(&u, f)| {
+        row.extend(lp.fleet_utilization_lower_bound.iter().zip(fleets).map(|(&u, f)| {
             if f.breakdowns.is_some() || f.charging.is_some() {
                 format!("{} ({} of available)", share(u), share(u / f.availability()))
             } else {
@@ -170,12 +183,19 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
         t.row(row);
     }
     s.push_str(&t.render(2));
-    if !plant.fleets().is_empty() {
+    if !fleets.is_empty() {
         let _ =
             writeln!(s, "  (fleet bound: loaded travel + loading + unloading only; empty travel adds to it)");
     }
+    if measured.is_some() && !plant.fleets().is_empty() {
+        let _ = writeln!(
+            s,
+            "  (load-distance from the measured chart; the fleets' bounds need the routings' moves by product, \
+             so they are not shown: run `check` without --from-to for them)"
+        );
+    }
     if fleet_service {
-        for f in plant.fleets().iter().filter(|f| f.breakdowns.is_some() || f.charging.is_some()) {
+        for f in fleets.iter().filter(|f| f.breakdowns.is_some() || f.charging.is_some()) {
             let _ = writeln!(
                 s,
                 "  fleet {}: in service about {} of the time (breakdowns, and charging as if always operating)",
@@ -184,7 +204,42 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
             );
         }
     }
+    if areas::has_areas(plant) {
+        area_tables(&mut s, plant);
+    }
     s
+}
+
+/// Per layout, the area each department needs against the area its location
+/// offers (only for a plant that gives areas, so other plants' output is unchanged).
+fn area_tables(s: &mut String, plant: &Plant) {
+    let _ = writeln!(s);
+    let _ = writeln!(
+        s,
+        "Areas: floor each department needs (its `area`/`size`) against what its location offers, m²"
+    );
+    let cell = |f: &Option<Footprint>| f.as_ref().map_or("-".to_string(), areas::describe);
+    for l in 0..plant.layouts.len() {
+        let _ = writeln!(s, "  layout {}", plant.layouts[l].name);
+        let mut t = Table::new(&["department", "location", "needs", "offers", ""]);
+        for r in areas::rows(plant, l) {
+            t.row(vec![
+                plant.departments[r.department].id.clone(),
+                plant.locations[r.location].id.clone(),
+                cell(&r.needed),
+                cell(&r.available),
+                match r.fits() {
+                    Some(false) => "DOES NOT FIT".into(),
+                    Some(true) => String::new(),
+                    None if r.needed.is_some() => "location gives no area".into(),
+                    None => String::new(),
+                },
+            ]);
+        }
+        s.push_str(&t.render(4));
+    }
+    let _ =
+        writeln!(s, "  (areas are checked and drawn only: the simulation and the search do not use them)");
 }
 
 /// Departments with flow in or out beyond which the from-to chart is listed
@@ -197,7 +252,12 @@ const CHART_PAIRS_SHOWN: usize = 40;
 
 /// The from-to chart: a table over the departments with flow, or for a big
 /// plant its busiest pairs with a note of how many there are.
-fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture) {
+fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture, measured: bool) {
+    let what = if measured {
+        "MEASURED loads per hour (from --from-to, demand factor applied)"
+    } else {
+        "expected loads per hour"
+    };
     let nd = plant.departments.len();
     let mut with_flow = vec![false; nd];
     for (i, j, f) in pic.from_to.iter() {
@@ -212,7 +272,7 @@ fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture) {
         pairs.sort_by(|a, b| b.2.total_cmp(&a.2).then((a.0, a.1).cmp(&(b.0, b.1))));
         let _ = writeln!(
             s,
-            "From-to chart: expected loads per hour (rework included); {} departments and {} pairs have flow, \
+            "From-to chart: {what}; {} departments and {} pairs have flow, \
              too many for a table: the {} busiest pairs (every pair with `--format json`)",
             used.len(),
             pairs.len(),
@@ -226,7 +286,11 @@ fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture) {
         let _ = writeln!(s);
         return;
     }
-    let _ = writeln!(s, "From-to chart: expected loads per hour (rows: from, columns: to; rework included)");
+    if measured {
+        let _ = writeln!(s, "From-to chart: {what} (rows: from, columns: to)");
+    } else {
+        let _ = writeln!(s, "From-to chart: {what} (rows: from, columns: to; rework included)");
+    }
     let mut header = vec!["from \\ to".to_string()];
     header.extend(used.iter().map(|&d| plant.departments[d].id.clone()));
     header.push("total".into());
@@ -244,6 +308,25 @@ fn from_to_chart(s: &mut String, plant: &Plant, pic: &StaticPicture) {
     }
     s.push_str(&t.render(2));
     let _ = writeln!(s);
+}
+
+/// The lines that say the chart is measured, what that changes and what it does not.
+pub fn measured_note(plant: &Plant, m: &MeasuredChart) -> String {
+    let mut s = format!(
+        "from-to chart: MEASURED, read from {} (loads per {}, divided to loads per hour), not derived from the \
+         routings; it sets the load-distance and the search only: `run` and `compare` still simulate the routings",
+        m.file,
+        format_duration(m.per_s)
+    );
+    if !m.left_out.is_empty() {
+        let ids: Vec<&str> = m.left_out.iter().map(|&d| plant.departments[d].id.as_str()).collect();
+        s.push_str(&format!(
+            "
+from-to chart: departments not in the file, given no flow: {}",
+            ids.join(", ")
+        ));
+    }
+    s
 }
 
 /// How a product's demand varies, in a few words.
@@ -266,7 +349,9 @@ fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
 }
 
 /// The static picture as JSON.
-pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
+/// With `measured`, `from_to` and the load-distance come from it, `from_to_source` says so and the
+/// fleets' figures (which need the routings' moves by product) are left out.
+pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredChart>) -> serde_json::Value {
     let ids: Vec<&str> = plant.departments.iter().map(|d| d.id.as_str()).collect();
     let pairs: Vec<serde_json::Value> = pic
         .from_to
@@ -274,7 +359,7 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
         .filter(|e| e.2 > 0.0)
         .map(|(i, j, f)| json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }))
         .collect();
-    json!({
+    let mut j = json!({
         "plant": plant.name,
         "demand_factor": pic.demand_factor,
         "products": plant.products.iter().enumerate().map(|(p, prod)| json!({
@@ -309,5 +394,40 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
                 "utilization_lower_bound": lp.fleet_utilization_lower_bound[f],
             })).collect::<Vec<_>>(),
         })).collect::<Vec<_>>(),
+    });
+    if let Some(m) = measured {
+        j["from_to_source"] = json!({
+            "measured": true,
+            "file": m.file,
+            "loads_counted_per_s": m.per_s,
+            "departments_left_out": m.left_out.iter().map(|&d| plant.departments[d].id.as_str()).collect::<Vec<_>>(),
+            "note": "not derived from the routings; run and compare still simulate the routings",
+        });
+        for l in j["layouts"].as_array_mut().into_iter().flatten() {
+            l.as_object_mut().map(|o| o.remove("fleets"));
+        }
+    }
+    // Only for a plant that gives areas, so other plants' JSON is unchanged.
+    if areas::has_areas(plant) {
+        j["areas"] = areas_json(plant);
+    }
+    j
+}
+
+/// Per layout, each department's area needed and its location's area available (m²), and the misfit warnings.
+fn areas_json(plant: &Plant) -> serde_json::Value {
+    let fp = |f: &Option<Footprint>| f.map(|f| json!({ "area_m2": f.area_m2, "size_m": f.size_m }));
+    json!({
+        "layouts": (0..plant.layouts.len()).map(|l| json!({
+            "layout": plant.layouts[l].name,
+            "departments": areas::rows(plant, l).iter().map(|r| json!({
+                "department": plant.departments[r.department].id,
+                "location": plant.locations[r.location].id,
+                "needed": fp(&r.needed),
+                "available": fp(&r.available),
+                "fits": r.fits(),
+            })).collect::<Vec<_>>(),
+        })).collect::<Vec<_>>(),
+        "warnings": areas::misfits(plant),
     })
 }

@@ -170,6 +170,15 @@ pub fn picture(
         y0 = y0.min(y - half);
         y1 = y1.max(y + half);
     }
+    // A location drawn to scale may reach past the default box.
+    for loc in &plant.locations {
+        if let Some((hw, hd)) = loc.half_extent_m() {
+            x0 = x0.min(loc.x - hw);
+            x1 = x1.max(loc.x + hw);
+            y0 = y0.min(loc.y - hd);
+            y1 = y1.max(loc.y + hd);
+        }
+    }
     let scale = (PLANT_PX / (x1 - x0).max(1.0)).min(620.0 / (y1 - y0).max(1.0));
     let frame = Frame { x0, y1, scale };
     let plant_h = (y1 - y0) * scale;
@@ -375,9 +384,13 @@ fn locations(plant: &Plant, layout: usize, frame: &Frame, half_px: f64, net: Opt
     for (l, loc) in plant.locations.iter().enumerate() {
         let (x, y) = frame.px(loc.x, loc.y);
         let role = holder[l].map(|d| plant.departments[d].role);
-        // Docks are drawn narrower: a door in the wall, not a bay.
-        let (hw, hh) = match role {
-            Some(DepartmentRole::Receiving | DepartmentRole::Shipping) => (half_px * 0.45, half_px * 0.9),
+        // A location with an area or size is drawn to scale; otherwise docks
+        // are drawn narrower: a door in the wall, not a bay.
+        let (hw, hh) = match (loc.half_extent_m(), role) {
+            (Some((w, d)), _) => (w * frame.scale, d * frame.scale),
+            (None, Some(DepartmentRole::Receiving | DepartmentRole::Shipping)) => {
+                (half_px * 0.45, half_px * 0.9)
+            }
             _ => (half_px, half_px),
         };
         if let (Some(n), Some(_)) = (net, role) {
@@ -402,16 +415,34 @@ fn locations(plant: &Plant, layout: usize, frame: &Frame, half_px: f64, net: Opt
             Some(DepartmentRole::Work) => (rgb(mix(TEAL, (255, 255, 255), 0.9)), rgb(SLATE), "none"),
             Some(_) => (rgb(mix(AMBER, (255, 255, 255), 0.75)), rgb(SLATE), "none"),
         };
+        // A department that needs more floor than its location offers: a brick outline and a tooltip.
+        let misfit = holder[l].and_then(|d| {
+            let need = plant.departments[d].footprint?;
+            let have = loc.footprint?;
+            (!have.holds(&need)).then(|| {
+                format!(
+                    "{} needs {} but {} offers {}",
+                    plant.departments[d].id,
+                    layflow_models::areas::describe(&need),
+                    loc.id,
+                    layflow_models::areas::describe(&have)
+                )
+            })
+        });
+        let (stroke, width) = if misfit.is_some() { (rgb(BRICK), 3.0) } else { (stroke, 1.4) };
+        let mut rect = Rectangle::new();
+        if let Some(why) = misfit {
+            rect = rect.set("data-misfit", "true").add(Title::new(why));
+        }
         g = g.add(
-            Rectangle::new()
-                .set("x", x - hw)
+            rect.set("x", x - hw)
                 .set("y", y - hh)
                 .set("width", 2.0 * hw)
                 .set("height", 2.0 * hh)
                 .set("rx", 3)
                 .set("fill", fill)
                 .set("stroke", stroke)
-                .set("stroke-width", 1.4)
+                .set("stroke-width", width)
                 .set("stroke-dasharray", dash)
                 .set("class", "location")
                 .set("data-id", loc.id.clone()),
@@ -555,6 +586,8 @@ fn names(plant: &Plant, layout: usize, frame: &Frame, half_px: f64) -> Group {
     let mut g = Group::new().set("id", "labels");
     for (l, loc) in plant.locations.iter().enumerate() {
         let (x, y) = frame.px(loc.x, loc.y);
+        // The label fits the box the location is drawn as (to scale, or the default square).
+        let half_px = loc.half_extent_m().map_or(half_px, |(w, _)| w * frame.scale);
         match holder[l] {
             Some(d) => {
                 let name = &plant.departments[d].id;

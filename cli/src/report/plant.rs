@@ -57,6 +57,15 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
         y0 = y0.min(y - half);
         y1 = y1.max(y + half);
     }
+    // A location drawn to scale may reach past the default box.
+    for loc in &plant.locations {
+        if let Some((hw, hd)) = loc.half_extent_m() {
+            x0 = x0.min(loc.x - hw);
+            x1 = x1.max(loc.x + hw);
+            y0 = y0.min(loc.y - hd);
+            y1 = y1.max(loc.y + hd);
+        }
+    }
     let scale = (PANEL_PX - 2.0 * PAD) / (x1 - x0).max(1.0);
     let height = (y1 - y0) * scale + 2.0 * PAD + 24.0;
     let px = |x: f64, y: f64| (PAD + (x - x0) * scale, PAD + (y1 - y) * scale);
@@ -161,7 +170,12 @@ pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> Strin
             let loc = &plant.locations[lay.location_of[d]];
             let (x, y) = px(loc.x, loc.y);
             let dock = matches!(dep.role, DepartmentRole::Receiving | DepartmentRole::Shipping);
-            let (hw, hh) = if dock { (hp * 0.45, hp * 0.9) } else { (hp, hp) };
+            // To scale where the location gives an area or size.
+            let (hw, hh) = match loc.half_extent_m() {
+                Some((w, d)) => (w * scale, d * scale),
+                None if dock => (hp * 0.45, hp * 0.9),
+                None => (hp, hp),
+            };
             let u = sh.utilization.get(d).copied().flatten();
             let q = sh.queue.get(d).copied().flatten();
             let fill = if dock { rgb(mix(AMBER, WHITE, 0.72)) } else { util_fill(u) };

@@ -10,7 +10,7 @@ use super::context::{check_unique, resolve, Ctx};
 use super::error::{ErrorKind, ScenarioError};
 use super::locate::FieldPath;
 use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
-use super::{demand, distance, fleet, routing, staging, work};
+use super::{area, demand, distance, fleet, routing, staging, work};
 use crate::limits;
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
@@ -221,7 +221,8 @@ fn locations(s: &Scenario, ctx: &Ctx) -> Result<Vec<Location>, ScenarioError> {
             ));
         }
         limits::check_coordinates(x, y).map_err(|m| ctx.err(&p.index(i).key("at"), m))?;
-        out.push(Location { id: l.id.clone(), x, y });
+        let footprint = area::footprint(l.area, l.size.as_deref(), "location", &l.id, &p.index(i), ctx)?;
+        out.push(Location { id: l.id.clone(), x, y, footprint });
     }
     Ok(out)
 }
@@ -301,6 +302,7 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             None => None,
             Some(st) => Some(work::setups(st, &d.id, &dp, &product_ids, ctx)?),
         };
+        let footprint = area::footprint(d.area, d.size.as_deref(), "department", &d.id, &dp, ctx)?;
         out.push(Department {
             id: d.id.clone(),
             role,
@@ -310,6 +312,7 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             turn_away,
             calendar,
             setups,
+            footprint,
         });
     }
     for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {

@@ -65,6 +65,10 @@ pub(crate) struct LocationSpec {
     pub at: [f64; 2],
     /// The aisle node where movers pick up and drop off (with `distance: aisles`).
     pub node: Option<String>,
+    /// Floor area the slot offers, square metres.
+    pub area: Option<f64>,
+    /// `[width, depth]` of the slot in metres (a list, so that one number can be named as the error).
+    pub size: Option<Vec<f64>>,
 }
 
 /// `aisles: { nodes: [...], segments: [...] }`: the aisle network for `distance: aisles`.
@@ -173,6 +177,10 @@ pub(crate) struct DepartmentSpec {
     pub when_full: Option<WhenFullSpec>,
     pub calendar: Option<CalendarSpec>,
     pub setups: Option<SetupsSpec>,
+    /// Floor area the department needs, square metres.
+    pub area: Option<f64>,
+    /// `[width, depth]` the department needs, metres.
+    pub size: Option<Vec<f64>>,
 }
 
 /// `calendar: { shifts: { every: 1 d, on: [...] }, breaks: [...], at_shift_end: finish }`:
