@@ -8,6 +8,7 @@
 //! fleet size and the layout search, and `experiment` runs plans durably.
 
 pub mod analysis;
+pub mod datetime;
 pub mod dist;
 pub mod experiment;
 pub mod limits;

@@ -28,7 +28,10 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
                     &root.key("units").key("length"),
                     format!("length unit \"{}\" is not supported", u.length),
                 )
-                .with_hint("only metres are supported for now: write `units: { length: m }`"));
+                .with_hint(
+                    "bare numbers are metres: write `units: { length: m }`, and give other lengths \
+                     their unit where they are written, e.g. `at: [\"150 ft\", \"40 ft\"]`",
+                ));
         }
     }
     if s.plant.trim().is_empty() {

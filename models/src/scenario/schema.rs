@@ -62,6 +62,8 @@ pub(crate) struct RunSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct LocationSpec {
     pub id: String,
+    /// Metres: bare numbers, or lengths with a unit (`["150 ft", "40 ft"]`).
+    #[serde(deserialize_with = "crate::units::point_in_metres")]
     pub at: [f64; 2],
     /// The aisle node where movers pick up and drop off (with `distance: aisles`).
     pub node: Option<String>,
@@ -80,6 +82,7 @@ pub(crate) struct AislesSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct AisleNodeSpec {
     pub id: String,
+    #[serde(deserialize_with = "crate::units::point_in_metres")]
     pub at: [f64; 2],
     /// Zone control: one mover in the intersection at a time.
     pub zone: Option<bool>,
@@ -91,7 +94,8 @@ pub(crate) struct AisleNodeSpec {
 pub(crate) struct SegmentSpec {
     pub from: String,
     pub to: String,
-    /// Metres; the straight line between the nodes when absent.
+    /// Metres (a bare number or a length with a unit); the straight line between the nodes when absent.
+    #[serde(default, deserialize_with = "crate::units::optional_metres")]
     pub length: Option<f64>,
     pub one_way: Option<bool>,
     pub speed_limit: Option<MetresPerSecond>,
@@ -352,6 +356,9 @@ pub(crate) struct ProfileSpec {
 pub(crate) struct OrdersSpec {
     pub file: String,
     pub repeat: Option<Seconds>,
+    /// `start: 2026-03-02T00:00`: the time column holds date-times, and time 0 is this
+    /// instant (a Monday at 00:00).
+    pub start: Option<String>,
 }
 
 #[derive(Debug, DeriveDeserialize)]
@@ -557,6 +564,7 @@ pub(crate) struct SearchSpec {
     pub keep_empty: Option<Vec<String>>,
     pub adjacent: Option<Vec<[String; 2]>>,
     pub apart: Option<Vec<[String; 2]>>,
+    #[serde(default, deserialize_with = "crate::units::optional_metres")]
     pub neighbour_distance: Option<f64>,
     pub floor_costs: Option<Vec<FloorCostSpec>>,
 }

@@ -12,8 +12,8 @@
 const FIELD_WORDS: &[(&str, &str, &str)] = &[
     (
         "at",
-        "a position [x, y] in metres, such as [15, 5]",
-        "positions are plain numbers in metres, without a unit: 15 ft, 5 ft is [4.572, 1.524]",
+        "a position [x, y]: metres as plain numbers, such as [15, 5], or lengths with a unit, such as [\"50 ft\", \"16 ft\"]",
+        "lengths take m, mm or ft; a bare number is metres",
     ),
     ("p", "a probability, such as 0.9 or 90%", ""),
     ("demand_factor", "a factor, such as 1.2 or 120%", ""),
@@ -38,8 +38,12 @@ const FIELD_WORDS: &[(&str, &str, &str)] = &[
     ("inbound", "a whole number of loads, such as 4", ""),
     ("outbound", "a whole number of loads, such as 2", ""),
     ("movers", "a whole number of movers, such as 1", ""),
-    ("length", "a length in metres as a plain number, such as 30", ""),
-    ("neighbour_distance", "a distance in metres as a plain number, such as 12", ""),
+    ("length", "a length: metres as a plain number, such as 30, or with a unit, such as \"100 ft\"", ""),
+    (
+        "neighbour_distance",
+        "a distance: metres as a plain number, such as 12, or with a unit, such as \"40 ft\"",
+        "",
+    ),
     ("k", "a whole number of phases, such as 3", ""),
     ("points", "a list of design points, such as [{ layout: current, demand: 1.2 }]", ""),
 ];
@@ -459,7 +463,7 @@ mod tests {
         assert!(h.unwrap().contains("currency"));
         let (m, _) =
             type_error(r#"invalid type: string "15 ft", expected f64"#, "locations[1].at[0]").unwrap();
-        assert!(m.starts_with("expected a position [x, y] in metres"), "{m}");
+        assert!(m.starts_with("expected a position [x, y]: metres"), "{m}");
         let (m, _) =
             type_error("invalid length 3, expected an array of length 2", "locations[1].at").unwrap();
         assert!(m.ends_with("got a list of 3 items"), "{m}");
