@@ -24,20 +24,190 @@ use crate::units::{format_duration, parse_duration};
 /// The columns of an order trace, in the order the messages list them.
 const COLUMNS: [&str; 3] = ["time", "product", "quantity"];
 
+/// The fields demand may be given in, one per product.
+const PERIODS: [&str; 5] = ["per_hour", "per_shift", "per_day", "per_week", "per_month"];
+
+/// The scenario's `working_time`, compiled: how many working hours a shift, a
+/// day, a week and a month of demand mean, and when in the week lots arrive.
+#[derive(Debug, Clone)]
+pub(crate) struct WorkingTime {
+    /// Shifts a working day (`shifts.on`).
+    shifts_per_day: f64,
+    /// Working days a week, from Monday.
+    days: f64,
+    /// Working hours a week: the on-duty hours of a day (breaks taken out) × days.
+    hours_per_week: f64,
+    /// Weeks a month.
+    weeks_per_month: f64,
+    /// 1 in working time, 0 outside, over one week from Monday 00:00.
+    profile: Profile,
+}
+
+/// Compiles `working_time`, if given.
+///
+/// The shifts repeat every day (`every: 1 d`) on the first `days` days of the
+/// week from Monday, the run clock's first day. Lots of a demand given per
+/// shift, day, week or month arrive in working time only, as a Poisson stream
+/// at the rate that makes up that demand: the hourly rate is the week's lots ÷
+/// the week's working hours. The arrival pattern is a profile over the week
+/// whose step is the largest that puts every shift and break edge on a step
+/// boundary (2 h for shifts at 06:00, 14:00 and 22:00).
+pub(crate) fn working_time(s: &Scenario, ctx: &Ctx) -> Result<Option<WorkingTime>, ScenarioError> {
+    let Some(w) = &s.working_time else {
+        return Ok(None);
+    };
+    let wp = FieldPath::root().key("working_time");
+    if w.shifts.every.0 != 86_400.0 {
+        return Err(ctx
+            .err(
+                &wp.key("shifts").key("every"),
+                format!("the working-time shifts repeat every day, got every: {}", format_duration(w.shifts.every.0)),
+            )
+            .with_hint("write `every: 1 d`, and say which days of the week are worked with `days: 5` (Monday to Friday)"));
+    }
+    let duty = super::operators::duty_calendar(
+        &w.shifts,
+        w.breaks.as_deref(),
+        &wp,
+        "the working time",
+        "the plant",
+        ctx,
+    )?;
+    let on: Vec<(f64, f64)> = duty.as_ref().map_or(vec![(0.0, 86_400.0)], |d| d.on.clone());
+    let days = w.days.unwrap_or(7);
+    if !(1..=7).contains(&days) {
+        return Err(ctx
+            .err(&wp.key("days"), format!("days must be 1 to 7 working days a week, got {days}"))
+            .with_hint("`days: 5` is Monday to Friday: the run clock starts on a Monday"));
+    }
+    let weeks_per_month = match w.weeks_per_month {
+        None => 52.0 / 12.0,
+        Some(x) if (4.0..=5.0).contains(&x) => x,
+        Some(x) => {
+            return Err(ctx
+                .err(&wp.key("weeks_per_month"), format!("weeks_per_month must lie in 4 to 5, got {x}"))
+                .with_hint("leave it out for 52/12 = 4.33 weeks (a year of 52 weeks in 12 months)"))
+        }
+    };
+    // The profile's step: the greatest common divisor of every edge, in whole seconds.
+    let mut step: u64 = 86_400;
+    for &(a, b) in &on {
+        for edge in [a, b] {
+            if edge.fract() != 0.0 {
+                return Err(ctx
+                    .err(
+                        &wp.key("shifts"),
+                        format!("a shift or break edge at {edge} s is not a whole second"),
+                    )
+                    .with_hint("write edges in whole minutes, e.g. [6 h, 14.5 h]"));
+            }
+            step = gcd(step, edge as u64);
+        }
+    }
+    if step < 60 {
+        return Err(ctx
+            .err(&wp.key("shifts"), "shift and break edges must fall on whole minutes")
+            .with_hint("a week is then at most 10 080 steps of arrivals on or off, e.g. [6 h, 14.5 h]"));
+    }
+    let factors = (0..7 * 86_400 / step)
+        .map(|k| {
+            let t = k * step;
+            let (day, second) = (t / 86_400, (t % 86_400) as f64);
+            let working = day < u64::from(days) && on.iter().any(|&(a, b)| a <= second && second < b);
+            if working {
+                1.0
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    let hours_per_day: f64 = on.iter().map(|&(a, b)| b - a).sum::<f64>() / 3600.0;
+    Ok(Some(WorkingTime {
+        shifts_per_day: w.shifts.on.len() as f64,
+        days: f64::from(days),
+        hours_per_week: hours_per_day * f64::from(days),
+        weeks_per_month,
+        profile: Profile { every_s: step as f64, factors },
+    }))
+}
+
+fn gcd(a: u64, b: u64) -> u64 {
+    if b == 0 {
+        a
+    } else {
+        gcd(b, a % b)
+    }
+}
+
 /// The product's `demand`, or [`Demand::Orders`] when it has none (checked
 /// against the trace by [`order_trace`]).
-pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> Result<Demand, ScenarioError> {
+pub(crate) fn product_demand(
+    spec: &ProductSpec,
+    pp: &FieldPath,
+    working: Option<&WorkingTime>,
+    ctx: &Ctx,
+) -> Result<Demand, ScenarioError> {
     let Some(d) = &spec.demand else {
         return Ok(Demand::Orders);
     };
     let dp = pp.key("demand");
-    let per_hour = d.per_hour;
-    if !(per_hour > 0.0 && per_hour.is_finite()) {
+    let given: Vec<(&str, f64)> = PERIODS
+        .iter()
+        .zip([d.per_hour, d.per_shift, d.per_day, d.per_week, d.per_month])
+        .filter_map(|(&name, v)| v.map(|v| (name, v)))
+        .collect();
+    let (period, amount) = match given.as_slice() {
+        [one] => *one,
+        [] => {
+            return Err(ctx
+                .err(&dp, format!("the demand of product \"{}\" gives no rate", spec.id))
+                .with_hint(format!("give one of {}, e.g. `demand: {{ per_hour: 2 }}`", PERIODS.join(", "))))
+        }
+        [(a, _), (b, _), ..] => {
+            return Err(ctx
+                .err(&dp.key(b), format!("the demand of product \"{}\" gives both `{a}` and `{b}`", spec.id))
+                .with_hint("give one rate: the others follow from `working_time`"))
+        }
+    };
+    if !(amount > 0.0 && amount.is_finite()) {
+        let what = period.trim_start_matches("per_");
         return Err(ctx.err(
-            &dp.key("per_hour"),
-            format!("demand of product \"{}\" must be a number > 0 lots per hour, got {per_hour}", spec.id),
+            &dp.key(period),
+            format!("demand of product \"{}\" must be a number > 0 lots per {what}, got {amount}", spec.id),
         ));
     }
+    if period != "per_hour" {
+        let Some(w) = working else {
+            return Err(ctx
+                .err(
+                    &dp.key(period),
+                    format!("demand `{period}` needs the scenario's `working_time` to say how long that is"),
+                )
+                .with_hint(
+                    "add e.g. `working_time: { shifts: { every: 1 d, on: [[6 h, 14 h], [14 h, 22 h]] }, days: 5 }` \
+                     (two 8 h shifts, Monday to Friday), or give `per_hour`",
+                ));
+        };
+        if d.profile.is_some() {
+            return Err(ctx
+                .err(&dp.key("profile"), format!("a `profile` goes with `per_hour`, not with `{period}`"))
+                .with_hint(
+                    "lots given per shift, day, week or month already arrive in working time only; \
+                     for another pattern, give `per_hour` with a profile",
+                ));
+        }
+        let per_week = match period {
+            "per_shift" => amount * w.shifts_per_day * w.days,
+            "per_day" => amount * w.days,
+            "per_week" => amount,
+            _ => amount / w.weeks_per_month,
+        };
+        let per_hour = per_week / w.hours_per_week;
+        limits::check_at_most(period, per_hour, limits::MAX_PER_HOUR, limits::RATE_WHY)
+            .map_err(|m| ctx.err(&dp.key(period), m))?;
+        return Ok(Demand::Rate { per_s: per_hour / 3600.0, profile: Some(w.profile.clone()) });
+    }
+    let per_hour = amount;
     limits::check_at_most("per_hour", per_hour, limits::MAX_PER_HOUR, limits::RATE_WHY)
         .map_err(|m| ctx.err(&dp.key("per_hour"), m))?;
     let profile = match &d.profile {
