@@ -38,7 +38,16 @@ fn stamp(s: u64, k: usize) -> String {
 
 fn run_json(dir: &Path) -> String {
     let o = Command::new(env!("CARGO_BIN_EXE_layflow"))
-        .args(["run", "orders-demo.yaml", "--format", "json", "--quiet", "--no-wall-clock", "--replications", "4"])
+        .args([
+            "run",
+            "orders-demo.yaml",
+            "--format",
+            "json",
+            "--quiet",
+            "--no-wall-clock",
+            "--replications",
+            "4",
+        ])
         .current_dir(dir)
         .output()
         .expect("the layflow binary runs");

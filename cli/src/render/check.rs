@@ -142,13 +142,18 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture) -> String {
     }
     let _ = writeln!(s);
 
+    let currency = plant.currency.as_deref();
     let _ = writeln!(
         s,
-        "Layouts: load-distance = Σ loads/h × distance; static cost = load-distance × {} per load-metre",
-        num(plant.cost_per_load_metre)
+        "Layouts: load-distance = Σ loads/h × distance; static cost = load-distance × {}{} per load-metre",
+        num(plant.cost_per_load_metre),
+        currency.map_or(String::new(), |c| format!(" {c}"))
     );
-    let mut header: Vec<String> =
-        vec!["layout".into(), "load-distance (load-m/h)".into(), "static cost (/h)".into()];
+    let mut header: Vec<String> = vec![
+        "layout".into(),
+        "load-distance (load-m/h)".into(),
+        super::table::with_currency("static cost (/h)".into(), currency),
+    ];
     for f in plant.fleets() {
         header.push(format!("{} util ≥", f.id));
     }
@@ -274,7 +279,7 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
         .filter(|e| e.2 > 0.0)
         .map(|(i, j, f)| json!({ "from": ids[i], "to": ids[j], "loads_per_h": f }))
         .collect();
-    json!({
+    let mut v = json!({
         "plant": plant.name,
         "demand_factor": pic.demand_factor,
         "products": plant.products.iter().enumerate().map(|(p, prod)| json!({
@@ -309,5 +314,10 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture) -> serde_json::Value {
                 "utilization_lower_bound": lp.fleet_utilization_lower_bound[f],
             })).collect::<Vec<_>>(),
         })).collect::<Vec<_>>(),
-    })
+    });
+    // The currency only when named, so plants without one keep their JSON byte for byte.
+    if let Some(c) = &plant.currency {
+        v["currency"] = json!(c);
+    }
+    v
 }

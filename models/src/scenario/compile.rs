@@ -18,6 +18,21 @@ use crate::units::format_duration;
 /// Default number of replications when the scenario gives none.
 const DEFAULT_REPLICATIONS: u32 = 10;
 
+/// The scenario's `currency`: a short name or sign such as `EUR`, `USD` or `€`.
+fn currency(s: &Scenario, ctx: &Ctx) -> Result<Option<String>, ScenarioError> {
+    let Some(c) = &s.currency else {
+        return Ok(None);
+    };
+    let c = c.trim();
+    if c.is_empty() || c.chars().count() > 8 || c.chars().any(|ch| ch.is_whitespace() || ch.is_ascii_digit())
+    {
+        return Err(ctx
+            .err(&FieldPath::root().key("currency"), format!("currency \"{c}\" is not a currency name"))
+            .with_hint("write a code or sign of at most 8 characters, without digits or spaces, e.g. `currency: EUR`"));
+    }
+    Ok(Some(c.to_string()))
+}
+
 /// Turns a checked scenario into a plant.
 pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let root = FieldPath::root();
@@ -115,6 +130,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         orders,
         demand_factor,
         cost_per_load_metre,
+        currency: currency(&s, ctx)?,
         search,
         fleet_choice: match s.fleet_choice {
             None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,

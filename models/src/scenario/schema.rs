@@ -35,6 +35,8 @@ pub(crate) struct Scenario {
     pub fleets: Option<Vec<FleetSpec>>,
     pub fleet_choice: Option<FleetChoiceSpec>,
     pub costs: Option<CostsSpec>,
+    /// `currency: EUR`: the currency every cost is in, shown beside cost figures.
+    pub currency: Option<String>,
 }
 
 /// `fleet_choice: first-listed | nearest-idle`.
