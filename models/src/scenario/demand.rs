@@ -6,8 +6,12 @@
 //! relative to the scenario file, with the header `time,product,quantity` (in
 //! any column order). Lines starting with `#` are comments and blank lines are
 //! skipped. `time` is a duration with its unit since the start of the run (of
-//! each play, with `repeat`), in non-decreasing order; `quantity` is a whole
-//! number of lots, at least 1. Errors in the file name the file and its line.
+//! each play, with `repeat`), or, with `orders.start`, a date-time mapped to run
+//! time by that instant (see [`crate::datetime`]); in non-decreasing order.
+//! `quantity` is a whole number of lots, at least 1. Cells are separated by `,`,
+//! `;` or tabs; decimal commas are detected per file. Errors in the file name the
+//! file, its line and the column. Demand per shift, day, week or month is spread
+//! over the scenario's `working_time` ([`working_time`]).
 
 use std::path::Path;
 
