@@ -9,6 +9,7 @@
 
 pub mod analysis;
 pub mod areas;
+pub mod datetime;
 pub mod dist;
 pub mod experiment;
 pub mod generate;

@@ -38,6 +38,9 @@ pub struct Plant {
     pub demand_factor: f64,
     /// Cost per load-metre for the static handling cost (currency per load per metre).
     pub cost_per_load_metre: f64,
+    /// The currency every cost is in (`currency: EUR`), shown beside cost figures;
+    /// `None`: unnamed, and cost labels read as before (`/h`).
+    pub currency: Option<String>,
     /// Which of the fleets allowed to serve a move takes it.
     pub fleet_choice: FleetChoice,
     /// Rules for `layflow search` (pinned departments, empty locations, adjacency, floor costs).

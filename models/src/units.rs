@@ -17,7 +17,28 @@ use crate::limits;
 const DURATION_UNITS: &[(&str, f64)] = &[("s", 1.0), ("min", 60.0), ("h", 3600.0), ("d", 86400.0)];
 
 /// Speed units accepted, with their value in metres per second.
-const SPEED_UNITS: &[(&str, f64)] = &[("m/s", 1.0), ("m/min", 1.0 / 60.0), ("km/h", 1000.0 / 3600.0)];
+/// The foot and mile are the international ones (1 ft = 0.3048 m, 1 mi = 1609.344 m exactly),
+/// so `ft/min` is 0.00508 m/s and `mph` 0.44704 m/s exactly (NIST SP 811, appendix B).
+const SPEED_UNITS: &[(&str, f64)] = &[
+    ("m/s", 1.0),
+    ("m/min", 1.0 / 60.0),
+    ("km/h", 1000.0 / 3600.0),
+    ("ft/min", FOOT_M / 60.0),
+    ("ft/s", FOOT_M),
+    ("mph", MILE_M / 3600.0),
+];
+
+/// One international foot in metres, exactly.
+pub const FOOT_M: f64 = 0.3048;
+
+/// One international mile in metres, exactly (5280 ft).
+pub const MILE_M: f64 = 1609.344;
+
+/// Length units accepted, with their value in metres.
+const LENGTH_UNITS: &[(&str, f64)] = &[("m", 1.0), ("mm", 0.001), ("ft", FOOT_M)];
+
+/// The hint given when a length's unit is wrong.
+pub const LENGTH_EXAMPLE: &str = "write \"12 m\", \"40 ft\" or \"1500 mm\" (a bare number is in the scenario's `units.length`, metres unless it says otherwise)";
 
 /// Acceleration units accepted (both spellings of m/s²), with their value in m/s².
 const ACCELERATION_UNITS: &[(&str, f64)] = &[("m/s2", 1.0), ("m/s²", 1.0)];
@@ -35,7 +56,7 @@ pub const WEIGHT_EXAMPLE: &str = "write \"800 kg\" or \"1.2 t\"";
 pub const DURATION_EXAMPLE: &str = "write \"5 min\" or \"300 s\"";
 
 /// The hint given when a speed has no unit.
-pub const SPEED_EXAMPLE: &str = "write \"1.5 m/s\" or \"90 m/min\"";
+pub const SPEED_EXAMPLE: &str = "write \"1.5 m/s\", \"90 m/min\", \"8 km/h\", \"300 ft/min\" or \"5 mph\"";
 
 /// Parses a duration such as `"30 s"`, `"5 min"`, `"2 h"`, `"1.5 d"` or `"5min"` into seconds.
 ///
@@ -67,6 +88,15 @@ pub fn parse_speed(text: &str) -> Result<f64, String> {
         ));
     }
     Ok(v)
+}
+
+/// Parses a length such as `"12 m"`, `"40 ft"` or `"1500 mm"` into metres.
+///
+/// Only text with a unit comes here; a bare YAML number is metres and never
+/// reaches this function (see [`Metres`]). The ceilings on lengths and
+/// coordinates are the caller's, which knows which one applies.
+pub fn parse_length(text: &str) -> Result<f64, String> {
+    parse_with_units(text, LENGTH_UNITS, "length", LENGTH_EXAMPLE)
 }
 
 /// Parses an acceleration such as `"0.5 m/s2"` or `"0.5 m/s²"` into m/s².
@@ -191,6 +221,48 @@ pub struct Seconds(pub f64);
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MetresPerSecond(pub f64);
 
+/// A length in metres: a bare YAML number (metres, as every length was before
+/// units were accepted) or text with a unit (`"40 ft"`, `"1500 mm"`, `"12 m"`).
+#[derive(Debug, Clone, Copy, PartialEq)]
+pub struct Metres(pub f64);
+
+impl<'de> Deserialize<'de> for Metres {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = Metres;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                write!(f, "a length: a number of metres or {LENGTH_EXAMPLE}")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<Metres, E> {
+                parse_length(v).map(Metres).map_err(E::custom)
+            }
+            fn visit_f64<E: de::Error>(self, v: f64) -> Result<Metres, E> {
+                Ok(Metres(v))
+            }
+            fn visit_i64<E: de::Error>(self, v: i64) -> Result<Metres, E> {
+                Ok(Metres(v as f64))
+            }
+            fn visit_u64<E: de::Error>(self, v: u64) -> Result<Metres, E> {
+                Ok(Metres(v as f64))
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+/// `#[serde(deserialize_with)]` for a point `[x, y]` whose coordinates are lengths ([`Metres`]),
+/// so the field stays `[f64; 2]` in metres for every reader.
+pub fn point_in_metres<'de, D: Deserializer<'de>>(d: D) -> Result<[f64; 2], D::Error> {
+    let [x, y] = <[Metres; 2]>::deserialize(d)?;
+    Ok([x.0, y.0])
+}
+
+/// `#[serde(default, deserialize_with)]` for an optional length ([`Metres`]) kept as `Option<f64>` in metres.
+pub fn optional_metres<'de, D: Deserializer<'de>>(d: D) -> Result<Option<f64>, D::Error> {
+    Ok(Option::<Metres>::deserialize(d)?.map(|m| m.0))
+}
+
 /// An acceleration in m/s², deserialized from text with a unit.
 #[derive(Debug, Clone, Copy, PartialEq)]
 pub struct MetresPerSecondSquared(pub f64);
@@ -291,7 +363,9 @@ mod tests {
         assert!(e.contains("accepted: s, min, h, d"), "{e}");
         assert!(parse_duration("min").unwrap_err().contains("no number"));
         assert!(parse_duration("inf s").is_err());
-        assert!(parse_speed("3 mph").unwrap_err().contains("m/s, m/min, km/h"));
+        assert!(parse_speed("3 knots").unwrap_err().contains("m/s, m/min, km/h, ft/min, ft/s, mph"));
+        assert!(parse_length("3 yd").unwrap_err().contains("accepted: m, mm, ft"));
+        assert!(parse_length("12").unwrap_err().contains("needs a unit"));
     }
 
     #[test]
@@ -323,6 +397,26 @@ mod tests {
         assert!(parse_weight("2 lb").unwrap_err().contains("accepted: kg, t"));
         assert_eq!(format_weight(800.0), "800 kg");
         assert_eq!(format_weight(1200.0), "1.2 t");
+    }
+
+    /// The definitions: NIST Special Publication 811 (2008), appendix B.8 and B.9:
+    /// 1 ft = 0.3048 m, 1 mi = 1609.344 m, 1 mi/h = 0.44704 m/s, 1 km/h = 0.2777… m/s
+    /// (1/3.6), 1 ft/min = 0.00508 m/s, all exact. Checked to 1e-12: a double's
+    /// rounding of one product of these sizes is below 1e-15 relative, so 1e-12 fails
+    /// only on a wrong factor, never on rounding.
+    #[test]
+    fn units_match_their_definitions() {
+        let close = |a: f64, b: f64| assert!((a - b).abs() <= 1e-12 * b.abs().max(1.0), "{a} vs {b}");
+        close(parse_length("1 ft").unwrap(), 0.3048);
+        close(parse_length("1000 ft").unwrap(), 304.8);
+        close(parse_length("1 mm").unwrap(), 0.001);
+        close(parse_length("2.5 m").unwrap(), 2.5);
+        close(parse_speed("1 mph").unwrap(), 0.44704);
+        close(parse_speed("1 km/h").unwrap(), 1.0 / 3.6);
+        close(parse_speed("1 ft/min").unwrap(), 0.00508);
+        close(parse_speed("1 ft/s").unwrap(), 0.3048);
+        close(parse_speed("10 mph").unwrap(), 4.4704);
+        close(parse_speed("300 ft/min").unwrap(), 1.524);
     }
 
     #[test]

@@ -167,6 +167,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     let smallest = results.iter().find(|r| r.meets_every_target).map(|r| r.movers);
     let out = FleetOutput {
         plant: plant.name.clone(),
+        currency: plant.currency.clone(),
         scenario: args.scenario.display().to_string(),
         fleet: fleet_id,
         layout: plant.layouts[layout].name.clone(),

@@ -101,6 +101,7 @@ pub fn run(args: &RunArgs) -> Result<(), Failure> {
 
     let out = RunOutput {
         plant: &plant.name,
+        currency: plant.currency.as_deref(),
         scenario: args.scenario.display().to_string(),
         horizon_s,
         warmup_s,

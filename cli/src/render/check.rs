@@ -152,13 +152,18 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
     }
     let _ = writeln!(s);
 
+    let currency = plant.currency.as_deref();
     let _ = writeln!(
         s,
-        "Layouts: load-distance = Σ loads/h × distance; static cost = load-distance × {} per load-metre",
-        num(plant.cost_per_load_metre)
+        "Layouts: load-distance = Σ loads/h × distance; static cost = load-distance × {}{} per load-metre",
+        num(plant.cost_per_load_metre),
+        currency.map_or(String::new(), |c| format!(" {c}"))
     );
-    let mut header: Vec<String> =
-        vec!["layout".into(), "load-distance (load-m/h)".into(), "static cost (/h)".into()];
+    let mut header: Vec<String> = vec![
+        "layout".into(),
+        "load-distance (load-m/h)".into(),
+        super::table::with_currency("static cost (/h)".into(), currency),
+    ];
     // The fleets' bounds split each product's moves among fleets: a measured
     // chart has no products, so they are left out rather than mixed with it.
     let fleets = if measured.is_some() { &[][..] } else { plant.fleets() };
@@ -410,6 +415,10 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
     // Only for a plant that gives areas, so other plants' JSON is unchanged.
     if areas::has_areas(plant) {
         j["areas"] = areas_json(plant);
+    }
+    // The currency only when named, so plants without one keep their JSON byte for byte.
+    if let Some(c) = &plant.currency {
+        j["currency"] = json!(c);
     }
     j
 }

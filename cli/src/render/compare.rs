@@ -62,10 +62,16 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
                 lv.overloaded.join(", ")
             );
         }
-        let mut header = super::run::headline_header(fleets);
-        header.extend(["static load-distance (load-m/h)", "static rank", "simulated rank"]);
+        let currency = plant.currency.as_deref();
+        let mut header = super::run::headline_header(fleets, currency);
+        header.extend(["static load-distance (load-m/h)", "static rank", "simulated rank"].map(String::from));
+        let header: Vec<&str> = header.iter().map(String::as_str).collect();
         let mut t = Table::new(&header);
-        t.optional(&["fleet cost (/h)", "WIP (lots)", "static load-distance (load-m/h)"]);
+        t.optional(&[
+            &super::run::fleet_cost_head(currency),
+            "WIP (lots)",
+            "static load-distance (load-m/h)",
+        ]);
         let units = super::run::headline_units(&lv.layouts);
         for (l, r) in lv.layouts.iter().zip(&lv.ranking) {
             let mut row = super::run::headline_cells(l, fleets, units);
@@ -123,7 +129,11 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
                 fleets || !matches!(**name, "wip_in_transit_mean") && !name.starts_with("move_wait")
             })
             .filter(|name| fleets || !name.contains("distance") && !name.contains("cost"))
-            .filter_map(|name| find_metric(metric_list, name).map(|(m, _)| (metric_list[m].human(), m)))
+            .filter_map(|name| {
+                find_metric(metric_list, name).map(|(m, _)| {
+                    (super::table::with_currency(metric_list[m].human(), plant.currency.as_deref()), m)
+                })
+            })
             .collect();
         for p in &plant.products {
             let label = format!("{}/flow_time_s", p.id);

@@ -9,13 +9,16 @@ use layflow_models::study::targets::{Op, Target};
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
-use super::table::{dur_in, dur_plain, num, pct, pm, share, unit_for, Table};
+use super::table::{dur_in, dur_plain, money_head, num, pct, pm, share, unit_for, Table};
 
 /// Everything `fleet` found, as written to JSON.
 #[derive(Serialize)]
 pub struct FleetOutput {
     /// The plant's name.
     pub plant: String,
+    /// The currency every cost is in, when the scenario names one (`currency: EUR`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub currency: Option<String>,
     /// The scenario file, as given.
     pub scenario: String,
     /// The fleet sized.
@@ -97,6 +100,10 @@ fn per_trip(total: f64, trips: f64) -> f64 {
 /// The sweep as a table, and the advice.
 pub fn render(out: &FleetOutput, wall_s: f64) -> String {
     let mut s = String::new();
+    let (cost_h, cost_load) = (
+        money_head("cost", "h", out.currency.as_deref()),
+        money_head("cost", "load", out.currency.as_deref()),
+    );
     let _ = writeln!(
         s,
         "\nSizing fleet {} under layout {}: {} replications × {} ({} warm-up), seed {}, demand ×{}; common random \
@@ -130,8 +137,8 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
         "throughput",
         "WIP",
         "flow time",
-        "cost/h",
-        "cost/load",
+        &cost_h,
+        &cost_load,
     ];
     let scheduled = has("utilization_scheduled");
     if scheduled {
@@ -155,7 +162,7 @@ pub fn render(out: &FleetOutput, wall_s: f64) -> String {
         "idle",
         "WIP",
         "throughput",
-        "cost/load",
+        &cost_load,
         "flow time",
     ]);
     t.optional(&["busy (on duty)"]);

@@ -7,13 +7,18 @@ use layflow_models::plant::{DepartmentRole, Plant};
 use layflow_models::study::warmup::WarmupChoice;
 use serde::Serialize;
 
-use super::table::{coverage, dur_in, dur_pct, dur_plain, num, pct, pm, share, unit_for, whole, Table};
+use super::table::{
+    coverage, dur_in, dur_pct, dur_plain, money_head, money_unit, num, pct, pm, share, unit_for, whole, Table,
+};
 
 /// Everything `run` found, as written to JSON.
 #[derive(Serialize)]
 pub struct RunOutput<'a> {
     /// The plant's name.
     pub plant: &'a str,
+    /// The currency every cost is in, when the scenario names one (`currency: EUR`).
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub currency: Option<&'a str>,
     /// The scenario file, as given.
     pub scenario: String,
     /// Simulated time per replication, warm-up included, s.
@@ -43,6 +48,8 @@ pub struct RunOutput<'a> {
 /// The report as tables.
 pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     let mut s = String::new();
+    let currency = plant.currency.as_deref();
+    let cost_h = money_head("cost", "h", currency);
     let _ = writeln!(s, "{}", out.plant);
     let _ = writeln!(
         s,
@@ -101,8 +108,12 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             ]);
             t.row(vec![
                 "fleet cost".into(),
-                format!("{} /h", pm(&l.handling_cost_per_h, 1.0)),
-                format!("static load-distance cost {} /h", num(l.handling_cost_static_per_h)),
+                format!("{} {}", pm(&l.handling_cost_per_h, 1.0), money_unit("h", currency)),
+                format!(
+                    "static load-distance cost {} {}",
+                    num(l.handling_cost_static_per_h),
+                    money_unit("h", currency)
+                ),
             ]);
         }
         if let Some(o) = &l.overflow_moves_per_h {
@@ -205,7 +216,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "wait",
                 "assign",
                 "drive",
-                "cost/h",
+                &cost_h,
             ];
             if blocked {
                 header.push("waiting full");
@@ -222,7 +233,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 header.push("held up in aisles");
             }
             let mut t = Table::new(&header);
-            t.optional(&["loaded", "empty", "load/unload", "moves/h", "idle", "cost/h"]);
+            t.optional(&["loaded", "empty", "load/unload", "moves/h", "idle", &cost_h]);
             let wait_u = unit_for(l.fleets.iter().map(|f| f.move_wait_s.mean));
             let assign_u = unit_for(l.fleets.iter().map(|f| f.move_wait_assign_s.mean));
             let drive_u = unit_for(l.fleets.iter().map(|f| f.move_wait_drive_s.mean));
@@ -299,10 +310,11 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
     if out.layouts.len() > 1 {
         let _ = writeln!(s, "\n== layouts side by side ==");
         let fleets = !plant.fleets().is_empty();
-        let mut header = headline_header(fleets);
-        header.push("static load-distance");
+        let mut header = headline_header(fleets, currency);
+        header.push("static load-distance".into());
+        let header: Vec<&str> = header.iter().map(String::as_str).collect();
         let mut t = Table::new(&header);
-        t.optional(&["fleet cost (/h)", "WIP (lots)"]);
+        t.optional(&[&fleet_cost_head(currency), "WIP (lots)"]);
         let units = headline_units(&out.layouts);
         for l in &out.layouts {
             let mut row = headline_cells(l, fleets, units);
@@ -315,12 +327,18 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
 }
 
 /// The headline columns of a layout side by side with others (`run`, `compare`).
-pub fn headline_header(fleets: bool) -> Vec<&'static str> {
-    let mut header = vec!["layout", "throughput (lots/h)", "flow time", "WIP (lots)"];
+pub fn headline_header(fleets: bool, currency: Option<&str>) -> Vec<String> {
+    let mut header: Vec<String> =
+        ["layout", "throughput (lots/h)", "flow time", "WIP (lots)"].map(String::from).into();
     if fleets {
-        header.extend(["wait for a mover", "fleet cost (/h)"]);
+        header.extend(["wait for a mover".to_string(), fleet_cost_head(currency)]);
     }
     header
+}
+
+/// The headline's cost column: `fleet cost (/h)`, or `fleet cost (EUR/h)` with a named currency.
+pub fn fleet_cost_head(currency: Option<&str>) -> String {
+    format!("fleet cost ({})", money_unit("h", currency))
 }
 
 /// The units of the headline's flow-time and wait columns, one each for every layout shown.

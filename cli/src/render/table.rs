@@ -262,6 +262,29 @@ pub fn difference_cell(e: &Estimate, excludes_zero: bool, kind: Kind, unit: (&st
     format!("{}{mark}", body.replace('-', "−"))
 }
 
+/// A money column's head: `cost/h` as before when the plant names no currency,
+/// `cost (EUR/h)` when it does (`currency: EUR`), so every cost column says what it is in.
+pub fn money_head(base: &str, per: &str, currency: Option<&str>) -> String {
+    match currency {
+        None => format!("{base}/{per}"),
+        Some(c) => format!("{base} ({c}/{per})"),
+    }
+}
+
+/// The unit after a money figure: `/h`, or `EUR/h` with a named currency.
+pub fn money_unit(per: &str, currency: Option<&str>) -> String {
+    format!("{}/{per}", currency.unwrap_or(""))
+}
+
+/// A registry label with its currency: `fleet cost (/h)` becomes `fleet cost (EUR/h)`;
+/// unchanged when the plant names no currency or the label is not a cost.
+pub fn with_currency(label: String, currency: Option<&str>) -> String {
+    match currency {
+        Some(c) if label.contains("(/") && label.contains("cost") => label.replace("(/", &format!("({c}/")),
+        _ => label,
+    }
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;

@@ -18,6 +18,21 @@ use crate::units::format_duration;
 /// Default number of replications when the scenario gives none.
 const DEFAULT_REPLICATIONS: u32 = 10;
 
+/// The scenario's `currency`: a short name or sign such as `EUR`, `USD` or `€`.
+fn currency(s: &Scenario, ctx: &Ctx) -> Result<Option<String>, ScenarioError> {
+    let Some(c) = &s.currency else {
+        return Ok(None);
+    };
+    let c = c.trim();
+    if c.is_empty() || c.chars().count() > 8 || c.chars().any(|ch| ch.is_whitespace() || ch.is_ascii_digit())
+    {
+        return Err(ctx
+            .err(&FieldPath::root().key("currency"), format!("currency \"{c}\" is not a currency name"))
+            .with_hint("write a code or sign of at most 8 characters, without digits or spaces, e.g. `currency: EUR`"));
+    }
+    Ok(Some(c.to_string()))
+}
+
 /// Turns a checked scenario into a plant.
 pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     let root = FieldPath::root();
@@ -28,7 +43,10 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
                     &root.key("units").key("length"),
                     format!("length unit \"{}\" is not supported", u.length),
                 )
-                .with_hint("only metres are supported for now: write `units: { length: m }`"));
+                .with_hint(
+                    "bare numbers are metres: write `units: { length: m }`, and give other lengths \
+                     their unit where they are written, e.g. `at: [\"150 ft\", \"40 ft\"]`",
+                ));
         }
     }
     if s.plant.trim().is_empty() {
@@ -112,6 +130,7 @@ pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
         orders,
         demand_factor,
         cost_per_load_metre,
+        currency: currency(&s, ctx)?,
         search,
         fleet_choice: match s.fleet_choice {
             None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,

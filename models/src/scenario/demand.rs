@@ -6,8 +6,12 @@
 //! relative to the scenario file, with the header `time,product,quantity` (in
 //! any column order). Lines starting with `#` are comments and blank lines are
 //! skipped. `time` is a duration with its unit since the start of the run (of
-//! each play, with `repeat`), in non-decreasing order; `quantity` is a whole
-//! number of lots, at least 1. Errors in the file name the file and its line.
+//! each play, with `repeat`), or, with `orders.start`, a date-time mapped to run
+//! time by that instant (see [`crate::datetime`]); in non-decreasing order.
+//! `quantity` is a whole number of lots, at least 1. Cells are separated by `,`,
+//! `;` or tabs; decimal commas are detected per file. Errors in the file name the
+//! file, its line and the column. Demand per shift, day, week or month is spread
+//! over the scenario's `working_time` ([`working_time`]).
 
 use std::path::Path;
 
@@ -15,6 +19,7 @@ use super::context::Ctx;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
 use super::schema::{ProductSpec, Scenario};
+use crate::datetime::{looks_like_date, parse_datetime, DateTime, WEEKDAYS};
 use crate::limits;
 use crate::plant::{Demand, Order, OrderTrace, Product, Profile};
 use crate::suggest::{did_you_mean, name_list};
@@ -23,20 +28,190 @@ use crate::units::{format_duration, parse_duration};
 /// The columns of an order trace, in the order the messages list them.
 const COLUMNS: [&str; 3] = ["time", "product", "quantity"];
 
+/// The fields demand may be given in, one per product.
+const PERIODS: [&str; 5] = ["per_hour", "per_shift", "per_day", "per_week", "per_month"];
+
+/// The scenario's `working_time`, compiled: how many working hours a shift, a
+/// day, a week and a month of demand mean, and when in the week lots arrive.
+#[derive(Debug, Clone)]
+pub(crate) struct WorkingTime {
+    /// Shifts a working day (`shifts.on`).
+    shifts_per_day: f64,
+    /// Working days a week, from Monday.
+    days: f64,
+    /// Working hours a week: the on-duty hours of a day (breaks taken out) × days.
+    hours_per_week: f64,
+    /// Weeks a month.
+    weeks_per_month: f64,
+    /// 1 in working time, 0 outside, over one week from Monday 00:00.
+    profile: Profile,
+}
+
+/// Compiles `working_time`, if given.
+///
+/// The shifts repeat every day (`every: 1 d`) on the first `days` days of the
+/// week from Monday, the run clock's first day. Lots of a demand given per
+/// shift, day, week or month arrive in working time only, as a Poisson stream
+/// at the rate that makes up that demand: the hourly rate is the week's lots ÷
+/// the week's working hours. The arrival pattern is a profile over the week
+/// whose step is the largest that puts every shift and break edge on a step
+/// boundary (2 h for shifts at 06:00, 14:00 and 22:00).
+pub(crate) fn working_time(s: &Scenario, ctx: &Ctx) -> Result<Option<WorkingTime>, ScenarioError> {
+    let Some(w) = &s.working_time else {
+        return Ok(None);
+    };
+    let wp = FieldPath::root().key("working_time");
+    if w.shifts.every.0 != 86_400.0 {
+        return Err(ctx
+            .err(
+                &wp.key("shifts").key("every"),
+                format!("the working-time shifts repeat every day, got every: {}", format_duration(w.shifts.every.0)),
+            )
+            .with_hint("write `every: 1 d`, and say which days of the week are worked with `days: 5` (Monday to Friday)"));
+    }
+    let duty = super::operators::duty_calendar(
+        &w.shifts,
+        w.breaks.as_deref(),
+        &wp,
+        "the working time",
+        "the plant",
+        ctx,
+    )?;
+    let on: Vec<(f64, f64)> = duty.as_ref().map_or(vec![(0.0, 86_400.0)], |d| d.on.clone());
+    let days = w.days.unwrap_or(7);
+    if !(1..=7).contains(&days) {
+        return Err(ctx
+            .err(&wp.key("days"), format!("days must be 1 to 7 working days a week, got {days}"))
+            .with_hint("`days: 5` is Monday to Friday: the run clock starts on a Monday"));
+    }
+    let weeks_per_month = match w.weeks_per_month {
+        None => 52.0 / 12.0,
+        Some(x) if (4.0..=5.0).contains(&x) => x,
+        Some(x) => {
+            return Err(ctx
+                .err(&wp.key("weeks_per_month"), format!("weeks_per_month must lie in 4 to 5, got {x}"))
+                .with_hint("leave it out for 52/12 = 4.33 weeks (a year of 52 weeks in 12 months)"))
+        }
+    };
+    // The profile's step: the greatest common divisor of every edge, in whole seconds.
+    let mut step: u64 = 86_400;
+    for &(a, b) in &on {
+        for edge in [a, b] {
+            if edge.fract() != 0.0 {
+                return Err(ctx
+                    .err(
+                        &wp.key("shifts"),
+                        format!("a shift or break edge at {edge} s is not a whole second"),
+                    )
+                    .with_hint("write edges in whole minutes, e.g. [6 h, 14.5 h]"));
+            }
+            step = gcd(step, edge as u64);
+        }
+    }
+    if step < 60 {
+        return Err(ctx
+            .err(&wp.key("shifts"), "shift and break edges must fall on whole minutes")
+            .with_hint("a week is then at most 10 080 steps of arrivals on or off, e.g. [6 h, 14.5 h]"));
+    }
+    let factors = (0..7 * 86_400 / step)
+        .map(|k| {
+            let t = k * step;
+            let (day, second) = (t / 86_400, (t % 86_400) as f64);
+            let working = day < u64::from(days) && on.iter().any(|&(a, b)| a <= second && second < b);
+            if working {
+                1.0
+            } else {
+                0.0
+            }
+        })
+        .collect();
+    let hours_per_day: f64 = on.iter().map(|&(a, b)| b - a).sum::<f64>() / 3600.0;
+    Ok(Some(WorkingTime {
+        shifts_per_day: w.shifts.on.len() as f64,
+        days: f64::from(days),
+        hours_per_week: hours_per_day * f64::from(days),
+        weeks_per_month,
+        profile: Profile { every_s: step as f64, factors },
+    }))
+}
+
+fn gcd(a: u64, b: u64) -> u64 {
+    if b == 0 {
+        a
+    } else {
+        gcd(b, a % b)
+    }
+}
+
 /// The product's `demand`, or [`Demand::Orders`] when it has none (checked
 /// against the trace by [`order_trace`]).
-pub(crate) fn product_demand(spec: &ProductSpec, pp: &FieldPath, ctx: &Ctx) -> Result<Demand, ScenarioError> {
+pub(crate) fn product_demand(
+    spec: &ProductSpec,
+    pp: &FieldPath,
+    working: Option<&WorkingTime>,
+    ctx: &Ctx,
+) -> Result<Demand, ScenarioError> {
     let Some(d) = &spec.demand else {
         return Ok(Demand::Orders);
     };
     let dp = pp.key("demand");
-    let per_hour = d.per_hour;
-    if !(per_hour > 0.0 && per_hour.is_finite()) {
+    let given: Vec<(&str, f64)> = PERIODS
+        .iter()
+        .zip([d.per_hour, d.per_shift, d.per_day, d.per_week, d.per_month])
+        .filter_map(|(&name, v)| v.map(|v| (name, v)))
+        .collect();
+    let (period, amount) = match given.as_slice() {
+        [one] => *one,
+        [] => {
+            return Err(ctx
+                .err(&dp, format!("the demand of product \"{}\" gives no rate", spec.id))
+                .with_hint(format!("give one of {}, e.g. `demand: {{ per_hour: 2 }}`", PERIODS.join(", "))))
+        }
+        [(a, _), (b, _), ..] => {
+            return Err(ctx
+                .err(&dp.key(b), format!("the demand of product \"{}\" gives both `{a}` and `{b}`", spec.id))
+                .with_hint("give one rate: the others follow from `working_time`"))
+        }
+    };
+    if !(amount > 0.0 && amount.is_finite()) {
+        let what = period.trim_start_matches("per_");
         return Err(ctx.err(
-            &dp.key("per_hour"),
-            format!("demand of product \"{}\" must be a number > 0 lots per hour, got {per_hour}", spec.id),
+            &dp.key(period),
+            format!("demand of product \"{}\" must be a number > 0 lots per {what}, got {amount}", spec.id),
         ));
     }
+    if period != "per_hour" {
+        let Some(w) = working else {
+            return Err(ctx
+                .err(
+                    &dp.key(period),
+                    format!("demand `{period}` needs the scenario's `working_time` to say how long that is"),
+                )
+                .with_hint(
+                    "add e.g. `working_time: { shifts: { every: 1 d, on: [[6 h, 14 h], [14 h, 22 h]] }, days: 5 }` \
+                     (two 8 h shifts, Monday to Friday), or give `per_hour`",
+                ));
+        };
+        if d.profile.is_some() {
+            return Err(ctx
+                .err(&dp.key("profile"), format!("a `profile` goes with `per_hour`, not with `{period}`"))
+                .with_hint(
+                    "lots given per shift, day, week or month already arrive in working time only; \
+                     for another pattern, give `per_hour` with a profile",
+                ));
+        }
+        let per_week = match period {
+            "per_shift" => amount * w.shifts_per_day * w.days,
+            "per_day" => amount * w.days,
+            "per_week" => amount,
+            _ => amount / w.weeks_per_month,
+        };
+        let per_hour = per_week / w.hours_per_week;
+        limits::check_at_most(period, per_hour, limits::MAX_PER_HOUR, limits::RATE_WHY)
+            .map_err(|m| ctx.err(&dp.key(period), m))?;
+        return Ok(Demand::Rate { per_s: per_hour / 3600.0, profile: Some(w.profile.clone()) });
+    }
+    let per_hour = amount;
     limits::check_at_most("per_hour", per_hour, limits::MAX_PER_HOUR, limits::RATE_WHY)
         .map_err(|m| ctx.err(&dp.key("per_hour"), m))?;
     let profile = match &d.profile {
@@ -117,13 +292,20 @@ pub(crate) fn order_trace(
         ctx.err(&fp, format!("cannot read order trace {shown}: {e}"))
             .with_hint("the CSV path is relative to the scenario file")
     })?;
-    let in_file = |line: Option<u64>, msg: String| {
+    let in_file = |line: Option<u64>, column: Option<&str>, msg: String| {
         let at = line.map_or(String::new(), |l| format!(", line {l}"));
-        ctx.err(&fp, format!("in {shown}{at}: {msg}"))
+        let column = column.map_or(String::new(), |c| format!(", column {c}"));
+        ctx.err(&fp, format!("in {shown}{at}{column}: {msg}"))
+    };
+    let times = match &spec.start {
+        None => TimeColumn::Durations,
+        Some(text) => TimeColumn::Since(
+            run_start(text).map_err(|(msg, hint)| ctx.err(&op.key("start"), msg).with_hint(hint))?,
+        ),
     };
     let ids: Vec<&str> = products.iter().map(|p| p.id.as_str()).collect();
-    let (orders, lines) = read_orders(&text, &ids).map_err(|(line, msg, hint)| {
-        let e = in_file(line, msg);
+    let (orders, lines) = read_orders(&text, &ids, times).map_err(|(line, column, msg, hint)| {
+        let e = in_file(line, column, msg);
         match hint {
             Some(h) => e.with_hint(h),
             None => e,
@@ -181,15 +363,88 @@ pub(crate) fn order_trace(
     Ok(Some(OrderTrace { file: spec.file.clone(), orders, repeat_s }))
 }
 
-/// An error in the file: its line (where known), what is wrong, and what to do.
-type FileError = (Option<u64>, String, Option<String>);
+/// Reads `orders.start`: a date-time at 00:00 on a Monday.
+///
+/// The run clock starts on a Monday at 00:00: shifts, breaks, demand profiles
+/// and `--by day-of-week` all count from there. A start on another day or at
+/// another hour would slide every order against those calendars by a silent
+/// amount, so it is refused, with the Monday before as the fix (orders before
+/// the real first day are simply absent from the trace).
+fn run_start(text: &str) -> Result<DateTime, (String, String)> {
+    let start =
+        parse_datetime(text).map_err(|e| (format!("start: {e}"), "e.g. `start: 2026-03-02T00:00`".into()))?;
+    if start.weekday() != 0 || start.second_of_day() != 0.0 {
+        return Err((
+            format!(
+                "start {} is a {} at {}, but the run clock starts on a Monday at 00:00",
+                text.trim(),
+                WEEKDAYS[start.weekday() as usize],
+                {
+                    let m = (start.second_of_day() / 60.0).floor() as u32;
+                    format!("{:02}:{:02}", m / 60, m % 60)
+                }
+            ),
+            format!(
+                "shifts, breaks and demand profiles count from Monday 00:00; write `start: {}` \
+                 (the Monday before; time 0 of the run is that instant)",
+                start.monday_before()
+            ),
+        ));
+    }
+    Ok(start)
+}
+
+/// An error in the file: its line and column (where known), what is wrong, and what to do.
+type FileError = (Option<u64>, Option<&'static str>, String, Option<String>);
+
+/// How the time column is read: durations since the start of the run, or
+/// date-times mapped to run time by `orders.start`.
+#[derive(Debug, Clone, Copy)]
+pub(crate) enum TimeColumn {
+    /// `6.5 h`: a duration since time 0.
+    Durations,
+    /// `2026-03-02 06:30`: a date-time; time 0 is this instant.
+    Since(DateTime),
+}
+
+/// The cell separators an order trace may use, tried on the header line.
+const SEPARATORS: [u8; 3] = [b',', b';', b'\t'];
+
+/// The separator of the file: the first of `,` `;` tab that splits the header
+/// into exactly the three column names; `,` when none does (the header's own
+/// error then says what is wrong).
+fn separator(text: &str) -> u8 {
+    let header = text.lines().map(str::trim).find(|l| !l.is_empty() && !l.starts_with('#')).unwrap_or("");
+    SEPARATORS
+        .into_iter()
+        .find(|&d| {
+            let cells: Vec<&str> = header.split(char::from(d)).map(str::trim).collect();
+            cells.len() == COLUMNS.len()
+                && cells.iter().all(|c| COLUMNS.iter().any(|n| n.eq_ignore_ascii_case(c)))
+        })
+        .unwrap_or(b',')
+}
 
 /// Parses the CSV text into orders, with the file line of each.
-fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileError> {
+///
+/// Cells are separated by `,`, `;` or tabs, detected once from the header. A
+/// `;`- or tab-separated file may write decimals with a comma (`2,0`), as
+/// spreadsheets in many locales export them: the file is read with decimal
+/// commas when any number cell holds a comma, and then a number cell with a
+/// point is refused (is `1.000` one or a thousand?). The choice is the file's,
+/// never a cell's.
+pub(crate) fn read_orders(
+    text: &str,
+    ids: &[&str],
+    times: TimeColumn,
+) -> Result<(Vec<Order>, Vec<u64>), FileError> {
+    let text = text.strip_prefix('\u{feff}').unwrap_or(text);
+    let sep = separator(text);
     let header_hint = || Some(format!("the first line must be the header {}", COLUMNS.join(",")));
     let mut reader = csv::ReaderBuilder::new()
         .has_headers(true)
         .flexible(true)
+        .delimiter(sep)
         .trim(csv::Trim::All)
         .comment(Some(b'#'))
         .from_reader(text.as_bytes());
@@ -205,55 +460,139 @@ fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileE
         counted = (end, counted.1 + newlines);
         counted.1
     };
-    let header = reader.headers().map_err(|e| (None, format!("{e}"), None))?.clone();
+    let header = reader.headers().map_err(|e| (None, None, format!("{e}"), None))?.clone();
     let header_line = Some(line_before(reader.position().byte()));
     if header.is_empty() || header.iter().all(str::is_empty) {
-        return Err((None, "the file is empty".into(), header_hint()));
+        return Err((None, None, "the file is empty".into(), header_hint()));
     }
     let mut col = [usize::MAX; 3];
     for (c, name) in header.iter().enumerate() {
         let Some(k) = COLUMNS.iter().position(|n| n.eq_ignore_ascii_case(name)) else {
             return Err((
                 header_line,
+                None,
                 format!("unknown column \"{name}\"{}", did_you_mean(name, COLUMNS.iter().copied())),
                 header_hint(),
             ));
         };
         if col[k] != usize::MAX {
-            return Err((header_line, format!("column \"{name}\" appears twice"), header_hint()));
+            return Err((header_line, None, format!("column \"{name}\" appears twice"), header_hint()));
         }
         col[k] = c;
     }
     if let Some(k) = col.iter().position(|&c| c == usize::MAX) {
-        return Err((header_line, format!("the header has no \"{}\" column", COLUMNS[k]), header_hint()));
+        return Err((
+            header_line,
+            None,
+            format!("the header has no \"{}\" column", COLUMNS[k]),
+            header_hint(),
+        ));
     }
-    let mut orders = Vec::new();
-    let mut lines = Vec::new();
-    let mut previous: Option<(f64, u64)> = None;
+    let shown_header = header.iter().collect::<Vec<_>>().join(&char::from(sep).to_string());
+    let mut rows: Vec<(u64, csv::StringRecord)> = Vec::new();
     let mut rec = csv::StringRecord::new();
     loop {
         let more = reader.read_record(&mut rec);
         let line = line_before(reader.position().byte());
-        if !more.map_err(|e| (Some(line), format!("{e}"), None))? {
+        if !more.map_err(|e| (Some(line), None, format!("{e}"), None))? {
             break;
         }
-        let at = Some(line);
         if rec.len() != COLUMNS.len() {
             return Err((
-                at,
-                format!("{} cells; expected 3 ({})", rec.len(), header.iter().collect::<Vec<_>>().join(",")),
+                Some(line),
+                None,
+                format!("{} cells; expected 3 ({shown_header})", rec.len()),
                 None,
             ));
         }
-        let (t, p, q) = (&rec[col[0]], &rec[col[1]], &rec[col[2]]);
-        let time_s = parse_duration(t).map_err(|e| (at, format!("time: {e}"), None))?;
-        if time_s < 0.0 {
-            return Err((at, format!("time {t} is before the start of the run"), None));
+        rows.push((line, rec.clone()));
+    }
+    // The number cells: quantities, and times when they are durations.
+    let durations = matches!(times, TimeColumn::Durations);
+    let number_cells = |r: &csv::StringRecord| {
+        let q = (COLUMNS[2], r[col[2]].to_string());
+        let t = durations.then(|| (COLUMNS[0], r[col[0]].to_string()));
+        std::iter::once(q).chain(t)
+    };
+    let comma_at = if sep == b',' {
+        None
+    } else {
+        rows.iter().find_map(|(l, r)| number_cells(r).find(|(_, c)| c.contains(',')).map(|(n, _)| (*l, n)))
+    };
+    if let Some((comma_line, comma_col)) = comma_at {
+        if let Some((l, r)) = rows.iter().find(|(_, r)| number_cells(r).any(|(_, c)| c.contains('.'))) {
+            let (name, cell) = number_cells(r).find(|(_, c)| c.contains('.')).expect("found above");
+            return Err((
+                Some(*l),
+                Some(name),
+                format!(
+                    "\"{cell}\" has a decimal point, but this file writes decimals with a comma \
+                     (line {comma_line}, column {comma_col})"
+                ),
+                Some("write every number in the file one way: 2,5 (or 2.5 in a comma-separated file)".into()),
+            ));
         }
+    }
+    let decimal = |cell: &str| if comma_at.is_some() { cell.replace(',', ".") } else { cell.to_string() };
+    let mut orders = Vec::new();
+    let mut lines = Vec::new();
+    let mut previous: Option<(f64, u64)> = None;
+    for (line, rec) in &rows {
+        let (line, at) = (*line, Some(*line));
+        let (t, p, q) = (&rec[col[0]], &rec[col[1]], &rec[col[2]]);
+        let time_s = match times {
+            TimeColumn::Durations => {
+                if looks_like_date(t) {
+                    return Err((
+                        at,
+                        Some(COLUMNS[0]),
+                        format!("\"{t}\" is a date-time, but the scenario gives no `orders.start`"),
+                        Some(
+                            "say which instant is time 0 of the run: `orders: { file: ..., start: 2026-03-02T00:00 }` \
+                             (a Monday at 00:00)"
+                                .into(),
+                        ),
+                    ));
+                }
+                let time_s = parse_duration(&decimal(t))
+                    .map_err(|e| (at, Some(COLUMNS[0]), format!("time: {e}"), None))?;
+                if time_s < 0.0 {
+                    return Err((
+                        at,
+                        Some(COLUMNS[0]),
+                        format!("time {t} is before the start of the run"),
+                        None,
+                    ));
+                }
+                time_s
+            }
+            TimeColumn::Since(start) => {
+                let dt = parse_datetime(t).map_err(|e| (at, Some(COLUMNS[0]), e, None))?;
+                if dt.offset_s.is_some() && start.offset_s.is_none() {
+                    return Err((
+                        at,
+                        Some(COLUMNS[0]),
+                        format!("\"{t}\" carries a UTC offset, but `orders.start` has none"),
+                        Some("give the start its offset too, e.g. `start: 2026-03-02T00:00+01:00`".into()),
+                    ));
+                }
+                let time_s = dt.on_clock(start.offset_s) - start.local_s;
+                if time_s < 0.0 {
+                    return Err((
+                        at,
+                        Some(COLUMNS[0]),
+                        format!("{t} is before `orders.start` ({})", format_duration(-time_s)),
+                        Some("move `orders.start` earlier (to a Monday at 00:00), or drop the order".into()),
+                    ));
+                }
+                limits::check_duration(t, time_s).map_err(|m| (at, Some(COLUMNS[0]), m, None))?
+            }
+        };
         if let Some((before, before_line)) = previous {
             if time_s < before {
                 return Err((
                     at,
+                    Some(COLUMNS[0]),
                     format!(
                         "time {t} is earlier than the order before it ({} on line {before_line})",
                         format_duration(before)
@@ -266,16 +605,18 @@ fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileE
         let product = ids.iter().position(|i| *i == p).ok_or_else(|| {
             (
                 at,
+                Some(COLUMNS[1]),
                 format!("unknown product \"{p}\"{}", did_you_mean(p, ids.iter().copied())),
                 Some(format!("the products are: {}", name_list(ids.iter().copied()))),
             )
         })?;
-        let quantity = quantity(q).map_err(|m| (at, m, None))?;
+        let quantity = quantity(&decimal(q), q).map_err(|m| (at, Some(COLUMNS[2]), m, None))?;
         orders.push(Order { time_s, product, quantity });
         lines.push(line);
     }
     if orders.is_empty() {
         return Err((
+            None,
             None,
             "the order trace has no orders".into(),
             Some("add lines such as `6.5 h,<product>,2` under the header time,product,quantity".into()),
@@ -284,10 +625,22 @@ fn read_orders(text: &str, ids: &[&str]) -> Result<(Vec<Order>, Vec<u64>), FileE
     Ok((orders, lines))
 }
 
-/// A quantity cell: a whole number of lots, at least 1.
-fn quantity(cell: &str) -> Result<u32, String> {
-    match cell.parse::<i64>() {
-        Ok(q) if q >= 1 => match u32::try_from(q) {
+/// A quantity cell (`cell`, with any decimal comma made a point; `written` as in
+/// the file): a whole number of lots, at least 1. `3.0` is 3: ERP exports
+/// often write quantities with decimals.
+fn quantity(cell: &str, written: &str) -> Result<u32, String> {
+    let whole = match cell.parse::<i64>() {
+        Ok(q) => q,
+        Err(_) => match cell.parse::<f64>() {
+            Ok(x) if x.is_finite() && x.fract() == 0.0 && x.abs() < 1e15 => x as i64,
+            Ok(x) if x.is_finite() => {
+                return Err(format!("quantity {written} is not a whole number of lots"))
+            }
+            _ => return Err(format!("quantity \"{written}\" is not a number")),
+        },
+    };
+    match whole {
+        q if q >= 1 => match u32::try_from(q) {
             Ok(q) if q <= limits::MAX_ORDER_LOTS => Ok(q),
             _ => Err(format!(
                 "quantity {q} is more than the ceiling of {} lots an order: {}",
@@ -295,11 +648,7 @@ fn quantity(cell: &str) -> Result<u32, String> {
                 limits::MAX_ORDER_LOTS_WHY
             )),
         },
-        Ok(q) => Err(format!("quantity {q}: an order releases at least 1 lot")),
-        Err(_) => match cell.parse::<f64>() {
-            Ok(x) if x.is_finite() => Err(format!("quantity {cell} is not a whole number of lots")),
-            _ => Err(format!("quantity \"{cell}\" is not a number")),
-        },
+        q => Err(format!("quantity {q}: an order releases at least 1 lot")),
     }
 }
 
@@ -310,14 +659,18 @@ mod tests {
     const IDS: &[&str] = &["bracket", "hinge"];
 
     fn err(text: &str) -> (Option<u64>, String) {
-        let (l, m, _) = read_orders(text, IDS).unwrap_err();
+        let (l, _, m, _) = read_orders(text, IDS, TimeColumn::Durations).unwrap_err();
         (l, m)
+    }
+
+    fn since(start: &str) -> TimeColumn {
+        TimeColumn::Since(parse_datetime(start).unwrap())
     }
 
     #[test]
     fn reads_columns_in_any_order_with_comments_and_blank_lines() {
         let text = "# invented\nproduct, quantity, time\n\nbracket,2,90 min\n# a comment\nhinge,1,2 h\n";
-        let (orders, lines) = read_orders(text, IDS).unwrap();
+        let (orders, lines) = read_orders(text, IDS, TimeColumn::Durations).unwrap();
         assert_eq!(
             orders,
             [
@@ -346,5 +699,58 @@ mod tests {
         assert!(err("time,product,qty\n").1.contains("unknown column \"qty\""));
         assert!(err(h).1.contains("no orders"));
         assert!(err("").1.contains("empty"));
+    }
+
+    #[test]
+    fn erp_timestamps_and_decimal_commas() {
+        let start = since("2026-03-02T00:00");
+        let text = "\u{feff}time;product;quantity\r\n2026-03-02 06:15;bracket;2,0\r\n\
+                    2026-03-02T07:00:30;hinge;1\r\n2026-03-03T00:00Z;hinge;3,000\r\n";
+        // The `Z` cell needs a start with an offset.
+        let (l, c, m, _) = read_orders(text, IDS, start).unwrap_err();
+        assert_eq!((l, c), (Some(4), Some("time")));
+        assert!(m.contains("carries a UTC offset"), "{m}");
+        let text = text.replace("00:00Z", "01:00+01:00");
+        let (orders, lines) = read_orders(&text, IDS, since("2026-03-02T00:00+01:00")).unwrap();
+        assert_eq!(
+            orders,
+            [
+                Order { time_s: 22_500.0, product: 0, quantity: 2 },
+                Order { time_s: 25_230.0, product: 1, quantity: 1 },
+                Order { time_s: 90_000.0, product: 1, quantity: 3 }
+            ]
+        );
+        assert_eq!(lines, [2, 3, 4]);
+        // Start in UTC: cells without an offset are read on the start's clock,
+        // the +01:00 cell (01:00 on Tuesday, 00:00 UTC) is one day after the start.
+        let (orders, _) = read_orders(&text, IDS, since("2026-03-02T00:00Z")).unwrap();
+        assert_eq!((orders[0].time_s, orders[2].time_s), (22_500.0, 86_400.0));
+    }
+
+    #[test]
+    fn erp_errors_name_the_row_and_column() {
+        let start = since("2026-03-02T00:00");
+        let e = |text: &str| read_orders(text, IDS, start).unwrap_err();
+        let (l, c, m, _) = e("time,product,quantity\n2026-03-01 23:59,bracket,1\n");
+        assert_eq!((l, c), (Some(2), Some("time")));
+        assert!(m.contains("before `orders.start`"), "{m}");
+        let (_, c, m, _) = e("time;product;quantity\n2026-03-02 06:00;bracket;2,5\n");
+        assert_eq!(c, Some("quantity"));
+        assert!(m.contains("quantity 2,5 is not a whole number"), "{m}");
+        let (l, c, m, _) =
+            e("time;product;quantity\n2026-03-02 06:00;bracket;2,0\n2026-03-02 07:00;hinge;1.000\n");
+        assert_eq!((l, c), (Some(3), Some("quantity")));
+        assert!(m.contains("writes decimals with a comma (line 2, column quantity)"), "{m}");
+        let (_, _, m, _) = e("time,product,quantity\n2.3.2026 06:00,bracket,1\n");
+        assert!(m.contains("not a date-time"), "{m}");
+        let (_, _, m, _) = err_full("time,product,quantity\n2026-03-02 06:00,bracket,1\n");
+        assert!(m.contains("no `orders.start`"), "{m}");
+        assert!(run_start("2026-03-04T00:00").unwrap_err().1.contains("start: 2026-03-02T00:00"));
+        assert!(run_start("2026-03-02T06:00").unwrap_err().0.contains("a Monday at 06:00"));
+        assert!(run_start("2026-03-02 00:00").is_ok());
+    }
+
+    fn err_full(text: &str) -> FileError {
+        read_orders(text, IDS, TimeColumn::Durations).unwrap_err()
     }
 }

@@ -31,10 +31,11 @@ pub(crate) fn products(
     let dept_ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
     let receiving: Vec<usize> =
         (0..departments.len()).filter(|&d| departments[d].role == DepartmentRole::Receiving).collect();
+    let working = demand::working_time(s, ctx)?;
     let mut out = Vec::with_capacity(s.products.len());
     for (i, spec) in s.products.iter().enumerate() {
         let pp = p.index(i);
-        let demand = demand::product_demand(spec, &pp, ctx)?;
+        let demand = demand::product_demand(spec, &pp, working.as_ref(), ctx)?;
         let enters_at = match &spec.enters_at {
             Some(name) => {
                 let ep = pp.key("enters_at");

@@ -20,6 +20,8 @@ pub(crate) struct Scenario {
     pub units: Option<UnitsSpec>,
     pub run: RunSpec,
     pub demand_factor: Option<Share>,
+    /// The working week that demand `per_shift`, `per_day`, `per_week` and `per_month` is spread over.
+    pub working_time: Option<WorkingTimeSpec>,
     pub locations: Vec<LocationSpec>,
     pub distance: Option<DistanceField>,
     pub aisles: Option<AislesSpec>,
@@ -33,6 +35,8 @@ pub(crate) struct Scenario {
     pub fleets: Option<Vec<FleetSpec>>,
     pub fleet_choice: Option<FleetChoiceSpec>,
     pub costs: Option<CostsSpec>,
+    /// `currency: EUR`: the currency every cost is in, shown beside cost figures.
+    pub currency: Option<String>,
 }
 
 /// `fleet_choice: first-listed | nearest-idle`.
@@ -62,6 +66,8 @@ pub(crate) struct RunSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct LocationSpec {
     pub id: String,
+    /// Metres: bare numbers, or lengths with a unit (`["150 ft", "40 ft"]`).
+    #[serde(deserialize_with = "crate::units::point_in_metres")]
     pub at: [f64; 2],
     /// The aisle node where movers pick up and drop off (with `distance: aisles`).
     pub node: Option<String>,
@@ -84,6 +90,7 @@ pub(crate) struct AislesSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct AisleNodeSpec {
     pub id: String,
+    #[serde(deserialize_with = "crate::units::point_in_metres")]
     pub at: [f64; 2],
     /// Zone control: one mover in the intersection at a time.
     pub zone: Option<bool>,
@@ -95,7 +102,8 @@ pub(crate) struct AisleNodeSpec {
 pub(crate) struct SegmentSpec {
     pub from: String,
     pub to: String,
-    /// Metres; the straight line between the nodes when absent.
+    /// Metres (a bare number or a length with a unit); the straight line between the nodes when absent.
+    #[serde(default, deserialize_with = "crate::units::optional_metres")]
     pub length: Option<f64>,
     pub one_way: Option<bool>,
     pub speed_limit: Option<MetresPerSecond>,
@@ -339,11 +347,30 @@ pub(crate) struct LoadSpec {
     pub weight: Kilograms,
 }
 
+/// One of `per_hour`, `per_shift`, `per_day`, `per_week`, `per_month` (lots in that time), with an
+/// optional profile (with `per_hour` only).
 #[derive(Debug, DeriveDeserialize)]
 #[serde(deny_unknown_fields)]
 pub(crate) struct DemandSpec {
-    pub per_hour: f64,
+    pub per_hour: Option<f64>,
+    pub per_shift: Option<f64>,
+    pub per_day: Option<f64>,
+    pub per_week: Option<f64>,
+    pub per_month: Option<f64>,
     pub profile: Option<ProfileSpec>,
+}
+
+/// `working_time: { shifts: { every: 1 d, on: [[6 h, 14 h], [14 h, 22 h]] }, breaks: [...], days: 5,
+/// weeks_per_month: 4.33 }`: what a shift, a day, a week and a month of demand mean in working hours.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct WorkingTimeSpec {
+    pub shifts: ShiftsSpec,
+    pub breaks: Option<Vec<[Seconds; 2]>>,
+    /// Working days a week, counted from Monday; 7 when absent.
+    pub days: Option<u32>,
+    /// Weeks in a month; 52/12 when absent.
+    pub weeks_per_month: Option<f64>,
 }
 
 /// `profile: { every: 1 h, factors: [0.5, 1.5] }`: multipliers on `per_hour`, repeating.
@@ -360,6 +387,9 @@ pub(crate) struct ProfileSpec {
 pub(crate) struct OrdersSpec {
     pub file: String,
     pub repeat: Option<Seconds>,
+    /// `start: 2026-03-02T00:00`: the time column holds date-times, and time 0 is this
+    /// instant (a Monday at 00:00).
+    pub start: Option<String>,
 }
 
 #[derive(Debug, DeriveDeserialize)]
@@ -565,6 +595,7 @@ pub(crate) struct SearchSpec {
     pub keep_empty: Option<Vec<String>>,
     pub adjacent: Option<Vec<[String; 2]>>,
     pub apart: Option<Vec<[String; 2]>>,
+    #[serde(default, deserialize_with = "crate::units::optional_metres")]
     pub neighbour_distance: Option<f64>,
     pub floor_costs: Option<Vec<FloorCostSpec>>,
 }
@@ -585,14 +616,18 @@ pub(crate) struct Share(pub f64);
 
 /// A number or a percentage (`0.9`, `90%`, `120 %`) as a plain number;
 /// the error says which forms are accepted.
+///
+/// A percentage is divided by 100 rather than multiplied by 0.01: 0.01 is not
+/// a double exactly, so `35 × 0.01` is 0.35000000000000003, while `35 / 100` is
+/// correctly rounded and so the same double as `0.35` written out.
 pub fn parse_factor(text: &str) -> Result<f64, String> {
     let t = text.trim();
-    let (digits, scale) = match t.strip_suffix('%') {
-        Some(d) => (d.trim_end(), 0.01),
+    let (digits, divisor) = match t.strip_suffix('%') {
+        Some(d) => (d.trim_end(), 100.0),
         None => (t, 1.0),
     };
     match digits.parse::<f64>() {
-        Ok(x) if x.is_finite() && !digits.is_empty() => Ok(x * scale),
+        Ok(x) if x.is_finite() && !digits.is_empty() => Ok(x / divisor),
         _ => Err(format!("\"{t}\" is not a number or a percentage; write e.g. 0.9 or 90%")),
     }
 }

@@ -12,8 +12,8 @@
 const FIELD_WORDS: &[(&str, &str, &str)] = &[
     (
         "at",
-        "a position [x, y] in metres, such as [15, 5]",
-        "positions are plain numbers in metres, without a unit: 15 ft, 5 ft is [4.572, 1.524]",
+        "a position [x, y]: metres as plain numbers, such as [15, 5], or lengths with a unit, such as [\"50 ft\", \"16 ft\"]",
+        "lengths take m, mm or ft; a bare number is metres",
     ),
     ("p", "a probability, such as 0.9 or 90%", ""),
     ("demand_factor", "a factor, such as 1.2 or 120%", ""),
@@ -38,9 +38,20 @@ const FIELD_WORDS: &[(&str, &str, &str)] = &[
     ("inbound", "a whole number of loads, such as 4", ""),
     ("outbound", "a whole number of loads, such as 2", ""),
     ("movers", "a whole number of movers, such as 1", ""),
-    ("length", "a length in metres as a plain number, such as 30", ""),
-    ("neighbour_distance", "a distance in metres as a plain number, such as 12", ""),
+    ("length", "a length: metres as a plain number, such as 30, or with a unit, such as \"100 ft\"", ""),
+    (
+        "neighbour_distance",
+        "a distance: metres as a plain number, such as 12, or with a unit, such as \"40 ft\"",
+        "",
+    ),
     ("k", "a whole number of phases, such as 3", ""),
+    ("per_shift", "a number of lots per shift, such as 40", ""),
+    ("per_day", "a number of lots per day, such as 80", ""),
+    ("per_week", "a number of lots per week, such as 400", ""),
+    ("per_month", "a number of lots per month, such as 1700", ""),
+    ("days", "a whole number of working days a week, such as 5", ""),
+    ("weeks_per_month", "a number of weeks, such as 4.33", ""),
+    ("start", "a date-time such as 2026-03-02T00:00", ""),
     ("points", "a list of design points, such as [{ layout: current, demand: 1.2 }]", ""),
 ];
 
@@ -75,7 +86,8 @@ const TYPE_WORDS: &[(&str, &str)] = &[
     ("struct ProductSpec", "a mapping such as { id: bracket, demand: { per_hour: 2 }, routing: [...] }"),
     ("struct LotSpec", "a mapping such as { quantity: 40, transfer_batch: 10 }"),
     ("struct LoadSpec", "a mapping such as { weight: 800 kg }"),
-    ("struct DemandSpec", "a mapping such as { per_hour: 2.5 }"),
+    ("struct DemandSpec", "a mapping such as { per_hour: 2.5 } or { per_week: 400 }"),
+    ("struct WorkingTimeSpec", "a mapping such as { shifts: { every: 1 d, on: [[6 h, 14 h], [14 h, 22 h]] }, days: 5 }"),
     ("struct ProfileSpec", "a mapping such as { every: 1 h, factors: [0.5, 1.5] }"),
     ("struct OrdersSpec", "a mapping such as { file: orders.csv }"),
     ("struct StepSpec", "a mapping such as { step: cut, at: cutting, time: 5 min }"),
@@ -319,6 +331,7 @@ mod tests {
             DistanceField,
             MatrixSource,
             DepartmentSpec,
+            WorkingTimeSpec,
             CalendarSpec,
             ShiftEndSpec,
             SetupsSpec,
@@ -459,7 +472,7 @@ mod tests {
         assert!(h.unwrap().contains("currency"));
         let (m, _) =
             type_error(r#"invalid type: string "15 ft", expected f64"#, "locations[1].at[0]").unwrap();
-        assert!(m.starts_with("expected a position [x, y] in metres"), "{m}");
+        assert!(m.starts_with("expected a position [x, y]: metres"), "{m}");
         let (m, _) =
             type_error("invalid length 3, expected an array of length 2", "locations[1].at").unwrap();
         assert!(m.ends_with("got a list of 3 items"), "{m}");
