@@ -482,7 +482,10 @@ fn compare_sections(inp: &Inputs, k: usize, st: &Study) -> String {
                 (true, false) => Verdict::Worse,
             };
             rows.push(DiffRow {
-                label: if others.len() > 1 { format!("{l}: {}", def.label) } else { def.label.to_string() },
+                label: crate::render::table::with_currency(
+                    if others.len() > 1 { format!("{l}: {}", def.label) } else { def.label.to_string() },
+                    inp.plant.currency.as_deref(),
+                ),
                 pct: 100.0 * d.mean / base.abs(),
                 lo: 100.0 * (d.mean - hw) / base.abs(),
                 hi: 100.0 * (d.mean + hw) / base.abs(),
@@ -521,7 +524,8 @@ fn compare_sections(inp: &Inputs, k: usize, st: &Study) -> String {
             let (scope, subject, metric) =
                 (st.csv.get(r0, "scope"), st.csv.get(r0, "subject"), st.csv.get(r0, "metric"));
             let def = def_of_row(st, r0);
-            let _ = write!(t, "<tr><td>{}</td>", esc(&row_label(st, r0)));
+            let label = crate::render::table::with_currency(row_label(st, r0), inp.plant.currency.as_deref());
+            let _ = write!(t, "<tr><td>{}</td>", esc(&label));
             let mut rs = Vec::new();
             for l in &layouts {
                 match compare_row(st, &level, l, scope, subject, metric) {
@@ -707,8 +711,13 @@ fn fleet_answer(st: &Study) -> String {
                  confidence{}.</p>",
                 esc(&targets.join("; ")),
                 cost.map_or(String::new(), |r| format!(
-                    ", at a handling cost of {} per hour",
-                    esc(&value_text(def_of_row(st, r), &estimate(st, r, "")))
+                    ", at a handling cost of {}{} per hour",
+                    esc(&value_text(def_of_row(st, r), &estimate(st, r, ""))),
+                    // The fleet's JSON names the scenario's currency, when it has one.
+                    match st.str("currency") {
+                        "" => String::new(),
+                        c => format!(" {}", esc(c)),
+                    }
                 )),
                 fleet = esc(fleet)
             );
@@ -865,7 +874,9 @@ fn fleet_sections(inp: &Inputs, k: usize, st: &Study) -> String {
     );
     for m in metrics {
         let scope = if find(Scope::Fleet, m).is_some() { Scope::Fleet } else { Scope::Plant };
-        let _ = write!(s, "<th>{}</th>", esc(find(scope, m).map_or(m, |d| d.label)));
+        let label = find(scope, m).map_or(m.to_string(), |d| d.label.to_string());
+        let label = crate::render::table::with_currency(label, inp.plant.currency.as_deref());
+        let _ = write!(s, "<th>{}</th>", esc(&label));
     }
     s.push_str("<th>meets every target</th></tr></thead><tbody>");
     for z in &sizes {
@@ -1056,7 +1067,9 @@ fn experiment_sections(inp: &Inputs, k: usize, st: &Study) -> String {
         let _ = write!(s, "<th>{}</th>", esc(f));
     }
     for m in metrics {
-        let _ = write!(s, "<th>{}</th>", esc(find(Scope::Plant, m).map_or(m, |d| d.label)));
+        let label = find(Scope::Plant, m).map_or(m.to_string(), |d| d.label.to_string());
+        let label = crate::render::table::with_currency(label, inp.plant.currency.as_deref());
+        let _ = write!(s, "<th>{}</th>", esc(&label));
     }
     s.push_str("</tr></thead><tbody>");
     let mut points: Vec<String> = Vec::new();
@@ -1168,11 +1181,15 @@ fn study_facts(st: &Study) -> Facts {
 fn assumptions(inp: &Inputs, facts: &[Facts]) -> String {
     let mut s = format!(
         "<section id=\"assumptions\"><h2>What was assumed</h2><dl class=\"facts\"><dt>scenario</dt><dd>{} — {}</dd>\
-         <dt>scenario SHA-256</dt><dd><code>{}</code></dd><dt>layflow version</dt><dd>{}</dd></dl>",
+         <dt>scenario SHA-256</dt><dd><code>{}</code></dd><dt>layflow version</dt><dd>{}</dd>{}</dl>",
         esc(&inp.plant.name),
         esc(&inp.scenario),
         esc(&inp.scenario_sha256),
-        env!("CARGO_PKG_VERSION")
+        env!("CARGO_PKG_VERSION"),
+        inp.plant.currency.as_deref().map_or(String::new(), |c| format!(
+            "<dt>currency</dt><dd>{} (every cost on this page)</dd>",
+            esc(c)
+        ))
     );
     for f in facts {
         let _ = write!(
