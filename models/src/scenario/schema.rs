@@ -343,7 +343,7 @@ impl std::ops::Deref for Layouts {
 }
 
 /// One value under `layouts:`: a layout (a mapping) or a table's file or sheet name.
-enum LayoutValue {
+pub(crate) enum LayoutValue {
     Map(Ordered<String>),
     Text(String),
 }
