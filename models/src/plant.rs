@@ -10,7 +10,7 @@ use std::fmt;
 use crate::dist::Dist;
 
 /// A whole plant as the scenario describes it, with every layout it names.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Plant {
     /// Free-text name shown in reports.
     pub name: String,
@@ -48,7 +48,7 @@ pub struct Plant {
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
-#[derive(Clone)]
+#[derive(Clone, PartialEq)]
 pub struct Location {
     /// The scenario's name for it.
     pub id: String,
@@ -160,7 +160,7 @@ pub enum DepartmentRole {
 }
 
 /// A department (or dock).
-#[derive(Clone)]
+#[derive(Clone, PartialEq)]
 pub struct Department {
     /// The scenario's name for it.
     pub id: String,
@@ -358,7 +358,7 @@ pub struct Charging {
 }
 
 /// One candidate assignment of departments to locations.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Layout {
     /// The scenario's name for it.
     pub name: String,
@@ -368,7 +368,7 @@ pub struct Layout {
 }
 
 /// A product: its demand and its routing.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Product {
     /// The scenario's name for it.
     pub id: String,
@@ -443,7 +443,7 @@ pub struct Order {
 }
 
 /// One step of a routing.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Operation {
     /// The scenario's name for the step.
     pub name: String,
@@ -458,7 +458,7 @@ pub struct Operation {
 }
 
 /// How loads move between departments.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub enum Handling {
     /// Moves take no time and need no mover (for validating queueing results).
     Instant,
@@ -582,7 +582,7 @@ pub enum Home {
 }
 
 /// A fleet of identical movers.
-#[derive(Debug, Clone)]
+#[derive(Debug, Clone, PartialEq)]
 pub struct Fleet {
     /// The scenario's name for it.
     pub id: String,

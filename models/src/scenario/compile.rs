@@ -34,7 +34,12 @@ fn currency(s: &Scenario, ctx: &Ctx) -> Result<Option<String>, ScenarioError> {
 }
 
 /// Turns a checked scenario into a plant.
-pub(crate) fn compile(s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
+pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
+    // Sections given as tables become YAML items first; their errors from
+    // here on name the table's file, row and column.
+    let tables = super::tables::expand(&mut s, ctx)?;
+    let with_tables = Ctx { text: ctx.text, origin: ctx.origin, file: ctx.file.clone(), tables };
+    let ctx = &with_tables;
     let root = FieldPath::root();
     if let Some(u) = &s.units {
         if u.length != "m" {
@@ -370,7 +375,7 @@ fn layout_file(
             .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()))
             .with_hint("a layout file holds `layouts:` with one mapping per layout, as `layflow search --out` writes")
     })?;
-    let sub = Ctx { text: &text, origin: &path, file };
+    let sub = Ctx { text: &text, origin: &path, file, tables: Vec::new() };
     add_layouts(&spec.layouts, departments, locations, &sub, out)
 }
 

@@ -35,6 +35,8 @@ struct Details {
     column: Option<usize>,
     message: String,
     hint: Option<String>,
+    /// In a table file: the row (1-based, as the file or sheet numbers it) and the column's header.
+    cell: Option<(usize, Option<String>)>,
 }
 
 impl ScenarioError {
@@ -52,6 +54,7 @@ impl ScenarioError {
             column: None,
             message,
             hint: None,
+            cell: None,
         }))
     }
 
@@ -66,6 +69,12 @@ impl ScenarioError {
     pub(crate) fn at_line(mut self, line: Option<usize>, column: Option<usize>) -> Self {
         self.0.line = line;
         self.0.column = column;
+        self
+    }
+
+    /// Places the error in a table file: its row and, where known, its column's header.
+    pub(crate) fn at_cell(mut self, row: usize, column: Option<&str>) -> Self {
+        self.0.cell = Some((row, column.map(str::to_string)));
         self
     }
 
@@ -100,6 +109,16 @@ impl ScenarioError {
         self.0.column
     }
 
+    /// In a table file, the 1-based row (as the file or the sheet numbers it).
+    pub fn row(&self) -> Option<usize> {
+        self.0.cell.as_ref().map(|c| c.0)
+    }
+
+    /// In a table file, the header of the column at fault, where known.
+    pub fn column_name(&self) -> Option<&str> {
+        self.0.cell.as_ref().and_then(|c| c.1.as_deref())
+    }
+
     /// What is wrong, without the location.
     pub fn message(&self) -> &str {
         &self.0.message
@@ -118,6 +137,12 @@ impl fmt::Display for ScenarioError {
             (Some(l), Some(c), ErrorKind::Syntax) => write!(f, ", line {l}, column {c}")?,
             (Some(l), _, _) => write!(f, ", line {l}")?,
             _ => {}
+        }
+        if let Some((row, column)) = &self.0.cell {
+            write!(f, ", row {row}")?;
+            if let Some(c) = column {
+                write!(f, ", column \"{c}\"")?;
+            }
         }
         f.write_str(": ")?;
         if let Some(p) = &self.0.path {

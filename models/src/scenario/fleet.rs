@@ -349,7 +349,7 @@ fn every_move_served(
                     continue;
                 }
                 let sp = pp.key("routing").index(j);
-                let has_then = s.products[p].routing[j].then.is_some();
+                let has_then = s.products[p].routing.as_ref().is_some_and(|r| r[j].then.is_some());
                 let at = if has_then { sp.key("then").index(k) } else { sp };
                 let what = format!(
                     "from step \"{}\" (at \"{}\") to step \"{}\" (at \"{}\")",

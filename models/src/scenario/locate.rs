@@ -35,6 +35,24 @@ impl FieldPath {
         v.push(Seg::Key(k.to_string()));
         FieldPath(v)
     }
+    /// How many steps deep the path is.
+    pub(crate) fn len(&self) -> usize {
+        self.0.len()
+    }
+
+    /// When this path lies at or below `prefix`, the mapping keys below it (indices left out).
+    pub(crate) fn keys_below(&self, prefix: &FieldPath) -> Option<Vec<&str>> {
+        let rest = self.0.strip_prefix(prefix.0.as_slice())?;
+        Some(
+            rest.iter()
+                .filter_map(|s| match s {
+                    Seg::Key(k) => Some(k.as_str()),
+                    Seg::Index(_) => None,
+                })
+                .collect(),
+        )
+    }
+
     /// This path followed by an index.
     pub(crate) fn index(&self, i: usize) -> Self {
         let mut v = self.0.clone();

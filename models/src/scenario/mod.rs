@@ -19,6 +19,8 @@ mod routing;
 mod schema;
 mod search;
 mod staging;
+mod table_read;
+mod tables;
 mod times;
 mod words;
 mod work;
@@ -64,7 +66,7 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let de = serde_norway::Deserializer::from_str(text);
     let scenario: schema::Scenario =
         serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
-    let ctx = context::Ctx { text, origin, file };
+    let ctx = context::Ctx { text, origin, file, tables: Vec::new() };
     compile::compile(scenario, &ctx)
 }
 

@@ -11,7 +11,7 @@ use crate::plant::{Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
 
 /// How far branch probabilities may sum from 1 (hand-typed decimals).
-const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
+pub(crate) const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
 
 /// Compiles every product.
 pub(crate) fn products(
@@ -63,7 +63,9 @@ pub(crate) fn products(
                     )))
             }
         };
-        let routing = routing(&spec.id, &spec.routing, &pp.key("routing"), departments, ctx)?;
+        // `tables::expand` gave every product its steps or refused the scenario.
+        let steps = spec.routing.as_deref().unwrap_or(&[]);
+        let routing = routing(&spec.id, steps, &pp.key("routing"), departments, ctx)?;
         let weight_kg = match &spec.load {
             None => None,
             Some(l) if l.weight.0 > 0.0 => Some(l.weight.0),

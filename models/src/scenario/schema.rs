@@ -22,14 +22,18 @@ pub(crate) struct Scenario {
     pub demand_factor: Option<Share>,
     /// The working week that demand `per_shift`, `per_day`, `per_week` and `per_month` is spread over.
     pub working_time: Option<WorkingTimeSpec>,
-    pub locations: Vec<LocationSpec>,
+    pub locations: Listed<LocationSpec>,
     pub distance: Option<DistanceField>,
     pub aisles: Option<AislesSpec>,
-    pub departments: Vec<DepartmentSpec>,
-    pub layouts: Ordered<Ordered<String>>,
+    pub departments: Listed<DepartmentSpec>,
+    pub layouts: Layouts,
     pub layout_files: Option<Vec<String>>,
     pub search: Option<SearchSpec>,
-    pub products: Vec<ProductSpec>,
+    pub products: Listed<ProductSpec>,
+    /// Routing steps of many products from one table (`tables.rs`).
+    pub routings: Option<TableSpec>,
+    /// Demand of many products from one table (`tables.rs`).
+    pub demand: Option<TableSpec>,
     pub orders: Option<OrdersSpec>,
     pub moves: Option<MovesSpec>,
     pub fleets: Option<Vec<FleetSpec>>,
@@ -286,6 +290,155 @@ pub(crate) enum DockSpec {
     Shipping,
 }
 
+/// `{ table: FILE, sheet: NAME, columns: { key: Header, ... }, time_unit: min }`:
+/// a section read from a table file (CSV, .xlsx, .ods) named relative to the
+/// scenario; `columns` maps our field names to the file's header names.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct TableSpec {
+    pub table: String,
+    pub sheet: Option<String>,
+    pub columns: Ordered<String>,
+    /// The unit of bare numbers in time columns (routings).
+    pub time_unit: Option<String>,
+}
+
+/// A section written as a YAML list or read from a table: `- {...}` items,
+/// or `{ table: ..., columns: ... }`. The table is expanded into `items`
+/// before compiling, so compile code reads the list alone (through `Deref`).
+#[derive(Debug)]
+pub(crate) struct Listed<T> {
+    pub items: Vec<T>,
+    pub table: Option<TableSpec>,
+}
+
+impl<T> std::ops::Deref for Listed<T> {
+    type Target = Vec<T>;
+    fn deref(&self) -> &Vec<T> {
+        &self.items
+    }
+}
+
+impl<'de, T: Deserialize<'de>> Deserialize<'de> for Listed<T> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V<T>(std::marker::PhantomData<T>);
+        impl<'de, T: Deserialize<'de>> Visitor<'de> for V<T> {
+            type Value = Listed<T>;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a sequence, or a table such as { table: file.csv, columns: { ... } }")
+            }
+            fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<Listed<T>, A::Error> {
+                let mut items = Vec::new();
+                while let Some(item) = s.next_element::<T>()? {
+                    items.push(item);
+                }
+                Ok(Listed { items, table: None })
+            }
+            fn visit_map<A: MapAccess<'de>>(self, m: A) -> Result<Listed<T>, A::Error> {
+                let t = TableSpec::deserialize(de::value::MapAccessDeserializer::new(m))?;
+                Ok(Listed { items: Vec::new(), table: Some(t) })
+            }
+        }
+        d.deserialize_any(V(std::marker::PhantomData))
+    }
+}
+
+/// `layouts:` as a mapping of layouts, or `{ table: layouts.csv, columns: ... }`
+/// (a layout cannot be named `table`). Expanded like [`Listed`].
+#[derive(Debug)]
+pub(crate) struct Layouts {
+    pub map: Ordered<Ordered<String>>,
+    pub table: Option<TableSpec>,
+}
+
+impl std::ops::Deref for Layouts {
+    type Target = Ordered<Ordered<String>>;
+    fn deref(&self) -> &Ordered<Ordered<String>> {
+        &self.map
+    }
+}
+
+/// One value under `layouts:`: a layout (a mapping) or a table's file or sheet name.
+pub(crate) enum LayoutValue {
+    Map(Ordered<String>),
+    Text(String),
+}
+
+impl<'de> Deserialize<'de> for LayoutValue {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = LayoutValue;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a mapping of names")
+            }
+            fn visit_str<E: de::Error>(self, v: &str) -> Result<LayoutValue, E> {
+                Ok(LayoutValue::Text(v.to_string()))
+            }
+            fn visit_map<A: MapAccess<'de>>(self, m: A) -> Result<LayoutValue, A::Error> {
+                Ordered::deserialize(de::value::MapAccessDeserializer::new(m)).map(LayoutValue::Map)
+            }
+        }
+        d.deserialize_any(V)
+    }
+}
+
+impl<'de> Deserialize<'de> for Layouts {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V;
+        impl<'de> Visitor<'de> for V {
+            type Value = Layouts;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                f.write_str("a mapping of names")
+            }
+            fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Layouts, A::Error> {
+                let mut pairs = Vec::new();
+                while let Some((k, v)) = m.next_entry::<String, LayoutValue>()? {
+                    pairs.push((k, v));
+                }
+                let is_table = pairs.iter().any(|(k, v)| k == "table" && matches!(v, LayoutValue::Text(_)));
+                if !is_table {
+                    let mut layouts = Vec::new();
+                    for (k, v) in pairs {
+                        match v {
+                            LayoutValue::Map(m) => layouts.push((k, m)),
+                            LayoutValue::Text(t) => {
+                                return Err(de::Error::invalid_type(de::Unexpected::Str(&t), &self))
+                            }
+                        }
+                    }
+                    return Ok(Layouts { map: Ordered(layouts), table: None });
+                }
+                let (mut table, mut sheet, mut columns) = (None, None, None);
+                for (k, v) in pairs {
+                    match (k.as_str(), v) {
+                        ("table", LayoutValue::Text(t)) => table = Some(t),
+                        ("sheet", LayoutValue::Text(t)) => sheet = Some(t),
+                        ("columns", LayoutValue::Map(c)) => columns = Some(c),
+                        (other, _) => {
+                            return Err(de::Error::custom(format!(
+                                "a layouts table takes `table`, `sheet` and `columns` (a mapping), not `{other}` \
+                                 in that form"
+                            )))
+                        }
+                    }
+                }
+                let columns = columns.ok_or_else(|| de::Error::missing_field("columns"))?;
+                Ok(Layouts {
+                    map: Ordered(Vec::new()),
+                    table: Some(TableSpec {
+                        table: table.unwrap_or_default(),
+                        sheet,
+                        columns,
+                        time_unit: None,
+                    }),
+                })
+            }
+        }
+        d.deserialize_map(V)
+    }
+}
+
 /// A YAML mapping read as (key, value) pairs in file order, duplicates kept
 /// so that the checks can name them.
 #[derive(Debug)]
@@ -318,7 +471,9 @@ pub(crate) struct ProductSpec {
     /// Absent exactly when the product's lots come from the order trace.
     pub demand: Option<DemandSpec>,
     pub enters_at: Option<String>,
-    pub routing: Vec<StepSpec>,
+    /// Absent when the steps come from the `routings` table; filled in
+    /// before compiling (`tables.rs`), so compile code reads it as present.
+    pub routing: Option<Vec<StepSpec>>,
     pub load: Option<LoadSpec>,
     pub lot: Option<LotSpec>,
 }

@@ -1,0 +1,153 @@
+//! Scenario sections read from tables: the table form of the demo plant is the demo plant, and every bad table in `scenarios/bad-tables/` fails at its file, row and column.
+//!
+//! The reference is the YAML form of the same plant (`scenarios/demo.yaml`),
+//! compiled by the long-tested YAML path: a table that compiles to an equal
+//! `Plant` cannot simulate differently (the seeded results are compared byte
+//! for byte in `cli/tests/tables.rs`).
+
+use std::path::{Path, PathBuf};
+
+use layflow_models::{load_scenario, parse_scenario};
+
+fn scenarios_dir() -> PathBuf {
+    Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios")
+}
+
+#[test]
+fn the_table_form_of_the_demo_is_the_demo_plant() {
+    let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).expect("the demo loads");
+    let tables =
+        load_scenario(&scenarios_dir().join("tables-demo/demo-tables.yaml")).expect("the tables demo loads");
+    assert_eq!(yaml, tables);
+}
+
+/// The demand sheet as .ods (the same sheet make_spreadsheets.py writes) gives the same plant.
+#[test]
+fn the_demand_sheet_as_ods_gives_the_same_plant() {
+    let path = scenarios_dir().join("tables-demo/demo-tables.yaml");
+    let text = std::fs::read_to_string(&path).unwrap();
+    assert!(text.contains("table: demand.xlsx"));
+    let ods = parse_scenario(&text.replace("table: demand.xlsx", "table: demand.ods"), &path)
+        .expect("the .ods loads");
+    let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
+    assert_eq!(yaml, ods);
+}
+
+/// `text` with every `,` outside quotes replaced by `sep`.
+fn with_separator(text: &str, sep: char) -> String {
+    let mut quoted = false;
+    text.chars()
+        .map(|c| match c {
+            '"' => {
+                quoted = !quoted;
+                c
+            }
+            ',' if !quoted => sep,
+            _ => c,
+        })
+        .collect()
+}
+
+/// The routings table saved as a spreadsheet program would in other locales:
+/// `;` or tab separated, with a byte-order mark and CRLF line ends.
+#[test]
+fn separators_byte_order_mark_and_crlf_read_alike() {
+    let src = scenarios_dir().join("tables-demo");
+    let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
+    let routings = std::fs::read_to_string(src.join("routings.csv")).unwrap();
+    for (name, sep, bom, crlf) in
+        [("semicolon", ';', true, true), ("tab", '\t', false, true), ("comma", ',', true, false)]
+    {
+        let dir = tempfile::tempdir().unwrap();
+        for e in std::fs::read_dir(&src).unwrap() {
+            let p = e.unwrap().path();
+            std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+        }
+        let mut t = with_separator(&routings, sep);
+        if crlf {
+            t = t.replace('\n', "\r\n");
+        }
+        let mut bytes = if bom { vec![0xEF, 0xBB, 0xBF] } else { Vec::new() };
+        bytes.extend(t.as_bytes());
+        std::fs::write(dir.path().join("routings.csv"), bytes).unwrap();
+        let plant =
+            load_scenario(&dir.path().join("demo-tables.yaml")).unwrap_or_else(|e| panic!("{name}: {e}"));
+        assert_eq!(yaml, plant, "{name}");
+    }
+}
+
+/// A case's expectations: `# expect:`, `# file:`, `# row:`, `# column:` at the top of its scenario.
+fn header(text: &str, key: &str) -> Option<String> {
+    text.lines()
+        .take_while(|l| l.starts_with('#'))
+        .find_map(|l| l.strip_prefix(&format!("# {key}:")).map(|v| v.trim().to_string()))
+}
+
+#[test]
+fn every_bad_table_fails_at_its_file_row_and_column() {
+    let dir = scenarios_dir().join("bad-tables");
+    let mut cases: Vec<PathBuf> =
+        std::fs::read_dir(&dir).unwrap().map(|e| e.unwrap().path()).filter(|p| p.is_dir()).collect();
+    cases.sort();
+    assert!(cases.len() >= 15, "the corpus shrank to {} cases", cases.len());
+    let mut problems = Vec::new();
+    for case in &cases {
+        let name = case.file_name().unwrap().to_string_lossy().to_string();
+        let scenario = case.join("scenario.yaml");
+        let text = std::fs::read_to_string(&scenario).unwrap();
+        let (Some(fragment), Some(file)) = (header(&text, "expect"), header(&text, "file")) else {
+            problems.push(format!("{name}: no `# expect:` or `# file:` line"));
+            continue;
+        };
+        let err = match load_scenario(&scenario) {
+            Ok(_) => {
+                problems.push(format!("{name}: loaded, expected an error containing {fragment:?}"));
+                continue;
+            }
+            Err(e) => e,
+        };
+        let shown = err.to_string();
+        if !shown.contains(&fragment) {
+            problems.push(format!("{name}:\n  expected: {fragment}\n  actual:   {shown}"));
+        }
+        if !err.file().contains(&file) {
+            problems.push(format!("{name}: expected the error in {file}, got {}", err.file()));
+        }
+        let row = header(&text, "row").map(|r| r.parse::<usize>().expect("a row number"));
+        if err.row() != row {
+            problems.push(format!("{name}: expected row {row:?}, got {:?}: {shown}", err.row()));
+        }
+        let column = header(&text, "column");
+        if err.column_name() != column.as_deref() {
+            problems
+                .push(format!("{name}: expected column {column:?}, got {:?}: {shown}", err.column_name()));
+        }
+        if err.hint().is_none() {
+            problems.push(format!("{name}: no hint saying what to do: {shown}"));
+        }
+        if file.ends_with(".csv") && !shown.contains("scenario.yaml") {
+            problems.push(format!(
+                "{name}: the message does not name the scenario that reads the table: {shown}"
+            ));
+        }
+    }
+    assert!(problems.is_empty(), "{}", problems.join("\n"));
+}
+
+/// The corpus's base plant loads once its one mistake is fixed, so each case
+/// fails for its own mistake alone.
+#[test]
+fn the_corpus_base_loads_when_fixed() {
+    let case = scenarios_dir().join("bad-tables/unknown-department");
+    let dir = tempfile::tempdir().unwrap();
+    for e in std::fs::read_dir(&case).unwrap() {
+        let p = e.unwrap().path();
+        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+    }
+    let r = dir.path().join("routings.csv");
+    let fixed = std::fs::read_to_string(&r).unwrap().replace("weldng", "welding");
+    std::fs::write(&r, fixed).unwrap();
+    let plant = load_scenario(&dir.path().join("scenario.yaml")).expect("the fixed base loads");
+    assert_eq!(plant.products.len(), 2);
+    assert_eq!(plant.products[0].routing.len(), 4, "operations 10, 20, 30, 40 of bracket");
+}
