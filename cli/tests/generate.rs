@@ -30,6 +30,16 @@ fn the_generated_plant_checks_runs_and_repeats() {
         "-q",
     ]);
     assert!(o.status.success(), "{}", text(&o.stderr));
+    // The table form: a folder with plant.yaml and its CSV tables, the same plant.
+    let t = dir.path().join("tables");
+    let o = layflow(&["generate", "--seed", "3", "--tables", "-o", t.to_str().unwrap()]);
+    assert!(o.status.success(), "{}", text(&o.stderr));
+    let json = |p: &std::path::Path| {
+        let o = layflow(&["check", p.to_str().unwrap(), "--format", "json"]);
+        assert!(o.status.success(), "{}", text(&o.stderr));
+        o.stdout
+    };
+    assert_eq!(json(&t.join("plant.yaml")), json(&a), "the table form checks as the YAML form");
     // Never overwritten without --force.
     let o = layflow(&["generate", "-o", a.to_str().unwrap()]);
     assert_eq!(o.status.code(), Some(2));

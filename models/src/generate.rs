@@ -81,6 +81,17 @@ const FLEETS: [(&str, &str, &str, &str); 4] = [
 
 /// The scenario text (YAML) of the plant `spec` describes.
 pub fn scenario(spec: &Spec) -> String {
+    files(spec, false).swap_remove(0).1
+}
+
+/// The same plant with its locations, departments, layouts, products, demand
+/// and routings as CSV tables: (file name, contents), the scenario
+/// (`plant.yaml`, which names the tables beside it) first.
+pub fn tables(spec: &Spec) -> Vec<(String, String)> {
+    files(spec, true)
+}
+
+fn files(spec: &Spec, tables: bool) -> Vec<(String, String)> {
     let nd = spec.departments.max(2);
     let np = spec.products.max(1);
     let nf = spec.fleets.clamp(1, FLEETS.len());
@@ -141,6 +152,7 @@ pub fn scenario(spec: &Spec) -> String {
     let machines: Vec<u32> = load.iter().map(|&l| ((l / spec.utilization).ceil() as u32).max(1)).collect();
 
     let side = (nd as f64).sqrt().ceil() as usize;
+    let mut files: Vec<(String, String)> = Vec::new();
     let mut s = String::new();
     let _ = writeln!(
         s,
@@ -148,37 +160,98 @@ pub fn scenario(spec: &Spec) -> String {
          # {nd} departments, {np} products with {lo}–{hi} operations, {nf} fleets, {} lots/h.\n\
          plant: generated plant ({nd} departments, {np} products)\n\
          run: {{ horizon: 30 d, warmup: 2 d, replications: 5, seed: 1 }}\n\
-         distance: rectilinear\nlocations:",
+         distance: rectilinear",
         spec.seed, spec.lots_per_hour
     );
-    for d in 0..nd {
-        let _ = writeln!(s, "  - {{ id: L{d:03}, at: [{}, {}] }}", (d % side) * 12, (d / side) * 12);
-    }
-    let _ = writeln!(
-        s,
-        "  - {{ id: dock-in, at: [-12, 0] }}\n  - {{ id: dock-out, at: [-12, {}] }}\ndepartments:\n  \
-         - {{ id: receiving, dock: receiving }}\n  - {{ id: shipping, dock: shipping }}",
-        (side.saturating_sub(1)) * 12
-    );
-    for (d, m) in machines.iter().enumerate() {
-        let _ = writeln!(s, "  - {{ id: D{d:03}, machines: {m} }}");
-    }
-    s.push_str("layouts:\n  grid:\n    receiving: dock-in\n    shipping: dock-out\n");
-    for d in 0..nd {
-        let _ = writeln!(s, "    D{d:03}: L{d:03}");
-    }
-    s.push_str("products:\n");
-    let mut carried: Vec<Vec<String>> = vec![Vec::new(); nf];
-    for (i, p) in products.iter().enumerate() {
-        let id = format!("P{i:04}");
-        carried[i % nf].push(id.clone());
-        let _ = writeln!(s, "  - id: {id}\n    demand: {{ per_hour: {:.6} }}\n    routing:", rate(p));
-        let n = p.ops.len();
-        for (k, &(d, mean)) in p.ops.iter().enumerate() {
-            // Processing times: gamma with a coefficient of variation of 0.5.
-            let _ = write!(s, "      - {{ step: op{:03}, at: D{d:03}, time: {{ gamma: {{ mean: {mean:.2} min, cv: 0.5 }} }}", (k + 1) * 10);
-            match p.rework {
-                Some((at, q)) if k == at + 1 => {
+    let dock_out_y = (side.saturating_sub(1)) * 12;
+    let ids: Vec<String> = (0..np).map(|i| format!("P{i:04}")).collect();
+    if tables {
+        let mut loc = String::from("Location,X,Y\n");
+        for d in 0..nd {
+            let _ = writeln!(loc, "L{d:03},{},{}", (d % side) * 12, (d / side) * 12);
+        }
+        let _ = writeln!(loc, "dock-in,-12,0\ndock-out,-12,{dock_out_y}");
+        let mut dep = String::from("Department,Machines,Dock\nreceiving,,receiving\nshipping,,shipping\n");
+        for (d, m) in machines.iter().enumerate() {
+            let _ = writeln!(dep, "D{d:03},{m},");
+        }
+        let mut lay =
+            String::from("Layout,Department,Location\ngrid,receiving,dock-in\ngrid,shipping,dock-out\n");
+        for d in 0..nd {
+            let _ = writeln!(lay, "grid,D{d:03},L{d:03}");
+        }
+        let mut prod = String::from("Part\n");
+        let mut dem = String::from("Part,LotsPerHour\n");
+        let mut rout = String::from("Part,Op,Name,WorkCentre,Dist,Mean,CV,Next,Prob\n");
+        for (i, p) in products.iter().enumerate() {
+            let id = &ids[i];
+            let _ = writeln!(prod, "{id}");
+            let _ = writeln!(dem, "{id},{:.6}", rate(p));
+            let n = p.ops.len();
+            for (k, &(d, mean)) in p.ops.iter().enumerate() {
+                let (next, prob) = match p.rework {
+                    Some((at, q)) if k == at + 1 => (
+                        format!("{} / {}", (k + 2) * 10, (at + 1) * 10),
+                        format!("{:.4} / {:.4}", 1.0 - q, q),
+                    ),
+                    _ => (String::new(), String::new()),
+                };
+                let _ = writeln!(
+                    rout,
+                    "{id},{},op{:03},D{d:03},gamma,{mean:.2},0.5,{next},{prob}",
+                    (k + 1) * 10,
+                    (k + 1) * 10
+                );
+            }
+            let _ = writeln!(rout, "{id},{},ship,shipping,,,,,", (n + 1) * 10);
+        }
+        s.push_str(
+            "locations: { table: locations.csv, columns: { id: Location, x: X, y: Y } }\n\
+             departments: { table: departments.csv, columns: { id: Department, machines: Machines, dock: Dock } }\n\
+             layouts: { table: layouts.csv, columns: { layout: Layout, department: Department, location: Location } }\n\
+             products: { table: products.csv, columns: { id: Part } }\n\
+             demand: { table: demand.csv, columns: { product: Part, per_hour: LotsPerHour } }\n\
+             routings:\n  table: routings.csv\n  time_unit: min\n  columns: { part: Part, operation: Op, name: Name, \
+             department: WorkCentre, distribution: Dist, mean: Mean, cv: CV, next: Next, probability: Prob }\n",
+        );
+        files.extend([
+            ("locations.csv".to_string(), loc),
+            ("departments.csv".to_string(), dep),
+            ("layouts.csv".to_string(), lay),
+            ("products.csv".to_string(), prod),
+            ("demand.csv".to_string(), dem),
+            ("routings.csv".to_string(), rout),
+        ]);
+    } else {
+        s.push_str("locations:\n");
+        for d in 0..nd {
+            let _ = writeln!(s, "  - {{ id: L{d:03}, at: [{}, {}] }}", (d % side) * 12, (d / side) * 12);
+        }
+        let _ = writeln!(
+            s,
+            "  - {{ id: dock-in, at: [-12, 0] }}\n  - {{ id: dock-out, at: [-12, {dock_out_y}] }}\ndepartments:\n  \
+             - {{ id: receiving, dock: receiving }}\n  - {{ id: shipping, dock: shipping }}"
+        );
+        for (d, m) in machines.iter().enumerate() {
+            let _ = writeln!(s, "  - {{ id: D{d:03}, machines: {m} }}");
+        }
+        s.push_str("layouts:\n  grid:\n    receiving: dock-in\n    shipping: dock-out\n");
+        for d in 0..nd {
+            let _ = writeln!(s, "    D{d:03}: L{d:03}");
+        }
+        s.push_str("products:\n");
+        for (i, p) in products.iter().enumerate() {
+            let _ =
+                writeln!(s, "  - id: {}\n    demand: {{ per_hour: {:.6} }}\n    routing:", ids[i], rate(p));
+            let n = p.ops.len();
+            for (k, &(d, mean)) in p.ops.iter().enumerate() {
+                // Processing times: gamma with a coefficient of variation of 0.5.
+                let _ = write!(
+                    s,
+                    "      - {{ step: op{:03}, at: D{d:03}, time: {{ gamma: {{ mean: {mean:.2} min, cv: 0.5 }} }}",
+                    (k + 1) * 10
+                );
+                if let Some((at, q)) = p.rework.filter(|&(at, _)| k == at + 1) {
                     let next = if k + 1 < n { format!("op{:03}", (k + 2) * 10) } else { "ship".to_string() };
                     let _ = write!(
                         s,
@@ -188,15 +261,14 @@ pub fn scenario(spec: &Spec) -> String {
                         q
                     );
                 }
-                _ => {}
+                s.push_str(" }\n");
             }
-            s.push_str(" }\n");
+            s.push_str("      - { step: ship, at: shipping }\n");
         }
-        s.push_str("      - { step: ship, at: shipping }\n");
     }
     s.push_str("fleets:\n");
     for (f, (id, kind, speed, handling)) in FLEETS.iter().enumerate().take(nf) {
-        // Enough movers for the fleet's share of the moves (about one per 10 moves an hour).
+        // Enough movers for the fleet's share of the moves (about one per 8 moves an hour).
         let moves: f64 = products
             .iter()
             .enumerate()
@@ -205,14 +277,17 @@ pub fn scenario(spec: &Spec) -> String {
             .sum();
         let count = ((moves / 8.0).ceil() as u32).max(1);
         let capacity = if *kind == "tow-cart" { "\n    capacity: 3" } else { "" };
+        let carried: Vec<&str> =
+            ids.iter().enumerate().filter(|(i, _)| i % nf == f).map(|(_, x)| x.as_str()).collect();
         let _ = writeln!(
             s,
             "  - id: {id}\n    kind: {kind}\n    count: {count}\n    speed: {speed}\n    handling: {handling}{capacity}\n    \
              home: receiving\n    carries: [{}]",
-            carried[f].join(", ")
+            carried.join(", ")
         );
     }
-    s
+    files.insert(0, ("plant.yaml".to_string(), s));
+    files
 }
 
 #[cfg(test)]
@@ -236,5 +311,18 @@ mod tests {
         // Sized for 75%: a department sits at or below it (rounding machines up only lowers it).
         assert!(worst <= 0.75 + 1e-9, "busiest department at {worst}");
         assert_eq!(scenario(&Spec::default()), text, "the same spec gives the same text");
+    }
+
+    #[test]
+    fn the_table_form_compiles_to_the_same_plant_as_the_yaml_form() {
+        let spec = Spec { departments: 30, products: 120, ..Spec::default() };
+        let dir = tempfile::tempdir().unwrap();
+        for (name, text) in tables(&spec) {
+            std::fs::write(dir.path().join(name), text).unwrap();
+        }
+        let from_tables = crate::load_scenario(&dir.path().join("plant.yaml")).expect("the tables load");
+        let from_yaml =
+            crate::parse_scenario(&scenario(&spec), &dir.path().join("plant.yaml")).expect("the YAML loads");
+        assert!(from_tables == from_yaml, "the two forms differ");
     }
 }

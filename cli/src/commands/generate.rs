@@ -3,7 +3,7 @@
 use std::path::PathBuf;
 
 use clap::Args;
-use layflow_models::generate::{scenario, Spec};
+use layflow_models::generate::{scenario, tables, Spec};
 use layflow_models::results::folder::check_new_file;
 use layflow_models::results::write_atomic;
 
@@ -34,8 +34,12 @@ pub struct GenerateArgs {
     /// Seed of the generator (the same seed gives the same plant).
     #[arg(long, default_value_t = 1)]
     pub seed: u64,
-    /// The scenario file to write.
-    #[arg(short = 'o', long = "out", value_name = "FILE.yaml")]
+    /// Write the plant as tables (locations, departments, layouts, products,
+    /// demand, routings as CSV) with a `plant.yaml` that names them: -o is then a folder.
+    #[arg(long)]
+    pub tables: bool,
+    /// The scenario file to write (with --tables, the folder).
+    #[arg(short = 'o', long = "out", value_name = "FILE.yaml|DIR")]
     pub out: PathBuf,
     /// Replace the -o file if it exists.
     #[arg(long)]
@@ -66,7 +70,6 @@ pub fn generate(args: &GenerateArgs) -> Result<(), Failure> {
     if !(args.lots_per_hour > 0.0 && args.lots_per_hour <= 100_000.0) {
         return Err(bad("--lots-per-hour must be above 0 and at most 100,000"));
     }
-    check_new_file(&args.out, "-o", args.force)?;
     let spec = Spec {
         departments: args.departments,
         products: args.products,
@@ -77,6 +80,30 @@ pub fn generate(args: &GenerateArgs) -> Result<(), Failure> {
         utilization: 0.75,
         seed: args.seed,
     };
+    if args.tables {
+        std::fs::create_dir_all(&args.out).map_err(|e| {
+            Failure::input(format!("-o {}: cannot create the folder: {e}", args.out.display()))
+        })?;
+        let files = tables(&spec);
+        for (name, _) in &files {
+            check_new_file(&args.out.join(name), "-o", args.force)?;
+        }
+        let mut bytes = 0;
+        for (name, text) in &files {
+            write_atomic(&args.out, name, text.as_bytes())?;
+            bytes += text.len();
+        }
+        note!(
+            "wrote {} and its tables in {} ({} departments, {} products, {} KB)",
+            args.out.join("plant.yaml").display(),
+            args.out.display(),
+            args.departments,
+            args.products,
+            bytes / 1024
+        );
+        return Ok(());
+    }
+    check_new_file(&args.out, "-o", args.force)?;
     let text = scenario(&spec);
     let dir = args.out.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(std::path::Path::new("."));
     let name =
