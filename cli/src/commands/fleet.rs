@@ -193,6 +193,7 @@ pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
             &out.sizes,
             &out.targets,
             out.smallest_meeting_targets,
+            plant.currency.as_deref(),
         )?;
         let dir = path.parent().filter(|d| !d.as_os_str().is_empty()).unwrap_or(std::path::Path::new("."));
         let name = path

@@ -174,6 +174,7 @@ pub fn fleet_svg(
     sizes: &[SizeResult],
     targets: &[Target],
     recommended: Option<u32>,
+    currency: Option<&str>,
 ) -> Result<String, Failure> {
     let xs: Vec<f64> = sizes.iter().map(|r| f64::from(r.movers)).collect();
     let xr = (xs.first().copied().unwrap_or(1.0) - 0.5, xs.last().copied().unwrap_or(1.0) + 0.5);
@@ -239,8 +240,12 @@ pub fn fleet_svg(
                     ));
                 }
                 Unit::MoneyPerHour if priced => {
-                    title = "handling cost per hour".into();
-                    lines.push(("handling cost per hour".into(), TEAL, per_size(sizes, cost)));
+                    let words = match currency {
+                        Some(c) => format!("handling cost per hour ({c})"),
+                        None => "handling cost per hour".to_string(),
+                    };
+                    title = words.clone();
+                    lines.push((words, TEAL, per_size(sizes, cost)));
                 }
                 _ => {}
             }
