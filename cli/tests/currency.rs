@@ -29,6 +29,26 @@ fn a_named_currency_labels_every_cost() {
     let o = layflow(&["check", eur]);
     assert!(text(&o.stdout).contains("static cost (EUR/h)"), "{}", text(&o.stdout));
 
+    // Ranked on a cost: the rank line and the report's answer name the currency.
+    let page = dir.path().join("cost.html");
+    let o = layflow(&[
+        "compare",
+        eur,
+        "--replications",
+        "2",
+        "--horizon",
+        "2 d",
+        "--warmup",
+        "1 d",
+        "--metric",
+        "handling_cost_per_h",
+        "--quiet",
+        "--report",
+        page.to_str().unwrap(),
+    ]);
+    assert!(text(&o.stdout).contains("rank (on mean fleet cost (EUR/h))"), "{}", text(&o.stdout));
+    assert!(std::fs::read_to_string(&page).unwrap().contains("mean fleet cost (EUR/h)"));
+
     let o = layflow(&["run", "scenarios/demo.yaml", "--replications", "2", "--quiet", "--format", "json"]);
     let v: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
     assert!(v.get("currency").is_none(), "no currency named, none printed");

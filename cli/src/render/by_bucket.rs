@@ -210,7 +210,7 @@ pub fn peak_lines(p: &Peak, indent: usize) -> String {
 /// `compare --by`: the ranked metric in the busiest buckets (by the
 /// baseline's WIP), the baseline's value and each layout's paired difference,
 /// then each layout's peak.
-pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
+pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric, currency: Option<&str>) -> String {
     let mut s = String::new();
     let Some(base) = lv.layouts.iter().find(|l| l.layout == baseline) else {
         return s;
@@ -264,7 +264,7 @@ pub fn compare_table(lv: &Level, baseline: &str, ranked: &Metric) -> String {
         &format!(
             "{}: {} (the busiest buckets by the baseline's WIP; * the paired interval excludes zero)",
             heading(b),
-            ranked.human()
+            super::table::with_currency(ranked.human(), currency)
         ),
         2,
     ));

@@ -106,14 +106,14 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
             writeln!(
                 s,
                 "  Simulated rank (on mean {}) agrees with the static load-distance rank.",
-                ranked.human()
+                super::table::with_currency(ranked.human(), plant.currency.as_deref())
             )
         } else {
             writeln!(
                 s,
                 "  Simulated rank (on mean {}) DISAGREES with the static load-distance rank for {}: queues, \
                  movers and empty trips change the order. Check below whether the difference is real (*).",
-                ranked.human(),
+                super::table::with_currency(ranked.human(), plant.currency.as_deref()),
                 disagree.join(", ")
             )
         };
@@ -168,7 +168,7 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
             "  * the 95% paired interval excludes zero: a real difference, not noise. Every metric is in \
              --format json/csv and --out."
         );
-        s.push_str(&super::by_bucket::compare_table(lv, &out.baseline, ranked));
+        s.push_str(&super::by_bucket::compare_table(lv, &out.baseline, ranked, plant.currency.as_deref()));
         if let Some(sel) = &lv.selection {
             s.push('\n');
             s.push_str(&super::select::render(sel, ranked));

@@ -52,7 +52,7 @@ pub fn page(inp: &Inputs) -> String {
     for (k, st) in inp.studies.iter().enumerate() {
         match st.kind {
             Kind::Compare => {
-                answer.push_str(&compare_answer(st));
+                answer.push_str(&compare_answer(inp, st));
                 body.push_str(&compare_sections(inp, k, st));
             }
             Kind::Fleet => {
@@ -204,11 +204,14 @@ fn run_words(reps: u64, horizon_s: f64, warmup_s: f64, seed: u64) -> String {
     )
 }
 
-fn compare_answer(st: &Study) -> String {
+fn compare_answer(inp: &Inputs, st: &Study) -> String {
     let j = &st.json;
     let ranked = st.str("ranked_on");
     let def = find(Scope::Plant, ranked);
-    let label = def.map_or(ranked, |d| d.label);
+    let label = crate::render::table::with_currency(
+        def.map_or(ranked, |d| d.label).to_string(),
+        inp.plant.currency.as_deref(),
+    );
     let baseline = st.str("baseline");
     let level = first_level(st);
     let layouts: Vec<String> = j["levels"][0]["layouts"]
