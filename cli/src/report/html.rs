@@ -117,6 +117,17 @@ pub fn num_td(study_index: usize, study: &Study, row: usize, col: &str, text: &s
     format!("<td class=\"num\"{}>{}</td>", cell_attrs(study_index, study, row, col), esc(text))
 }
 
+/// A table cell showing row `row`'s mean in its metric's unit, tied to its
+/// summary.csv cell; `-` where the results have no such row.
+pub fn mean_td(study_index: usize, study: &Study, row: Option<usize>) -> String {
+    match row {
+        Some(r) => {
+            num_td(study_index, study, r, "mean", &value_text(def_of_row(study, r), &estimate(study, r, "")))
+        }
+        None => "<td>-</td>".to_string(),
+    }
+}
+
 /// The page's style sheet: our palette, one column of sections, tables that read across.
 pub fn style() -> String {
     let (teal, amber, slate, brick) = (rgb(TEAL), rgb(AMBER), rgb(SLATE), rgb(BRICK));

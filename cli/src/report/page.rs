@@ -12,7 +12,7 @@ use serde_json::json;
 
 use super::charts::{self, DiffRow, Marks, Series, Verdict};
 use super::html::{
-    def_of_row, difference_text, esc, estimate, num_td, row_label, script_json, style, value_text,
+    def_of_row, difference_text, esc, estimate, mean_td, num_td, row_label, script_json, style, value_text,
 };
 use super::plant::{panels, Shading};
 use super::study::Study;
@@ -647,10 +647,7 @@ fn compare_buckets(k: usize, st: &Study, level: &str, layouts: &[String], baseli
             let _ =
                 write!(s, "<tr{}><td>{}</td>", if Some(bi) == peak { " class=\"peak\"" } else { "" }, esc(b));
             for rs in &cells {
-                match rs[bi] {
-                    Some(r) => s.push_str(&num_td(k, st, r, "mean", &value_text(def, &estimate(st, r, "")))),
-                    None => s.push_str("<td>-</td>"),
-                }
+                s.push_str(&mean_td(k, st, rs[bi]));
             }
             s.push_str("</tr>");
         }
@@ -894,13 +891,7 @@ fn fleet_sections(inp: &Inputs, k: usize, st: &Study) -> String {
             match row(z, m) {
                 Some(r) => {
                     meets = if st.csv.get(r, "meets_every_target") == "true" { "yes" } else { "no" };
-                    s.push_str(&num_td(
-                        k,
-                        st,
-                        r,
-                        "mean",
-                        &value_text(def_of_row(st, r), &estimate(st, r, "")),
-                    ));
+                    s.push_str(&mean_td(k, st, Some(r)));
                 }
                 None => s.push_str("<td>-</td>"),
             }
@@ -980,16 +971,7 @@ fn fleet_buckets(k: usize, st: &Study, sizes: &[String], fleet: &str) -> String 
     for b in &buckets {
         let _ = write!(s, "<tr><td>{}</td>", esc(b));
         for z in sizes {
-            match row(z, b) {
-                Some(r) => s.push_str(&num_td(
-                    k,
-                    st,
-                    r,
-                    "mean",
-                    &value_text(def_of_row(st, r), &estimate(st, r, "")),
-                )),
-                None => s.push_str("<td>-</td>"),
-            }
+            s.push_str(&mean_td(k, st, row(z, b)));
         }
         s.push_str("</tr>");
     }
@@ -1094,16 +1076,7 @@ fn experiment_sections(inp: &Inputs, k: usize, st: &Study) -> String {
                     && st.csv.get(r, "scope") == "plant"
                     && st.csv.get(r, "metric") == m
             });
-            match r {
-                Some(r) => s.push_str(&num_td(
-                    k,
-                    st,
-                    r,
-                    "mean",
-                    &value_text(def_of_row(st, r), &estimate(st, r, "")),
-                )),
-                None => s.push_str("<td>-</td>"),
-            }
+            s.push_str(&mean_td(k, st, r));
         }
         s.push_str("</tr>");
     }
