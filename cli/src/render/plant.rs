@@ -108,6 +108,34 @@ fn label(x: f64, y: f64, size: f64, content: &str) -> Text {
         .set("paint-order", "stroke")
 }
 
+/// The plant's extent in metres, (x0, x1, y0, y1): every location's box
+/// (`half` m each side, or its own size where drawn to scale) and every
+/// aisle node. The report's panels use the same, with bigger boxes.
+pub fn bounds(plant: &Plant, half: f64) -> (f64, f64, f64, f64) {
+    let mut pts: Vec<(f64, f64)> = plant.locations.iter().map(|l| (l.x, l.y)).collect();
+    if let Some(n) = plant.aisles.as_ref() {
+        pts.extend(n.nodes.iter().map(|n| (n.x, n.y)));
+    }
+    let (mut x0, mut x1, mut y0, mut y1) =
+        (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY);
+    for &(x, y) in &pts {
+        x0 = x0.min(x - half);
+        x1 = x1.max(x + half);
+        y0 = y0.min(y - half);
+        y1 = y1.max(y + half);
+    }
+    // A location drawn to scale may reach past the default box.
+    for loc in &plant.locations {
+        if let Some((hw, hd)) = loc.half_extent_m() {
+            x0 = x0.min(loc.x - hw);
+            x1 = x1.max(loc.x + hw);
+            y0 = y0.min(loc.y - hd);
+            y1 = y1.max(loc.y + hd);
+        }
+    }
+    (x0, x1, y0, y1)
+}
+
 /// The median distance from each location to its nearest neighbour, m.
 pub(crate) fn typical_spacing(plant: &Plant) -> f64 {
     let mut nn: Vec<f64> = plant
@@ -155,30 +183,9 @@ pub fn picture(
 ) -> Document {
     let lay = &plant.layouts[layout];
     let net = plant.aisles.as_ref();
-    // Bounds over the locations and the aisle nodes.
-    let mut pts: Vec<(f64, f64)> = plant.locations.iter().map(|l| (l.x, l.y)).collect();
-    if let Some(n) = net {
-        pts.extend(n.nodes.iter().map(|n| (n.x, n.y)));
-    }
     let spacing = typical_spacing(plant);
     let half = 0.3 * spacing; // half the side of a location's box, m
-    let (mut x0, mut x1, mut y0, mut y1) =
-        (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY);
-    for &(x, y) in &pts {
-        x0 = x0.min(x - half);
-        x1 = x1.max(x + half);
-        y0 = y0.min(y - half);
-        y1 = y1.max(y + half);
-    }
-    // A location drawn to scale may reach past the default box.
-    for loc in &plant.locations {
-        if let Some((hw, hd)) = loc.half_extent_m() {
-            x0 = x0.min(loc.x - hw);
-            x1 = x1.max(loc.x + hw);
-            y0 = y0.min(loc.y - hd);
-            y1 = y1.max(loc.y + hd);
-        }
-    }
+    let (x0, x1, y0, y1) = bounds(plant, half);
     let scale = (PLANT_PX / (x1 - x0).max(1.0)).min(620.0 / (y1 - y0).max(1.0));
     let frame = Frame { x0, y1, scale };
     let plant_h = (y1 - y0) * scale;

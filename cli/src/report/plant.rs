@@ -43,29 +43,9 @@ fn util_fill(u: Option<f64>) -> String {
 /// Every panel, one per shading, all to the scale of the widest.
 pub fn panels(plant: &Plant, pic: &StaticPicture, shadings: &[Shading]) -> String {
     let net = plant.aisles.as_ref();
-    let mut pts: Vec<(f64, f64)> = plant.locations.iter().map(|l| (l.x, l.y)).collect();
-    if let Some(n) = net {
-        pts.extend(n.nodes.iter().map(|n| (n.x, n.y)));
-    }
     let spacing = crate::render::plant::typical_spacing(plant);
     let half = 0.4 * spacing;
-    let (mut x0, mut x1, mut y0, mut y1) =
-        (f64::INFINITY, f64::NEG_INFINITY, f64::INFINITY, f64::NEG_INFINITY);
-    for &(x, y) in &pts {
-        x0 = x0.min(x - half);
-        x1 = x1.max(x + half);
-        y0 = y0.min(y - half);
-        y1 = y1.max(y + half);
-    }
-    // A location drawn to scale may reach past the default box.
-    for loc in &plant.locations {
-        if let Some((hw, hd)) = loc.half_extent_m() {
-            x0 = x0.min(loc.x - hw);
-            x1 = x1.max(loc.x + hw);
-            y0 = y0.min(loc.y - hd);
-            y1 = y1.max(loc.y + hd);
-        }
-    }
+    let (x0, x1, y0, y1) = crate::render::plant::bounds(plant, half);
     let scale = (PANEL_PX - 2.0 * PAD) / (x1 - x0).max(1.0);
     let height = (y1 - y0) * scale + 2.0 * PAD + 24.0;
     let px = |x: f64, y: f64| (PAD + (x - x0) * scale, PAD + (y1 - y) * scale);
