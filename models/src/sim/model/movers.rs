@@ -84,23 +84,29 @@ impl PlantModel<'_> {
             return None;
         }
         let movers = &self.movers;
-        let best = match self.plan.fleets[f].dispatch {
-            DispatchRule::NearestIdle | DispatchRule::NearestRequest | DispatchRule::Reserve { .. } => {
-                let plan = self.plan;
-                (0..fleet.idle.len()).min_by(|&a, &b| {
-                    let da = plan.dist(movers[fleet.idle[a] as usize].location as usize, pickup);
-                    let db = plan.dist(movers[fleet.idle[b] as usize].location as usize, pickup);
-                    // Equally near: the lower-numbered mover, whatever the idle list's order.
-                    da.total_cmp(&db).then(fleet.idle[a].cmp(&fleet.idle[b]))
-                })
+        // One pass, each mover's key computed once: this runs on every move
+        // request, and a plant of real size keeps dozens of movers idle.
+        // Ties go to the lower-numbered mover, whatever the idle list's order.
+        let plan = self.plan;
+        let by_arrival = matches!(plan.fleets[f].dispatch, DispatchRule::FirstCome);
+        let key = |m: u32| -> f64 {
+            let mover = &movers[m as usize];
+            if by_arrival {
+                mover.idle_since
+            } else {
+                plan.dist(mover.location as usize, pickup)
             }
-            DispatchRule::FirstCome => (0..fleet.idle.len()).min_by(|&a, &b| {
-                let ta = movers[fleet.idle[a] as usize].idle_since;
-                let tb = movers[fleet.idle[b] as usize].idle_since;
-                ta.total_cmp(&tb).then(fleet.idle[a].cmp(&fleet.idle[b]))
-            }),
         };
-        best.map(|i| fleet.idle.swap_remove(i))
+        let mut best = 0;
+        let mut best_m = fleet.idle[0];
+        let mut best_k = key(best_m);
+        for (i, &m) in fleet.idle.iter().enumerate().skip(1) {
+            let k = key(m);
+            if k.total_cmp(&best_k).then(m.cmp(&best_m)).is_lt() {
+                (best, best_m, best_k) = (i, m, k);
+            }
+        }
+        Some(fleet.idle.swap_remove(best))
     }
 
     /// Takes the idle mover nearest to `pickup` among `fleets` (equally near:
