@@ -486,6 +486,10 @@ fn listed_points_and_any_scenario_field() {
 #[test]
 fn the_gnu_parallel_one_liner_matches_a_single_run() {
     if Command::new("parallel").arg("--version").stdout(Stdio::null()).status().is_err() {
+        assert!(
+            std::env::var_os("LAYFLOW_REQUIRE_PARALLEL").is_none(),
+            "LAYFLOW_REQUIRE_PARALLEL is set but GNU parallel is not installed"
+        );
         eprintln!(
             "NOTICE: GNU parallel is not installed; the sharded one-liner was not run (CI installs it)"
         );
@@ -498,7 +502,7 @@ fn the_gnu_parallel_one_liner_matches_a_single_run() {
     let bin = env!("CARGO_BIN_EXE_layflow");
     // The one-liner of docs/experiments.md, with the binary's full path.
     let script = format!(
-        "cd {dir} && parallel --halt now,fail=1 {bin} experiment plan.yaml --shard {{}}/3 --out shards/{{}} --quiet ::: 1 2 3 \
+        "cd {dir} && parallel --joblog shards.joblog --resume-failed {bin} experiment plan.yaml --shard {{}}/3 --out shards/{{}} --resume --quiet ::: 1 2 3 \
          && {bin} merge shards/1 shards/2 shards/3 --out merged",
         dir = t.path().display()
     );
@@ -522,7 +526,7 @@ fn the_gnu_parallel_one_liner_matches_a_single_run() {
 fn the_slurm_scripts_are_valid_bash_with_known_directives() {
     // What the scripts can be checked for without a cluster: bash parses them,
     // and every #SBATCH line uses an option sbatch documents (from memory of
-    // sbatch(1); a single-node Slurm is not started here, see docs/experiments.md).
+    // sbatch(1); cli/tests/cluster.rs submits them to a real single-node Slurm).
     const KNOWN: &[&str] = &[
         "--job-name",
         "--array",
@@ -535,6 +539,8 @@ fn the_slurm_scripts_are_valid_bash_with_known_directives() {
         "--dependency",
         "--partition",
         "--nodes",
+        "--requeue",
+        "--open-mode",
     ];
     for f in ["experiment-array.sbatch", "merge.sbatch", "submit.sh"] {
         let path = root().join("scenarios/cluster").join(f);
@@ -545,7 +551,7 @@ fn the_slurm_scripts_are_valid_bash_with_known_directives() {
             let opt = line.trim_start_matches("#SBATCH").trim();
             let name = opt.split(['=', ' ']).next().unwrap();
             assert!(KNOWN.contains(&name), "{f}: unknown sbatch option in {line:?}");
-            assert!(opt.contains('='), "{f}: write options as --name=value: {line:?}");
+            assert!(opt.contains('=') || opt == "--requeue", "{f}: write options as --name=value: {line:?}");
         }
     }
 }

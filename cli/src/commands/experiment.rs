@@ -10,6 +10,7 @@ use rayon::prelude::*;
 
 use layflow_models::experiment::journal::{self, Contents, Writer};
 use layflow_models::experiment::results;
+use layflow_models::experiment::runs;
 use layflow_models::experiment::{self as exp, Experiment, Header, Shard, Unit};
 use layflow_models::results::check::one_study;
 use layflow_models::results::experiment as folder;
@@ -20,7 +21,7 @@ use layflow_models::study::Progress as _;
 
 use crate::failure::Failure;
 use crate::output::{note, out};
-use crate::render::experiment::{point_line, render};
+use crate::render::experiment::{point_line, render, runs_table};
 use crate::render::progress::Progress;
 use crate::render::table::count;
 use crate::settings::pool;
@@ -46,8 +47,8 @@ pub struct ExperimentArgs {
     #[arg(long)]
     pub resume: bool,
     /// Replace what DIR holds: delete its study files (units.jsonl, results.csv,
-    /// summary.csv, summary.json, replications.csv and the manifest; nothing
-    /// else) and run afresh.
+    /// summary.csv, summary.json, replications.csv, by_bucket.csv, runs.jsonl
+    /// and the manifest; nothing else) and run afresh.
     #[arg(long, conflicts_with = "resume")]
     pub force: bool,
     /// When every unit is done: also write the results as one self-contained HTML
@@ -104,6 +105,11 @@ pub struct SummarizeArgs {
     /// Output format on stdout.
     #[arg(long, value_enum, default_value_t = SummaryFormat::Table)]
     pub format: SummaryFormat,
+    /// Instead of the summary, list the runs recorded in DIR/runs.jsonl
+    /// (after a merge: every shard's), slowest first: host, Slurm job,
+    /// times, units, events per second (docs/cluster.md).
+    #[arg(long)]
+    pub runs: bool,
 }
 
 /// Read a folder's units through the results module, reporting a torn tail on stderr.
@@ -213,7 +219,9 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
             open.entry(u.point).or_default().push(u.clone());
         }
     }
-    let state = Mutex::new(RunState { writer, units: done, open, error: None });
+    let started = (jiff::Timestamp::now(), std::time::Instant::now());
+    let found_done = (mine.len() - pending.len()) as u64;
+    let state = Mutex::new(RunState { writer, units: done, open, error: None, events: 0 });
     pool.install(|| {
         pending.par_iter().for_each(|&u| {
             if crate::signals::stopping() {
@@ -265,6 +273,7 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
                 return;
             }
             progress.done(&rep);
+            st.events += rep.events;
             let left = &remaining[p];
             if args.quiet {
                 st.units.push(unit);
@@ -281,10 +290,19 @@ pub fn experiment(args: &ExperimentArgs) -> Result<(), Failure> {
     });
     progress.finish();
     let st = state.into_inner().expect("no worker panicked");
+    let finished = st.units.len();
+    let outcome = if st.error.is_some() {
+        "failed"
+    } else if finished < mine.len() {
+        "stopped"
+    } else {
+        "complete"
+    };
+    let ran = finished as u64 - found_done;
+    record_run(&args.out, shard, mine.len() as u64, found_done, ran, st.events, started, outcome);
     if let Some(e) = st.error {
         return Err(e);
     }
-    let finished = st.units.len();
     if finished < mine.len() {
         return Err(Failure::interrupted(format!(
             "stopped by Ctrl-C or SIGTERM: {finished} of {} units done and saved in {}; run the same command with \
@@ -324,6 +342,56 @@ struct RunState {
     /// Units of design points not yet finished (for their line when they finish).
     open: HashMap<usize, Vec<Unit>>,
     error: Option<Failure>,
+    /// Simulation events of the units this run saved.
+    events: u64,
+}
+
+/// Append this run's record to DIR/runs.jsonl (see `experiment::runs`): the
+/// host, the batch job if a scheduler ran it, the times and the speed. A
+/// record that cannot be written is a note, not a failure: the units are safe.
+#[allow(clippy::too_many_arguments)]
+fn record_run(
+    dir: &Path,
+    shard: Shard,
+    units: u64,
+    found_done: u64,
+    ran: u64,
+    events: u64,
+    started: (jiff::Timestamp, std::time::Instant),
+    outcome: &str,
+) {
+    let wall_s = started.1.elapsed().as_secs_f64();
+    // Milliseconds: enough to order two runs of one shard in the same second.
+    let stamp = |t: jiff::Timestamp| {
+        jiff::Timestamp::from_millisecond(t.as_millisecond())
+            .map_or_else(|_| t.to_string(), |t| t.to_string())
+    };
+    let env = |k: &str| std::env::var(k).ok().filter(|v| !v.is_empty());
+    let job = match (env("SLURM_ARRAY_JOB_ID"), env("SLURM_ARRAY_TASK_ID")) {
+        (Some(a), Some(t)) => Some(format!("{a}_{t}")),
+        _ => env("SLURM_JOB_ID"),
+    };
+    let record = runs::RunRecord {
+        shard: if shard == Shard::ALL { "all".to_string() } else { shard.to_string() },
+        host: gethostname::gethostname().to_string_lossy().into_owned(),
+        job,
+        restarts: env("SLURM_RESTART_COUNT").and_then(|c| c.parse().ok()),
+        started: stamp(started.0),
+        finished: stamp(jiff::Timestamp::now()),
+        wall_s,
+        units,
+        found_done,
+        ran,
+        events,
+        events_per_s: if wall_s > 0.0 { events as f64 / wall_s } else { 0.0 },
+        outcome: outcome.to_string(),
+    };
+    if let Err(e) = runs::append(dir, &record) {
+        note!(
+            "note: cannot write {}: {e} (the record of this run; the units are saved)",
+            dir.join(runs::FILE).display()
+        );
+    }
 }
 
 /// Units of each design point this run still has to do.
@@ -494,8 +562,17 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
     } else {
         Mode::Fresh
     };
+    // The shards' run records (who ran what, when), read before the out
+    // folder is prepared: it may be one of the shards, and --force clears it.
+    let mut records = Vec::new();
+    for dir in args.dirs.iter().chain(this_plan.then_some(&args.out)) {
+        records.extend(read_runs(dir));
+    }
     prepare(&args.out, Kind::Experiment, mode)?;
     folder::write(&args.out, &header, &units)?;
+    if !records.is_empty() {
+        write_atomic(&args.out, runs::FILE, &runs::gathered(records))?;
+    }
     let summary = results::summarize(&header, &units).map_err(Failure::run)?;
     out(&render(&summary, header.units)).map_err(|f| f.and(&safe_in(&args.out)))?;
     note!("merged {} folders into {}", args.dirs.len(), args.out.display());
@@ -505,6 +582,9 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
 /// Run `layflow summarize`.
 pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
     one_study(&args.dir)?;
+    if args.runs {
+        return summarize_runs(args);
+    }
     let c = read_journal(&args.dir)?;
     let units = results::canonical(c.units).map_err(Failure::input)?;
     let summary = results::summarize(&c.header, &units).map_err(Failure::input)?;
@@ -516,9 +596,103 @@ pub fn summarize(args: &SummarizeArgs) -> Result<(), Failure> {
         );
     }
     match args.format {
-        SummaryFormat::Table => out(&render(&summary, c.header.units)),
+        SummaryFormat::Table => {
+            let records = read_runs(&args.dir);
+            if let Some(slowest) = records.iter().max_by(|a, b| a.wall_s.total_cmp(&b.wall_s)) {
+                note!(
+                    "{} runs recorded in {} (the slowest: shard {} on {}, {:.1} s); `layflow summarize {} --runs` \
+                     lists them",
+                    records.len(),
+                    runs::FILE,
+                    slowest.shard,
+                    slowest.host,
+                    slowest.wall_s,
+                    args.dir.display()
+                );
+            }
+            out(&render(&summary, c.header.units))
+        }
         SummaryFormat::Csv => out(&String::from_utf8_lossy(&results::summary_csv(&summary))),
         SummaryFormat::Json => out(&String::from_utf8_lossy(&results::summary_json(&summary))),
+    }
+}
+
+/// `summarize --runs`: the run records, as a table (slowest first), CSV or JSON.
+fn summarize_runs(args: &SummarizeArgs) -> Result<(), Failure> {
+    let records = read_runs(&args.dir);
+    if records.is_empty() {
+        return Err(Failure::input(format!(
+            "{}: no {} here: it is written by layflow experiment (each run appends a line) and gathered by \
+             layflow merge; folders made before it existed have none",
+            args.dir.display(),
+            runs::FILE
+        )));
+    }
+    match args.format {
+        SummaryFormat::Table => out(&runs_table(&records)),
+        SummaryFormat::Json => {
+            out(&(serde_json::to_string_pretty(&records).expect("run records serialise") + "\n"))
+        }
+        SummaryFormat::Csv => {
+            // Every column on every row (empty where a run had no batch job),
+            // in the JSON's field order.
+            let fail = |e: csv::Error| Failure::run(format!("cannot write the runs as CSV: {e}"));
+            let mut w = csv::Writer::from_writer(Vec::new());
+            w.write_record([
+                "shard",
+                "host",
+                "job",
+                "restarts",
+                "started",
+                "finished",
+                "wall_s",
+                "units",
+                "found_done",
+                "ran",
+                "events",
+                "events_per_s",
+                "outcome",
+            ])
+            .map_err(fail)?;
+            for r in &records {
+                w.write_record([
+                    r.shard.clone(),
+                    r.host.clone(),
+                    r.job.clone().unwrap_or_default(),
+                    r.restarts.map(|n| n.to_string()).unwrap_or_default(),
+                    r.started.clone(),
+                    r.finished.clone(),
+                    r.wall_s.to_string(),
+                    r.units.to_string(),
+                    r.found_done.to_string(),
+                    r.ran.to_string(),
+                    r.events.to_string(),
+                    r.events_per_s.to_string(),
+                    r.outcome.clone(),
+                ])
+                .map_err(fail)?;
+            }
+            let bytes =
+                w.into_inner().map_err(|e| Failure::run(format!("cannot write the runs as CSV: {e}")))?;
+            out(&String::from_utf8_lossy(&bytes))
+        }
+    }
+}
+
+/// The run records in `dir` (none if it has no runs.jsonl); a file that
+/// cannot be read, or lines that do not, are a note: they are never results.
+fn read_runs(dir: &Path) -> Vec<runs::RunRecord> {
+    let path = dir.join(runs::FILE);
+    match runs::read(dir) {
+        Ok((records, 0)) => records,
+        Ok((records, skipped)) => {
+            note!("note: {}: skipped {skipped} lines that are not run records", path.display());
+            records
+        }
+        Err(e) => {
+            note!("note: cannot read {}: {e}", path.display());
+            Vec::new()
+        }
     }
 }
 

@@ -1,7 +1,7 @@
 //! `experiment`, `merge` and `summarize` drawn for people: a line per finished design point, a row per point.
 
 use layflow_models::experiment::results::{self, Percentile, PointSummary, Summary};
-use layflow_models::experiment::{Experiment, Header, Unit};
+use layflow_models::experiment::{runs, Experiment, Header, Unit};
 use layflow_models::metrics::Estimate;
 
 use super::table::{dur, dur_in, num, pm, unit_for, Table};
@@ -106,4 +106,78 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         "  Every metric, per point and per replication: summary.csv, summary.json and results.csv.\n",
     );
     out
+}
+
+/// Most run records `summarize` lists; the rest are counted (all are in runs.jsonl).
+const RUNS_SHOWN: usize = 12;
+
+/// The runs recorded in a folder, slowest first, so that a straggling shard
+/// (a slow node, a requeue) stands out; with a line on how much slower the
+/// slowest run was than the median.
+pub fn runs_table(records: &[runs::RunRecord]) -> String {
+    let mut order: Vec<&runs::RunRecord> = records.iter().collect();
+    order.sort_by(|a, b| b.wall_s.total_cmp(&a.wall_s).then(a.shard_number().cmp(&b.shard_number())));
+    let mut t = Table::new(&[
+        "shard",
+        "host",
+        "job",
+        "outcome",
+        "started (UTC)",
+        "wall time",
+        "units run",
+        "events/s",
+    ]);
+    for r in order.iter().take(RUNS_SHOWN) {
+        t.row(vec![
+            r.shard.clone(),
+            r.host.clone(),
+            match (&r.job, r.restarts) {
+                (Some(j), Some(n)) if n > 0 => format!("{j} (restart {n})"),
+                (Some(j), _) => j.clone(),
+                (None, _) => "-".into(),
+            },
+            r.outcome.clone(),
+            // To the second: 2026-12-04 02:10:07.
+            r.started.trim_end_matches('Z').replace('T', " ").chars().take(19).collect(),
+            wall(r.wall_s),
+            if r.found_done > 0 {
+                format!("{} (+{} found done) of {}", r.ran, r.found_done, r.units)
+            } else {
+                format!("{} of {}", r.ran, r.units)
+            },
+            if r.ran == 0 { "-".into() } else { format!("{:.2} M", r.events_per_s / 1e6) },
+        ]);
+    }
+    let mut out = format!("Runs recorded in runs.jsonl, slowest first ({}):\n", records.len());
+    out.push_str(&t.render(2));
+    if records.len() > RUNS_SHOWN {
+        out.push_str(&format!("  … and {} faster runs (all in runs.jsonl)\n", records.len() - RUNS_SHOWN));
+    }
+    let mut walls: Vec<f64> = records.iter().filter(|r| r.ran > 0).map(|r| r.wall_s).collect();
+    if walls.len() >= 3 {
+        walls.sort_by(f64::total_cmp);
+        let median = walls[walls.len() / 2];
+        let slowest = walls[walls.len() - 1];
+        if median > 0.0 {
+            out.push_str(&format!(
+                "  The slowest run took {:.1}× the median run's wall time ({} vs {}); wall time also counts \
+                 waiting for cores, so compare events/s to tell a slow node from a shard with more work.\n",
+                slowest / median,
+                wall(slowest),
+                wall(median)
+            ));
+        }
+    }
+    out
+}
+
+/// A wall-clock time for people: seconds, minutes or hours.
+fn wall(s: f64) -> String {
+    if s < 120.0 {
+        format!("{s:.1} s")
+    } else if s < 7200.0 {
+        format!("{:.1} min", s / 60.0)
+    } else {
+        format!("{:.2} h", s / 3600.0)
+    }
 }

@@ -93,8 +93,15 @@ impl std::error::Error for ResultsError {}
 
 /// Every file name a study writes into a folder (besides the manifest):
 /// the only files `--force` ever deletes.
-pub const STUDY_FILES: &[&str] =
-    &["summary.json", "summary.csv", "replications.csv", "units.jsonl", "results.csv", "by_bucket.csv"];
+pub const STUDY_FILES: &[&str] = &[
+    "summary.json",
+    "summary.csv",
+    "replications.csv",
+    "units.jsonl",
+    "results.csv",
+    "by_bucket.csv",
+    "runs.jsonl",
+];
 
 /// What a folder holds of ours: its manifest, and each study file present
 /// with the kind of study its content shows (`None` where it cannot tell).
@@ -177,7 +184,7 @@ impl Holding {
 /// line (`summary.csv` and `summary.json` are written by both).
 fn kind_of_file(dir: &Path, name: &str) -> Option<Kind> {
     match name {
-        "units.jsonl" | "results.csv" => Some(Kind::Experiment),
+        "units.jsonl" | "results.csv" | "runs.jsonl" => Some(Kind::Experiment),
         "by_bucket.csv" => {
             let text = std::fs::read_to_string(dir.join(name)).ok()?;
             (text.lines().next()?.split(',').next()? == "point").then_some(Kind::Experiment)
