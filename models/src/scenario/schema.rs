@@ -551,9 +551,24 @@ pub(crate) struct OrdersSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct StepSpec {
     pub step: String,
-    pub at: String,
+    /// Absent exactly when `either` names the departments (`alternatives.rs`).
+    pub at: Option<String>,
     pub time: Option<TimeSpec>,
     pub then: Option<Vec<BranchSpec>>,
+    /// `either: [{ at: press1, time: 5 min }, ...]`: alternative departments for this operation.
+    pub either: Option<Vec<EitherSpec>>,
+    /// How a lot picks one of `either`: `first-free`, `shortest-queue`, `least-work` or `shares`.
+    pub rule: Option<String>,
+}
+
+/// One alternative department of an operation, with its own processing time
+/// and, under `rule: shares`, the share of lots sent there.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct EitherSpec {
+    pub at: String,
+    pub time: Option<TimeSpec>,
+    pub share: Option<Share>,
 }
 
 #[derive(Debug, DeriveDeserialize)]
