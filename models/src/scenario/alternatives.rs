@@ -3,8 +3,8 @@
 use super::context::{resolve, Ctx};
 use super::error::ScenarioError;
 use super::locate::FieldPath;
-use super::routing::BRANCH_SUM_TOLERANCE;
 use super::schema::StepSpec;
+use super::schema::BRANCH_SUM_TOLERANCE;
 use super::times::time_dist;
 use crate::dist::{rounded, Dist};
 use crate::plant::{AltRule, Department, DepartmentRole, Product};

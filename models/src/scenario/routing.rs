@@ -4,14 +4,11 @@ use super::context::{check_unique, resolve, Ctx};
 use super::demand;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
-use super::schema::{DistSpec, Scenario, StepSpec};
+use super::schema::{DistSpec, Scenario, StepSpec, BRANCH_SUM_TOLERANCE};
 use super::times::time_dist;
 use crate::dist::{rounded, Dist};
 use crate::plant::{Alternatives, Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
-
-/// How far branch probabilities may sum from 1 (hand-typed decimals).
-pub(crate) const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
 
 /// Compiles every product.
 pub(crate) fn products(

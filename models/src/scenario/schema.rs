@@ -779,6 +779,9 @@ pub(crate) struct FloorCostSpec {
     pub per_hour: f64,
 }
 
+/// How far branch probabilities or alternatives' shares may sum from 1 (hand-typed decimals).
+pub(crate) const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
+
 /// A probability or factor: a plain number (`0.9`, `1.2`) or a percentage
 /// (`90%`, `120 %`), which plant people write as often as decimals.
 #[derive(Debug, Clone, Copy, PartialEq)]
