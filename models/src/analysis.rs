@@ -30,9 +30,12 @@ pub fn visit_ratios(plant: &Plant, product: usize) -> Option<Vec<f64>> {
     // Without a step that leads back (rework), each step's visits are final
     // once every earlier step has passed its share on: one pass over the
     // routing, time and memory linear in its steps. A loop needs the solve.
+    let first = &plant.products[product].first;
     if ops.iter().enumerate().all(|(i, op)| op.next.iter().all(|&(j, _)| j > i)) {
         let mut v = vec![0.0; n];
-        v[0] = 1.0;
+        for &(j, p) in first {
+            v[j] += p;
+        }
         for (i, op) in ops.iter().enumerate() {
             for &(j, p) in &op.next {
                 v[j] += p * v[i];
@@ -43,7 +46,9 @@ pub fn visit_ratios(plant: &Plant, product: usize) -> Option<Vec<f64>> {
     // (I − Pᵀ) v = e₁, with P[i][j] the branch probability from step i to step j.
     let mut a = vec![0.0; n * n];
     let mut b = vec![0.0; n];
-    b[0] = 1.0;
+    for &(j, p) in first {
+        b[j] += p;
+    }
     for i in 0..n {
         a[i * n + i] += 1.0;
     }
@@ -256,9 +261,12 @@ impl StaticPicture {
             let rate_h = plant.mean_rate_per_s(p) * 3600.0 * demand_factor;
             rates.push(rate_h);
             let mut ft = Vec::with_capacity(prod.routing.len() * 2);
-            let first = prod.routing[0].department;
-            if first != prod.enters_at {
-                ft.push((prod.enters_at, first, rate_h));
+            // From the dock to each first operation in its share (× 1 exactly when there is one).
+            for &(j, pr) in &prod.first {
+                let first = prod.routing[j].department;
+                if first != prod.enters_at {
+                    ft.push((prod.enters_at, first, rate_h * pr));
+                }
             }
             for (k, op) in prod.routing.iter().enumerate() {
                 let d = op.department;

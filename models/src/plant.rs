@@ -368,7 +368,7 @@ pub struct Layout {
 }
 
 /// A product: its demand and its routing.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Clone, PartialEq)]
 pub struct Product {
     /// The scenario's name for it.
     pub id: String,
@@ -383,6 +383,90 @@ pub struct Product {
     pub weight_kg: Option<f64>,
     /// Lot quantity and unit loads; `None`: the lot moves as one load.
     pub lot: Option<LotSplit>,
+    /// The first operations (index into `routing`) with their probabilities,
+    /// summing to 1: `[(0, 1.0)]` unless the routing branches from the
+    /// receiving dock, or its first step has alternative departments.
+    pub first: Vec<(usize, f64)>,
+    /// Operations done at one of several departments: each alternative is an
+    /// operation of `routing` of its own, reached by branches that carry the
+    /// expected shares; empty when the routing names none.
+    pub alternatives: Vec<Alternatives>,
+}
+
+// Written out so that a product without a random first operation or
+// alternatives prints as before they existed (an experiment's content hash
+// covers the plant's debug text; see `Location`'s).
+impl fmt::Debug for Product {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Product");
+        s.field("id", &self.id)
+            .field("demand", &self.demand)
+            .field("enters_at", &self.enters_at)
+            .field("routing", &self.routing)
+            .field("weight_kg", &self.weight_kg)
+            .field("lot", &self.lot);
+        if self.first != [(0, 1.0)] {
+            s.field("first", &self.first);
+        }
+        if !self.alternatives.is_empty() {
+            s.field("alternatives", &self.alternatives);
+        }
+        s.finish()
+    }
+}
+
+/// How a lot picks one of an operation's alternative departments, at the
+/// moment it is ready to move there (the end of its previous operation, or
+/// its release at the receiving dock).
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum AltRule {
+    /// At random in the stated shares.
+    Shares,
+    /// The first machine free in any of them: the lot waits for one in a
+    /// queue shared by the group, in the outbound area it is leaving.
+    FirstFree,
+    /// The department with the fewest lots waiting, in process or on their way there.
+    ShortestQueue,
+    /// The department with the least expected work ahead: those lots × this
+    /// operation's mean time there ÷ its machines.
+    LeastWork,
+}
+
+impl AltRule {
+    /// The rule as the scenario writes it.
+    pub fn name(self) -> &'static str {
+        match self {
+            AltRule::Shares => "shares",
+            AltRule::FirstFree => "first-free",
+            AltRule::ShortestQueue => "shortest-queue",
+            AltRule::LeastWork => "least-work",
+        }
+    }
+
+    /// Every rule, in the order messages list them.
+    pub const ALL: [AltRule; 4] =
+        [AltRule::FirstFree, AltRule::ShortestQueue, AltRule::LeastWork, AltRule::Shares];
+
+    /// Whether the choice depends on the plant's state (so the static
+    /// picture's shares are estimates).
+    pub fn is_dynamic(self) -> bool {
+        self != AltRule::Shares
+    }
+}
+
+/// One operation that may be done at any of several departments.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Alternatives {
+    /// The step's name.
+    pub step: String,
+    /// The operations (indices into the routing), one per department, in listed order.
+    pub ops: Vec<usize>,
+    /// How a lot picks one.
+    pub rule: AltRule,
+    /// The share of lots each takes, summing to 1: exact under
+    /// [`AltRule::Shares`]; otherwise an estimate, in proportion to each
+    /// department's capacity for this operation (machines ÷ mean time).
+    pub shares: Vec<f64>,
 }
 
 /// Where a product's lots come from.

@@ -45,6 +45,8 @@ fn allocations_do_not_grow_with_the_horizon() {
     // aisle demo travels its network segment by segment (a capacity-1
     // crossing and a speed limit), with waits at the crossing. The last two
     // block after service (deadlock detection runs each time a wait begins).
+    // The alternatives plant chooses departments by shortest-queue,
+    // least-work and first-free (shared queues) and branches from the dock.
     for name in [
         "demo.yaml",
         "orders-demo.yaml",
@@ -52,6 +54,7 @@ fn allocations_do_not_grow_with_the_horizon() {
         "aisles-demo.yaml",
         "staging-breakdowns.yaml",
         "validation/two-station-blocking.yaml",
+        "validation/alt-movers.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         let plant = load_scenario(&path).unwrap();

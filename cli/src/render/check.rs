@@ -68,6 +68,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
         );
     }
     let _ = writeln!(s);
+    alternatives(&mut s, plant);
 
     from_to_chart(&mut s, plant, pic, measured.is_some());
     let _ = writeln!(
@@ -356,6 +357,73 @@ fn demand_pattern(plant: &Plant, p: usize, factor: f64) -> String {
 /// The static picture as JSON.
 /// With `measured`, `from_to` and the load-distance come from it, `from_to_source` says so and the
 /// fleets' figures (which need the routings' moves by product) are left out.
+/// Each operation with alternative departments and the shares the static
+/// picture gives them, saying which are estimates (a rule that decides by
+/// the plant's state). Nothing for a plant without alternatives.
+fn alternatives(s: &mut String, plant: &Plant) {
+    if plant.products.iter().all(|p| p.alternatives.is_empty()) {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "Alternative departments: the share of an operation's lots each takes in the static picture"
+    );
+    let mut t = Table::new(&["product", "step", "rule", "shares", ""]);
+    let mut estimated = false;
+    for prod in &plant.products {
+        for g in &prod.alternatives {
+            let shares: Vec<String> = g
+                .ops
+                .iter()
+                .zip(&g.shares)
+                .map(|(&o, &sh)| {
+                    format!("{} {}", plant.departments[prod.routing[o].department].id, share(sh))
+                })
+                .collect();
+            estimated |= g.rule.is_dynamic();
+            t.row(vec![
+                prod.id.clone(),
+                g.step.clone(),
+                g.rule.name().to_string(),
+                shares.join(", "),
+                if g.rule.is_dynamic() { "estimate".into() } else { "exact".into() },
+            ]);
+        }
+    }
+    s.push_str(&t.render(2));
+    if estimated {
+        let _ = writeln!(
+            s,
+            "  estimate: first-free, shortest-queue and least-work decide lot by lot from the plant's state; \
+             the static picture assumes shares in proportion to each department's capacity (machines ÷ mean time). \
+             Trust the simulated utilisations."
+        );
+    }
+    let _ = writeln!(s);
+}
+
+/// The groups of alternatives for the JSON form (`alternatives`, only when there are some).
+fn alternatives_json(plant: &Plant) -> Vec<serde_json::Value> {
+    plant
+        .products
+        .iter()
+        .flat_map(|prod| {
+            prod.alternatives.iter().map(move |g| {
+                json!({
+                    "product": prod.id,
+                    "step": g.step,
+                    "rule": g.rule.name(),
+                    "shares_estimated": g.rule.is_dynamic(),
+                    "shares": g.ops.iter().zip(&g.shares).map(|(&o, &sh)| json!({
+                        "department": plant.departments[prod.routing[o].department].id,
+                        "share": sh,
+                    })).collect::<Vec<_>>(),
+                })
+            })
+        })
+        .collect()
+}
+
 pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredChart>) -> serde_json::Value {
     let ids: Vec<&str> = plant.departments.iter().map(|d| d.id.as_str()).collect();
     let pairs: Vec<serde_json::Value> = pic
@@ -419,6 +487,11 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
     // The currency only when named, so plants without one keep their JSON byte for byte.
     if let Some(c) = &plant.currency {
         j["currency"] = json!(c);
+    }
+    // Likewise alternatives: only for a plant that has some.
+    let alts = alternatives_json(plant);
+    if !alts.is_empty() {
+        j["alternatives"] = json!(alts);
     }
     j
 }

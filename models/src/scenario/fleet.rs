@@ -332,14 +332,27 @@ fn every_move_served(
     for (p, prod) in products.iter().enumerate() {
         let pp = FieldPath::root().key("products").index(p);
         let ops = &prod.routing;
-        let first = ops[0].department;
-        if first != prod.enters_at && !served(fleets, p, prod, prod.enters_at, first) {
-            let what = format!(
-                "from its receiving dock \"{}\" to step \"{}\" (at \"{}\")",
-                departments[prod.enters_at].id, ops[0].name, departments[first].id
-            );
-            let at = pp.key("routing").index(0);
-            return Err(unserved(ctx, &at, fleets, departments, (p, prod), (prod.enters_at, first), &what));
+        // The step (as written) of an operation: alternatives share their step's name.
+        let written = s.products[p].routing.as_deref().unwrap_or(&[]);
+        let step_of = |j: usize| written.iter().position(|st| st.step == ops[j].name).unwrap_or(0);
+        for &(f, _) in &prod.first {
+            let first = ops[f].department;
+            if first != prod.enters_at && !served(fleets, p, prod, prod.enters_at, first) {
+                let what = format!(
+                    "from its receiving dock \"{}\" to step \"{}\" (at \"{}\")",
+                    departments[prod.enters_at].id, ops[f].name, departments[first].id
+                );
+                let at = pp.key("routing").index(step_of(f));
+                return Err(unserved(
+                    ctx,
+                    &at,
+                    fleets,
+                    departments,
+                    (p, prod),
+                    (prod.enters_at, first),
+                    &what,
+                ));
+            }
         }
         for j in reachable(prod) {
             let from = ops[j].department;
@@ -348,9 +361,11 @@ fn every_move_served(
                 if to == from || served(fleets, p, prod, from, to) {
                     continue;
                 }
-                let sp = pp.key("routing").index(j);
-                let has_then = s.products[p].routing.as_ref().is_some_and(|r| r[j].then.is_some());
-                let at = if has_then { sp.key("then").index(k) } else { sp };
+                let sj = step_of(j);
+                let sp = pp.key("routing").index(sj);
+                let has_then = written.get(sj).is_some_and(|st| st.then.is_some());
+                // With alternatives a step's branches are expanded, so `k` no longer counts `then`.
+                let at = if has_then && prod.alternatives.is_empty() { sp.key("then").index(k) } else { sp };
                 let what = format!(
                     "from step \"{}\" (at \"{}\") to step \"{}\" (at \"{}\")",
                     ops[j].name, departments[from].id, ops[t].name, departments[to].id
@@ -403,8 +418,10 @@ fn unserved(
 /// Steps a lot of `prod` can reach from its first step.
 fn reachable(prod: &Product) -> Vec<usize> {
     let mut seen = vec![false; prod.routing.len()];
-    let mut stack = vec![0];
-    seen[0] = true;
+    let mut stack: Vec<usize> = prod.first.iter().map(|&(t, _)| t).collect();
+    for &t in &stack {
+        seen[t] = true;
+    }
     let mut out = Vec::new();
     while let Some(j) = stack.pop() {
         out.push(j);

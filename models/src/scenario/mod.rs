@@ -6,6 +6,7 @@
 //! `serde_path_to_error`), then compile names into indices and check every
 //! rule (with a path built by hand and its line found in the text).
 
+mod alternatives;
 mod area;
 mod compile;
 mod context;

@@ -4,14 +4,11 @@ use super::context::{check_unique, resolve, Ctx};
 use super::demand;
 use super::error::ScenarioError;
 use super::locate::FieldPath;
-use super::schema::{DistSpec, Scenario, StepSpec};
+use super::schema::{DistSpec, Scenario, StepSpec, BRANCH_SUM_TOLERANCE};
 use super::times::time_dist;
 use crate::dist::{rounded, Dist};
-use crate::plant::{Department, DepartmentRole, Operation, Product};
+use crate::plant::{Alternatives, Department, DepartmentRole, Operation, Product};
 use crate::suggest::{did_you_mean, name_list};
-
-/// How far branch probabilities may sum from 1 (hand-typed decimals).
-pub(crate) const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
 
 /// Compiles every product.
 pub(crate) fn products(
@@ -36,7 +33,21 @@ pub(crate) fn products(
     for (i, spec) in s.products.iter().enumerate() {
         let pp = p.index(i);
         let demand = demand::product_demand(spec, &pp, working.as_ref(), ctx)?;
-        let enters_at = match &spec.enters_at {
+        // `tables::expand` gave every product its steps or refused the scenario.
+        let steps = spec.routing.as_deref().unwrap_or(&[]);
+        let rp = pp.key("routing");
+        let dock_step = entry_step(steps, departments);
+        let enters_at = match (&spec.enters_at, dock_step) {
+            (Some(name), Some(d)) if *name != departments[d].id => {
+                return Err(ctx
+                    .err(&rp.index(0).key("at"), format!(
+                        "the routing of product \"{}\" starts at receiving dock \"{}\", but `enters_at` is \"{name}\"",
+                        spec.id, departments[d].id
+                    ))
+                    .with_hint("name the same dock in both, or leave `enters_at` out"))
+            }
+            (_, Some(d)) => d,
+            (enters, None) => match enters {
             Some(name) => {
                 let ep = pp.key("enters_at");
                 let d = resolve(ctx, &ep, "department", name, &dept_ids)?;
@@ -62,10 +73,9 @@ pub(crate) fn products(
                         name_list(receiving.iter().map(|&r| dept_ids[r]))
                     )))
             }
+            },
         };
-        // `tables::expand` gave every product its steps or refused the scenario.
-        let steps = spec.routing.as_deref().unwrap_or(&[]);
-        let routing = routing(&spec.id, steps, &pp.key("routing"), departments, ctx)?;
+        let Compiled { ops: routing, first, alternatives } = routing(&spec.id, steps, &rp, departments, ctx)?;
         let weight_kg = match &spec.load {
             None => None,
             Some(l) if l.weight.0 > 0.0 => Some(l.weight.0),
@@ -83,9 +93,35 @@ pub(crate) fn products(
             None => None,
             Some(l) => Some(super::work::lot(l, &spec.id, &pp, ctx)?),
         };
-        out.push(Product { id: spec.id.clone(), demand, enters_at, routing, weight_kg, lot });
+        out.push(Product {
+            id: spec.id.clone(),
+            demand,
+            enters_at,
+            routing,
+            weight_kg,
+            lot,
+            first,
+            alternatives,
+        });
     }
+    super::alternatives::check_plant(&out, departments, ctx)?;
     Ok(out)
+}
+
+/// A product's routing compiled: operations (each alternative department
+/// of a step an operation of its own), the first operations with their
+/// probabilities, and the groups of alternatives.
+struct Compiled {
+    ops: Vec<Operation>,
+    first: Vec<(usize, f64)>,
+    alternatives: Vec<Alternatives>,
+}
+
+/// The receiving dock the routing starts at, when its first step is at one
+/// (a step written only to branch from the dock).
+fn entry_step(steps: &[StepSpec], departments: &[Department]) -> Option<usize> {
+    let at = steps.first()?.at.as_deref()?;
+    departments.iter().position(|d| d.id == at && d.role == DepartmentRole::Receiving)
 }
 
 fn routing(
@@ -94,7 +130,7 @@ fn routing(
     rp: &FieldPath,
     departments: &[Department],
     ctx: &Ctx,
-) -> Result<Vec<Operation>, ScenarioError> {
+) -> Result<Compiled, ScenarioError> {
     if steps.is_empty() {
         return Err(ctx.err(rp, format!("the routing of product \"{product}\" is empty")).with_hint(
             "list the steps, ending with one at a shipping dock: `- { step: ship, at: shipping }`",
@@ -107,16 +143,57 @@ fn routing(
     )?;
     let dept_ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
     let step_ids: Vec<&str> = steps.iter().map(|st| st.step.as_str()).collect();
-    let mut ops = Vec::with_capacity(steps.len());
+    // A first step at the receiving dock only says where lots go first.
+    let off = usize::from(entry_step(steps, departments).is_some());
+    // Per step: its operations' indices start here (one per alternative).
+    let mut start = vec![0; steps.len() + 1];
+    for (j, st) in steps.iter().enumerate() {
+        let n = if j < off { 0 } else { st.either.as_ref().map_or(1, |e| e.len().max(1)) };
+        start[j + 1] = start[j] + n;
+    }
+    // Step-level branches and, per step, its departments, times and shares.
+    let mut step_next: Vec<Vec<(usize, f64)>> = Vec::with_capacity(steps.len());
+    let mut step_ops: Vec<Vec<(usize, Option<Dist>, f64)>> = Vec::with_capacity(steps.len());
+    let mut alternatives = Vec::new();
     for (j, st) in steps.iter().enumerate() {
         let sp = rp.index(j);
-        let d = resolve(ctx, &sp.key("at"), "department", &st.at, &dept_ids)?;
+        if j < off {
+            if st.time.is_some() || st.either.is_some() || st.rule.is_some() {
+                return Err(ctx
+                    .err(&sp, format!("step \"{}\" at receiving dock \"{}\" can only branch", st.step, st.at.as_deref().unwrap_or("")))
+                    .with_hint("a first step at the receiving dock takes no `time`, `either` or `rule`; give it `then` to say where lots go first"));
+            }
+            step_next.push(next_steps(product, st, j, steps.len(), &sp, &step_ids, ctx)?);
+            step_ops.push(Vec::new());
+            continue;
+        }
+        if st.either.is_some() {
+            let e = super::alternatives::either(st, &sp, departments, ctx)?;
+            step_next.push(next_steps(product, st, j, steps.len(), &sp, &step_ids, ctx)?);
+            alternatives.push(Alternatives {
+                step: st.step.clone(),
+                ops: (start[j]..start[j + 1]).collect(),
+                rule: e.rule,
+                shares: e.shares.clone(),
+            });
+            step_ops.push(e.options.into_iter().zip(e.shares).map(|((d, t), s)| (d, Some(t), s)).collect());
+            continue;
+        }
+        if st.rule.is_some() {
+            return Err(super::alternatives::rule_without_either(st, &sp, ctx));
+        }
+        let Some(at) = st.at.as_deref() else {
+            return Err(ctx
+                .err(&sp, format!("step \"{}\" has no `at`", st.step))
+                .with_hint("name its department, `at: laser`, or several with `either`"));
+        };
+        let d = resolve(ctx, &sp.key("at"), "department", at, &dept_ids)?;
         let (time, next) = match departments[d].role {
             DepartmentRole::Receiving => {
                 return Err(ctx
-                    .err(&sp.key("at"), format!("step \"{}\" is at receiving dock \"{}\"", st.step, st.at))
+                    .err(&sp.key("at"), format!("step \"{}\" is at receiving dock \"{}\"", st.step, at))
                     .with_hint(
-                        "lots enter at the receiving dock already; start the routing at the first operation",
+                        "lots enter at the receiving dock already; only the first step may be there, to branch from it",
                     ))
             }
             DepartmentRole::Shipping => {
@@ -124,7 +201,7 @@ fn routing(
                     return Err(ctx
                         .err(
                             &sp.key("time"),
-                            format!("step \"{}\" at shipping dock \"{}\" cannot take time", st.step, st.at),
+                            format!("step \"{}\" at shipping dock \"{}\" cannot take time", st.step, at),
                         )
                         .with_hint("delivery to a shipping dock ends the lot; remove `time`"));
                 }
@@ -132,7 +209,7 @@ fn routing(
                     return Err(ctx
                         .err(
                             &sp.key("then"),
-                            format!("step \"{}\" at shipping dock \"{}\" cannot have `then`", st.step, st.at),
+                            format!("step \"{}\" at shipping dock \"{}\" cannot have `then`", st.step, at),
                         )
                         .with_hint("delivery to a shipping dock ends the lot; remove `then`"));
                 }
@@ -143,17 +220,49 @@ fn routing(
                     Some(t) => processing_time(&t.0, &sp.key("time"), ctx)?,
                     None => {
                         return Err(ctx
-                            .err(&sp, format!("step \"{}\" at \"{}\" has no `time`", st.step, st.at))
+                            .err(&sp, format!("step \"{}\" at \"{}\" has no `time`", st.step, at))
                             .with_hint("give a processing time such as `time: 5 min` or `time: { exponential: { mean: 5 min } }`"))
                     }
                 };
                 (Some(time), next_steps(product, st, j, steps.len(), &sp, &step_ids, ctx)?)
             }
         };
-        ops.push(Operation { name: st.step.clone(), department: d, time, next });
+        step_next.push(next);
+        step_ops.push(vec![(d, time, 1.0)]);
     }
-    check_exits(product, &ops, rp, ctx)?;
-    Ok(ops)
+    // A branch to a step is a branch to each of its operations, in its shares.
+    let expand = |branches: &[(usize, f64)], sp: &FieldPath| -> Result<Vec<(usize, f64)>, ScenarioError> {
+        let mut out = Vec::with_capacity(branches.len());
+        for (k, &(t, p)) in branches.iter().enumerate() {
+            if t < off {
+                let bp =
+                    if steps[0].then.is_some() { sp.key("then").index(k).key("step") } else { sp.clone() };
+                return Err(ctx
+                    .err(&bp, format!("step \"{}\" leads back to the receiving dock", steps[t].step))
+                    .with_hint("lots enter at the receiving dock once; lead to an operation instead"));
+            }
+            out.extend(step_ops[t].iter().enumerate().map(|(a, o)| (start[t] + a, p * o.2)));
+        }
+        Ok(out)
+    };
+    let first =
+        if off == 1 { expand(&step_next[0], &rp.index(0))? } else { expand(&[(0, 1.0)], &rp.index(0))? };
+    let mut ops = Vec::with_capacity(start[steps.len()]);
+    let mut step_of = Vec::with_capacity(start[steps.len()]);
+    for (j, st) in steps.iter().enumerate().skip(off) {
+        let next = expand(&step_next[j], &rp.index(j))?;
+        for (d, time, _) in &step_ops[j] {
+            step_of.push(j);
+            ops.push(Operation {
+                name: st.step.clone(),
+                department: *d,
+                time: time.clone(),
+                next: next.clone(),
+            });
+        }
+    }
+    check_exits(product, &ops, &first, rp, &step_of, ctx)?;
+    Ok(Compiled { ops, first, alternatives })
 }
 
 fn next_steps(
@@ -218,11 +327,20 @@ fn next_steps(
 
 /// Every step reachable from the first must be able to reach a shipping step;
 /// otherwise lots would circulate for ever (a rework loop with no way out).
-fn check_exits(product: &str, ops: &[Operation], rp: &FieldPath, ctx: &Ctx) -> Result<(), ScenarioError> {
+fn check_exits(
+    product: &str,
+    ops: &[Operation],
+    first: &[(usize, f64)],
+    rp: &FieldPath,
+    step_of: &[usize],
+    ctx: &Ctx,
+) -> Result<(), ScenarioError> {
     let n = ops.len();
     let mut reachable = vec![false; n];
-    let mut stack = vec![0];
-    reachable[0] = true;
+    let mut stack: Vec<usize> = first.iter().map(|&(t, _)| t).collect();
+    for &t in &stack {
+        reachable[t] = true;
+    }
     while let Some(j) = stack.pop() {
         for &(t, _) in &ops[j].next {
             if !reachable[t] {
@@ -247,7 +365,7 @@ fn check_exits(product: &str, ops: &[Operation], rp: &FieldPath, ctx: &Ctx) -> R
         None => Ok(()),
         Some(j) => Err(ctx
             .err(
-                &rp.index(j),
+                &rp.index(step_of[j]),
                 format!(
                     "unreachable shipping dock: lots of product \"{product}\" that reach step \"{}\" can never get to a shipping dock",
                     ops[j].name

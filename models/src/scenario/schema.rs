@@ -551,9 +551,24 @@ pub(crate) struct OrdersSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct StepSpec {
     pub step: String,
-    pub at: String,
+    /// Absent exactly when `either` names the departments (`alternatives.rs`).
+    pub at: Option<String>,
     pub time: Option<TimeSpec>,
     pub then: Option<Vec<BranchSpec>>,
+    /// `either: [{ at: press1, time: 5 min }, ...]`: alternative departments for this operation.
+    pub either: Option<Vec<EitherSpec>>,
+    /// How a lot picks one of `either`: `first-free`, `shortest-queue`, `least-work` or `shares`.
+    pub rule: Option<String>,
+}
+
+/// One alternative department of an operation, with its own processing time
+/// and, under `rule: shares`, the share of lots sent there.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct EitherSpec {
+    pub at: String,
+    pub time: Option<TimeSpec>,
+    pub share: Option<Share>,
 }
 
 #[derive(Debug, DeriveDeserialize)]
@@ -763,6 +778,9 @@ pub(crate) struct FloorCostSpec {
     pub location: String,
     pub per_hour: f64,
 }
+
+/// How far branch probabilities or alternatives' shares may sum from 1 (hand-typed decimals).
+pub(crate) const BRANCH_SUM_TOLERANCE: f64 = 1e-9;
 
 /// A probability or factor: a plain number (`0.9`, `1.2`) or a percentage
 /// (`90%`, `120 %`), which plant people write as often as decimals.

@@ -16,7 +16,7 @@ use serde::de::{self, DeserializeOwned, IntoDeserializer, Visitor};
 use super::context::{Ctx, TableOrigin};
 use super::error::{ErrorKind, ScenarioError};
 use super::locate::FieldPath;
-use super::routing::BRANCH_SUM_TOLERANCE;
+use super::schema::BRANCH_SUM_TOLERANCE;
 use super::schema::{parse_factor, Ordered, Scenario, TableSpec};
 use super::table_read::{self, Row, Table};
 use super::words::type_error;

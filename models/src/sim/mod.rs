@@ -17,8 +17,8 @@ pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_s
 pub use stats::{Deadlock, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
-    Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule, LoadStart,
-    Plant, Setups, ShiftEnd,
+    AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
+    LoadStart, Plant, Setups, ShiftEnd,
 };
 use crate::travel::travel_time;
 
@@ -99,6 +99,16 @@ pub struct Plan {
     pub(crate) overload: overload::OverloadRule,
     /// Results per time bucket as well (`--by`); `None`: the whole window only.
     pub(crate) buckets: Option<crate::timebuckets::Grid>,
+    /// Some product has a random first operation or alternatives chosen by
+    /// the plant's state: lots go through `model/alternatives.rs`. When
+    /// false the handlers take exactly their paths of before.
+    pub(crate) alternatives: bool,
+    /// The rule of each group of alternatives, all products' in turn ([`PlanOp::group`]).
+    pub(crate) groups: Vec<AltRule>,
+    /// Per department: the shared queue of the first-free group it belongs to, or `u32::MAX`.
+    pub(crate) pool_of: Vec<u32>,
+    /// First-free groups' shared queues (one per set of departments).
+    pub(crate) n_pools: usize,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -143,6 +153,10 @@ pub(crate) struct PlanProduct {
     pub(crate) enters_at: usize,
     /// Fleets allowed to serve the move from the receiving dock to the first step.
     pub(crate) entry: FleetSet,
+    /// With a random first operation or alternatives at the first step:
+    /// (first operation, cumulative probability, fleets), as `PlanOp::next`;
+    /// empty otherwise (then `entry` serves operation 0).
+    pub(crate) first: Vec<(usize, f64, FleetSet)>,
     pub(crate) ops: Vec<PlanOp>,
     /// Lots in several unit loads: (quantity, transfer batch, start on the first load).
     pub(crate) split: Option<(u32, u32, bool)>,
@@ -157,6 +171,9 @@ pub(crate) struct PlanOp {
     /// shipping. The fleets sit beside the branch so that choosing one reads
     /// one cache line.
     pub(crate) next: Vec<(usize, f64, FleetSet)>,
+    /// The group of alternatives it belongs to (index into `Plan::groups`),
+    /// or `u32::MAX`. A branch list holds a group's operations side by side.
+    pub(crate) group: u32,
 }
 
 #[derive(Debug, Clone)]
@@ -271,8 +288,32 @@ impl Plan {
             FleetSet { start, len: fleet_sets.len() as u32 - start }
         };
         let mut products = Vec::with_capacity(plant.products.len());
+        let mut groups = Vec::new();
         for (p, prod) in plant.products.iter().enumerate() {
             let entry = set(p, prod.enters_at, prod.routing[0].department);
+            let mut group_of = vec![u32::MAX; prod.routing.len()];
+            for g in prod.alternatives.iter().filter(|g| g.rule.is_dynamic()) {
+                for &o in &g.ops {
+                    group_of[o] = groups.len() as u32;
+                }
+                groups.push(g.rule);
+            }
+            let plain_first = prod.first == [(0, 1.0)] && group_of[0] == u32::MAX;
+            let mut acc = 0.0;
+            let mut first: Vec<(usize, f64, FleetSet)> = if plain_first {
+                Vec::new()
+            } else {
+                prod.first
+                    .iter()
+                    .map(|&(j, pr)| {
+                        acc += pr;
+                        (j, acc, set(p, prod.enters_at, prod.routing[j].department))
+                    })
+                    .collect()
+            };
+            if let Some(last) = first.last_mut() {
+                last.1 = f64::INFINITY;
+            }
             let mut ops = Vec::with_capacity(prod.routing.len());
             for op in &prod.routing {
                 let mut acc = 0.0;
@@ -288,12 +329,14 @@ impl Plan {
                 if let Some(last) = next.last_mut() {
                     last.1 = f64::INFINITY;
                 }
-                ops.push(PlanOp { department: op.department, time: op.time.clone(), next });
+                let group = group_of[ops.len()];
+                ops.push(PlanOp { department: op.department, time: op.time.clone(), next, group });
             }
             products.push(PlanProduct {
                 arrivals: plan_arrivals(&prod.demand),
                 enters_at: prod.enters_at,
                 entry,
+                first,
                 ops,
                 split: prod
                     .lot
@@ -384,7 +427,12 @@ impl Plan {
             changes: d.changes(),
             on_at_start: d.on_at(0.0),
         };
+        let (pool_of, n_pools) = first_free_pools(plant);
         Plan {
+            alternatives: !groups.is_empty() || products.iter().any(|p| !p.first.is_empty()),
+            groups,
+            pool_of,
+            n_pools,
             buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),
@@ -459,6 +507,28 @@ impl Plan {
     pub(crate) fn dist(&self, a: usize, b: usize) -> f64 {
         self.distance[a * self.n_locations + b]
     }
+}
+
+/// Per department, its first-free group's shared queue (`u32::MAX`: none),
+/// and how many there are: one per set of departments (the loader allows a
+/// department in one such set only).
+fn first_free_pools(plant: &Plant) -> (Vec<u32>, usize) {
+    let mut pool_of = vec![u32::MAX; plant.departments.len()];
+    let mut sets: Vec<Vec<usize>> = Vec::new();
+    for prod in &plant.products {
+        for g in prod.alternatives.iter().filter(|g| g.rule == AltRule::FirstFree) {
+            let mut set: Vec<usize> = g.ops.iter().map(|&o| prod.routing[o].department).collect();
+            set.sort_unstable();
+            let k = sets.iter().position(|s| *s == set).unwrap_or_else(|| {
+                sets.push(set.clone());
+                sets.len() - 1
+            });
+            for d in set {
+                pool_of[d] = k as u32;
+            }
+        }
+    }
+    (pool_of, sets.len())
 }
 
 /// The arrival process of a product's demand.

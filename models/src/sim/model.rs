@@ -13,6 +13,7 @@ use super::{DutyCursor, FleetSet, Plan, PlanArrivals, RunSpec};
 use crate::plant::DepartmentRole;
 
 mod aisles;
+mod alternatives;
 mod breakdowns;
 mod buckets;
 mod calendars;
@@ -306,6 +307,8 @@ struct PlantModel<'a> {
     next_edge: f64,
     /// The tracer (`--trace`), or `None`: every hook is one branch on this.
     trace: Option<Box<trace::Tracer<'a>>>,
+    /// First-free's shared queues and shortest-queue's lots on their way (empty unless `Plan::alternatives`).
+    alt: alternatives::AltState,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -551,6 +554,7 @@ impl<'a> PlantModel<'a> {
             buckets: None,
             next_edge: f64::INFINITY,
             trace: None,
+            alt: alternatives::AltState::new(plan),
         }
     }
 
@@ -708,6 +712,10 @@ impl<'a> PlantModel<'a> {
         }
         self.wip.add(now, 1.0);
         self.departments[prod.enters_at].wip.add(now, 1.0);
+        if self.plan.alternatives {
+            self.enter_with_choice(id, p, cal);
+            return;
+        }
         self.route(id, 0, prod.entry, cal);
     }
 
@@ -798,6 +806,9 @@ impl<'a> PlantModel<'a> {
         if self.trace.is_some() {
             self.trace_arrive(id, now);
         }
+        if self.plan.alternatives && self.arrive_chosen(id, dept, cal) {
+            return;
+        }
         self.start_or_queue(id, cal);
     }
 
@@ -868,6 +879,10 @@ impl<'a> PlantModel<'a> {
             let u: f64 = lot.rng.random();
             op.next.iter().position(|&(_, cum, _)| u < cum).unwrap_or(op.next.len() - 1)
         };
+        if self.plan.alternatives {
+            self.end_with_choice(id, dept, machine, branch, cal);
+            return;
+        }
         let (next, _, fleets) = op.next[branch];
         if self.plan.staging || machine != NONE {
             self.leave_machine(id, dept, machine, next as u32, fleets, cal);

@@ -78,7 +78,11 @@ impl PlantModel<'_> {
             prev = id;
             self.departments[dock].wip.add(now, w);
         }
-        self.route(rec, 0, entry, cal);
+        if self.plan.alternatives {
+            self.enter_with_choice(rec, p, cal);
+        } else {
+            self.route(rec, 0, entry, cal);
+        }
     }
 
     /// Routing a lot record sends each of its loads to step `op`.
