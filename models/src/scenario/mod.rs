@@ -15,6 +15,7 @@ mod error;
 mod fleet;
 mod locate;
 mod operators;
+mod queueing;
 mod routing;
 mod schema;
 mod search;

@@ -83,7 +83,17 @@ pub(crate) fn products(
             None => None,
             Some(l) => Some(super::work::lot(l, &spec.id, &pp, ctx)?),
         };
-        out.push(Product { id: spec.id.clone(), demand, enters_at, routing, weight_kg, lot });
+        let (priority, due_within_s) = super::queueing::product_terms(s, i, ctx)?;
+        out.push(Product {
+            id: spec.id.clone(),
+            demand,
+            enters_at,
+            routing,
+            weight_kg,
+            lot,
+            priority,
+            due_within_s,
+        });
     }
     Ok(out)
 }
