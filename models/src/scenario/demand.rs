@@ -704,8 +704,8 @@ mod tests {
         assert_eq!(
             orders,
             [
-                Order { time_s: 5400.0, product: 0, quantity: 2 },
-                Order { time_s: 7200.0, product: 1, quantity: 1 }
+                Order { time_s: 5400.0, product: 0, quantity: 2, due_s: None },
+                Order { time_s: 7200.0, product: 1, quantity: 1, due_s: None }
             ]
         );
         assert_eq!(lines, [4, 6], "file lines, comments and blank lines counted");
@@ -745,9 +745,9 @@ mod tests {
         assert_eq!(
             orders,
             [
-                Order { time_s: 22_500.0, product: 0, quantity: 2 },
-                Order { time_s: 25_230.0, product: 1, quantity: 1 },
-                Order { time_s: 90_000.0, product: 1, quantity: 3 }
+                Order { time_s: 22_500.0, product: 0, quantity: 2, due_s: None },
+                Order { time_s: 25_230.0, product: 1, quantity: 1, due_s: None },
+                Order { time_s: 90_000.0, product: 1, quantity: 3, due_s: None }
             ]
         );
         assert_eq!(lines, [2, 3, 4]);

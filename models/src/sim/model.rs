@@ -2,8 +2,6 @@
 
 use std::collections::VecDeque;
 
-use queues::LotQueue;
-
 use layflow_engine::{run_until, stream, Calendar, Model, Stream, Tally, TickHistogram, TimeWeighted};
 use rand::RngExt;
 use rand_distr::Exp1;
@@ -183,7 +181,7 @@ struct Machine {
 struct Department {
     /// Machines holding a lot (processing it, interrupted, or blocked).
     busy: u32,
-    queue: LotQueue,
+    queue: queues::LotQueue,
     wip: TimeWeighted,
     /// Machines processing (not blocked, not down).
     busy_level: TimeWeighted,
@@ -448,7 +446,7 @@ impl<'a> PlantModel<'a> {
                 }
                 Department {
                     busy: 0,
-                    queue: LotQueue::new(plan.queue_order[d] != crate::plant::QueueOrder::Fifo),
+                    queue: queues::LotQueue::new(plan.queue_order[d] != crate::plant::QueueOrder::Fifo),
                     wip: TimeWeighted::new(0.0),
                     busy_level: TimeWeighted::new(0.0),
                     queue_level: TimeWeighted::new(0.0),
