@@ -780,6 +780,28 @@ mod tests {
         assert!(run_start("2026-03-02 00:00").is_ok());
     }
 
+    #[test]
+    fn a_due_column_is_read_as_the_time_column_is() {
+        // Durations; an empty cell leaves the order without a due date.
+        let (orders, _) = read_orders(
+            "time,product,quantity,due\n1 h,bracket,2,8 h\n2 h,hinge,1,\n",
+            IDS,
+            TimeColumn::Durations,
+        )
+        .unwrap();
+        assert_eq!((orders[0].due_s, orders[1].due_s), (Some(28_800.0), None));
+        // Date-times with `orders.start`, any column order, `;` cells.
+        let text = "Due;Time;Product;Quantity\n2026-03-04 14:00;2026-03-02 06:00;bracket;1\n";
+        let (orders, _) = read_orders(text, IDS, since("2026-03-02T00:00")).unwrap();
+        assert_eq!((orders[0].time_s, orders[0].due_s), (21_600.0, Some(2.0 * 86_400.0 + 14.0 * 3600.0)));
+        // Due before the release: refused at its line and column.
+        let (l, c, m, _) =
+            read_orders("time,product,quantity,due\n3 h,bracket,1,2 h\n", IDS, TimeColumn::Durations)
+                .unwrap_err();
+        assert_eq!((l, c), (Some(2), Some("due")));
+        assert!(m.contains("before it is released"), "{m}");
+    }
+
     fn err_full(text: &str) -> FileError {
         read_orders(text, IDS, TimeColumn::Durations).unwrap_err()
     }
