@@ -181,6 +181,38 @@ pub struct Department {
     pub setups: Option<Setups>,
     /// The floor area the department needs (`area`, `size`); `None` when not given.
     pub footprint: Option<Footprint>,
+    /// Which waiting lot a free machine takes next (the plant's `queue_order`
+    /// unless the department gives its own).
+    pub queue_order: QueueOrder,
+}
+
+/// Which waiting lot is served next: at a department, the lot a free machine
+/// takes; at a fleet, the move request a free mover takes. Non-preemptive:
+/// a lot in process is never interrupted for a more urgent one.
+#[derive(Debug, Clone, Copy, PartialEq, Eq, Default)]
+pub enum QueueOrder {
+    /// First in, first out (the default).
+    #[default]
+    Fifo,
+    /// The product's `priority`, smallest number first (1 before 2); products
+    /// without one after every product with one; first in first out among equals.
+    Priority,
+    /// The lot's due date, earliest first; lots without one last.
+    EarliestDue,
+    /// The operation's expected processing time, shortest first (departments only).
+    ShortestTime,
+}
+
+impl QueueOrder {
+    /// The word the scenario uses.
+    pub fn word(self) -> &'static str {
+        match self {
+            QueueOrder::Fifo => "fifo",
+            QueueOrder::Priority => "priority",
+            QueueOrder::EarliestDue => "earliest-due",
+            QueueOrder::ShortestTime => "shortest-time",
+        }
+    }
 }
 
 // Written out for the reason given at `Location`'s: no footprint, the debug text of before.
@@ -197,6 +229,9 @@ impl fmt::Debug for Department {
             .field("setups", &self.setups);
         if let Some(fp) = &self.footprint {
             s.field("footprint", fp);
+        }
+        if self.queue_order != QueueOrder::Fifo {
+            s.field("queue_order", &self.queue_order);
         }
         s.finish()
     }
@@ -391,11 +426,16 @@ pub struct Product {
     /// operation of `routing` of its own, reached by branches that carry the
     /// expected shares; empty when the routing names none.
     pub alternatives: Vec<Alternatives>,
+    /// Rank under [`QueueOrder::Priority`]: 1 is served first; `None`: after every ranked product.
+    pub priority: Option<u32>,
+    /// Each lot is due this long after its release (`due: { within: 3 d }`), s;
+    /// `None`: no allowance (a trace order may still give its own due date).
+    pub due_within_s: Option<f64>,
 }
 
-// Written out so that a product without a random first operation or
-// alternatives prints as before they existed (an experiment's content hash
-// covers the plant's debug text; see `Location`'s).
+// Written out so that a product without a random first operation,
+// alternatives, a priority or a due date prints as before they existed (an
+// experiment's content hash covers the plant's debug text; see `Location`'s).
 impl fmt::Debug for Product {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         let mut s = f.debug_struct("Product");
@@ -410,6 +450,12 @@ impl fmt::Debug for Product {
         }
         if !self.alternatives.is_empty() {
             s.field("alternatives", &self.alternatives);
+        }
+        if let Some(p) = &self.priority {
+            s.field("priority", p);
+        }
+        if let Some(d) = &self.due_within_s {
+            s.field("due_within_s", d);
         }
         s.finish()
     }
@@ -515,7 +561,7 @@ pub struct OrderTrace {
 }
 
 /// One line of an order trace.
-#[derive(Debug, Clone, Copy, PartialEq)]
+#[derive(Clone, Copy, PartialEq)]
 pub struct Order {
     /// Seconds from the start of the run (of each play of the trace, with `repeat`).
     pub time_s: f64,
@@ -524,6 +570,22 @@ pub struct Order {
     /// Lots released at once at the product's receiving dock (at least 1),
     /// before the demand factor.
     pub quantity: u32,
+    /// When the order's lots are due, s from the start of the run (of each
+    /// play, with `repeat`), from the trace's `due` column; never before
+    /// `time_s`. `None`: the product's allowance, if it has one.
+    pub due_s: Option<f64>,
+}
+
+// Written out for the reason given at `Location`'s: without a due column, the debug text of before.
+impl fmt::Debug for Order {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Order");
+        s.field("time_s", &self.time_s).field("product", &self.product).field("quantity", &self.quantity);
+        if let Some(d) = &self.due_s {
+            s.field("due_s", d);
+        }
+        s.finish()
+    }
 }
 
 /// One step of a routing.
@@ -666,7 +728,7 @@ pub enum Home {
 }
 
 /// A fleet of identical movers.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Clone, PartialEq)]
 pub struct Fleet {
     /// The scenario's name for it.
     pub id: String,
@@ -710,6 +772,43 @@ pub struct Fleet {
     pub breakdowns: Option<Breakdowns>,
     /// Battery charge cycle; `None`: no charging.
     pub charging: Option<Charging>,
+    /// Which waiting move request a free mover takes (`requests`): first in
+    /// first out, by priority or by due date ([`QueueOrder::ShortestTime`] is refused).
+    /// Under `dispatch: nearest-request` the nearest pick-up comes first whatever this is.
+    pub request_order: QueueOrder,
+}
+
+// Written out for the reason given at `Location`'s: a fleet with the default
+// request order prints the debug text of before.
+impl fmt::Debug for Fleet {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Fleet");
+        s.field("id", &self.id)
+            .field("kind", &self.kind)
+            .field("count", &self.count)
+            .field("speed_loaded", &self.speed_loaded)
+            .field("speed_empty", &self.speed_empty)
+            .field("load_s", &self.load_s)
+            .field("unload_s", &self.unload_s)
+            .field("cost_per_h", &self.cost_per_h)
+            .field("cost_per_km", &self.cost_per_km)
+            .field("home", &self.home)
+            .field("dispatch", &self.dispatch)
+            .field("idle", &self.idle)
+            .field("carries", &self.carries)
+            .field("accel", &self.accel)
+            .field("serves", &self.serves)
+            .field("max_load_kg", &self.max_load_kg)
+            .field("capacity", &self.capacity)
+            .field("parking", &self.parking)
+            .field("operators", &self.operators)
+            .field("breakdowns", &self.breakdowns)
+            .field("charging", &self.charging);
+        if self.request_order != QueueOrder::Fifo {
+            s.field("request_order", &self.request_order);
+        }
+        s.finish()
+    }
 }
 
 impl Fleet {
@@ -805,6 +904,13 @@ impl Plant {
     /// Builds a list: for compiling and the static picture, not the hot loop.
     pub fn fleets_for_move(&self, product: usize, from: usize, to: usize) -> Vec<usize> {
         (0..self.fleets().len()).filter(|&f| self.fleet_may_serve(f, product, from, to)).collect()
+    }
+
+    /// Some lot has a due date (a product's `due`, or the order trace's `due`
+    /// column): the due-date metrics are reported.
+    pub fn has_due_dates(&self) -> bool {
+        self.products.iter().any(|p| p.due_within_s.is_some())
+            || self.orders.as_ref().is_some_and(|t| t.orders.iter().any(|o| o.due_s.is_some()))
     }
 
     /// The fleets (empty for instant handling).

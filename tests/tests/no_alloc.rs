@@ -11,6 +11,7 @@ use std::path::Path;
 use std::sync::atomic::{AtomicU64, Ordering};
 
 use layflow_models::load_scenario;
+use layflow_models::plant::{DepartmentRole, Handling, Plant, QueueOrder};
 use layflow_models::sim::{simulate, Plan, RunSpec};
 use layflow_models::timebuckets::{By, Grid};
 
@@ -47,6 +48,9 @@ fn allocations_do_not_grow_with_the_horizon() {
     // block after service (deadlock detection runs each time a wait begins).
     // The alternatives plant chooses departments by shortest-queue,
     // least-work and first-free (shared queues) and branches from the dock.
+    // The demo again with every queue order and due dates: ordered queues
+    // are heaps that grow to their largest length, like the plain ones.
+    let mut plants: Vec<(String, Plant)> = Vec::new();
     for name in [
         "demo.yaml",
         "orders-demo.yaml",
@@ -57,7 +61,11 @@ fn allocations_do_not_grow_with_the_horizon() {
         "validation/alt-movers.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
-        let plant = load_scenario(&path).unwrap();
+        plants.push((name.to_string(), load_scenario(&path).unwrap()));
+    }
+    let demo = plants[0].1.clone();
+    plants.push(("demo.yaml with queue orders and due dates".into(), with_queue_orders(demo)));
+    for (name, plant) in plants {
         // Results by hour of day (24 fixed buckets) must not grow with the horizon either.
         let hours = Grid::new(&By::HourOfDay, &plant, 86400.0, 10.0 * 86400.0).unwrap();
         for (plan, by) in
@@ -90,4 +98,25 @@ fn allocations_do_not_grow_with_the_horizon() {
         );
         }
     }
+}
+
+/// `plant` with a queue order on every work department (priority, earliest
+/// due, shortest time in turn), a priority and a due allowance of one day on
+/// every product, and fleets serving requests earliest due first.
+fn with_queue_orders(mut plant: Plant) -> Plant {
+    let orders = [QueueOrder::Priority, QueueOrder::EarliestDue, QueueOrder::ShortestTime];
+    let work = plant.departments.iter_mut().filter(|d| d.role == DepartmentRole::Work);
+    for (k, d) in work.enumerate() {
+        d.queue_order = orders[k % orders.len()];
+    }
+    for (k, p) in plant.products.iter_mut().enumerate() {
+        p.priority = Some(k as u32 % 3 + 1);
+        p.due_within_s = Some(86400.0);
+    }
+    if let Handling::Fleets(fleets) = &mut plant.handling {
+        for f in fleets {
+            f.request_order = QueueOrder::EarliestDue;
+        }
+    }
+    plant
 }

@@ -116,6 +116,13 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 ),
             ]);
         }
+        if let Some(d) = &l.due {
+            let u = unit_for([d.tardiness_s.mean, d.lateness_s.mean, d.lateness_p95_s.mean]);
+            t.row(vec!["late".into(), pct(&d.late_share), "lots shipped after their due date".into()]);
+            t.row(vec!["tardiness".into(), dur_in(&d.tardiness_s, u), "on-time lots count 0".into()]);
+            t.row(vec!["lateness".into(), dur_in(&d.lateness_s, u), "negative: early".into()]);
+            t.row(vec!["lateness p95".into(), dur_in(&d.lateness_p95_s, u), String::new()]);
+        }
         if let Some(o) = &l.overflow_moves_per_h {
             let _ = writeln!(s, "  loads taken to overflow areas: {} /h", pm(o, 1.0));
         }
@@ -124,14 +131,32 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         }
         s.push_str(&t.render(2));
 
-        let mut t = Table::new(&["product", "throughput (lots/h)", "flow time"]);
+        let due = l.products.iter().any(|p| p.due.is_some());
+        let mut header = vec!["product", "throughput (lots/h)", "flow time"];
+        if due {
+            header.extend(["late", "tardiness", "lateness", "lateness p95"]);
+        }
+        let mut t = Table::new(&header);
         let flow_u = unit_for(l.products.iter().map(|p| p.flow_time_s.mean));
+        let due_u = unit_for(l.products.iter().filter_map(|p| p.due.as_ref()).map(|d| d.lateness_p95_s.mean));
         for p in &l.products {
-            t.row(vec![
+            let mut row = vec![
                 p.product.clone(),
                 pm(&p.throughput_per_h, 1.0),
                 dur_in(&p.flow_time_s, flow_u) + &coverage(p.flow_time_s.n, out.replications),
-            ]);
+            ];
+            if due {
+                match &p.due {
+                    Some(d) => row.extend([
+                        pct(&d.late_share),
+                        dur_in(&d.tardiness_s, due_u),
+                        dur_in(&d.lateness_s, due_u),
+                        dur_in(&d.lateness_p95_s, due_u),
+                    ]),
+                    None => row.extend(["-".to_string(), "-".into(), "-".into(), "-".into()]),
+                }
+            }
+            t.row(row);
         }
         s.push('\n');
         s.push_str(&t.render(2));

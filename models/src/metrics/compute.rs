@@ -9,7 +9,7 @@
 use layflow_engine::Tally;
 
 use crate::plant::Plant;
-use crate::sim::RepStats;
+use crate::sim::{DueStats, RepStats};
 
 use super::registry::Id;
 
@@ -19,6 +19,17 @@ pub fn observed(t: &Tally) -> f64 {
         f64::NAN
     } else {
         t.mean()
+    }
+}
+
+/// The due-date figures of every lot (`None`) or of product `p`; `None`
+/// when the replication kept none (a plant without due dates, or a
+/// replication stopped early).
+fn due(r: &RepStats, p: Option<usize>) -> Option<&DueStats> {
+    let set = r.due.as_deref()?;
+    match p {
+        None => Some(&set.all),
+        Some(p) => set.product.get(p),
     }
 }
 
@@ -65,6 +76,14 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
         Id::CongestionDelay => per_h(r.segments.iter().map(|g| g.delay_s).sum(), r),
         Id::FlowTimeQuantile(p) => quantile(&r.flow_hist, p.q()),
         Id::MoveWaitQuantile(p) => quantile(&r.move_wait_hist, p.q()),
+        Id::LateShare => due(r, None).map_or(f64::NAN, DueStats::late_share),
+        Id::Tardiness => due(r, None).map_or(f64::NAN, |d| observed(&d.tardiness)),
+        Id::Lateness => due(r, None).map_or(f64::NAN, |d| observed(&d.lateness)),
+        Id::LatenessP95 => due(r, None).map_or(f64::NAN, |d| d.lateness_quantile(0.95)),
+        Id::ProductLateShare => due(r, Some(i)).map_or(f64::NAN, DueStats::late_share),
+        Id::ProductTardiness => due(r, Some(i)).map_or(f64::NAN, |d| observed(&d.tardiness)),
+        Id::ProductLateness => due(r, Some(i)).map_or(f64::NAN, |d| observed(&d.lateness)),
+        Id::ProductLatenessP95 => due(r, Some(i)).map_or(f64::NAN, |d| d.lateness_quantile(0.95)),
         Id::ProductThroughput => per_h(r.shipped[i] as f64, r),
         Id::ProductFlowTime => observed(&r.flow_time[i]),
         Id::DepartmentWip => r.wip_department[i],

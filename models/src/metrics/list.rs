@@ -19,6 +19,8 @@ pub struct Features {
     pub turn_away: bool,
     /// The aisle network is simulated segment by segment (a capacity, a speed limit or a zone).
     pub aisles: bool,
+    /// Some lot has a due date.
+    pub due: bool,
 }
 
 impl Features {
@@ -29,6 +31,7 @@ impl Features {
             overflow: plant.departments.iter().any(|d| d.staging.overflow.is_some()),
             turn_away: plant.run.allow_overload || plant.departments.iter().any(|d| d.turn_away),
             aisles: plant.aisles.as_ref().is_some_and(|n| n.needs_simulation()),
+            due: plant.has_due_dates(),
         }
     }
 }
@@ -49,8 +52,17 @@ fn applies(plant: &Plant, f: &Features, d: &Def, i: usize) -> bool {
         (When::Calendar, Scope::Department) => plant.departments[i].calendar.is_some(),
         (When::Calendar, Scope::Fleet) => plant.fleets()[i].operators.duty.is_some(),
         (When::Setups, Scope::Department) => plant.departments[i].setups.is_some(),
+        (When::DueDates, Scope::Plant) => f.due,
+        (When::DueDates, Scope::Product) => product_has_due_dates(plant, i),
         _ => false,
     }
+}
+
+/// Whether product `p`'s lots have due dates: its own allowance, or a due
+/// date on one of its trace orders.
+pub fn product_has_due_dates(plant: &Plant, p: usize) -> bool {
+    plant.products[p].due_within_s.is_some()
+        || plant.orders.as_ref().is_some_and(|t| t.orders.iter().any(|o| o.product == p && o.due_s.is_some()))
 }
 
 /// One metric of one plant: a registry row and its subject.

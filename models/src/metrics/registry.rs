@@ -125,6 +125,8 @@ pub enum When {
     Calendar,
     /// The department has setups.
     Setups,
+    /// Some lot has a due date (the plant); the product's lots have one (a product).
+    DueDates,
 }
 
 /// Every metric, one variant each: the key [`crate::metrics::value`] computes.
@@ -146,8 +148,16 @@ pub enum Id {
     CongestionDelay,
     FlowTimeQuantile(Percentile),
     MoveWaitQuantile(Percentile),
+    LateShare,
+    Tardiness,
+    Lateness,
+    LatenessP95,
     ProductThroughput,
     ProductFlowTime,
+    ProductLateShare,
+    ProductTardiness,
+    ProductLateness,
+    ProductLatenessP95,
     DepartmentWip,
     DepartmentUtilization,
     DepartmentQueue,
@@ -316,11 +326,27 @@ pub const DEFS: &[Def] = &[
         "the replication's 95th-percentile wait for a mover, every fleet"),
     extra(Id::MoveWaitQuantile(Percentile::P99), Plant, "move_wait_p99_s", "wait p99", Seconds, Lower,
         "the replication's 99th-percentile wait for a mover, every fleet"),
+    def(Id::LateShare, Plant, "late_share", "late", Share, Lower, When::DueDates,
+        "lots with a due date shipped in the window after it ÷ lots with a due date shipped in the window"),
+    def(Id::Tardiness, Plant, "tardiness_s", "tardiness", Seconds, Lower, When::DueDates,
+        "mean of max(shipped − due, 0) over the lots with a due date shipped in the window (on-time lots count 0)"),
+    def(Id::Lateness, Plant, "lateness_s", "lateness", Seconds, Lower, When::DueDates,
+        "mean of shipped − due over the lots with a due date shipped in the window (negative: early on average)"),
+    def(Id::LatenessP95, Plant, "lateness_p95_s", "lateness p95", Seconds, Lower, When::DueDates,
+        "the replication's 95th-percentile of shipped − due (negative: 95% of lots shipped that early or more)"),
     // Each product.
     def(Id::ProductThroughput, Product, "throughput_per_h", "throughput (lots/h)", PerHour, Higher, When::Always,
         "the product's lots shipped in the window ÷ window hours"),
     def(Id::ProductFlowTime, Product, "flow_time_s", "flow time", Seconds, Lower, When::Always,
         "mean flow time of the product's lots shipped in the window"),
+    def(Id::ProductLateShare, Product, "late_share", "late", Share, Lower, When::DueDates,
+        "the product's lots shipped in the window after their due date ÷ its lots with a due date shipped"),
+    def(Id::ProductTardiness, Product, "tardiness_s", "tardiness", Seconds, Lower, When::DueDates,
+        "mean of max(shipped − due, 0) over the product's lots with a due date shipped in the window"),
+    def(Id::ProductLateness, Product, "lateness_s", "lateness", Seconds, Lower, When::DueDates,
+        "mean of shipped − due over the product's lots with a due date shipped in the window"),
+    def(Id::ProductLatenessP95, Product, "lateness_p95_s", "lateness p95", Seconds, Lower, When::DueDates,
+        "the replication's 95th-percentile of shipped − due over the product's lots with a due date"),
     // Each department.
     def(Id::DepartmentWip, Department, "wip_mean", "WIP (lots)", Count, Lower, When::Always,
         "time-average lots at the department (queued, in process, or waiting for a mover)"),

@@ -21,7 +21,7 @@ use crate::timebuckets::Grid;
 use super::by_bucket::{bucket_values, BucketAccumulator, BucketSummary};
 use super::compute::value;
 use super::estimate::{with_hist, DurationEstimate, Estimate, Moments};
-use super::list::Features;
+use super::list::{product_has_due_dates, Features};
 use super::registry::Id;
 
 /// Per-product results.
@@ -33,6 +33,23 @@ pub struct ProductSummary {
     pub throughput_per_h: Estimate,
     /// Mean flow time from receiving to shipping, s.
     pub flow_time_s: Estimate,
+    /// Lateness against due dates; present when the product's lots have due dates.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub due: Option<DueSummary>,
+}
+
+/// Lateness against due dates, under the registry's names (`late_share`,
+/// `tardiness_s`, `lateness_s`, `lateness_p95_s`), each across replications.
+#[derive(Debug, Clone, Serialize)]
+pub struct DueSummary {
+    /// Share of lots shipped after their due date.
+    pub late_share: Estimate,
+    /// Mean tardiness, s (on-time lots count 0).
+    pub tardiness_s: Estimate,
+    /// Mean lateness, s (negative: early on average).
+    pub lateness_s: Estimate,
+    /// The replications' 95th-percentile lateness, s, averaged.
+    pub lateness_p95_s: Estimate,
 }
 
 /// Per-department results.
@@ -203,6 +220,9 @@ pub struct LayoutSummary {
     /// Results by time bucket and the peak; present with `--by`.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub by_bucket: Option<BucketSummary>,
+    /// Lateness against due dates, every lot with one; present when some lot has a due date.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub due: Option<DueSummary>,
 }
 
 /// Summarise the replications of layout `spec.layout` (all held in memory;
@@ -358,6 +378,12 @@ impl<'a> LayoutAccumulator<'a> {
                     product: prod.id.clone(),
                     throughput_per_h: of(Id::ProductThroughput, p),
                     flow_time_s: of(Id::ProductFlowTime, p),
+                    due: product_has_due_dates(plant, p).then(|| DueSummary {
+                        late_share: of(Id::ProductLateShare, p),
+                        tardiness_s: of(Id::ProductTardiness, p),
+                        lateness_s: of(Id::ProductLateness, p),
+                        lateness_p95_s: of(Id::ProductLatenessP95, p),
+                    }),
                 })
                 .collect(),
             departments: plant
@@ -420,6 +446,12 @@ impl<'a> LayoutAccumulator<'a> {
             congestion_delay_s_per_h: features.aisles.then(|| of(Id::CongestionDelay, 0)),
             segments: self.segment_summaries(),
             by_bucket: self.by.as_ref().map(BucketAccumulator::finish),
+            due: features.due.then(|| DueSummary {
+                late_share: of(Id::LateShare, 0),
+                tardiness_s: of(Id::Tardiness, 0),
+                lateness_s: of(Id::Lateness, 0),
+                lateness_p95_s: of(Id::LatenessP95, 0),
+            }),
         }
     }
 
@@ -469,8 +501,17 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
         (features.aisles, Id::CongestionDelay),
     ];
     out.extend(plant_extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, 0)));
+    if features.due {
+        out.extend([Id::LateShare, Id::Tardiness, Id::Lateness, Id::LatenessP95].map(|id| (id, 0)));
+    }
     for p in 0..plant.products.len() {
         out.extend([(Id::ProductThroughput, p), (Id::ProductFlowTime, p)]);
+        if product_has_due_dates(plant, p) {
+            out.extend(
+                [Id::ProductLateShare, Id::ProductTardiness, Id::ProductLateness, Id::ProductLatenessP95]
+                    .map(|id| (id, p)),
+            );
+        }
     }
     for (d, dep) in plant.departments.iter().enumerate() {
         out.extend([(Id::DepartmentWip, d), (Id::DepartmentUtilization, d), (Id::DepartmentQueue, d)]);

@@ -27,6 +27,10 @@ use crate::units::{format_duration, parse_duration};
 
 /// The columns of an order trace, in the order the messages list them.
 const COLUMNS: [&str; 3] = ["time", "product", "quantity"];
+/// The optional fourth column: when the order is due, written as its time is.
+const DUE: &str = "due";
+/// Every column a trace may have: the three it must, and `due`.
+const ALL_COLUMNS: [&str; 4] = ["time", "product", "quantity", DUE];
 
 /// The fields demand may be given in, one per product.
 const PERIODS: [&str; 5] = ["per_hour", "per_shift", "per_day", "per_week", "per_month"];
@@ -419,8 +423,8 @@ fn separator(text: &str) -> u8 {
         .into_iter()
         .find(|&d| {
             let cells: Vec<&str> = header.split(char::from(d)).map(str::trim).collect();
-            cells.len() == COLUMNS.len()
-                && cells.iter().all(|c| COLUMNS.iter().any(|n| n.eq_ignore_ascii_case(c)))
+            (cells.len() == COLUMNS.len() || cells.len() == ALL_COLUMNS.len())
+                && cells.iter().all(|c| ALL_COLUMNS.iter().any(|n| n.eq_ignore_ascii_case(c)))
         })
         .unwrap_or(b',')
 }
@@ -465,13 +469,13 @@ pub(crate) fn read_orders(
     if header.is_empty() || header.iter().all(str::is_empty) {
         return Err((None, None, "the file is empty".into(), header_hint()));
     }
-    let mut col = [usize::MAX; 3];
+    let mut col = [usize::MAX; 4];
     for (c, name) in header.iter().enumerate() {
-        let Some(k) = COLUMNS.iter().position(|n| n.eq_ignore_ascii_case(name)) else {
+        let Some(k) = ALL_COLUMNS.iter().position(|n| n.eq_ignore_ascii_case(name)) else {
             return Err((
                 header_line,
                 None,
-                format!("unknown column \"{name}\"{}", did_you_mean(name, COLUMNS.iter().copied())),
+                format!("unknown column \"{name}\"{}", did_you_mean(name, ALL_COLUMNS.iter().copied())),
                 header_hint(),
             ));
         };
@@ -480,7 +484,7 @@ pub(crate) fn read_orders(
         }
         col[k] = c;
     }
-    if let Some(k) = col.iter().position(|&c| c == usize::MAX) {
+    if let Some(k) = col[..COLUMNS.len()].iter().position(|&c| c == usize::MAX) {
         return Err((
             header_line,
             None,
@@ -497,11 +501,11 @@ pub(crate) fn read_orders(
         if !more.map_err(|e| (Some(line), None, format!("{e}"), None))? {
             break;
         }
-        if rec.len() != COLUMNS.len() {
+        if rec.len() != header.len() {
             return Err((
                 Some(line),
                 None,
-                format!("{} cells; expected 3 ({shown_header})", rec.len()),
+                format!("{} cells; expected {} ({shown_header})", rec.len(), header.len()),
                 None,
             ));
         }
@@ -512,7 +516,8 @@ pub(crate) fn read_orders(
     let number_cells = |r: &csv::StringRecord| {
         let q = (COLUMNS[2], r[col[2]].to_string());
         let t = durations.then(|| (COLUMNS[0], r[col[0]].to_string()));
-        std::iter::once(q).chain(t)
+        let due = (durations && col[3] != usize::MAX).then(|| (DUE, r[col[3]].to_string()));
+        std::iter::once(q).chain(t).chain(due)
     };
     let comma_at = if sep == b',' {
         None
@@ -540,12 +545,14 @@ pub(crate) fn read_orders(
     for (line, rec) in &rows {
         let (line, at) = (*line, Some(*line));
         let (t, p, q) = (&rec[col[0]], &rec[col[1]], &rec[col[2]]);
-        let time_s = match times {
-            TimeColumn::Durations => {
-                if looks_like_date(t) {
-                    return Err((
+        // A time cell (`time`, or `due`) in run seconds.
+        let run_time = |t: &str, column: &'static str| -> Result<f64, FileError> {
+            Ok(match times {
+                TimeColumn::Durations => {
+                    if looks_like_date(t) {
+                        return Err((
                         at,
-                        Some(COLUMNS[0]),
+                        Some(column),
                         format!("\"{t}\" is a date-time, but the scenario gives no `orders.start`"),
                         Some(
                             "say which instant is time 0 of the run: `orders: { file: ..., start: 2026-03-02T00:00 }` \
@@ -553,39 +560,62 @@ pub(crate) fn read_orders(
                                 .into(),
                         ),
                     ));
+                    }
+                    let time_s = parse_duration(&decimal(t))
+                        .map_err(|e| (at, Some(column), format!("{column}: {e}"), None))?;
+                    if time_s < 0.0 {
+                        return Err((
+                            at,
+                            Some(column),
+                            format!("{column} {t} is before the start of the run"),
+                            None,
+                        ));
+                    }
+                    time_s
                 }
-                let time_s = parse_duration(&decimal(t))
-                    .map_err(|e| (at, Some(COLUMNS[0]), format!("time: {e}"), None))?;
-                if time_s < 0.0 {
+                TimeColumn::Since(start) => {
+                    let dt = parse_datetime(t).map_err(|e| (at, Some(column), e, None))?;
+                    if dt.offset_s.is_some() && start.offset_s.is_none() {
+                        return Err((
+                            at,
+                            Some(column),
+                            format!("\"{t}\" carries a UTC offset, but `orders.start` has none"),
+                            Some(
+                                "give the start its offset too, e.g. `start: 2026-03-02T00:00+01:00`".into(),
+                            ),
+                        ));
+                    }
+                    let time_s = dt.on_clock(start.offset_s) - start.local_s;
+                    if time_s < 0.0 {
+                        return Err((
+                            at,
+                            Some(column),
+                            format!("{t} is before `orders.start` ({})", format_duration(-time_s)),
+                            Some(
+                                "move `orders.start` earlier (to a Monday at 00:00), or drop the order"
+                                    .into(),
+                            ),
+                        ));
+                    }
+                    limits::check_duration(t, time_s).map_err(|m| (at, Some(column), m, None))?
+                }
+            })
+        };
+        let time_s = run_time(t, COLUMNS[0])?;
+        let due_s = match col[3] {
+            usize::MAX => None,
+            c if rec[c].is_empty() => None,
+            c => {
+                let due_s = run_time(&rec[c], DUE)?;
+                if due_s < time_s {
                     return Err((
                         at,
-                        Some(COLUMNS[0]),
-                        format!("time {t} is before the start of the run"),
-                        None,
+                        Some(DUE),
+                        format!("the order is due at {}, before it is released at {t}", &rec[c]),
+                        Some("a due date is on or after the order's time; check the two columns are not swapped".into()),
                     ));
                 }
-                time_s
-            }
-            TimeColumn::Since(start) => {
-                let dt = parse_datetime(t).map_err(|e| (at, Some(COLUMNS[0]), e, None))?;
-                if dt.offset_s.is_some() && start.offset_s.is_none() {
-                    return Err((
-                        at,
-                        Some(COLUMNS[0]),
-                        format!("\"{t}\" carries a UTC offset, but `orders.start` has none"),
-                        Some("give the start its offset too, e.g. `start: 2026-03-02T00:00+01:00`".into()),
-                    ));
-                }
-                let time_s = dt.on_clock(start.offset_s) - start.local_s;
-                if time_s < 0.0 {
-                    return Err((
-                        at,
-                        Some(COLUMNS[0]),
-                        format!("{t} is before `orders.start` ({})", format_duration(-time_s)),
-                        Some("move `orders.start` earlier (to a Monday at 00:00), or drop the order".into()),
-                    ));
-                }
-                limits::check_duration(t, time_s).map_err(|m| (at, Some(COLUMNS[0]), m, None))?
+                Some(due_s)
             }
         };
         if let Some((before, before_line)) = previous {
@@ -611,7 +641,7 @@ pub(crate) fn read_orders(
             )
         })?;
         let quantity = quantity(&decimal(q), q).map_err(|m| (at, Some(COLUMNS[2]), m, None))?;
-        orders.push(Order { time_s, product, quantity });
+        orders.push(Order { time_s, product, quantity, due_s });
         lines.push(line);
     }
     if orders.is_empty() {
@@ -674,8 +704,8 @@ mod tests {
         assert_eq!(
             orders,
             [
-                Order { time_s: 5400.0, product: 0, quantity: 2 },
-                Order { time_s: 7200.0, product: 1, quantity: 1 }
+                Order { time_s: 5400.0, product: 0, quantity: 2, due_s: None },
+                Order { time_s: 7200.0, product: 1, quantity: 1, due_s: None }
             ]
         );
         assert_eq!(lines, [4, 6], "file lines, comments and blank lines counted");
@@ -715,9 +745,9 @@ mod tests {
         assert_eq!(
             orders,
             [
-                Order { time_s: 22_500.0, product: 0, quantity: 2 },
-                Order { time_s: 25_230.0, product: 1, quantity: 1 },
-                Order { time_s: 90_000.0, product: 1, quantity: 3 }
+                Order { time_s: 22_500.0, product: 0, quantity: 2, due_s: None },
+                Order { time_s: 25_230.0, product: 1, quantity: 1, due_s: None },
+                Order { time_s: 90_000.0, product: 1, quantity: 3, due_s: None }
             ]
         );
         assert_eq!(lines, [2, 3, 4]);
@@ -748,6 +778,28 @@ mod tests {
         assert!(run_start("2026-03-04T00:00").unwrap_err().1.contains("start: 2026-03-02T00:00"));
         assert!(run_start("2026-03-02T06:00").unwrap_err().0.contains("a Monday at 06:00"));
         assert!(run_start("2026-03-02 00:00").is_ok());
+    }
+
+    #[test]
+    fn a_due_column_is_read_as_the_time_column_is() {
+        // Durations; an empty cell leaves the order without a due date.
+        let (orders, _) = read_orders(
+            "time,product,quantity,due\n1 h,bracket,2,8 h\n2 h,hinge,1,\n",
+            IDS,
+            TimeColumn::Durations,
+        )
+        .unwrap();
+        assert_eq!((orders[0].due_s, orders[1].due_s), (Some(28_800.0), None));
+        // Date-times with `orders.start`, any column order, `;` cells.
+        let text = "Due;Time;Product;Quantity\n2026-03-04 14:00;2026-03-02 06:00;bracket;1\n";
+        let (orders, _) = read_orders(text, IDS, since("2026-03-02T00:00")).unwrap();
+        assert_eq!((orders[0].time_s, orders[0].due_s), (21_600.0, Some(2.0 * 86_400.0 + 14.0 * 3600.0)));
+        // Due before the release: refused at its line and column.
+        let (l, c, m, _) =
+            read_orders("time,product,quantity,due\n3 h,bracket,1,2 h\n", IDS, TimeColumn::Durations)
+                .unwrap_err();
+        assert_eq!((l, c), (Some(2), Some("due")));
+        assert!(m.contains("before it is released"), "{m}");
     }
 
     fn err_full(text: &str) -> FileError {

@@ -208,6 +208,7 @@ fn fleet(
         capacity,
         parking: parking(f, fp, locations, ctx)?,
         operators: operators(f.operators.as_ref(), &f.id, &fp.key("operators"), ctx)?,
+        request_order: f.requests.map_or(crate::plant::QueueOrder::Fifo, super::queueing::order),
     })
 }
 

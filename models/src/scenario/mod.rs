@@ -16,6 +16,7 @@ mod error;
 mod fleet;
 mod locate;
 mod operators;
+mod queueing;
 mod routing;
 mod schema;
 mod search;

@@ -93,6 +93,7 @@ pub(crate) fn products(
             None => None,
             Some(l) => Some(super::work::lot(l, &spec.id, &pp, ctx)?),
         };
+        let (priority, due_within_s) = super::queueing::product_terms(s, i, ctx)?;
         out.push(Product {
             id: spec.id.clone(),
             demand,
@@ -102,6 +103,8 @@ pub(crate) fn products(
             lot,
             first,
             alternatives,
+            priority,
+            due_within_s,
         });
     }
     super::alternatives::check_plant(&out, departments, ctx)?;

@@ -41,6 +41,26 @@ pub(crate) struct Scenario {
     pub costs: Option<CostsSpec>,
     /// `currency: EUR`: the currency every cost is in, shown beside cost figures.
     pub currency: Option<String>,
+    /// `queue_order: priority`: which waiting lot a free machine takes, every department unless it says otherwise.
+    pub queue_order: Option<QueueOrderSpec>,
+}
+
+/// `queue_order: fifo | priority | earliest-due | shortest-time` (departments),
+/// `requests: fifo | priority | earliest-due` (fleets).
+#[derive(Debug, Clone, Copy, PartialEq, Eq, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum QueueOrderSpec {
+    Fifo,
+    Priority,
+    EarliestDue,
+    ShortestTime,
+}
+
+/// `due: { within: 3 d }`: each lot of the product is due this long after its release.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct DueSpec {
+    pub within: Seconds,
 }
 
 /// `fleet_choice: first-listed | nearest-idle`.
@@ -193,6 +213,8 @@ pub(crate) struct DepartmentSpec {
     pub area: Option<f64>,
     /// `[width, depth]` the department needs, metres.
     pub size: Option<Vec<f64>>,
+    /// This department's own `queue_order` (over the plant's).
+    pub queue_order: Option<QueueOrderSpec>,
 }
 
 /// `calendar: { shifts: { every: 1 d, on: [...] }, breaks: [...], at_shift_end: finish }`:
@@ -476,6 +498,9 @@ pub(crate) struct ProductSpec {
     pub routing: Option<Vec<StepSpec>>,
     pub load: Option<LoadSpec>,
     pub lot: Option<LotSpec>,
+    /// Rank under `queue_order: priority`: 1 is served first.
+    pub priority: Option<u32>,
+    pub due: Option<DueSpec>,
 }
 
 /// `lot: { quantity: 40, transfer_batch: 10, starts_on: first-load }`.
@@ -659,6 +684,8 @@ pub(crate) struct FleetSpec {
     pub operators: Option<OperatorsSpec>,
     pub breakdowns: Option<BreakdownSpec>,
     pub charging: Option<ChargingSpec>,
+    /// Which waiting move request a free mover takes: `fifo` (default), `priority`, `earliest-due`.
+    pub requests: Option<QueueOrderSpec>,
 }
 
 /// One entry of `serves: [{ from: saw, to: turning }, { to: shipping }]`.

@@ -60,6 +60,8 @@ pub(crate) struct Shape {
     pub(crate) products: usize,
     pub(crate) fleets: usize,
     pub(crate) segments: usize,
+    /// Some lot has a due date: buckets keep lateness too.
+    pub(crate) due: bool,
 }
 
 /// Per fleet: loaded, empty, handling, blocked, off-duty, down, charging and
@@ -142,6 +144,8 @@ struct Bucket {
     /// Per fleet: pick-ups, and their waits and the waits' parts summed.
     wait: Vec<Waits>,
     wait_hist_fleet: Vec<TickHistogram>,
+    /// Lateness of the lots shipped in the bucket (plants with due dates only).
+    due: Option<Box<super::DueSet>>,
 }
 
 impl Bucket {
@@ -157,6 +161,7 @@ impl Bucket {
             flow_hist: h(),
             wait: vec![Waits::default(); s.fleets],
             wait_hist_fleet: (0..s.fleets).map(|_| h()).collect(),
+            due: s.due.then(|| Box::new(super::DueSet::new(s.products, DIGITS))),
         }
     }
 
@@ -166,6 +171,10 @@ impl Bucket {
         self.flow_hist.reset();
         self.wait.iter_mut().for_each(|x| *x = Waits::default());
         self.wait_hist_fleet.iter_mut().for_each(TickHistogram::reset);
+        if let Some(d) = self.due.as_deref_mut() {
+            d.all.reset();
+            d.product.iter_mut().for_each(super::DueStats::reset);
+        }
     }
 }
 
@@ -252,6 +261,15 @@ impl Collector {
         s.0 += 1;
         s.1 += flow;
         b.flow_hist.record_ticks(ticks);
+    }
+
+    /// A lot of product `p` shipped now, `lateness` seconds after its due date.
+    #[inline]
+    pub(crate) fn late(&mut self, p: usize, lateness: f64) {
+        if let Some(d) = self.buckets[self.current].due.as_deref_mut() {
+            d.all.record(lateness);
+            d.product[p].record(lateness);
+        }
     }
 
     /// A load picked up now by fleet `f`, after waiting `wait` (`ticks` of
@@ -358,6 +376,7 @@ impl Collector {
                         })
                         .collect(),
                     by: Vec::new(),
+                    due: b.due,
                 }
             })
             .collect()

@@ -14,7 +14,7 @@ pub mod trace;
 
 pub use model::trace::simulate_traced;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
-pub use stats::{Deadlock, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
+pub use stats::{Deadlock, DueSet, DueStats, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
@@ -109,6 +109,10 @@ pub struct Plan {
     pub(crate) pool_of: Vec<u32>,
     /// First-free groups' shared queues (one per set of departments).
     pub(crate) n_pools: usize,
+    /// Per department (overflow areas included), the order its waiting lots are served in.
+    pub(crate) queue_order: Vec<crate::plant::QueueOrder>,
+    /// Some lot has a due date: each lot's is kept, and lateness recorded at shipping.
+    pub(crate) due: bool,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -145,6 +149,8 @@ pub(crate) struct PlanOrder {
     pub(crate) time_s: f64,
     pub(crate) product: u32,
     pub(crate) quantity: u32,
+    /// When its lots are due (from the start of the play); NaN: the product's allowance.
+    pub(crate) due_s: f64,
 }
 
 #[derive(Debug, Clone)]
@@ -160,6 +166,10 @@ pub(crate) struct PlanProduct {
     pub(crate) ops: Vec<PlanOp>,
     /// Lots in several unit loads: (quantity, transfer batch, start on the first load).
     pub(crate) split: Option<(u32, u32, bool)>,
+    /// Key under a priority order: its `priority`, or infinity without one.
+    pub(crate) priority: f64,
+    /// Due this long after release, s; NaN: no allowance.
+    pub(crate) due_within_s: f64,
 }
 
 #[derive(Debug, Clone)]
@@ -174,6 +184,9 @@ pub(crate) struct PlanOp {
     /// The group of alternatives it belongs to (index into `Plan::groups`),
     /// or `u32::MAX`. A branch list holds a group's operations side by side.
     pub(crate) group: u32,
+    /// Expected processing time, s: the key of `shortest-time` (read, not
+    /// drawn, so ordering draws nothing from the lot's stream).
+    pub(crate) mean_s: f64,
 }
 
 #[derive(Debug, Clone)]
@@ -208,6 +221,8 @@ pub(crate) struct PlanFleet {
     pub(crate) charging: Option<Charging>,
     /// Breakdowns or charging: movers go out of service, and operating time is kept per mover.
     pub(crate) service: bool,
+    /// Which waiting request a free mover takes.
+    pub(crate) request_order: crate::plant::QueueOrder,
 }
 
 /// A duty calendar as the event handlers read it.
@@ -330,7 +345,8 @@ impl Plan {
                     last.1 = f64::INFINITY;
                 }
                 let group = group_of[ops.len()];
-                ops.push(PlanOp { department: op.department, time: op.time.clone(), next, group });
+                let mean_s = op.time.as_ref().map_or(0.0, crate::dist::Dist::mean);
+                ops.push(PlanOp { department: op.department, time: op.time.clone(), next, group, mean_s });
             }
             products.push(PlanProduct {
                 arrivals: plan_arrivals(&prod.demand),
@@ -342,6 +358,8 @@ impl Plan {
                     .lot
                     .filter(|l| l.loads() > 1)
                     .map(|l| (l.quantity, l.transfer_batch, l.start == LoadStart::FirstLoad)),
+                priority: prod.priority.map_or(f64::INFINITY, f64::from),
+                due_within_s: prod.due_within_s.unwrap_or(f64::NAN),
             });
         }
         // The busiest pick-up department of each fleet, for a reserve with no `at`.
@@ -383,6 +401,7 @@ impl Plan {
                     unload_s: fl.unload_s / e,
                     home_location,
                     dispatch: fl.dispatch,
+                    request_order: fl.request_order,
                     idle: fl.idle,
                     capacity: fl.capacity,
                     parking: fl.parking.clone(),
@@ -428,11 +447,17 @@ impl Plan {
             on_at_start: d.on_at(0.0),
         };
         let (pool_of, n_pools) = first_free_pools(plant);
+        let queue_order = plant.departments.iter().map(|d| d.queue_order);
+        // Overflow areas hold lots for a mover, never for a machine: first in first out.
+        let queue_order =
+            queue_order.chain((0..if overflow { nd } else { 0 }).map(|_| Default::default())).collect();
         Plan {
             alternatives: !groups.is_empty() || products.iter().any(|p| !p.first.is_empty()),
             groups,
             pool_of,
             n_pools,
+            queue_order,
+            due: plant.has_due_dates(),
             buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),
@@ -476,7 +501,12 @@ impl Plan {
             orders: plant.orders.as_ref().map_or_else(Vec::new, |t| {
                 t.orders
                     .iter()
-                    .map(|o| PlanOrder { time_s: o.time_s, product: o.product as u32, quantity: o.quantity })
+                    .map(|o| PlanOrder {
+                        time_s: o.time_s,
+                        product: o.product as u32,
+                        quantity: o.quantity,
+                        due_s: o.due_s.unwrap_or(f64::NAN),
+                    })
                     .collect()
             }),
             order_repeat_s: plant.orders.as_ref().and_then(|t| t.repeat_s),

@@ -17,8 +17,10 @@ mod alternatives;
 mod breakdowns;
 mod buckets;
 mod calendars;
+mod due;
 mod lots;
 mod movers;
+mod queues;
 mod staging;
 pub(super) mod trace;
 
@@ -180,7 +182,7 @@ struct Machine {
 struct Department {
     /// Machines holding a lot (processing it, interrupted, or blocked).
     busy: u32,
-    queue: VecDeque<u32>,
+    queue: queues::LotQueue,
     wip: TimeWeighted,
     /// Machines processing (not blocked, not down).
     busy_level: TimeWeighted,
@@ -309,6 +311,14 @@ struct PlantModel<'a> {
     trace: Option<Box<trace::Tracer<'a>>>,
     /// First-free's shared queues and shortest-queue's lots on their way (empty unless `Plan::alternatives`).
     alt: alternatives::AltState,
+    /// Per slab entry, when the lot is due (NaN: no due date); empty unless `Plan::due`.
+    due: Vec<f64>,
+    /// The due date of the lot being released (set by `release_lot`, read by `alloc_lot`).
+    pending_due: f64,
+    /// While an order of the trace releases its lots: their due date from the trace (else NaN).
+    order_due: f64,
+    /// Lateness of lots shipped in the window; `None` unless `Plan::due`.
+    due_stats: Option<Box<super::stats::DueSet>>,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -439,7 +449,7 @@ impl<'a> PlantModel<'a> {
                 }
                 Department {
                     busy: 0,
-                    queue: VecDeque::with_capacity(16),
+                    queue: queues::LotQueue::new(plan.queue_order[d] != crate::plant::QueueOrder::Fifo),
                     wip: TimeWeighted::new(0.0),
                     busy_level: TimeWeighted::new(0.0),
                     queue_level: TimeWeighted::new(0.0),
@@ -555,6 +565,10 @@ impl<'a> PlantModel<'a> {
             next_edge: f64::INFINITY,
             trace: None,
             alt: alternatives::AltState::new(plan),
+            due: Vec::new(),
+            pending_due: f64::NAN,
+            order_due: f64::NAN,
+            due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
         }
     }
 
@@ -596,6 +610,10 @@ impl<'a> PlantModel<'a> {
         self.wait_hist.reset();
         self.wait_assign_all.reset();
         self.wait_drive_all.reset();
+        if let Some(d) = self.due_stats.as_deref_mut() {
+            d.all.reset();
+            d.product.iter_mut().for_each(super::stats::DueStats::reset);
+        }
         self.open_buckets(t);
     }
 
@@ -640,6 +658,8 @@ impl<'a> PlantModel<'a> {
     fn order(&mut self, index: u32, cal: &mut Calendar<Event>) {
         let orders = &self.plan.orders;
         let o = orders[index as usize];
+        // This order's play starts here (read before the next play is counted below).
+        let play_start = self.plan.order_repeat_s.map_or(0.0, |r| self.order_play as f64 * r);
         let mut next = index as usize + 1;
         if next == orders.len() {
             match self.plan.order_repeat_s {
@@ -662,9 +682,11 @@ impl<'a> PlantModel<'a> {
         let whole = x.floor();
         let u: f64 = self.arrival_rng[p].random();
         let lots = whole as u64 + u64::from(u < x - whole);
+        self.order_due = play_start + o.due_s;
         for _ in 0..lots {
             self.release_lot(p, cal);
         }
+        self.order_due = f64::NAN;
     }
 
     /// A new lot of product `p` enters at its receiving dock now. Lots are
@@ -690,6 +712,10 @@ impl<'a> PlantModel<'a> {
         }
         if self.log_releases {
             self.releases.push((now, product));
+        }
+        if self.plan.due {
+            // The trace's due date for the order, else the product's allowance (NaN without either).
+            self.pending_due = if self.order_due.is_nan() { now + prod.due_within_s } else { self.order_due };
         }
         if prod.split.is_some() {
             self.release_split(p, cal);
@@ -763,6 +789,10 @@ impl<'a> PlantModel<'a> {
             self.aux.resize(self.lots.len(), lots::LotAux::WHOLE);
             self.aux[id as usize] = lots::LotAux::WHOLE;
         }
+        if self.plan.due {
+            self.due.resize(self.lots.len(), f64::NAN);
+            self.due[id as usize] = self.pending_due;
+        }
         id
     }
 
@@ -797,7 +827,7 @@ impl<'a> PlantModel<'a> {
             if self.trace.is_some() {
                 self.trace_ship(id, now);
             }
-            self.ship(p, born, now);
+            self.ship(p, born, self.due_of(id), now);
             self.free_lots.push(id);
             return;
         }
@@ -815,10 +845,13 @@ impl<'a> PlantModel<'a> {
     /// Start the lot's operation on a free machine, or queue it.
     /// A lot of product `p`, released at `born`, leaves the plant at `now`:
     /// it counts as shipped, with its flow time, if the window is open.
-    pub(super) fn ship(&mut self, p: usize, born: f64, now: f64) {
+    pub(super) fn ship(&mut self, p: usize, born: f64, due: f64, now: f64) {
         let flow = now - born;
         self.wip.add(now, -1.0);
         if now >= self.window.0 {
+            if self.plan.due && !due.is_nan() {
+                self.record_lateness(p, now - due);
+            }
             self.shipped[p] += 1;
             self.flow[p].add(flow);
             self.flow_all.add(flow);
@@ -847,8 +880,7 @@ impl<'a> PlantModel<'a> {
             d.busy_level.add(now, 1.0);
             self.start(id, cal);
         } else {
-            d.queue.push_back(id);
-            d.queue_level.add(now, 1.0);
+            self.enqueue(id, dept, now);
         }
     }
 
@@ -890,7 +922,7 @@ impl<'a> PlantModel<'a> {
         }
         // Free the machine first: a rework loop back to this department queues behind others.
         let d = &mut self.departments[dept];
-        if let Some(waiting) = d.queue.pop_front() {
+        if let Some(waiting) = d.queue.pop() {
             d.queue_level.add(now, -1.0);
             self.start(waiting, cal);
         } else {
@@ -983,6 +1015,7 @@ impl<'a> PlantModel<'a> {
             move_wait_assign_hist_fleet: self.fleets.iter().map(|f| f.assign_hist.clone()).collect(),
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
+            due: self.due_stats.take(),
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);

@@ -56,6 +56,107 @@ pub struct SegmentStats {
     pub delay_s: f64,
 }
 
+/// Lateness of shipped lots against their due dates: lateness = shipped − due
+/// (negative: early), tardiness = max(lateness, 0).
+///
+/// Lateness can be negative and a [`TickHistogram`] holds non-negative ticks,
+/// so it takes two: how late the lots at or after their due date were, and
+/// how early the others were. Together they hold every lot once, so a
+/// quantile of lateness is read from the one its rank falls in.
+#[derive(Debug, Clone)]
+pub struct DueStats {
+    /// Lateness of each lot with a due date shipped in the window, s.
+    pub lateness: Tally,
+    /// Tardiness of the same lots, s.
+    pub tardiness: Tally,
+    /// Of them, lots shipped after their due date.
+    pub late: u64,
+    /// Lateness ≥ 0, s.
+    pub late_hist: TickHistogram,
+    /// −lateness of the lots shipped before their due date, s.
+    pub early_hist: TickHistogram,
+}
+
+impl DueStats {
+    /// Nothing recorded yet; histograms of `digits` significant digits.
+    pub fn new(digits: u8) -> DueStats {
+        DueStats {
+            lateness: Tally::new(),
+            tardiness: Tally::new(),
+            late: 0,
+            late_hist: TickHistogram::with_digits(TICK_S, digits),
+            early_hist: TickHistogram::with_digits(TICK_S, digits),
+        }
+    }
+
+    /// A lot `lateness` seconds late (negative: early).
+    #[inline]
+    pub fn record(&mut self, lateness: f64) {
+        self.lateness.add(lateness);
+        self.tardiness.add(lateness.max(0.0));
+        if lateness > 0.0 {
+            self.late += 1;
+        }
+        if lateness >= 0.0 {
+            self.late_hist.record(lateness);
+        } else {
+            self.early_hist.record(-lateness);
+        }
+    }
+
+    /// Forget everything (the end of warm-up).
+    pub fn reset(&mut self) {
+        self.lateness.reset();
+        self.tardiness.reset();
+        self.late = 0;
+        self.late_hist.reset();
+        self.early_hist.reset();
+    }
+
+    /// Share of the lots with a due date that shipped late; NaN when none shipped.
+    pub fn late_share(&self) -> f64 {
+        match self.lateness.count() {
+            0 => f64::NAN,
+            n => self.late as f64 / n as f64,
+        }
+    }
+
+    /// Lateness at quantile `q`, s (negative: early); NaN when no lot shipped.
+    /// The lots ranked below `q·n` are the early ones first (most early
+    /// first), then the late ones: the rank picks the histogram, and the
+    /// quantile within it.
+    pub fn lateness_quantile(&self, q: f64) -> f64 {
+        let (early, late) = (self.early_hist.count() as f64, self.late_hist.count() as f64);
+        let n = early + late;
+        if n == 0.0 {
+            return f64::NAN;
+        }
+        let rank = q * n;
+        if rank <= early && early > 0.0 {
+            // The most early lot has rank 0: early quantile 1 − rank/early.
+            -self.early_hist.quantile(1.0 - rank / early)
+        } else {
+            self.late_hist.quantile(((rank - early) / late).clamp(0.0, 1.0))
+        }
+    }
+}
+
+/// Due-date results: every product together, and each product.
+#[derive(Debug, Clone)]
+pub struct DueSet {
+    /// Every lot with a due date.
+    pub all: DueStats,
+    /// Per product (a product whose lots have no due date records nothing).
+    pub product: Vec<DueStats>,
+}
+
+impl DueSet {
+    /// Nothing recorded, for `products` products.
+    pub fn new(products: usize, digits: u8) -> DueSet {
+        DueSet { all: DueStats::new(digits), product: (0..products).map(|_| DueStats::new(digits)).collect() }
+    }
+}
+
 /// Results of one replication of one layout.
 #[derive(Debug, Clone)]
 pub struct RepStats {
@@ -135,6 +236,8 @@ pub struct RepStats {
     pub wip_peak: f64,
     /// Set when the replication stopped because the plant deadlocked.
     pub deadlock: Option<Deadlock>,
+    /// Lateness against due dates; `None` unless some lot has a due date.
+    pub due: Option<Box<DueSet>>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,

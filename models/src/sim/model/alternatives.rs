@@ -108,7 +108,7 @@ impl PlantModel<'_> {
     fn free_plain_machine(&mut self, dept: usize, cal: &mut Calendar<Event>) {
         let now = cal.now();
         let d = &mut self.departments[dept];
-        if let Some(waiting) = d.queue.pop_front() {
+        if let Some(waiting) = d.queue.pop() {
             d.queue_level.add(now, -1.0);
             self.start(waiting, cal);
             return;

@@ -62,10 +62,7 @@ impl PlantModel<'_> {
                 d.busy_level.add(now, 1.0);
                 self.start_on(k as u32, id, cal);
             }
-            None => {
-                d.queue.push_back(id);
-                d.queue_level.add(now, 1.0);
-            }
+            None => self.enqueue(id, dept, now),
         }
     }
 
@@ -228,7 +225,7 @@ impl PlantModel<'_> {
         if !d.on_shift {
             return;
         }
-        if let Some(w) = d.queue.pop_front() {
+        if let Some(w) = d.queue.pop() {
             d.queue_level.add(now, -1.0);
             d.busy += 1;
             d.busy_level.add(now, 1.0);

@@ -15,6 +15,7 @@ impl PlantModel<'_> {
             products: self.plan.products.len(),
             fleets: self.plan.fleets.len(),
             segments: self.aisle.segment_count(),
+            due: self.plan.due,
         };
         Some(Box::new(Collector::new(grid.len(), shape)))
     }

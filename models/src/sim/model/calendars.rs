@@ -78,7 +78,7 @@ impl PlantModel<'_> {
                 continue;
             }
             let dep = &mut self.departments[d];
-            if let Some(w) = dep.queue.pop_front() {
+            if let Some(w) = dep.queue.pop() {
                 dep.queue_level.add(now, -1.0);
                 dep.busy += 1;
                 dep.busy_level.add(now, 1.0);

@@ -123,7 +123,7 @@ impl PlantModel<'_> {
         }
         let r = &self.lots[rec as usize];
         let (p, born) = (r.product as usize, r.born);
-        self.ship(p, born, now);
+        self.ship(p, born, self.due_of(rec), now);
         let mut id = rec;
         while id != NONE {
             let next = self.aux[id as usize].next;

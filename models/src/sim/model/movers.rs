@@ -10,7 +10,7 @@
 use layflow_engine::Calendar;
 
 use super::{Event, PlantModel, Request, NONE};
-use crate::plant::{DispatchRule, IdleRule};
+use crate::plant::{DispatchRule, IdleRule, QueueOrder};
 use crate::sim::buckets::Act;
 use crate::sim::{DutyCursor, FleetSet};
 
@@ -135,6 +135,21 @@ impl PlantModel<'_> {
             }
         }
         None
+    }
+
+    /// The still-waiting request of fleet `f` that comes first under `order`
+    /// (the smallest key of [`PlantModel::queue_key`]; equal keys: the older,
+    /// as the list is in request order and `min_by` keeps the first), taken
+    /// off its list. A scan of the list, as `take_nearest`'s.
+    fn take_first_by(&mut self, f: usize, order: QueueOrder) -> Option<u32> {
+        let lots = &self.lots;
+        let queue = &mut self.fleets[f].requests;
+        queue.retain(|r| lots[r.lot as usize].ticket == r.ticket);
+        let queue = &self.fleets[f].requests;
+        let best = (0..queue.len()).min_by(|&a, &b| {
+            self.queue_key(queue[a].lot, order).total_cmp(&self.queue_key(queue[b].lot, order))
+        })?;
+        self.fleets[f].requests.remove(best).map(|r| r.lot)
     }
 
     /// The still-waiting request of fleet `f` whose pick-up is nearest to
@@ -468,6 +483,7 @@ impl PlantModel<'_> {
         }
         let taken = match fl.dispatch {
             DispatchRule::NearestRequest => self.take_nearest(f, here),
+            _ if fl.request_order != QueueOrder::Fifo => self.take_first_by(f, fl.request_order),
             _ => self.take_oldest(f),
         };
         if let Some(lot) = taken {

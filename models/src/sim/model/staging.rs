@@ -131,7 +131,7 @@ impl PlantModel<'_> {
             m.blocked = false;
             (m.up, m.up && d.on_shift)
         };
-        let next = if can_take { d.queue.pop_front() } else { None };
+        let next = if can_take { d.queue.pop() } else { None };
         match next {
             Some(w) => {
                 d.queue_level.add(now, -1.0);
