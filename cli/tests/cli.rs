@@ -322,3 +322,28 @@ fn selection_constants_only_with_verbose() {
     let s = text(&layflow(&verbose).stdout);
     assert!(s.contains("h² =") && s.contains("n₀ = 10"), "{s}");
 }
+
+#[test]
+fn check_lists_queue_orders_priorities_and_due_dates_only_when_given() {
+    // The priority plant of the Cobham check: every department by priority, two ranked products.
+    let out = layflow(&["check", "scenarios/validation/priority-cobham.yaml"]);
+    assert!(out.status.success(), "{}", text(&out.stderr));
+    let table = text(&out.stdout);
+    assert!(table.contains("Queue orders: which waiting lot is served first"), "{table}");
+    assert!(table.contains("departments: all priority"), "{table}");
+    assert!(
+        table.lines().any(|l| l.split_whitespace().collect::<Vec<_>>() == ["rivet", "1", "-"]),
+        "{table}"
+    );
+    let json = layflow(&["check", "scenarios/validation/priority-cobham.yaml", "--format", "json"]);
+    let v: serde_json::Value = serde_json::from_slice(&json.stdout).unwrap();
+    assert_eq!(v["queue_orders"]["products"][1]["priority"], 2, "{v}");
+    assert_eq!(v["queue_orders"]["departments"][1]["queue_order"], "priority", "{v}");
+    // A plant that orders nothing says nothing of it, in the table or the JSON.
+    let demo = layflow(&["check", "scenarios/demo.yaml"]);
+    assert!(!text(&demo.stdout).contains("Queue orders"));
+    let v: serde_json::Value =
+        serde_json::from_slice(&layflow(&["check", "scenarios/demo.yaml", "--format", "json"]).stdout)
+            .unwrap();
+    assert!(v.get("queue_orders").is_none());
+}

@@ -6,7 +6,7 @@ use std::path::Path;
 use layflow_models::analysis::StaticPicture;
 use layflow_models::areas;
 use layflow_models::measured::MeasuredChart;
-use layflow_models::plant::{Demand, DepartmentRole, Footprint, Handling, LoadStart, Plant};
+use layflow_models::plant::{Demand, DepartmentRole, Footprint, Handling, LoadStart, Plant, QueueOrder};
 use layflow_models::units::format_duration;
 use serde_json::json;
 
@@ -69,6 +69,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
     }
     let _ = writeln!(s);
     alternatives(&mut s, plant);
+    queue_orders(&mut s, plant);
 
     from_to_chart(&mut s, plant, pic, measured.is_some());
     let _ = writeln!(
@@ -402,6 +403,83 @@ fn alternatives(s: &mut String, plant: &Plant) {
     let _ = writeln!(s);
 }
 
+/// Who is served first where the plant says so: departments and fleets
+/// whose queue is not first in first out, and each product's priority and
+/// due-date allowance. Nothing for a plant that orders nothing.
+fn queue_orders(s: &mut String, plant: &Plant) {
+    // Docks hold no queue for a machine: only work departments are listed.
+    let work: Vec<_> = plant.departments.iter().filter(|d| d.role == DepartmentRole::Work).collect();
+    let ordered: Vec<String> = work
+        .iter()
+        .filter(|d| d.queue_order != QueueOrder::Fifo)
+        .map(|d| format!("{} {}", d.id, d.queue_order.word()))
+        .collect();
+    let all_same = work.first().map(|d| d.queue_order).filter(|o| work.iter().all(|d| d.queue_order == *o));
+    let fleets: Vec<String> = plant
+        .fleets()
+        .iter()
+        .filter(|f| f.request_order != QueueOrder::Fifo)
+        .map(|f| format!("{} {}", f.id, f.request_order.word()))
+        .collect();
+    let ranked = plant.products.iter().any(|p| p.priority.is_some() || p.due_within_s.is_some());
+    let trace_due = plant.orders.as_ref().is_some_and(|t| t.orders.iter().any(|o| o.due_s.is_some()));
+    if ordered.is_empty() && fleets.is_empty() && !ranked && !trace_due {
+        return;
+    }
+    let _ = writeln!(s, "Queue orders: which waiting lot is served first (docs/queue-order.md)");
+    let departments = match all_same {
+        Some(QueueOrder::Fifo) => "all first in first out (fifo)".to_string(),
+        Some(o) => format!("all {}", o.word()),
+        None => ordered.join(", ") + "; the rest first in first out",
+    };
+    let _ = writeln!(s, "  departments: {departments}");
+    if !fleets.is_empty() {
+        let _ = writeln!(s, "  move requests: {}", fleets.join(", "));
+    }
+    if ranked || trace_due {
+        let mut t = Table::new(&["product", "priority", "due within"]);
+        for p in &plant.products {
+            t.row(vec![
+                p.id.clone(),
+                p.priority.map_or("-".into(), |r| r.to_string()),
+                match (p.due_within_s, trace_due) {
+                    (Some(w), _) => format_duration(w),
+                    (None, true) => "order trace".into(),
+                    (None, false) => "-".into(),
+                },
+            ]);
+        }
+        s.push_str(&t.render(2));
+        let _ = writeln!(
+            s,
+            "  priority: 1 is served first, products without one last; the static picture above does not \
+             depend on queue orders: they change waits and lateness, which only the simulation shows"
+        );
+    }
+    let _ = writeln!(s);
+}
+
+/// The queue orders for the JSON form (`queue_orders`, only when the plant orders something).
+fn queue_orders_json(plant: &Plant) -> Option<serde_json::Value> {
+    let any = plant.departments.iter().any(|d| d.queue_order != QueueOrder::Fifo)
+        || plant.fleets().iter().any(|f| f.request_order != QueueOrder::Fifo)
+        || plant.products.iter().any(|p| p.priority.is_some() || p.due_within_s.is_some())
+        || plant.has_due_dates();
+    any.then(|| {
+        json!({
+            "departments": plant.departments.iter().map(|d| json!({
+                "department": d.id, "queue_order": d.queue_order.word(),
+            })).collect::<Vec<_>>(),
+            "fleets": plant.fleets().iter().map(|f| json!({
+                "fleet": f.id, "request_order": f.request_order.word(),
+            })).collect::<Vec<_>>(),
+            "products": plant.products.iter().map(|p| json!({
+                "product": p.id, "priority": p.priority, "due_within_s": p.due_within_s,
+            })).collect::<Vec<_>>(),
+        })
+    })
+}
+
 /// The groups of alternatives for the JSON form (`alternatives`, only when there are some).
 fn alternatives_json(plant: &Plant) -> Vec<serde_json::Value> {
     plant
@@ -492,6 +570,10 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
     let alts = alternatives_json(plant);
     if !alts.is_empty() {
         j["alternatives"] = json!(alts);
+    }
+    // And queue orders: only for a plant that orders something.
+    if let Some(q) = queue_orders_json(plant) {
+        j["queue_orders"] = q;
     }
     j
 }
