@@ -10,6 +10,7 @@
 pub mod analysis;
 pub mod areas;
 pub mod datetime;
+pub mod decimals;
 pub mod dist;
 pub mod experiment;
 pub mod generate;

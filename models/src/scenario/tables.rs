@@ -399,7 +399,7 @@ impl Loaded {
         };
         let sheet_name = |t: Option<&str>| t.map_or(String::new(), |s| format!(", sheet {s}"));
         let shown_for = |sheet: &str| format!("{}{sheet} (the `{at}` table of {})", path.display(), ctx.file);
-        let table = read.map_err(|e| {
+        let mut table = read.map_err(|e| {
             let shown = shown_for(&sheet_name(spec.sheet.as_deref()));
             let err = match e.row {
                 Some(r) => ScenarioError::new(ErrorKind::Read, &shown, e.message).at_cell(r, None),
@@ -459,6 +459,7 @@ impl Loaded {
                 ));
             }
         }
+        decimal_commas(&mut table, &cols, &shown)?;
         Ok(Loaded { shown, at, table, cols })
     }
 
@@ -717,6 +718,46 @@ impl Loaded {
                 .with_hint(hint)
         })
     }
+}
+
+/// Keys whose cells are names, never numbers: a dotted part number such as
+/// `4711.02` there says nothing about how the file writes decimals.
+const NAME_KEYS: &[&str] =
+    &["id", "part", "product", "department", "location", "layout", "name", "distribution", "dock", "next"];
+
+/// Reads the decimal commas of a `;`- or tab-separated file (or a sheet's
+/// text cells) as points, by the one rule order traces follow
+/// ([`crate::decimals`]), before any cell is read as a number.
+fn decimal_commas(
+    table: &mut Table,
+    cols: &[(String, String, usize)],
+    shown: &str,
+) -> Result<(), ScenarioError> {
+    let numbers: Vec<&(String, String, usize)> =
+        cols.iter().filter(|(k, _, _)| !NAME_KEYS.contains(&k.as_str())).collect();
+    let cells = table.rows.iter().flat_map(|r| {
+        numbers
+            .iter()
+            .filter(|(_, _, c)| !r.stored_numbers.get(*c).copied().unwrap_or(false))
+            .map(move |(_, h, c)| (r.number as u64, h.as_str(), r.cell(*c)))
+    });
+    // A sheet has no separator to confuse a comma with.
+    let decimals = crate::decimals::decide(table.separator.unwrap_or(b';'), cells).map_err(|e| {
+        ScenarioError::new(ErrorKind::Invalid, shown, e.message)
+            .at_cell(e.line as usize, Some(&e.column))
+            .with_hint(e.hint)
+    })?;
+    if decimals == crate::decimals::Decimals::Comma {
+        for r in &mut table.rows {
+            for (_, _, c) in &numbers {
+                let stored = r.stored_numbers.get(*c).copied().unwrap_or(false);
+                if let Some(cell) = r.cells.get_mut(*c).filter(|_| !stored) {
+                    *cell = decimals.read(cell);
+                }
+            }
+        }
+    }
+    Ok(())
 }
 
 /// Puts `value` at the dotted `path` in a tree of mappings.
