@@ -37,8 +37,14 @@ fn currency(s: &Scenario, ctx: &Ctx) -> Result<Option<String>, ScenarioError> {
 pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     // Sections given as tables become YAML items first; their errors from
     // here on name the table's file, row and column.
-    let tables = super::tables::expand(&mut s, ctx)?;
-    let with_tables = Ctx { text: ctx.text, origin: ctx.origin, file: ctx.file.clone(), tables };
+    let expanded = super::tables::expand(&mut s, ctx)?;
+    let with_tables = Ctx {
+        text: ctx.text,
+        origin: ctx.origin,
+        file: ctx.file.clone(),
+        tables: expanded.origins,
+        moved: expanded.moved,
+    };
     let ctx = &with_tables;
     let root = FieldPath::root();
     if let Some(u) = &s.units {
@@ -375,7 +381,7 @@ fn layout_file(
             .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()))
             .with_hint("a layout file holds `layouts:` with one mapping per layout, as `layflow search --out` writes")
     })?;
-    let sub = Ctx { text: &text, origin: &path, file, tables: Vec::new() };
+    let sub = Ctx { text: &text, origin: &path, file, tables: Vec::new(), moved: Vec::new() };
     add_layouts(&spec.layouts, departments, locations, &sub, out)
 }
 

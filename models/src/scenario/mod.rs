@@ -66,7 +66,7 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let de = serde_norway::Deserializer::from_str(text);
     let scenario: schema::Scenario =
         serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
-    let ctx = context::Ctx { text, origin, file, tables: Vec::new() };
+    let ctx = context::Ctx { text, origin, file, tables: Vec::new(), moved: Vec::new() };
     compile::compile(scenario, &ctx)
 }
 
