@@ -32,4 +32,4 @@ pub mod timebuckets;
 pub mod travel;
 pub mod units;
 
-pub use scenario::{load_scenario, parse_scenario, ScenarioError};
+pub use scenario::{load_scenario, measured_source, parse_scenario, MeasuredSource, ScenarioError};

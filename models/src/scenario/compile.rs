@@ -60,6 +60,22 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
                 ));
         }
     }
+    if let Some(m) = &s.measured_from_to {
+        let at = root.key("measured_from_to");
+        if m.file.trim().is_empty() {
+            return Err(ctx
+                .err(&at.key("file"), "the measured from-to chart names no file")
+                .with_hint("name the CSV matrix, relative to this scenario: `measured_from_to: { file: flows.csv, per: 8 h }`"));
+        }
+        if !(m.per.0 > 0.0) {
+            return Err(ctx
+                .err(
+                    &at.key("per"),
+                    "`per` must be longer than 0: the period the chart's loads were counted over",
+                )
+                .with_hint("e.g. `per: 8 h` for loads counted over a shift"));
+        }
+    }
     if s.plant.trim().is_empty() {
         return Err(ctx.err(&root.key("plant"), "the plant needs a name"));
     }

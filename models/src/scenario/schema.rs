@@ -41,6 +41,18 @@ pub(crate) struct Scenario {
     pub costs: Option<CostsSpec>,
     /// `currency: EUR`: the currency every cost is in, shown beside cost figures.
     pub currency: Option<String>,
+    /// `measured_from_to: { file: flows.csv, per: 8 h }`: a measured from-to chart for
+    /// `check` and `search` (read by them: see [`super::measured_source`]).
+    pub measured_from_to: Option<MeasuredFromToSpec>,
+}
+
+/// `measured_from_to: { file: flows.csv, per: 8 h }`: the file (relative to the
+/// scenario) and the period its cells count loads over, as `--from-to` and `--from-to-per`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct MeasuredFromToSpec {
+    pub file: String,
+    pub per: Seconds,
 }
 
 /// `fleet_choice: first-listed | nearest-idle`.
