@@ -339,7 +339,7 @@ impl<T> std::ops::Deref for Listed<T> {
 const TABLE_KEYS: &[&str] = &["table", "sheet", "columns", "time_unit"];
 
 /// One entry of a listed section: an item, or a table.
-enum Entry<T> {
+pub(crate) enum Entry<T> {
     Item(T),
     Table(TableSpec),
 }
