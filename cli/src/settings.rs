@@ -67,6 +67,18 @@ pub fn load(path: &Path) -> Result<Plant, Failure> {
     layflow_models::load_scenario(path).map_err(|e| Failure::input(e.to_string()))
 }
 
+/// For the simulating commands: a scenario's `measured_from_to` is not what they
+/// simulate, as `check --from-to` says of the flag.
+pub fn note_measured_not_simulated(path: &Path) {
+    if let Some(m) = layflow_models::measured_source(path) {
+        crate::output::note!(
+            "note: the scenario's measured_from_to ({}) sets check's and search's load-distance only; this \
+             command simulates the routings",
+            m.path.display()
+        );
+    }
+}
+
 /// What `--allow-overload` does to the numbers, said loudly on stderr.
 pub const OVERLOAD_WARNING: &str = "WARNING: --allow-overload: a replication whose WIP reaches the overload limit \
      turns arriving lots away at the dock instead of stopping; they are counted as turned-away lots, and numbers \

@@ -156,3 +156,48 @@ fn bad_charts_are_refused_with_file_row_column_and_an_example() {
         &["row 3, column 3", "to itself"],
     );
 }
+
+/// `measured_from_to: { file, per }` in the scenario does what the flags do, its file
+/// relative to the scenario; the flags override it (and say so); run says it simulates
+/// the routings; a missing file or a zero period is an error naming where it is set.
+#[test]
+fn the_scenario_field_names_the_chart_and_the_flags_override_it() {
+    let root = common::root();
+    let dir = tempfile::tempdir().unwrap();
+    let base = std::fs::read_to_string(root.join(THREE)).unwrap();
+    std::fs::copy(root.join(THREE_CHART), dir.path().join("flows.tsv")).unwrap();
+    let scenario = dir.path().join("three.yaml");
+    let with = |field: &str| {
+        std::fs::write(&scenario, format!("{base}\n{field}\n")).unwrap();
+        scenario.to_str().unwrap().to_string()
+    };
+    let s = with("measured_from_to: { file: flows.tsv, per: 8 h }");
+    // The same hand-computed 317.5 load-m/h as the flags give (see above).
+    let j = json(&["check", &s, "--format", "json"]);
+    assert_eq!(j["layouts"][0]["load_distance_m_per_h"].as_f64(), Some(317.5));
+    assert_eq!(j["from_to_source"]["measured"], true);
+    let o = layflow(&["check", &s]);
+    assert!(text(&o.stdout).contains("MEASURED, read from "), "{}", text(&o.stdout));
+
+    // The flags win: a 16 h period halves every load.
+    let o = layflow(&["check", &s, "--from-to", THREE_CHART, "--from-to-per", "16 h", "--format", "json"]);
+    let j: serde_json::Value = serde_json::from_slice(&o.stdout).expect("JSON");
+    assert_eq!(j["layouts"][0]["load_distance_m_per_h"].as_f64(), Some(158.75));
+    assert!(text(&o.stderr).contains("overrides the scenario's measured_from_to"), "{}", text(&o.stderr));
+
+    let o = layflow(&["run", &s, "--replications", "1", "--horizon", "1 d", "--warmup", "0 s", "--quiet"]);
+    assert!(text(&o.stderr).contains("this command simulates the routings"), "{}", text(&o.stderr));
+
+    let s = with("measured_from_to: { file: nowhere.csv, per: 8 h }");
+    let o = layflow(&["check", &s]);
+    assert_eq!(o.status.code(), Some(2));
+    let e = text(&o.stderr);
+    let line = std::fs::read_to_string(&scenario).unwrap().lines().count();
+    assert!(e.contains("nowhere.csv") && e.contains(&format!("`measured_from_to` at line {line}")), "{e}");
+
+    let s = with("measured_from_to: { file: flows.tsv, per: 0 h }");
+    let o = layflow(&["check", &s]);
+    assert_eq!(o.status.code(), Some(2));
+    assert!(text(&o.stderr).contains("`per` must be longer than 0"), "{}", text(&o.stderr));
+    assert!(text(&o.stderr).contains(&format!("line {line}")), "{}", text(&o.stderr));
+}

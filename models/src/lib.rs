@@ -10,6 +10,7 @@
 pub mod analysis;
 pub mod areas;
 pub mod datetime;
+pub mod decimals;
 pub mod dist;
 pub mod experiment;
 pub mod generate;
@@ -31,4 +32,4 @@ pub mod timebuckets;
 pub mod travel;
 pub mod units;
 
-pub use scenario::{load_scenario, parse_scenario, ScenarioError};
+pub use scenario::{load_scenario, measured_source, parse_scenario, MeasuredSource, ScenarioError};

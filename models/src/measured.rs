@@ -6,7 +6,8 @@
 //! come from, and each cell holds the loads counted over one period (a
 //! shift, a week). Cells are divided by the period to give loads per hour,
 //! the unit of the routings' chart. The delimiter (`,` `;` or tab) is the one
-//! the first line uses most; with `;` a decimal comma is read too (`2,5`).
+//! the first line uses most; with `;` or tab, decimal commas are read too
+//! (`2,5`), by the rule of [`crate::decimals`].
 //! UTF-8 with or without a byte-order mark, and CRLF line ends, are read.
 //! Empty cells are 0. Departments the file leaves out get no flow.
 //!
@@ -161,6 +162,16 @@ pub fn parse(text: &str, file: &str, plant: &Plant, per_s: f64) -> Result<(FlowC
             "the first row names the departments loads go to",
         ));
     }
+    // Decimal commas by the one rule every table file follows; columns by number, as messages give them.
+    let col_names: Vec<String> = (0..=cols.len() + 1).map(|c| c.to_string()).collect();
+    let number_cells = rows[1..].iter().flat_map(|(row, rec)| {
+        rec.iter()
+            .enumerate()
+            .skip(1)
+            .map(|(k, c)| (*row as u64, col_names[(k + 1).min(cols.len() + 1)].as_str(), c))
+    });
+    let decimals = crate::decimals::decide(delim, number_cells)
+        .map_err(|e| fail(e.line as usize, e.column.parse().ok(), e.message, &e.hint))?;
     let per_h = per_s / 3600.0;
     let mut seen_rows: Vec<usize> = Vec::new();
     let mut parts = Vec::new();
@@ -209,7 +220,7 @@ pub fn parse(text: &str, file: &str, plant: &Plant, per_s: f64) -> Result<(FlowC
             if cell.is_empty() {
                 continue;
             }
-            let shown = if delim == b';' { cell.replace(',', ".") } else { cell.to_string() };
+            let shown = decimals.read(cell);
             let x: f64 = shown.parse().ok().filter(|x: &f64| x.is_finite()).ok_or_else(|| {
                 fail(
                     *row,

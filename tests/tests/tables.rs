@@ -151,3 +151,114 @@ fn the_corpus_base_loads_when_fixed() {
     assert_eq!(plant.products.len(), 2);
     assert_eq!(plant.products[0].routing.len(), 4, "operations 10, 20, 30, 40 of bracket");
 }
+
+/// `text` with every decimal point between digits outside quotes (and so outside YAML cells) made a comma.
+fn with_decimal_commas(text: &str) -> String {
+    let chars: Vec<char> = text.chars().collect();
+    let mut quoted = false;
+    let mut out = String::with_capacity(text.len());
+    for (i, &c) in chars.iter().enumerate() {
+        if c == '"' {
+            quoted = !quoted;
+        }
+        let between_digits =
+            i > 0 && chars[i - 1].is_ascii_digit() && chars.get(i + 1).is_some_and(char::is_ascii_digit);
+        out.push(if c == '.' && !quoted && between_digits { ',' } else { c });
+    }
+    out
+}
+
+/// The routings and locations tables saved where the comma is the decimal
+/// sign (`;`-separated, `0,4`, `0,92 / 0,08`, `2,5`) read as the demo plant;
+/// a file that writes `0.4` beside `0,5` is refused at the point's cell.
+#[test]
+fn decimal_commas_are_read_per_file() {
+    let src = scenarios_dir().join("tables-demo");
+    let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    for e in std::fs::read_dir(&src).unwrap() {
+        let p = e.unwrap().path();
+        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+    }
+    let routings = std::fs::read_to_string(src.join("routings.csv")).unwrap();
+    let comma = with_decimal_commas(&with_separator(&routings, ';'));
+    assert!(comma.contains(";0,4;") && comma.contains("0,92 / 0,08"), "{comma}");
+    assert!(comma.contains("0.3]"), "a YAML cell keeps its points");
+    std::fs::write(dir.path().join("routings.csv"), &comma).unwrap();
+    let locations = std::fs::read_to_string(src.join("locations.csv")).unwrap();
+    std::fs::write(dir.path().join("locations.csv"), locations.replacen(";35", ";35,0", 1)).unwrap();
+    let plant = load_scenario(&dir.path().join("demo-tables.yaml")).expect("decimal commas read");
+    assert_eq!(yaml, plant);
+
+    // One point in a comma file: which is it?
+    let mixed = comma.replacen(";0,5;", ";0.5;", 1);
+    std::fs::write(dir.path().join("routings.csv"), &mixed).unwrap();
+    let e = load_scenario(&dir.path().join("demo-tables.yaml")).expect_err("mixed decimal marks");
+    assert!(
+        e.to_string().contains(
+            "\"0.5\" has a decimal point, but this file writes decimals with a comma (line 3, column CV)"
+        ),
+        "{e}"
+    );
+    assert_eq!((e.row(), e.column_name()), (Some(4), Some("CV")));
+}
+
+/// A section may mix YAML items and tables in one list; the items keep
+/// their places (a YAML location before the table, a YAML department after
+/// it), and an id given in both is an error naming both places.
+#[test]
+fn yaml_items_and_tables_mix_in_one_section() {
+    let src = scenarios_dir().join("tables-demo");
+    let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
+    let dir = tempfile::tempdir().unwrap();
+    for e in std::fs::read_dir(&src).unwrap() {
+        let p = e.unwrap().path();
+        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+    }
+    let locations = std::fs::read_to_string(src.join("locations.csv")).unwrap();
+    std::fs::write(dir.path().join("locations.csv"), locations.replacen("dock-west;0;35\r\n", "", 1))
+        .unwrap();
+    let departments = std::fs::read_to_string(src.join("departments.csv")).unwrap();
+    std::fs::write(dir.path().join("departments.csv"), departments.replacen("shipping\t\tshipping\n", "", 1))
+        .unwrap();
+    let scenario = std::fs::read_to_string(src.join("demo-tables.yaml")).unwrap();
+    let mixed = scenario
+        .replacen(
+            "locations:\n  table: locations.csv\n  columns: { id: Location, x: X, y: Y }",
+            "locations:\n  - { id: dock-west, at: [0, 35] }\n  - table: locations.csv\n    columns: { id: Location, x: X, y: Y }",
+            1,
+        )
+        .replacen(
+            "departments:\n  table: departments.csv\n  columns: { id: Department, machines: Machines, dock: Dock }",
+            "departments:\n  - table: departments.csv\n    columns: { id: Department, machines: Machines, dock: Dock }\n  - { id: shipping, dock: shipping }",
+            1,
+        );
+    assert_ne!(mixed, scenario, "the sections were rewritten");
+    let path = dir.path().join("mixed.yaml");
+    std::fs::write(&path, &mixed).unwrap();
+    assert_eq!(yaml, load_scenario(&path).expect("the mixed form loads"));
+
+    // A YAML department after the table that names one the table has: both places named.
+    let twice = mixed.replacen(
+        "  - { id: shipping, dock: shipping }",
+        "  - { id: shipping, dock: shipping }\n  - { id: wash, machines: 2 }",
+        1,
+    );
+    std::fs::write(&path, &twice).unwrap();
+    let e = load_scenario(&path).expect_err("wash twice");
+    let line = twice.lines().position(|l| l.contains("id: wash, machines: 2")).unwrap() + 1;
+    let shown = e.to_string();
+    assert!(shown.contains("department \"wash\" is defined twice (first at "), "{shown}");
+    assert!(
+        shown.contains("(first at row 10 of ") && shown.contains("departments.csv"),
+        "the table's row: {shown}"
+    );
+    assert_eq!(e.line(), Some(line), "the YAML item's own line: {shown}");
+
+    // A YAML item after a table keeps its own line in other messages too.
+    let bad = mixed.replacen("{ id: shipping, dock: shipping }", "{ id: shipping, dock: shiping }", 1);
+    std::fs::write(&path, &bad).unwrap();
+    let e = load_scenario(&path).expect_err("a misspelt dock");
+    let line = bad.lines().position(|l| l.contains("dock: shiping")).unwrap() + 1;
+    assert_eq!(e.line(), Some(line), "{e}");
+}

@@ -1,6 +1,6 @@
 //! `layflow check`: validate a scenario and print its static picture.
 
-use std::path::PathBuf;
+use std::path::{Path, PathBuf};
 
 use clap::Args;
 use layflow_models::analysis::StaticPicture;
@@ -8,7 +8,7 @@ use layflow_models::measured::MeasuredChart;
 use layflow_models::plant::Plant;
 
 use crate::failure::Failure;
-use crate::output::out;
+use crate::output::{note, out};
 use crate::render::check::{render, to_json};
 use crate::render::warnings::warn_overload;
 use crate::settings::{demand_factor, duration_arg, load, Format};
@@ -44,9 +44,28 @@ pub struct FromToArgs {
 }
 
 impl FromToArgs {
-    /// The measured chart, read and checked against the plant's departments; `None` without `--from-to`.
-    pub fn read(&self, plant: &Plant) -> Result<Option<MeasuredChart>, Failure> {
-        let Some(file) = &self.from_to else { return Ok(None) };
+    /// The measured chart, read and checked against the plant's departments: from
+    /// `--from-to`, else from the scenario's `measured_from_to` (the flags override
+    /// it, and say so); `None` with neither.
+    pub fn read(&self, plant: &Plant, scenario: &Path) -> Result<Option<MeasuredChart>, Failure> {
+        let named = layflow_models::measured_source(scenario);
+        let Some(file) = &self.from_to else {
+            let Some(src) = named else { return Ok(None) };
+            let line = src.line.map_or(String::new(), |l| format!(" at line {l}"));
+            return MeasuredChart::read(&src.path, plant, src.per_s).map(Some).map_err(|e| {
+                Failure::input(format!(
+                    "{e}\n  (the chart `measured_from_to`{line} of {} names; its file is relative to the scenario)",
+                    scenario.display()
+                ))
+            });
+        };
+        if let Some(src) = named {
+            note!(
+                "note: --from-to {} overrides the scenario's measured_from_to ({})",
+                file.display(),
+                src.path.display()
+            );
+        }
         let per_s = duration_arg("--from-to-per", &self.from_to_per, 0.0)?;
         if per_s <= 0.0 {
             return Err(Failure::input(
@@ -61,7 +80,7 @@ impl FromToArgs {
 pub fn check(args: &CheckArgs) -> Result<(), Failure> {
     let plant = load(&args.scenario)?;
     let factor = demand_factor(&plant, args.demand)?;
-    let measured = args.from_to.read(&plant)?;
+    let measured = args.from_to.read(&plant, &args.scenario)?;
     let mut pic = StaticPicture::new(&plant, factor);
     if let Some(m) = &measured {
         pic = m.apply(&plant, pic);

@@ -127,6 +127,7 @@ impl SelectArgs {
 /// Run the comparison and report it.
 pub fn compare(args: &CompareArgs) -> Result<(), Failure> {
     let plant = args.sim.load(&args.scenario)?;
+    crate::settings::note_measured_not_simulated(&args.scenario);
     compare_plant(&plant, args)
 }
 

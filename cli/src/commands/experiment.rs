@@ -510,8 +510,10 @@ fn open_journal(
 pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
     let mut first: Option<(PathBuf, Header)> = None;
     let mut all = Vec::new();
+    let mut currencies = Vec::new();
     for dir in &args.dirs {
         let c = read_journal(dir)?;
+        currencies.push(c.header.currency.clone());
         match &first {
             None => first = Some((dir.clone(), c.header.clone())),
             Some((d0, h0)) => {
@@ -529,7 +531,9 @@ pub fn merge(args: &MergeArgs) -> Result<(), Failure> {
         }
         all.extend(c.units);
     }
-    let (_, header) = first.expect("clap requires at least one folder");
+    let (_, mut header) = first.expect("clap requires at least one folder");
+    // A folder written before the currency was recorded has none; a shard that records it names it.
+    header.currency = currencies.into_iter().flatten().next();
     let units = results::canonical(all).map_err(Failure::input)?;
     if (units.len() as u64) < header.units {
         let mut have = vec![false; header.units as usize];

@@ -80,6 +80,7 @@ pub enum FleetFormat {
 /// Run the sweep and report it.
 pub fn fleet(args: &FleetArgs) -> Result<(), Failure> {
     let plant = args.sim.load(&args.scenario)?;
+    crate::settings::note_measured_not_simulated(&args.scenario);
     let f = study::which_fleet(&plant, args.fleet.as_deref())?;
     let sizes = study::parse_sizes(&args.sizes)?;
     let list = every_metric(&plant);

@@ -39,6 +39,7 @@ pub struct RunArgs {
 /// Simulate and report.
 pub fn run(args: &RunArgs) -> Result<(), Failure> {
     let plant = args.sim.load(&args.scenario)?;
+    crate::settings::note_measured_not_simulated(&args.scenario);
     let settings = args.sim.resolve(&plant)?;
     let factor = demand_factor(&plant, args.demand)?;
     let which = layouts(&plant, &args.layout)?;

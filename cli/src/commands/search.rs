@@ -260,7 +260,7 @@ pub fn search(args: &SearchArgs) -> Result<(), Failure> {
             layout(&plant, name).map_err(|f| Failure::input(f.message().replace("--layout ", "--from ")))?
         }
     };
-    let measured = args.from_to.read(&plant)?;
+    let measured = args.from_to.read(&plant, path)?;
     let mut picture = StaticPicture::new(&plant, factor);
     if let Some(m) = &measured {
         picture = m.apply(&plant, picture);

@@ -4,7 +4,7 @@ use layflow_models::experiment::results::{self, Percentile, PointSummary, Summar
 use layflow_models::experiment::{runs, Experiment, Header, Unit};
 use layflow_models::metrics::Estimate;
 
-use super::table::{dur, dur_in, num, pm, unit_for, Table};
+use super::table::{dur, dur_in, num, pm, unit_for, with_currency, Table};
 
 /// The per-point line shown when a design point's last unit finishes; `mine` are its units.
 pub fn point_line(plan: &Experiment, header: &Header, mine: &[Unit], p: usize) -> String {
@@ -44,25 +44,19 @@ pub fn render(s: &Summary, total_units: u64) -> String {
         &s.plan_hash[..12],
         s.points.len()
     );
+    let cost_head = with_currency("handling cost (/h)".into(), s.currency.as_deref());
     let mut head: Vec<String> = vec!["point".into()];
     head.extend(s.factors.iter().cloned());
     head.extend(
-        [
-            "reps",
-            "throughput (lots/h)",
-            "flow time",
-            "flow time p95",
-            "WIP (lots)",
-            "wait for a mover",
-            "handling cost (/h)",
-        ]
-        .map(String::from),
+        ["reps", "throughput (lots/h)", "flow time", "flow time p95", "WIP (lots)", "wait for a mover"]
+            .map(String::from),
     );
+    head.push(cost_head.clone());
     if s.by.is_some() {
         head.push("peak WIP at".into());
     }
     let mut t = Table::new(&head);
-    t.optional(&["handling cost (/h)", "WIP (lots)", "flow time p95", "peak WIP at"]);
+    t.optional(&[cost_head.as_str(), "WIP (lots)", "flow time p95", "peak WIP at"]);
     // One unit per column, chosen from the column's values.
     let unit = |m: &str| unit_for(s.points.iter().filter_map(|p| estimate(p, m)).map(|e| e.mean));
     fn p95_of(p: &PointSummary) -> Option<&Percentile> {

@@ -100,6 +100,11 @@ pub struct Header {
     /// per bucket (absent without `by:`, so such files are as before).
     #[serde(default, skip_serializing_if = "Option::is_none")]
     pub by: Option<BucketHeader>,
+    /// The scenario's `currency`, so the summary's cost columns name it
+    /// (absent without one, and in files written before it was recorded;
+    /// the hash covers the scenario, so it never tells two plans apart).
+    #[serde(default, skip_serializing_if = "Option::is_none")]
+    pub currency: Option<String>,
 }
 
 /// What a unit's `by` arrays mean: the grid and the metric order, given once.
@@ -181,6 +186,7 @@ impl Header {
                     })
                     .collect(),
             }),
+            currency: exp.first().plant.currency.clone(),
         }
     }
 
@@ -192,9 +198,11 @@ impl Header {
     /// The same plan, whatever the shard. The recorded settings only explain
     /// a difference (the hash covers them), so an edit that leaves every
     /// compiled plant alone, such as a comment in the scenario, changes nothing.
+    /// The currency is left out too: a folder written before it was recorded
+    /// still resumes and merges with one that records it.
     pub fn same_plan(&self, other: &Header) -> bool {
-        Header { shard: Shard::ALL, settings: None, ..self.clone() }
-            == Header { shard: Shard::ALL, settings: None, ..other.clone() }
+        Header { shard: Shard::ALL, settings: None, currency: None, ..self.clone() }
+            == Header { shard: Shard::ALL, settings: None, currency: None, ..other.clone() }
     }
 
     /// Whether `self` (a folder's header) is `exp`'s plan with fewer

@@ -99,6 +99,9 @@ pub struct PointBuckets {
 pub struct Summary {
     /// The plan's content hash.
     pub plan_hash: String,
+    /// The scenario's currency, when it names one: every cost metric is in it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub currency: Option<String>,
     /// Factor names.
     pub factors: Vec<String>,
     /// Confidence of every interval.
@@ -147,6 +150,7 @@ pub fn summarize(header: &Header, units: &[Unit]) -> Result<Summary, String> {
     }
     Ok(Summary {
         plan_hash: header.hash.clone(),
+        currency: header.currency.clone(),
         factors: header.factors.clone(),
         confidence: CONFIDENCE,
         points,

@@ -37,8 +37,14 @@ fn currency(s: &Scenario, ctx: &Ctx) -> Result<Option<String>, ScenarioError> {
 pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError> {
     // Sections given as tables become YAML items first; their errors from
     // here on name the table's file, row and column.
-    let tables = super::tables::expand(&mut s, ctx)?;
-    let with_tables = Ctx { text: ctx.text, origin: ctx.origin, file: ctx.file.clone(), tables };
+    let expanded = super::tables::expand(&mut s, ctx)?;
+    let with_tables = Ctx {
+        text: ctx.text,
+        origin: ctx.origin,
+        file: ctx.file.clone(),
+        tables: expanded.origins,
+        moved: expanded.moved,
+    };
     let ctx = &with_tables;
     let root = FieldPath::root();
     if let Some(u) = &s.units {
@@ -52,6 +58,22 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
                     "bare numbers are metres: write `units: { length: m }`, and give other lengths \
                      their unit where they are written, e.g. `at: [\"150 ft\", \"40 ft\"]`",
                 ));
+        }
+    }
+    if let Some(m) = &s.measured_from_to {
+        let at = root.key("measured_from_to");
+        if m.file.trim().is_empty() {
+            return Err(ctx
+                .err(&at.key("file"), "the measured from-to chart names no file")
+                .with_hint("name the CSV matrix, relative to this scenario: `measured_from_to: { file: flows.csv, per: 8 h }`"));
+        }
+        if !(m.per.0 > 0.0) {
+            return Err(ctx
+                .err(
+                    &at.key("per"),
+                    "`per` must be longer than 0: the period the chart's loads were counted over",
+                )
+                .with_hint("e.g. `per: 8 h` for loads counted over a shift"));
         }
     }
     if s.plant.trim().is_empty() {
@@ -377,7 +399,7 @@ fn layout_file(
             .at_line(loc.as_ref().map(|l| l.line()), loc.as_ref().map(|l| l.column()))
             .with_hint("a layout file holds `layouts:` with one mapping per layout, as `layflow search --out` writes")
     })?;
-    let sub = Ctx { text: &text, origin: &path, file, tables: Vec::new() };
+    let sub = Ctx { text: &text, origin: &path, file, tables: Vec::new(), moved: Vec::new() };
     add_layouts(&spec.layouts, departments, locations, &sub, out)
 }
 

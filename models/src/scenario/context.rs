@@ -16,6 +16,9 @@ pub(crate) struct Ctx<'a> {
     pub file: String,
     /// Where the items read from table files came from (`tables.rs`).
     pub tables: Vec<TableOrigin>,
+    /// YAML items a table before them in a mixed list moved: (the item's
+    /// path after expansion, its path in the text), so messages find its line.
+    pub moved: Vec<(FieldPath, FieldPath)>,
 }
 
 /// The row of a table file that an item of the scenario (a location, a
@@ -76,9 +79,33 @@ impl Ctx<'_> {
         if let Some((o, keys)) = found {
             return ScenarioError::new(ErrorKind::Invalid, &o.file, message).at_cell(o.row, o.column(&keys));
         }
+        let path = self.in_text(path);
         ScenarioError::new(ErrorKind::Invalid, &self.file, message)
             .at_path(path.to_string())
-            .at_line(line_of(self.text, path), None)
+            .at_line(line_of(self.text, &path), None)
+    }
+
+    /// `path` as the scenario text has it (a YAML item after a table in a mixed list moved).
+    pub(crate) fn in_text(&self, path: &FieldPath) -> FieldPath {
+        self.moved.iter().find_map(|(from, to)| path.moved(from, to)).unwrap_or_else(|| path.clone())
+    }
+
+    /// Where the item at `path` is written, in words: `row 4 of products.csv`
+    /// or `line 12 of plant.yaml`, for a message that names two places.
+    pub(crate) fn place(&self, path: &FieldPath) -> String {
+        let found = self
+            .tables
+            .iter()
+            .filter(|o| path.keys_below(&o.prefix).is_some())
+            .max_by_key(|o| o.prefix.len());
+        if let Some(o) = found {
+            return format!("row {} of {}", o.row, o.file);
+        }
+        let path = self.in_text(path);
+        match line_of(self.text, &path) {
+            Some(l) => format!("line {l} of {}", self.file),
+            None => format!("{path} of {}", self.file),
+        }
     }
 }
 
@@ -102,15 +129,18 @@ pub(crate) fn check_unique<'a>(
     what: &str,
     ids: impl IntoIterator<Item = (&'a str, FieldPath)>,
 ) -> Result<(), ScenarioError> {
-    let mut seen: Vec<&str> = Vec::new();
+    let mut seen: Vec<(&str, FieldPath)> = Vec::new();
     for (id, path) in ids {
         if id.trim().is_empty() {
             return Err(ctx.err(&path, format!("{what} id is empty")));
         }
-        if seen.contains(&id) {
-            return Err(ctx.err(&path, format!("{what} \"{id}\" is defined twice")));
+        if let Some((_, first)) = seen.iter().find(|(s, _)| *s == id) {
+            // Both places: with tables and YAML mixed, the first may be in another file.
+            return Err(
+                ctx.err(&path, format!("{what} \"{id}\" is defined twice (first at {})", ctx.place(first)))
+            );
         }
-        seen.push(id);
+        seen.push((id, path));
     }
     Ok(())
 }

@@ -519,26 +519,14 @@ pub(crate) fn read_orders(
         let due = (durations && col[3] != usize::MAX).then(|| (DUE, r[col[3]].to_string()));
         std::iter::once(q).chain(t).chain(due)
     };
-    let comma_at = if sep == b',' {
-        None
-    } else {
-        rows.iter().find_map(|(l, r)| number_cells(r).find(|(_, c)| c.contains(',')).map(|(n, _)| (*l, n)))
-    };
-    if let Some((comma_line, comma_col)) = comma_at {
-        if let Some((l, r)) = rows.iter().find(|(_, r)| number_cells(r).any(|(_, c)| c.contains('.'))) {
-            let (name, cell) = number_cells(r).find(|(_, c)| c.contains('.')).expect("found above");
-            return Err((
-                Some(*l),
-                Some(name),
-                format!(
-                    "\"{cell}\" has a decimal point, but this file writes decimals with a comma \
-                     (line {comma_line}, column {comma_col})"
-                ),
-                Some("write every number in the file one way: 2,5 (or 2.5 in a comma-separated file)".into()),
-            ));
-        }
-    }
-    let decimal = |cell: &str| if comma_at.is_some() { cell.replace(',', ".") } else { cell.to_string() };
+    let cells: Vec<(u64, &str, String)> =
+        rows.iter().flat_map(|(l, r)| number_cells(r).map(move |(n, c)| (*l, n, c))).collect();
+    let decimals =
+        crate::decimals::decide(sep, cells.iter().map(|(l, n, c)| (*l, *n, c.as_str()))).map_err(|e| {
+            let column = COLUMNS.iter().copied().find(|c| *c == e.column);
+            (Some(e.line), column, e.message, Some(e.hint))
+        })?;
+    let decimal = |cell: &str| decimals.read(cell);
     let mut orders = Vec::new();
     let mut lines = Vec::new();
     let mut previous: Option<(f64, u64)> = None;

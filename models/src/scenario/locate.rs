@@ -53,6 +53,12 @@ impl FieldPath {
         )
     }
 
+    /// This path with its `from` prefix replaced by `to`, when it lies at or below `from`.
+    pub(crate) fn moved(&self, from: &FieldPath, to: &FieldPath) -> Option<FieldPath> {
+        let rest = self.0.strip_prefix(from.0.as_slice())?;
+        Some(FieldPath(to.0.iter().chain(rest).cloned().collect()))
+    }
+
     /// This path followed by an index.
     pub(crate) fn index(&self, i: usize) -> Self {
         let mut v = self.0.clone();

@@ -68,8 +68,37 @@ pub fn parse_scenario(text: &str, origin: &Path) -> Result<Plant, ScenarioError>
     let de = serde_norway::Deserializer::from_str(text);
     let scenario: schema::Scenario =
         serde_path_to_error::deserialize(de).map_err(|e| schema_error(&e, &file))?;
-    let ctx = context::Ctx { text, origin, file, tables: Vec::new() };
+    let ctx = context::Ctx { text, origin, file, tables: Vec::new(), moved: Vec::new() };
     compile::compile(scenario, &ctx)
+}
+
+/// Where a scenario's `measured_from_to` points: the chart's file (relative
+/// to the scenario), the period its cells count loads over, and the line of
+/// the field, for messages. Read apart from the plant (which the simulation
+/// and experiments' content hashes see), because only `check` and `search` use it.
+#[derive(Debug, Clone, PartialEq)]
+pub struct MeasuredSource {
+    /// The chart's file, joined to the scenario's folder.
+    pub path: std::path::PathBuf,
+    /// The period each cell counts loads over, seconds.
+    pub per_s: f64,
+    /// The line of `measured_from_to` in the scenario.
+    pub line: Option<usize>,
+}
+
+/// The `measured_from_to` of the scenario at `path` (already loaded, so
+/// checked), or `None` without one.
+pub fn measured_source(path: &Path) -> Option<MeasuredSource> {
+    let text = crate::textfile::read_text(path).ok()?;
+    let v: serde_norway::Value = serde_norway::from_str(&text).ok()?;
+    let m = v.get("measured_from_to")?;
+    let file = m.get("file")?.as_str()?;
+    let per = <crate::units::Seconds as serde::Deserialize>::deserialize(m.get("per")?.clone()).ok()?.0;
+    Some(MeasuredSource {
+        path: path.parent().unwrap_or_else(|| Path::new("")).join(file),
+        per_s: per,
+        line: locate::line_of(&text, &locate::FieldPath::root().key("measured_from_to")),
+    })
 }
 
 /// The 1-based line of the field at `path` (`departments[2].machines`) in

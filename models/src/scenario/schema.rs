@@ -43,6 +43,9 @@ pub(crate) struct Scenario {
     pub currency: Option<String>,
     /// `queue_order: priority`: which waiting lot a free machine takes, every department unless it says otherwise.
     pub queue_order: Option<QueueOrderSpec>,
+    /// `measured_from_to: { file: flows.csv, per: 8 h }`: a measured from-to chart for
+    /// `check` and `search` (read by them: see [`super::measured_source`]).
+    pub measured_from_to: Option<MeasuredFromToSpec>,
 }
 
 /// `queue_order: fifo | priority | earliest-due | shortest-time` (departments),
@@ -61,6 +64,15 @@ pub(crate) enum QueueOrderSpec {
 #[serde(deny_unknown_fields)]
 pub(crate) struct DueSpec {
     pub within: Seconds,
+}
+
+/// `measured_from_to: { file: flows.csv, per: 8 h }`: the file (relative to the
+/// scenario) and the period its cells count loads over, as `--from-to` and `--from-to-per`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct MeasuredFromToSpec {
+    pub file: String,
+    pub per: Seconds,
 }
 
 /// `fleet_choice: first-listed | nearest-idle`.
@@ -325,19 +337,78 @@ pub(crate) struct TableSpec {
     pub time_unit: Option<String>,
 }
 
-/// A section written as a YAML list or read from a table: `- {...}` items,
-/// or `{ table: ..., columns: ... }`. The table is expanded into `items`
-/// before compiling, so compile code reads the list alone (through `Deref`).
+/// A section written as a YAML list or read from tables: `- {...}` items,
+/// `{ table: ..., columns: ... }`, or a list mixing both
+/// (`[ { table: depts.csv, columns: {...} }, { id: rework-cell, machines: 1 } ]`).
+/// The tables are expanded in their places before compiling, so compile
+/// code reads the list alone (through `Deref`).
 #[derive(Debug)]
 pub(crate) struct Listed<T> {
+    /// The YAML items, in file order.
     pub items: Vec<T>,
-    pub table: Option<TableSpec>,
+    /// The tables, each with its index in the YAML list (`None` for a section that is one table).
+    pub tables: Vec<(Option<usize>, TableSpec)>,
 }
 
 impl<T> std::ops::Deref for Listed<T> {
     type Target = Vec<T>;
     fn deref(&self) -> &Vec<T> {
         &self.items
+    }
+}
+
+/// The keys of a table entry; no item of a listed section has a field so named.
+const TABLE_KEYS: &[&str] = &["table", "sheet", "columns", "time_unit"];
+
+/// One entry of a listed section: an item, or a table.
+pub(crate) enum Entry<T> {
+    Item(T),
+    Table(TableSpec),
+}
+
+/// A mapping whose first key was read already (to tell a table from an item),
+/// given back first, the rest read from the file: every value is still read
+/// from the scenario's own deserializer, so errors keep their paths and lines.
+struct Replay<A> {
+    first: Option<String>,
+    rest: A,
+}
+
+impl<'de, A: MapAccess<'de>> MapAccess<'de> for Replay<A> {
+    type Error = A::Error;
+    fn next_key_seed<K: de::DeserializeSeed<'de>>(&mut self, seed: K) -> Result<Option<K::Value>, A::Error> {
+        match self.first.take() {
+            Some(k) => seed.deserialize(de::value::StringDeserializer::<A::Error>::new(k)).map(Some),
+            None => self.rest.next_key_seed(seed),
+        }
+    }
+    fn next_value_seed<V: de::DeserializeSeed<'de>>(&mut self, seed: V) -> Result<V::Value, A::Error> {
+        self.rest.next_value_seed(seed)
+    }
+}
+
+impl<'de, T: Deserialize<'de>> Deserialize<'de> for Entry<T> {
+    fn deserialize<D: Deserializer<'de>>(d: D) -> Result<Self, D::Error> {
+        struct V<T>(std::marker::PhantomData<T>);
+        impl<'de, T: Deserialize<'de>> Visitor<'de> for V<T> {
+            type Value = Entry<T>;
+            fn expecting(&self, f: &mut fmt::Formatter) -> fmt::Result {
+                // serde's own words for the item, which words.rs turns into an example.
+                let name = std::any::type_name::<T>().rsplit("::").next().unwrap_or("");
+                write!(f, "struct {name}")
+            }
+            fn visit_map<A: MapAccess<'de>>(self, mut m: A) -> Result<Entry<T>, A::Error> {
+                let first = m.next_key::<String>()?;
+                let table = first.as_deref().is_some_and(|k| TABLE_KEYS.contains(&k));
+                let replay = de::value::MapAccessDeserializer::new(Replay { first, rest: m });
+                if table {
+                    TableSpec::deserialize(replay).map(Entry::Table)
+                } else {
+                    T::deserialize(replay).map(Entry::Item)
+                }
+            }
+        }
+        d.deserialize_map(V(std::marker::PhantomData))
     }
 }
 
@@ -350,15 +421,20 @@ impl<'de, T: Deserialize<'de>> Deserialize<'de> for Listed<T> {
                 f.write_str("a sequence, or a table such as { table: file.csv, columns: { ... } }")
             }
             fn visit_seq<A: SeqAccess<'de>>(self, mut s: A) -> Result<Listed<T>, A::Error> {
-                let mut items = Vec::new();
-                while let Some(item) = s.next_element::<T>()? {
-                    items.push(item);
+                let (mut items, mut tables) = (Vec::new(), Vec::new());
+                let mut i = 0;
+                while let Some(entry) = s.next_element::<Entry<T>>()? {
+                    match entry {
+                        Entry::Item(item) => items.push(item),
+                        Entry::Table(t) => tables.push((Some(i), t)),
+                    }
+                    i += 1;
                 }
-                Ok(Listed { items, table: None })
+                Ok(Listed { items, tables })
             }
             fn visit_map<A: MapAccess<'de>>(self, m: A) -> Result<Listed<T>, A::Error> {
                 let t = TableSpec::deserialize(de::value::MapAccessDeserializer::new(m))?;
-                Ok(Listed { items: Vec::new(), table: Some(t) })
+                Ok(Listed { items: Vec::new(), tables: vec![(None, t)] })
             }
         }
         d.deserialize_any(V(std::marker::PhantomData))

@@ -11,6 +11,8 @@ use std::path::Path;
 pub(crate) struct Table {
     /// The sheet read, for a spreadsheet.
     pub sheet: Option<String>,
+    /// The cell separator of a CSV file (`None` for a sheet, whose cells need none).
+    pub separator: Option<u8>,
     /// The header row's number (1-based).
     pub header_row: usize,
     pub headers: Vec<String>,
@@ -23,6 +25,9 @@ pub(crate) struct Row {
     /// 1-based, as the file (the CSV line) or the sheet numbers it.
     pub number: usize,
     pub cells: Vec<String>,
+    /// Where a sheet stored a number rather than text: that cell's text is
+    /// ours (`12.5`), so it says nothing about how the file writes decimals.
+    pub stored_numbers: Vec<bool>,
 }
 
 impl Row {
@@ -97,11 +102,12 @@ pub(crate) fn separator(text: &str) -> u8 {
 
 /// Parses CSV text (already decoded) into a table.
 pub(crate) fn parse_csv(text: &str) -> Result<Table, ReadError> {
+    let sep = separator(text);
     let mut reader = csv::ReaderBuilder::new()
         .has_headers(false)
         .flexible(true)
         .trim(csv::Trim::All)
-        .delimiter(separator(text))
+        .delimiter(sep)
         .from_reader(text.as_bytes());
     // A record's own position is where the reader started looking for it,
     // before any blank lines, so a record's line is taken from where it
@@ -130,7 +136,7 @@ pub(crate) fn parse_csv(text: &str) -> Result<Table, ReadError> {
         if header.is_none() {
             header = Some((line, cells));
         } else {
-            rows.push(Row { number: line, cells });
+            rows.push(Row { number: line, cells, stored_numbers: Vec::new() });
         }
     }
     let Some((header_row, headers)) = header else {
@@ -140,7 +146,7 @@ pub(crate) fn parse_csv(text: &str) -> Result<Table, ReadError> {
             Some("the first line must be a header row naming the columns"),
         ));
     };
-    Ok(Table { sheet: None, header_row, headers, rows })
+    Ok(Table { sheet: None, separator: Some(sep), header_row, headers, rows })
 }
 
 /// Reads sheet `sheet` (the first sheet when `None`) of the spreadsheet at
@@ -185,6 +191,8 @@ pub(crate) fn read_sheet(path: &Path, sheet: Option<&str>) -> Result<Table, Read
     for (i, r) in range.rows().enumerate() {
         // Cells to the left of the used range are empty; keep columns where the sheet has them.
         let mut cells = vec![String::new(); first_col];
+        let mut stored_numbers = vec![false; first_col];
+        stored_numbers.extend(r.iter().map(|c| matches!(c, Data::Float(_) | Data::Int(_))));
         cells.extend(r.iter().map(|c| match c {
             Data::Empty => String::new(),
             Data::String(s) => s.trim().to_string(),
@@ -201,7 +209,7 @@ pub(crate) fn read_sheet(path: &Path, sheet: Option<&str>) -> Result<Table, Read
         if header.is_none() {
             header = Some((number, cells));
         } else {
-            rows.push(Row { number, cells });
+            rows.push(Row { number, cells, stored_numbers });
         }
     }
     let Some((header_row, headers)) = header else {
@@ -211,7 +219,7 @@ pub(crate) fn read_sheet(path: &Path, sheet: Option<&str>) -> Result<Table, Read
             Some("the first row must be a header row naming the columns"),
         ));
     };
-    Ok(Table { sheet: Some(name), header_row, headers, rows })
+    Ok(Table { sheet: Some(name), separator: None, header_row, headers, rows })
 }
 
 #[cfg(test)]

@@ -17,7 +17,7 @@ use super::context::{Ctx, TableOrigin};
 use super::error::{ErrorKind, ScenarioError};
 use super::locate::FieldPath;
 use super::schema::BRANCH_SUM_TOLERANCE;
-use super::schema::{parse_factor, Ordered, Scenario, TableSpec};
+use super::schema::{parse_factor, Listed, Ordered, Scenario, TableSpec};
 use super::table_read::{self, Row, Table};
 use super::words::type_error;
 use crate::dist::rounded;
@@ -69,57 +69,48 @@ fn example(key: &str) -> &'static str {
     }
 }
 
+/// Where the scenario's items came from: table rows, and YAML items that a
+/// table before them in a mixed list moved to another index.
+pub(crate) struct Expanded {
+    pub origins: Vec<TableOrigin>,
+    /// (the item's path after expansion, its path in the scenario text).
+    pub moved: Vec<(FieldPath, FieldPath)>,
+}
+
 /// Reads every table the scenario names into its sections, in the order
 /// later sections need them; returns where each item came from.
-pub(crate) fn expand(s: &mut Scenario, ctx: &Ctx) -> Result<Vec<TableOrigin>, ScenarioError> {
+pub(crate) fn expand(s: &mut Scenario, ctx: &Ctx) -> Result<Expanded, ScenarioError> {
     let mut origins = Vec::new();
-    if let Some(spec) = s.locations.table.take() {
-        let t = Loaded::open(&spec, FieldPath::root().key("locations"), ctx, None, &["id", "x", "y"])?;
-        for (i, row) in t.table.rows.iter().enumerate() {
-            for k in ["x", "y"] {
-                if t.cell(row, k).is_empty() {
-                    return Err(t
-                        .cell_err(row, k, format!("the cell is empty; expected {}", example(k)))
-                        .with_hint("every location needs its pick-up/drop-off point: x and y in metres"));
-                }
+    let mut moved = Vec::new();
+    let mut places = Places { ctx, origins: &mut origins, moved: &mut moved };
+    places.listed(&mut s.locations, "locations", &["id", "x", "y"], |t, row, origin, ctx| {
+        for k in ["x", "y"] {
+            if t.cell(row, k).is_empty() {
+                return Err(t
+                    .cell_err(row, k, format!("the cell is empty; expected {}", example(k)))
+                    .with_hint("every location needs its pick-up/drop-off point: x and y in metres"));
             }
-            let mut node = t.pass_through(row, &["x", "y"]);
-            let xy = Node::Seq(vec![
-                Node::Cell(t.cell(row, "x").to_string()),
-                Node::Cell(t.cell(row, "y").to_string()),
-            ]);
-            if let Node::Map(m) = &mut node {
-                m.push(("at".to_string(), xy));
-            }
-            let mut origin = t.origin(FieldPath::root().key("locations").index(i), row);
-            origin.columns.push(("at".to_string(), t.header("x").to_string()));
-            let item = t.item(row, node, &origin, ctx)?;
-            s.locations.items.push(item);
-            origins.push(origin);
         }
-    }
-    if let Some(spec) = s.departments.table.take() {
-        let t = Loaded::open(&spec, FieldPath::root().key("departments"), ctx, None, &["id"])?;
-        for (i, row) in t.table.rows.iter().enumerate() {
-            let origin = t.origin(FieldPath::root().key("departments").index(i), row);
-            let item = t.item(row, t.pass_through(row, &[]), &origin, ctx)?;
-            s.departments.items.push(item);
-            origins.push(origin);
+        let mut node = t.pass_through(row, &["x", "y"]);
+        let xy = Node::Seq(vec![
+            Node::Cell(t.cell(row, "x").to_string()),
+            Node::Cell(t.cell(row, "y").to_string()),
+        ]);
+        if let Node::Map(m) = &mut node {
+            m.push(("at".to_string(), xy));
         }
-    }
+        origin.columns.push(("at".to_string(), t.header("x").to_string()));
+        t.item(row, node, origin, ctx)
+    })?;
+    places.listed(&mut s.departments, "departments", &["id"], |t, row, origin, ctx| {
+        t.item(row, t.pass_through(row, &[]), origin, ctx)
+    })?;
     if let Some(spec) = s.layouts.table.take() {
-        layouts(s, &spec, ctx, &mut origins)?;
+        layouts(s, &spec, ctx, places.origins)?;
     }
-    if let Some(spec) = s.products.table.take() {
-        let t = Loaded::open(&spec, FieldPath::root().key("products"), ctx, None, &["id"])?;
-        let first = s.products.items.len();
-        for (i, row) in t.table.rows.iter().enumerate() {
-            let origin = t.origin(FieldPath::root().key("products").index(first + i), row);
-            let item = t.item(row, t.pass_through(row, &[]), &origin, ctx)?;
-            s.products.items.push(item);
-            origins.push(origin);
-        }
-    }
+    places.listed(&mut s.products, "products", &["id"], |t, row, origin, ctx| {
+        t.item(row, t.pass_through(row, &[]), origin, ctx)
+    })?;
     if let Some(spec) = s.demand.take() {
         demand(s, &spec, ctx, &mut origins)?;
     }
@@ -133,10 +124,14 @@ pub(crate) fn expand(s: &mut Scenario, ctx: &Ctx) -> Result<Vec<TableOrigin>, Sc
     if let Some(i) = s.products.iter().position(|p| p.routing.is_none()) {
         let id = &s.products[i].id;
         let from_table = origins.iter().any(|o| o.prefix == pp.index(i));
+        // A YAML product after a products table is named at its own line.
+        let ctx =
+            &Ctx { text: ctx.text, origin: ctx.origin, file: ctx.file.clone(), tables: Vec::new(), moved };
+        let in_text = ctx.in_text(&pp.index(i));
         return Err(match &routed {
             None if !from_table => ScenarioError::new(ErrorKind::Schema, &ctx.file, "missing field \"routing\"")
-                .at_path(pp.index(i).to_string())
-                .at_line(super::locate::line_of(ctx.text, &pp.index(i)), None)
+                .at_path(in_text.to_string())
+                .at_line(super::locate::line_of(ctx.text, &in_text), None)
                 .with_hint("add `routing:` here, or give the steps in a `routings:` table"),
             None => ctx
                 .err_with(&origins, &pp.index(i).key("id"), format!("part \"{id}\" has no operations"))
@@ -149,7 +144,58 @@ pub(crate) fn expand(s: &mut Scenario, ctx: &Ctx) -> Result<Vec<TableOrigin>, Sc
                 ),
         });
     }
-    Ok(origins)
+    Ok(Expanded { origins, moved })
+}
+
+/// The bookkeeping of expanding the listed sections in place.
+struct Places<'a, 'c> {
+    ctx: &'a Ctx<'c>,
+    origins: &'a mut Vec<TableOrigin>,
+    moved: &'a mut Vec<(FieldPath, FieldPath)>,
+}
+
+impl Places<'_, '_> {
+    /// Expands `list` (section `key`): each table's rows, as `row_item`
+    /// makes them, take the table's place among the YAML items.
+    fn listed<T>(
+        &mut self,
+        list: &mut Listed<T>,
+        key: &str,
+        required: &[&str],
+        row_item: impl Fn(&Loaded, &Row, &mut TableOrigin, &Ctx) -> Result<T, ScenarioError>,
+    ) -> Result<(), ScenarioError> {
+        if list.tables.is_empty() {
+            return Ok(());
+        }
+        let sec = FieldPath::root().key(key);
+        let mut tables = std::mem::take(&mut list.tables).into_iter().peekable();
+        let mut yaml = std::mem::take(&mut list.items).into_iter();
+        let mut out = Vec::with_capacity(yaml.len());
+        for k in 0..yaml.len() + tables.len() {
+            if tables.peek().is_some_and(|(at, _)| at.is_none_or(|a| a == k)) {
+                let Some((at, spec)) = tables.next() else { break };
+                let t = Loaded::open(
+                    &spec,
+                    at.map_or_else(|| sec.clone(), |a| sec.index(a)),
+                    self.ctx,
+                    None,
+                    required,
+                )?;
+                for row in &t.table.rows {
+                    let mut origin = t.origin(sec.index(out.len()), row);
+                    out.push(row_item(&t, row, &mut origin, self.ctx)?);
+                    self.origins.push(origin);
+                }
+            } else if let Some(item) = yaml.next() {
+                if out.len() != k {
+                    self.moved.push((sec.index(out.len()), sec.index(k)));
+                }
+                out.push(item);
+            }
+        }
+        list.items = out;
+        Ok(())
+    }
 }
 
 /// `layouts: { table: ..., columns: { layout, department, location } }`: one row per department per layout.
@@ -399,7 +445,7 @@ impl Loaded {
         };
         let sheet_name = |t: Option<&str>| t.map_or(String::new(), |s| format!(", sheet {s}"));
         let shown_for = |sheet: &str| format!("{}{sheet} (the `{at}` table of {})", path.display(), ctx.file);
-        let table = read.map_err(|e| {
+        let mut table = read.map_err(|e| {
             let shown = shown_for(&sheet_name(spec.sheet.as_deref()));
             let err = match e.row {
                 Some(r) => ScenarioError::new(ErrorKind::Read, &shown, e.message).at_cell(r, None),
@@ -459,6 +505,7 @@ impl Loaded {
                 ));
             }
         }
+        decimal_commas(&mut table, &cols, &shown)?;
         Ok(Loaded { shown, at, table, cols })
     }
 
@@ -717,6 +764,46 @@ impl Loaded {
                 .with_hint(hint)
         })
     }
+}
+
+/// Keys whose cells are names, never numbers: a dotted part number such as
+/// `4711.02` there says nothing about how the file writes decimals.
+const NAME_KEYS: &[&str] =
+    &["id", "part", "product", "department", "location", "layout", "name", "distribution", "dock", "next"];
+
+/// Reads the decimal commas of a `;`- or tab-separated file (or a sheet's
+/// text cells) as points, by the one rule order traces follow
+/// ([`crate::decimals`]), before any cell is read as a number.
+fn decimal_commas(
+    table: &mut Table,
+    cols: &[(String, String, usize)],
+    shown: &str,
+) -> Result<(), ScenarioError> {
+    let numbers: Vec<&(String, String, usize)> =
+        cols.iter().filter(|(k, _, _)| !NAME_KEYS.contains(&k.as_str())).collect();
+    let cells = table.rows.iter().flat_map(|r| {
+        numbers
+            .iter()
+            .filter(|(_, _, c)| !r.stored_numbers.get(*c).copied().unwrap_or(false))
+            .map(move |(_, h, c)| (r.number as u64, h.as_str(), r.cell(*c)))
+    });
+    // A sheet has no separator to confuse a comma with.
+    let decimals = crate::decimals::decide(table.separator.unwrap_or(b';'), cells).map_err(|e| {
+        ScenarioError::new(ErrorKind::Invalid, shown, e.message)
+            .at_cell(e.line as usize, Some(&e.column))
+            .with_hint(e.hint)
+    })?;
+    if decimals == crate::decimals::Decimals::Comma {
+        for r in &mut table.rows {
+            for (_, _, c) in &numbers {
+                let stored = r.stored_numbers.get(*c).copied().unwrap_or(false);
+                if let Some(cell) = r.cells.get_mut(*c).filter(|_| !stored) {
+                    *cell = decimals.read(cell);
+                }
+            }
+        }
+    }
+    Ok(())
 }
 
 /// Puts `value` at the dotted `path` in a tree of mappings.
