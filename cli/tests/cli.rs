@@ -347,3 +347,40 @@ fn check_lists_queue_orders_priorities_and_due_dates_only_when_given() {
             .unwrap();
     assert!(v.get("queue_orders").is_none());
 }
+
+#[test]
+fn a_fleet_serves_waiting_requests_in_its_request_order_timed_by_hand() {
+    // scenarios/validation/request-order-hand.yaml gives the schedule of each
+    // order, derived by hand there; every move takes 10 min, so the flow
+    // times are exact (to the float's last digit).
+    let src = std::fs::read_to_string(root().join("scenarios/validation/request-order-hand.yaml")).unwrap();
+    let t = tempfile::tempdir().unwrap();
+    std::fs::copy(
+        root().join("scenarios/validation/request-order-hand.csv"),
+        t.path().join("request-order-hand.csv"),
+    )
+    .unwrap();
+    for (order, want) in [
+        ("fifo", [40.0, 49.0, 58.0]),
+        ("priority", [50.0, 59.0, 38.0]),
+        ("earliest-due", [30.0, 59.0 + 1.0 / 60.0, 38.0]),
+    ] {
+        let path = t.path().join(format!("{order}.yaml"));
+        std::fs::write(&path, src.replace("requests: fifo", &format!("requests: {order}"))).unwrap();
+        let out = layflow(&["run", path.to_str().unwrap(), "--format", "json"]);
+        assert!(out.status.success(), "{order}: {}", text(&out.stderr));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        let got: Vec<f64> = v["layouts"][0]["products"]
+            .as_array()
+            .unwrap()
+            .iter()
+            .map(|p| p["flow_time_s"]["mean"].as_f64().unwrap() / 60.0)
+            .collect();
+        for (g, w) in got.iter().zip(want) {
+            assert!(
+                (g - w).abs() < 1e-9,
+                "{order}: flow times (first, routine, rush) {got:?} min, by hand {want:?}"
+            );
+        }
+    }
+}
