@@ -9,6 +9,16 @@ use std::path::{Path, PathBuf};
 
 use layflow_models::{load_scenario, parse_scenario};
 
+/// A temporary folder holding a copy of every file in `src`, to edit one table of it.
+fn copy_of(src: &Path) -> tempfile::TempDir {
+    let dir = tempfile::tempdir().unwrap();
+    for e in std::fs::read_dir(src).unwrap() {
+        let p = e.unwrap().path();
+        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
+    }
+    dir
+}
+
 fn scenarios_dir() -> PathBuf {
     Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios")
 }
@@ -58,11 +68,7 @@ fn separators_byte_order_mark_and_crlf_read_alike() {
     for (name, sep, bom, crlf) in
         [("semicolon", ';', true, true), ("tab", '\t', false, true), ("comma", ',', true, false)]
     {
-        let dir = tempfile::tempdir().unwrap();
-        for e in std::fs::read_dir(&src).unwrap() {
-            let p = e.unwrap().path();
-            std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
-        }
+        let dir = copy_of(&src);
         let mut t = with_separator(&routings, sep);
         if crlf {
             t = t.replace('\n', "\r\n");
@@ -139,11 +145,7 @@ fn every_bad_table_fails_at_its_file_row_and_column() {
 #[test]
 fn the_corpus_base_loads_when_fixed() {
     let case = scenarios_dir().join("bad-tables/unknown-department");
-    let dir = tempfile::tempdir().unwrap();
-    for e in std::fs::read_dir(&case).unwrap() {
-        let p = e.unwrap().path();
-        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
-    }
+    let dir = copy_of(&case);
     let r = dir.path().join("routings.csv");
     let fixed = std::fs::read_to_string(&r).unwrap().replace("weldng", "welding");
     std::fs::write(&r, fixed).unwrap();
@@ -175,11 +177,7 @@ fn with_decimal_commas(text: &str) -> String {
 fn decimal_commas_are_read_per_file() {
     let src = scenarios_dir().join("tables-demo");
     let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
-    let dir = tempfile::tempdir().unwrap();
-    for e in std::fs::read_dir(&src).unwrap() {
-        let p = e.unwrap().path();
-        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
-    }
+    let dir = copy_of(&src);
     let routings = std::fs::read_to_string(src.join("routings.csv")).unwrap();
     let comma = with_decimal_commas(&with_separator(&routings, ';'));
     assert!(comma.contains(";0,4;") && comma.contains("0,92 / 0,08"), "{comma}");
@@ -210,11 +208,7 @@ fn decimal_commas_are_read_per_file() {
 fn yaml_items_and_tables_mix_in_one_section() {
     let src = scenarios_dir().join("tables-demo");
     let yaml = load_scenario(&scenarios_dir().join("demo.yaml")).unwrap();
-    let dir = tempfile::tempdir().unwrap();
-    for e in std::fs::read_dir(&src).unwrap() {
-        let p = e.unwrap().path();
-        std::fs::copy(&p, dir.path().join(p.file_name().unwrap())).unwrap();
-    }
+    let dir = copy_of(&src);
     let locations = std::fs::read_to_string(src.join("locations.csv")).unwrap();
     std::fs::write(dir.path().join("locations.csv"), locations.replacen("dock-west;0;35\r\n", "", 1))
         .unwrap();
