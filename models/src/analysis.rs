@@ -294,6 +294,16 @@ impl StaticPicture {
             visits.push(v);
             by_product.push(ft);
         }
+        // A batch machine's steps carry no time of their own: each load takes
+        // its share of a full batch, E[T(K)]/K. This is a lower bound on the
+        // machine's busy share (smaller batches cost more per load), and below
+        // 1 exactly when the machine keeps up once queues fill its batches
+        // (docs/formulas.md §24).
+        for (d, dep) in plant.departments.iter().enumerate() {
+            if let Some(b) = &dep.batch {
+                work_s_per_h[d] = arrivals[d] * b.mean_time_s(b.max) / f64::from(b.max);
+            }
+        }
         // Every product's chart added pair by pair in product order, as a dense sum would.
         let from_to =
             FlowChart::from_contributions(nd, by_product.iter().flat_map(FlowChart::iter).collect());

@@ -184,6 +184,35 @@ pub struct Department {
     /// Which waiting lot a free machine takes next (the plant's `queue_order`
     /// unless the department gives its own).
     pub queue_order: QueueOrder,
+    /// A batch machine's rules (an oven, a wash tank); `None`: one lot at a time.
+    pub batch: Option<Batching>,
+}
+
+/// How a batch department's machines work: each runs up to `max` loads
+/// together, started by the rule of docs/scenario-format.md "Batch machines".
+#[derive(Debug, Clone, PartialEq)]
+pub struct Batching {
+    /// K: the most loads one batch holds (at least 1).
+    pub max: u32,
+    /// A batch starts once this many compatible loads wait (1: as soon as one is there).
+    pub min: u32,
+    /// ... or at the latest once the oldest of them has waited this long, s; `None`: no limit.
+    pub max_wait_s: Option<f64>,
+    /// The batch's processing time, whatever its size.
+    pub time: Dist,
+    /// Added for each load beyond the first, s (0: the time does not depend on the size).
+    pub per_load_s: f64,
+    /// Per product (plant order): its compatibility group; all 0 when any mix may share a batch.
+    pub group_of: Vec<u32>,
+    /// Compatibility groups (1 when any mix may share a batch).
+    pub groups: u32,
+}
+
+impl Batching {
+    /// Mean time of a batch of `n` loads, s.
+    pub fn mean_time_s(&self, n: u32) -> f64 {
+        self.time.mean() + self.per_load_s * f64::from(n.saturating_sub(1))
+    }
 }
 
 /// Which waiting lot is served next: at a department, the lot a free machine
@@ -232,6 +261,9 @@ impl fmt::Debug for Department {
         }
         if self.queue_order != QueueOrder::Fifo {
             s.field("queue_order", &self.queue_order);
+        }
+        if let Some(b) = &self.batch {
+            s.field("batch", b);
         }
         s.finish()
     }

@@ -155,6 +155,7 @@ fn axis_of(unit: Unit) -> (&'static str, f64) {
         Unit::Share => ("share of time (%)", 100.0),
         Unit::PerHour => ("per hour", 1.0),
         Unit::Count => ("number", 1.0),
+        Unit::PerBatch => ("loads per batch", 1.0),
         Unit::MetresPerHour => ("metres per hour", 1.0),
         Unit::SecondsPerHour => ("mover-seconds per hour", 1.0),
         Unit::MoneyPerHour => ("cost per hour", 1.0),

@@ -165,6 +165,7 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         let breakdowns = l.departments.iter().any(|d| d.availability.is_some());
         let calendars = l.departments.iter().any(|d| d.utilization_scheduled.is_some());
         let setups = l.departments.iter().any(|d| d.setup_share.is_some());
+        let batches = l.departments.iter().any(|d| d.batch_size_mean.is_some());
         let mut header =
             vec!["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"];
         if calendars {
@@ -172,6 +173,9 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         }
         if setups {
             header.extend(["setup", "setup predicted"]);
+        }
+        if batches {
+            header.extend(["batch size", "batch fill"]);
         }
         if staging {
             header.push("blocked");
@@ -206,6 +210,10 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             if setups {
                 row.push(dep.setup_share.as_ref().map_or(String::new(), pct));
                 row.push(dep.setup_share_predicted.map_or(String::new(), share));
+            }
+            if batches {
+                row.push(dep.batch_size_mean.as_ref().map_or(String::new(), |e| pm(e, 1.0)));
+                row.push(dep.batch_fill_share.as_ref().map_or(String::new(), pct));
             }
             if staging {
                 row.push(dep.blocked_share.as_ref().filter(|_| machines > 0).map_or(String::new(), pct));

@@ -33,6 +33,15 @@ fn due(r: &RepStats, p: Option<usize>) -> Option<&DueStats> {
     }
 }
 
+/// Loads in department `d`'s batches ÷ (its batches × `per`): NaN when no
+/// batch started in the window (nothing observed, not a zero).
+fn batch_share(r: &RepStats, d: usize, per: f64) -> f64 {
+    match r.batch.get(d) {
+        Some(&(batches, loads)) if batches > 0 => loads as f64 / (batches as f64 * per),
+        _ => f64::NAN,
+    }
+}
+
 /// `x` per hour of the replication's observation window.
 fn per_h(x: f64, r: &RepStats) -> f64 {
     x / r.window_s * 3600.0
@@ -100,6 +109,10 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
             }
         }
         Id::DepartmentSetup => r.setup[i],
+        Id::DepartmentBatchSize => batch_share(r, i, 1.0),
+        Id::DepartmentBatchFill => {
+            plant.departments[i].batch.as_ref().map_or(f64::NAN, |b| batch_share(r, i, f64::from(b.max)))
+        }
         Id::FleetUtilization => share(r.fleets[i].busy_s()),
         Id::FleetLoadedTravel => share(r.fleets[i].loaded_s),
         Id::FleetEmptyTravel => share(r.fleets[i].empty_s),

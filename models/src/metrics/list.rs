@@ -52,6 +52,7 @@ fn applies(plant: &Plant, f: &Features, d: &Def, i: usize) -> bool {
         (When::Calendar, Scope::Department) => plant.departments[i].calendar.is_some(),
         (When::Calendar, Scope::Fleet) => plant.fleets()[i].operators.duty.is_some(),
         (When::Setups, Scope::Department) => plant.departments[i].setups.is_some(),
+        (When::Batches, Scope::Department) => plant.departments[i].batch.is_some(),
         (When::DueDates, Scope::Plant) => f.due,
         (When::DueDates, Scope::Product) => product_has_due_dates(plant, i),
         _ => false,

@@ -71,6 +71,8 @@ pub enum Unit {
     PerHour,
     /// A time-average number of lots or movers.
     Count,
+    /// Loads per batch (a mean over batches).
+    PerBatch,
     /// Metres per hour.
     MetresPerHour,
     /// Mover-seconds per hour.
@@ -97,6 +99,7 @@ impl Unit {
             Unit::Share => "share (0–1)",
             Unit::PerHour => "per hour",
             Unit::Count => "lots (time-average)",
+            Unit::PerBatch => "loads per batch",
             Unit::MetresPerHour => "m/h",
             Unit::SecondsPerHour => "mover-s/h",
             Unit::MoneyPerHour => "money/h",
@@ -127,6 +130,8 @@ pub enum When {
     Setups,
     /// Some lot has a due date (the plant); the product's lots have one (a product).
     DueDates,
+    /// The department is a batch machine (`batch`).
+    Batches,
 }
 
 /// Every metric, one variant each: the key [`crate::metrics::value`] computes.
@@ -165,6 +170,8 @@ pub enum Id {
     DepartmentAvailability,
     DepartmentScheduledUtilization,
     DepartmentSetup,
+    DepartmentBatchSize,
+    DepartmentBatchFill,
     FleetUtilization,
     FleetLoadedTravel,
     FleetEmptyTravel,
@@ -250,7 +257,9 @@ impl Def {
 
 use Better::{Higher, Lower, Neither};
 use Scope::{Department, Fleet, Plant, Product, Segment};
-use Unit::{Count, MetresPerHour, MoneyPerHour, MoneyPerLoad, PerHour, Seconds, SecondsPerHour, Share};
+use Unit::{
+    Count, MetresPerHour, MoneyPerHour, MoneyPerLoad, PerBatch, PerHour, Seconds, SecondsPerHour, Share,
+};
 
 #[allow(clippy::too_many_arguments)] // one row of the table, read as a row
 const fn def(
@@ -362,6 +371,10 @@ pub const DEFS: &[Def] = &[
         When::Calendar, "busy machine time ÷ the calendar's scheduled machine time"),
     def(Id::DepartmentSetup, Department, "setup_share", "setup", Share, Lower, When::Setups,
         "time-average share of machines setting up (counted in utilization)"),
+    def(Id::DepartmentBatchSize, Department, "batch_size_mean", "batch size", PerBatch, Neither, When::Batches,
+        "loads in the batches started in the window ÷ those batches"),
+    def(Id::DepartmentBatchFill, Department, "batch_fill_share", "batch fill", Share, Higher, When::Batches,
+        "loads in the batches started in the window ÷ (those batches × max, the most a batch holds)"),
     // Each fleet.
     def(Id::FleetUtilization, Fleet, "utilization", "busy", Share, Neither, When::Always,
         "mover time loaded, empty, loading/unloading, blocked at a full inbound area or held up in the aisles \

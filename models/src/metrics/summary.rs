@@ -88,6 +88,12 @@ pub struct DepartmentSummary {
     /// The static estimate of the setup share (random mix of products), with setups.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub setup_share_predicted: Option<f64>,
+    /// Mean loads per batch; present for a batch department.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub batch_size_mean: Option<Estimate>,
+    /// Mean loads per batch ÷ the most a batch holds; present for a batch department.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub batch_fill_share: Option<Estimate>,
 }
 
 /// Per-fleet results.
@@ -406,6 +412,8 @@ impl<'a> LayoutAccumulator<'a> {
                     scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
                     setup_share: dep.setups.as_ref().map(|_| of(Id::DepartmentSetup, d)),
                     setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
+                    batch_size_mean: dep.batch.as_ref().map(|_| of(Id::DepartmentBatchSize, d)),
+                    batch_fill_share: dep.batch.as_ref().map(|_| of(Id::DepartmentBatchFill, d)),
                 })
                 .collect(),
             fleets: plant
@@ -520,6 +528,8 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
             (dep.breakdowns.is_some(), Id::DepartmentAvailability),
             (dep.calendar.is_some(), Id::DepartmentScheduledUtilization),
             (dep.setups.is_some(), Id::DepartmentSetup),
+            (dep.batch.is_some(), Id::DepartmentBatchSize),
+            (dep.batch.is_some(), Id::DepartmentBatchFill),
         ];
         out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, d)));
     }

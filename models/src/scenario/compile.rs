@@ -10,7 +10,7 @@ use super::context::{check_unique, resolve, Ctx};
 use super::error::{ErrorKind, ScenarioError};
 use super::locate::FieldPath;
 use super::schema::{DockSpec, FleetChoiceSpec, Ordered, Scenario, WhenFullSpec};
-use super::{area, demand, distance, fleet, routing, staging, work};
+use super::{area, batches, demand, distance, fleet, routing, staging, work};
 use crate::limits;
 use crate::plant::{Department, DepartmentRole, FleetChoice, Layout, Location, Plant, RunSettings};
 use crate::units::format_duration;
@@ -125,6 +125,7 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
     let products = routing::products(&s, &departments, ctx)?;
     let orders = demand::order_trace(&s, &products, ctx)?;
     split_without_staging(&s, &departments, &products, ctx)?;
+    batches::check(&s, &departments, &products, ctx)?;
     super::queueing::check(&s, &departments, &products, orders.as_ref().map(|o| o.orders.as_slice()), ctx)?;
     let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
     let cost_per_load_metre = s.costs.as_ref().map_or(0.0, |c| c.per_load_metre);
@@ -349,6 +350,17 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             None => None,
             Some(st) => Some(work::setups(st, &d.id, &dp, &product_ids, ctx)?),
         };
+        let batch = match &d.batch {
+            None => None,
+            Some(_) if role != DepartmentRole::Work => {
+                return Err(ctx
+                    .err(&dp.key("batch"), format!("dock \"{}\" cannot have `batch`", d.id))
+                    .with_hint(
+                        "give `batch` to the work department whose machines run several loads together",
+                    ))
+            }
+            Some(b) => Some(batches::batching(b, d, &dp, &product_ids, ctx)?),
+        };
         let footprint = area::footprint(d.area, d.size.as_deref(), "department", &d.id, &dp, ctx)?;
         out.push(Department {
             id: d.id.clone(),
@@ -361,6 +373,7 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             setups,
             footprint,
             queue_order: super::queueing::department_order(s, i),
+            batch,
         });
     }
     for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {

@@ -8,6 +8,7 @@
 
 mod alternatives;
 mod area;
+mod batches;
 mod compile;
 mod context;
 mod demand;

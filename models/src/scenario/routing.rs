@@ -218,6 +218,18 @@ fn routing(
                 }
                 (None, Vec::new())
             }
+            DepartmentRole::Work if departments[d].batch.is_some() => {
+                // The batch's time is the department's: one number for every load in the batch.
+                if st.time.is_some() {
+                    return Err(ctx
+                        .err(
+                            &sp.key("time"),
+                            format!("step \"{}\" at batch department \"{}\" cannot take its own time", st.step, at),
+                        )
+                        .with_hint(format!("loads at \"{at}\" are processed together for the department's `batch.time`; remove this step's `time`")));
+                }
+                (None, next_steps(product, st, j, steps.len(), &sp, &step_ids, ctx)?)
+            }
             DepartmentRole::Work => {
                 let time = match &st.time {
                     Some(t) => processing_time(&t.0, &sp.key("time"), ctx)?,

@@ -227,6 +227,20 @@ pub(crate) struct DepartmentSpec {
     pub size: Option<Vec<f64>>,
     /// This department's own `queue_order` (over the plant's).
     pub queue_order: Option<QueueOrderSpec>,
+    /// A batch machine (see `batches.rs`).
+    pub batch: Option<BatchSpec>,
+}
+
+/// `batch: { max: 6, min: 2, max_wait: 30 min, time: DIST, per_load: 2 min, together: [[a, b], [c]] }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct BatchSpec {
+    pub max: u32,
+    pub min: Option<u32>,
+    pub max_wait: Option<Seconds>,
+    pub time: TimeSpec,
+    pub per_load: Option<Seconds>,
+    pub together: Option<Vec<Vec<String>>>,
 }
 
 /// `calendar: { shifts: { every: 1 d, on: [...] }, breaks: [...], at_shift_end: finish }`:

@@ -368,6 +368,8 @@ impl Collector {
                     capped: b.sums[sh.capped()] as u64,
                     wip_peak: f64::NAN,
                     deadlock: None,
+                    // Batches are counted for the whole window only.
+                    batch: Vec::new(),
                     segments: (0..sh.segments)
                         .map(|s| super::SegmentStats {
                             traversals: b.sums[sh.traversals(s)] as u64,

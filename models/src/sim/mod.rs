@@ -113,6 +113,11 @@ pub struct Plan {
     pub(crate) queue_order: Vec<crate::plant::QueueOrder>,
     /// Some lot has a due date: each lot's is kept, and lateness recorded at shipping.
     pub(crate) due: bool,
+    /// Some department is a batch machine: lots reaching one go through
+    /// `model/batches.rs`. When false the handlers take their paths of before.
+    pub(crate) batched: bool,
+    /// Per department, its batch rules (`None`: one lot at a time).
+    pub(crate) batch: Vec<Option<crate::plant::Batching>>,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -458,6 +463,8 @@ impl Plan {
             n_pools,
             queue_order,
             due: plant.has_due_dates(),
+            batched: plant.departments.iter().any(|d| d.batch.is_some()),
+            batch: plant.departments.iter().map(|d| d.batch.clone()).collect(),
             buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),

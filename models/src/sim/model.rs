@@ -14,6 +14,7 @@ use crate::plant::DepartmentRole;
 
 mod aisles;
 mod alternatives;
+mod batches;
 mod breakdowns;
 mod buckets;
 mod calendars;
@@ -81,6 +82,10 @@ enum Event {
     /// A mover travelling the aisle network segment by segment reaches the
     /// end of a segment, or is ready to set off (see `aisles.rs`).
     Step { mover: u32 },
+    /// A batch machine finishes its batch (see `batches.rs`).
+    BatchEnd { dept: u32, machine: u32 },
+    /// A waiting load of a batch department has waited `max_wait`.
+    BatchDue { dept: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -319,6 +324,8 @@ struct PlantModel<'a> {
     order_due: f64,
     /// Lateness of lots shipped in the window; `None` unless `Plan::due`.
     due_stats: Option<Box<super::stats::DueSet>>,
+    /// Batch machines' queues and running batches (empty unless `Plan::batched`).
+    batches: batches::BatchState,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -569,6 +576,7 @@ impl<'a> PlantModel<'a> {
             pending_due: f64::NAN,
             order_due: f64::NAN,
             due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
+            batches: batches::BatchState::new(plan, spec.seed, replication),
         }
     }
 
@@ -874,6 +882,10 @@ impl<'a> PlantModel<'a> {
             self.start_or_queue_on_machines(id, dept, cal);
             return;
         }
+        if self.plan.batched && self.plan.batch[dept].is_some() {
+            self.batch_arrive(id, dept, cal);
+            return;
+        }
         let d = &mut self.departments[dept];
         if d.busy < self.plan.machines[dept] {
             d.busy += 1;
@@ -1016,6 +1028,12 @@ impl<'a> PlantModel<'a> {
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
             due: self.due_stats.take(),
+            batch: self
+                .batches
+                .depts
+                .iter()
+                .map(|b| b.as_ref().map_or((0, 0), |b| (b.batches, b.loads)))
+                .collect(),
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);
@@ -1062,6 +1080,8 @@ impl Model for PlantModel<'_> {
             Event::MoverBack { mover } => self.mover_back(mover, cal),
             Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
             Event::Step { mover } => self.step(mover, cal),
+            Event::BatchEnd { dept, machine } => self.batch_end(dept as usize, machine, cal),
+            Event::BatchDue { dept } => self.batch_try_start(dept as usize, cal),
         }
         if self.trace.is_some() {
             self.trace_poll(cal.now());

@@ -247,6 +247,9 @@ pub struct RepStats {
     /// Bucket histograms keep two significant digits, and the assignment and
     /// drive parts of the move wait have none (`events`, `wip_peak` are unset).
     pub by: Vec<RepStats>,
+    /// Per department, (batches started, loads in them) in the window; empty
+    /// unless the plant has a batch department, (0, 0) for other departments.
+    pub batch: Vec<(u64, u64)>,
 }
 
 /// Why a replication stopped early: its WIP passed the overload limit

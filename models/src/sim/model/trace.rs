@@ -429,6 +429,30 @@ impl<'a> PlantModel<'a> {
         }
     }
 
+    /// Load `id` starts in a batch that ends at `end` (batch departments
+    /// have no staging limits, breakdowns or calendar, so its end is known
+    /// now): its visit row.
+    #[cold]
+    pub(super) fn trace_batch_member(&mut self, id: u32, now: f64, end: f64) {
+        let lot = &self.lots[id as usize];
+        let (p, op, dept) = (lot.product as usize, lot.op as usize, lot.department as usize);
+        let t = self.trace.as_mut().expect("only called when tracing");
+        t.open(now);
+        let arrival = std::mem::replace(&mut t.arrival[id as usize], f64::NAN);
+        if t.in_window(arrival, end) {
+            t.visit_row(id, p, op, dept, arrival, Some((now, end)), Some(0.0));
+        }
+    }
+
+    /// Machine `machine` of batch department `dept` starts (`busy`) or ends a batch: its lane.
+    #[cold]
+    pub(super) fn trace_batch_lane(&mut self, dept: usize, machine: usize, now: f64, busy: bool) {
+        let t = self.trace.as_mut().expect("only called when tracing");
+        t.open(now);
+        let lane = t.first_lane[dept] + machine;
+        t.state(lane, now, if busy { State::Busy } else { State::Idle });
+    }
+
     /// Lot `id` has finished its operation: its machine lane turns idle (a waiting lot may take it at once).
     #[cold]
     pub(super) fn trace_end_operation(&mut self, id: u32, now: f64) {
