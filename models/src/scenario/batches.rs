@@ -6,7 +6,7 @@ use super::locate::FieldPath;
 use super::schema::{BatchSpec, DepartmentSpec, Scenario};
 use super::times::duration;
 use crate::limits;
-use crate::plant::{Batching, Department, Product};
+use crate::plant::{Batching, Department, OrderTrace, Product};
 use crate::units::format_duration;
 
 /// Compiles department `d`'s `batch` (`dp` is the department's path);
@@ -135,9 +135,12 @@ pub(crate) fn check(
     s: &Scenario,
     departments: &[Department],
     products: &[Product],
+    orders: Option<&OrderTrace>,
     ctx: &Ctx,
 ) -> Result<(), ScenarioError> {
     let root = FieldPath::root();
+    // A trace played again and again keeps every product coming.
+    let repeats = orders.is_some_and(|o| o.repeat_s.is_some());
     for (d, dep) in departments.iter().enumerate() {
         let Some(b) = &dep.batch else { continue };
         let dp = root.key("departments").index(d).key("batch");
@@ -187,6 +190,49 @@ pub(crate) fn check(
                         ),
                     )
                     .with_hint("send the step to the batch department with `at`"));
+            }
+        }
+        if !repeats {
+            stranded(departments, products, d, b, ctx)?;
+        }
+    }
+    Ok(())
+}
+
+/// A batch that needs `min` loads and has no `max_wait` can never start for
+/// the last loads of a group whose products come only from an order trace
+/// played once: fewer than `min` of them may be left, and they would wait
+/// for ever. Refused, naming `min`, so the user adds `max_wait`.
+fn stranded(
+    departments: &[Department],
+    products: &[Product],
+    d: usize,
+    b: &Batching,
+    ctx: &Ctx,
+) -> Result<(), ScenarioError> {
+    if b.min == 1 || b.max_wait_s.is_some() {
+        return Ok(());
+    }
+    let visits = |p: &Product| p.routing.iter().any(|o| o.department == d);
+    for g in 0..b.groups {
+        let members: Vec<&Product> = products
+            .iter()
+            .enumerate()
+            .filter(|&(p, prod)| b.group_of[p] == g && visits(prod))
+            .map(|(_, prod)| prod)
+            .collect();
+        if let Some(first) = members.first() {
+            if members.iter().all(|p| matches!(p.demand, crate::plant::Demand::Orders)) {
+                return Err(ctx
+                    .err(
+                        &FieldPath::root().key("departments").index(d).key("batch").key("min"),
+                        format!(
+                            "batch department \"{}\" waits for {} loads, and \"{}\" comes only from the order trace: \
+                             its last loads may be fewer than {} and would wait for ever",
+                            departments[d].id, b.min, first.id, b.min
+                        ),
+                    )
+                    .with_hint("give `max_wait` (e.g. `max_wait: 30 min`) so that a short batch starts at the latest then"));
             }
         }
     }

@@ -125,7 +125,7 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
     let products = routing::products(&s, &departments, ctx)?;
     let orders = demand::order_trace(&s, &products, ctx)?;
     split_without_staging(&s, &departments, &products, ctx)?;
-    batches::check(&s, &departments, &products, ctx)?;
+    batches::check(&s, &departments, &products, orders.as_ref(), ctx)?;
     super::queueing::check(&s, &departments, &products, orders.as_ref().map(|o| o.orders.as_slice()), ctx)?;
     let handling = fleet::handling(&s, &departments, &locations, &products, ctx)?;
     let cost_per_load_metre = s.costs.as_ref().map_or(0.0, |c| c.per_load_metre);
