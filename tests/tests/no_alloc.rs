@@ -48,6 +48,10 @@ fn allocations_do_not_grow_with_the_horizon() {
     // block after service (deadlock detection runs each time a wait begins).
     // The alternatives plant chooses departments by shortest-queue,
     // least-work and first-free (shared queues) and branches from the dock.
+    // The batch demo has two batch departments (min, max_wait, compatibility
+    // groups, a rework loop back to a batch machine) served by forklifts:
+    // each machine's batch slots are fixed at the start, and each group's
+    // queue grows to its largest length, like a plain queue.
     // The demo again with every queue order and due dates: ordered queues
     // are heaps that grow to their largest length, like the plain ones.
     let mut plants: Vec<(String, Plant)> = Vec::new();
@@ -59,6 +63,7 @@ fn allocations_do_not_grow_with_the_horizon() {
         "staging-breakdowns.yaml",
         "validation/two-station-blocking.yaml",
         "validation/alt-movers.yaml",
+        "batches-demo.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         plants.push((name.to_string(), load_scenario(&path).unwrap()));

@@ -152,6 +152,13 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
              setups assume each lot follows a random lot of the department's mix; availability = MTBF ÷ (MTBF + MTTR))"
         );
     }
+    if plant.departments.iter().any(|d| d.batch.is_some()) {
+        let _ = writeln!(
+            s,
+            "  (batch machines: each load counted at its share of a full batch, E[T(max)] ÷ max: a lower bound, \
+             reached only when loads queue; smaller batches (min, max_wait, few loads) use more — run to see)"
+        );
+    }
     let _ = writeln!(s);
 
     let currency = plant.currency.as_deref();
@@ -523,7 +530,7 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
             "mean_lots_per_h": pic.product_rate_per_h[p],
         })).collect::<Vec<_>>(),
         "from_to": pairs,
-        "departments": plant.departments.iter().enumerate().map(|(d, dep)| json!({
+        "departments": plant.departments.iter().enumerate().map(|(d, dep)| with_batch(dep, json!({
             "department": dep.id,
             "machines": dep.machines,
             "arrivals_per_h": pic.arrivals_per_h[d],
@@ -534,7 +541,7 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
             "setup_share_predicted": pic.setup_share[d],
             "staging_inbound": dep.staging.inbound,
             "staging_outbound": dep.staging.outbound,
-        })).collect::<Vec<_>>(),
+        }))).collect::<Vec<_>>(),
         "layouts": pic.layouts.iter().enumerate().map(|(l, lp)| json!({
             "layout": plant.layouts[l].name,
             "load_distance_m_per_h": lp.load_distance_m_per_h,
@@ -594,4 +601,22 @@ fn areas_json(plant: &Plant) -> serde_json::Value {
         })).collect::<Vec<_>>(),
         "warnings": areas::misfits(plant),
     })
+}
+
+/// A department's check JSON with its batch rules added, only for a batch
+/// department (other plants' JSON stays as it was).
+fn with_batch(dep: &layflow_models::plant::Department, mut v: serde_json::Value) -> serde_json::Value {
+    if let (Some(b), Some(o)) = (&dep.batch, v.as_object_mut()) {
+        o.insert(
+            "batch".into(),
+            json!({
+                "max": b.max,
+                "min": b.min,
+                "max_wait_s": b.max_wait_s,
+                "full_batch_time_s": b.mean_time_s(b.max),
+                "utilization_predicted_is_lower_bound": true,
+            }),
+        );
+    }
+    v
 }
