@@ -87,8 +87,9 @@ pub const MAX_MOVERS: u32 = 10_000;
 pub const MAX_TRAIN_LOADS: u32 = 100;
 /// Most machines in one department.
 pub const MAX_MACHINES: u32 = 10_000;
-/// Most loads one batch machine runs together (`batch.max`): each machine keeps a slot per load.
-pub const MAX_BATCH: u32 = 10_000;
+/// Most loads one batch machine runs together (`batch.max`): each machine keeps a slot per load,
+/// so a department of the most machines keeps at most 10⁷ slots (40 MB).
+pub const MAX_BATCH: u32 = 1_000;
 /// Most unit loads one lot moves in (quantity ÷ transfer batch).
 pub const MAX_LOADS_PER_LOT: u32 = 10_000;
 /// Why the count ceilings.
