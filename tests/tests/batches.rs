@@ -325,3 +325,31 @@ fn incompatible_products_never_share_a_batch() {
     c.exact("any mix: batch_size_mean = 5/2", 2.5, value(Id::DepartmentBatchSize, &mixed, &rep, wash), TOL);
     c.finish();
 }
+
+/// The batch demo (two batch departments, compatibility groups, `min` and
+/// `max_wait`, a rework loop back to a batch machine, forklifts): Little's
+/// law (docs/formulas.md §4; Little 1961) per replication, with the edge
+/// bound that needs no steady state, and flow balance at the batch machines:
+/// every load released reaches the oven, so loads in batches per hour match
+/// the static arrivals there within the run's own interval.
+#[test]
+fn batch_demo_keeps_littles_law_and_flow_balance() {
+    let file = "batches-demo.yaml";
+    let plant = load(file);
+    let run = run_layout(&plant, 0);
+    let mut c = Checks::new(file);
+    check_little(&mut c, file, &run, layflow_tests::little_edge_bound(&run));
+    let oven = department(&plant, "oven");
+    // Loads per hour through the oven in each replication: batches × size ÷ window.
+    let per_h: Vec<f64> = run.reps.iter().map(|r| r.batch[oven].1 as f64 / r.window_s * 3600.0).collect();
+    let iv = layflow_engine::interval(&per_h, 0.95);
+    let e = layflow_models::metrics::Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n };
+    // The static arrivals at the oven (6.5/h plus the rewashed tenth of housings);
+    // K = 3 half-widths of 10 replications (t(0.975, 9) = 2.26, so about 7 standard
+    // errors), and 1% for loads inside the plant at the window's edges (a few
+    // dozen loads against about 3 300 in a 480 h window); the tolerance must stay
+    // under 6% of theory, so a 6% error in the flow through the oven is caught.
+    let want = run.picture.arrivals_per_h[oven];
+    c.estimate("loads cured per hour vs static arrivals", want, &e, K, 0.01 * want, 0.06);
+    c.finish();
+}

@@ -79,6 +79,7 @@ const TYPE_WORDS: &[(&str, &str)] = &[
     ("struct DepartmentSpec", "a mapping such as { id: cutting, machines: 2 }"),
     ("struct CalendarSpec", "a mapping such as { shifts: { every: 1 d, on: [[6 h, 14 h]] } }"),
     ("struct SetupsSpec", "a mapping such as { on_change: 20 min }"),
+    ("struct BatchSpec", "a mapping such as { max: 6, time: 30 min }"),
     ("struct SetupPairSpec", "a mapping such as { from: bracket, to: housing, time: 30 min }"),
     ("struct StagingSpec", "a mapping such as { inbound: 4, outbound: 2 }"),
     ("struct BreakdownSpec", "a mapping such as { between: { exponential: { mean: 8 h } }, repair: 30 min }"),
@@ -340,6 +341,7 @@ mod tests {
             CalendarSpec,
             ShiftEndSpec,
             SetupsSpec,
+            BatchSpec,
             SetupPairSpec,
             StagingSpec,
             BreakdownSpec,
@@ -403,6 +405,7 @@ mod tests {
             [Seconds; 2],
             Vec<(Seconds, Share)>,
             Vec<Vec<f64>>,
+            Vec<Vec<String>>,
             Option<u32>,
         ]
     }
