@@ -139,6 +139,20 @@ pub(crate) fn check(
     ctx: &Ctx,
 ) -> Result<(), ScenarioError> {
     let root = FieldPath::root();
+    if let (Some(b), Some(f)) = (
+        departments.iter().position(|d| d.batch.is_some()),
+        departments.iter().position(|d| d.staging.is_limited()),
+    ) {
+        return Err(ctx
+            .err(
+                &root.key("departments").index(f).key("staging"),
+                format!(
+                    "department \"{}\" has finite staging and \"{}\" is a batch machine: the two cannot be combined yet",
+                    departments[f].id, departments[b].id
+                ),
+            )
+            .with_hint("a finished batch cannot yet be held on its machine when the next department is full; remove `staging` or `batch`"));
+    }
     // A trace played again and again keeps every product coming.
     let repeats = orders.is_some_and(|o| o.repeat_s.is_some());
     for (d, dep) in departments.iter().enumerate() {

@@ -144,7 +144,7 @@ impl PlantModel<'_> {
     /// The operation and fleets of branch `b` of the list of operation
     /// `from` (or `ENTRY`), with the group's rule applied; `None` when a
     /// first-free lot found no machine free and joined the shared queue.
-    fn choose(&mut self, id: u32, from: u32, b: usize) -> Option<(u32, super::FleetSet)> {
+    pub(super) fn choose(&mut self, id: u32, from: u32, b: usize) -> Option<(u32, super::FleetSet)> {
         let plan = self.plan;
         let lot = &self.lots[id as usize];
         let prod = &plan.products[lot.product as usize];

@@ -171,6 +171,15 @@ impl PlantModel<'_> {
                 op.next.iter().position(|&(_, cum, _)| u < cum).unwrap_or(op.next.len() - 1)
             };
             let (next, _, fleets) = op.next[branch];
+            if plan.alternatives {
+                // The next step may be a choice among departments: the group's rule picks
+                // (or, under first-free, the load waits in the group's shared queue).
+                let from = lot.op;
+                if let Some((op, set)) = self.choose(id, from, branch) {
+                    self.route(id, op, set, cal);
+                }
+                continue;
+            }
             self.route(id, next as u32, fleets, cal);
         }
         self.batches.depts[dept].as_mut().expect("a batch department").count[m] = 0;
