@@ -8,6 +8,7 @@
 
 mod alternatives;
 mod area;
+mod assembly;
 mod compile;
 mod context;
 mod demand;

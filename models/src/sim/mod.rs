@@ -14,7 +14,7 @@ pub mod trace;
 
 pub use model::trace::simulate_traced;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
-pub use stats::{Deadlock, DueSet, DueStats, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
+pub use stats::{Deadlock, DueSet, DueStats, FleetStats, KitStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
@@ -113,6 +113,11 @@ pub struct Plan {
     pub(crate) queue_order: Vec<crate::plant::QueueOrder>,
     /// Some lot has a due date: each lot's is kept, and lateness recorded at shipping.
     pub(crate) due: bool,
+    /// Some product assembles kits: lots go through `model/assembly.rs` at
+    /// their arrival. When false the handlers take exactly their paths of before.
+    pub(crate) assembly: bool,
+    /// The kits and who feeds them (empty unless `assembly`).
+    pub(crate) kits: model::assembly::KitPlan,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -458,6 +463,8 @@ impl Plan {
             n_pools,
             queue_order,
             due: plant.has_due_dates(),
+            assembly: plant.assembles(),
+            kits: model::assembly::KitPlan::new(plant),
             buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),

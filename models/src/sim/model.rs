@@ -14,6 +14,7 @@ use crate::plant::DepartmentRole;
 
 mod aisles;
 mod alternatives;
+pub(super) mod assembly;
 mod breakdowns;
 mod buckets;
 mod calendars;
@@ -319,6 +320,8 @@ struct PlantModel<'a> {
     order_due: f64,
     /// Lateness of lots shipped in the window; `None` unless `Plan::due`.
     due_stats: Option<Box<super::stats::DueSet>>,
+    /// Lots waiting for kits and component stocks (empty unless `Plan::assembly`).
+    kit: assembly::KitState,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -569,6 +572,7 @@ impl<'a> PlantModel<'a> {
             pending_due: f64::NAN,
             order_due: f64::NAN,
             due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
+            kit: assembly::KitState::new(plan),
         }
     }
 
@@ -614,6 +618,7 @@ impl<'a> PlantModel<'a> {
             d.all.reset();
             d.product.iter_mut().for_each(super::stats::DueStats::reset);
         }
+        self.kit.reset();
         self.open_buckets(t);
     }
 
@@ -836,6 +841,9 @@ impl<'a> PlantModel<'a> {
         if self.trace.is_some() {
             self.trace_arrive(id, now);
         }
+        if self.plan.assembly && self.kit_arrive(id, cal) {
+            return;
+        }
         if self.plan.alternatives && self.arrive_chosen(id, dept, cal) {
             return;
         }
@@ -1016,6 +1024,7 @@ impl<'a> PlantModel<'a> {
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
             due: self.due_stats.take(),
+            assembly: self.kit.stats.take(),
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);
