@@ -238,3 +238,39 @@ fn assembly_metrics_appear_only_where_they_apply() {
         assert!(!names.iter().any(|n| n == not), "{not} not in {names:?}");
     }
 }
+
+/// A plant short of parts: pumps arrive at 1/h, impellers at 1/h, and a
+/// kit takes 2 impellers, so kits can be made at 0.5/h (docs/formulas.md
+/// §25) and pumps waiting for kits pile up at 0.5/h without end. The run
+/// must stop through the overload rule, and the message must name the
+/// stall on kits and the short component, with both rates.
+#[test]
+fn a_plant_short_of_parts_stops_with_a_message_about_kits() {
+    let text = std::fs::read_to_string(layflow_tests::scenario_path("bad/assembly-quantity-zero.yaml"))
+        .expect("the corpus file")
+        .replace("impeller: 0", "impeller: 2")
+        .replace("horizon: 1 d", "horizon: 2000 d");
+    let plant =
+        layflow_models::parse_scenario(&text, std::path::Path::new("short-of-parts.yaml")).expect("valid");
+    let spec = RunSpec {
+        layout: 0,
+        horizon_s: plant.run.horizon_s,
+        warmup_s: plant.run.warmup_s,
+        demand_factor: 1.0,
+        seed: 7,
+    };
+    let rep = simulate(&Plan::new(&plant, 0), &spec, 0);
+    assert!(
+        rep.overload.is_some(),
+        "the pumps waiting for kits grow without end, so the overload rule stops the run"
+    );
+    let msg = layflow_models::study::replication_deadlock(&plant, &rep, 0).expect("a stop message");
+    for want in [
+        "stalled on kits",
+        "of \"pump\" were waiting for their kits",
+        "\"impeller\" arrives for 0.5",
+        "against 1",
+    ] {
+        assert!(msg.contains(want), "{want:?} in: {msg}");
+    }
+}

@@ -1024,7 +1024,7 @@ impl<'a> PlantModel<'a> {
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
             due: self.due_stats.take(),
-            assembly: self.kit.stats.take(),
+            assembly: self.kit.close(plan),
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);

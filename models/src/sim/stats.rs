@@ -166,6 +166,9 @@ pub struct KitStats {
     pub kit_wait: Vec<Tally>,
     /// The product's (a component's) lots' wait from arriving at the assembly department to being consumed.
     pub part_wait: Vec<Tally>,
+    /// Lots in the kitting area when the run ended (or stopped): an assembling
+    /// product's lots waiting for kits, a component's lots in stock.
+    pub held: Vec<u64>,
 }
 
 impl KitStats {
@@ -175,6 +178,7 @@ impl KitStats {
             kits: vec![0; products],
             kit_wait: vec![Tally::new(); products],
             part_wait: vec![Tally::new(); products],
+            held: vec![0; products],
         }
     }
 }

@@ -96,6 +96,19 @@ impl KitState {
         }
     }
 
+    /// Record who is still in the kitting area as the run ends (read by the
+    /// stop messages of `study/deadlock.rs`), and hand the statistics over.
+    pub(super) fn close(&mut self, plan: &crate::sim::Plan) -> Option<Box<KitStats>> {
+        let mut stats = self.stats.take()?;
+        for (k, line) in self.waiting.iter().enumerate() {
+            stats.held[plan.kits.kits[k].0 as usize] += line.len() as u64;
+        }
+        for (p, stock) in self.stock.iter().enumerate() {
+            stats.held[p] += stock.len() as u64;
+        }
+        Some(stats)
+    }
+
     /// Clear what was counted at the end of the warm-up (lots keep waiting).
     pub(super) fn reset(&mut self) {
         if let Some(s) = self.stats.as_deref_mut() {
