@@ -547,8 +547,12 @@ pub fn kit_balance(plant: &Plant, pic: &StaticPicture) -> Vec<KitBalance> {
                 .parts
                 .iter()
                 .map(|&(c, q)| {
-                    // The component's last step, where it is consumed: the operation with no next.
-                    let last = plant.products[c].routing.iter().position(|o| o.next.is_empty()).unwrap_or(0);
+                    // Where it is consumed: its operation with no next at the assembly
+                    // department (a scrap branch to a shipping dock also has none).
+                    let at = prod.routing[kit.op].department;
+                    let routing = &plant.products[c].routing;
+                    let last =
+                        routing.iter().position(|o| o.next.is_empty() && o.department == at).unwrap_or(0);
                     (c, q, reaching(c, last))
                 })
                 .collect();

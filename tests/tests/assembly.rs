@@ -274,3 +274,33 @@ fn a_plant_short_of_parts_stops_with_a_message_about_kits() {
         assert!(msg.contains(want), "{want:?} in: {msg}");
     }
 }
+
+/// The static picture's kits per hour, min(needed, each component's lots
+/// per hour ÷ lots per kit) (docs/formulas.md §25), by hand: the order-trace
+/// plant is balanced at 200 × 60 / 11948 kits/h; the plant short of
+/// impellers (1/h, 2 per kit) allows 0.5/h against 1/h needed.
+#[test]
+fn the_static_picture_predicts_kits_per_hour() {
+    use layflow_models::analysis::{kit_balance, StaticPicture};
+    let plant = load("validation/assembly-flow-balance.yaml");
+    let k = kit_balance(&plant, &StaticPicture::new(&plant, 1.0));
+    assert_eq!(k.len(), 1);
+    let want = 200.0 * 60.0 / 11948.0;
+    assert!((k[0].kits_per_h - want).abs() < 1e-12 && (k[0].needed_per_h - want).abs() < 1e-12, "{:?}", k[0]);
+    assert!(k[0].balanced());
+    let text = std::fs::read_to_string(layflow_tests::scenario_path("bad/assembly-quantity-zero.yaml"))
+        .expect("the corpus file")
+        .replace("impeller: 0", "impeller: 2");
+    let short =
+        layflow_models::parse_scenario(&text, std::path::Path::new("short-of-parts.yaml")).expect("valid");
+    let k = kit_balance(&short, &StaticPicture::new(&short, 1.0));
+    assert!((k[0].kits_per_h - 0.5).abs() < 1e-12 && (k[0].needed_per_h - 1.0).abs() < 1e-12, "{:?}", k[0]);
+    assert!(!k[0].balanced());
+    // The from-to chart counts component moves: impellers foundry → assembly
+    // and seal kits receiving → assembly, at their release rates.
+    let pic = StaticPicture::new(&plant, 1.0);
+    let d = |id: &str| department(&plant, id);
+    let flow = |a: &str, b: &str| pic.from_to.get(d(a), d(b));
+    assert!((flow("foundry", "assembly") - want).abs() < 1e-12, "{}", flow("foundry", "assembly"));
+    assert!((flow("receiving", "assembly") - 2.0 * want).abs() < 1e-12, "{}", flow("receiving", "assembly"));
+}
