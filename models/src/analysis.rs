@@ -270,7 +270,8 @@ impl StaticPicture {
             }
             for (k, op) in prod.routing.iter().enumerate() {
                 let d = op.department;
-                if plant.departments[d].role == DepartmentRole::Work {
+                // A component consumed into a kit (no time) is not worked there.
+                if plant.departments[d].role == DepartmentRole::Work && op.time.is_some() {
                     arrivals[d] += rate_h * v[k];
                     match mix[d].last_mut() {
                         Some((q, x)) if *q == p => *x += rate_h * v[k],
@@ -515,4 +516,59 @@ mod tests {
         assert_eq!((c.get(1, 1), c.len()), (0.0, 2));
         assert_eq!(FlowChart::from_dense(3, &c.dense()), c);
     }
+}
+
+/// One assembly step in the static picture (`check`): the kits it needs
+/// against the kits its components can make.
+#[derive(Debug, Clone, PartialEq)]
+pub struct KitBalance {
+    /// The assembling product.
+    pub product: usize,
+    /// Its assembly operation (index into the routing).
+    pub op: usize,
+    /// Lots per hour of the product reaching the step: the kits it needs.
+    pub needed_per_h: f64,
+    /// Per component: (product, lots per kit, its lots per hour reaching the assembly department).
+    pub parts: Vec<(usize, u32, f64)>,
+    /// Kits per hour predicted: min(needed, each component's lots per hour ÷ lots per kit).
+    pub kits_per_h: f64,
+}
+
+impl KitBalance {
+    /// Whether every component arrives at the rate the kits need it, to 1e-6 relative.
+    pub fn balanced(&self) -> bool {
+        self.parts.iter().all(|&(_, q, r)| {
+            let supply = r / f64::from(q);
+            (supply - self.needed_per_h).abs() <= 1e-6 * self.needed_per_h.max(supply)
+        })
+    }
+}
+
+/// Every assembly step of `plant` with its balance under the static picture
+/// `pic` (empty for a plant that assembles nothing).
+pub fn kit_balance(plant: &Plant, pic: &StaticPicture) -> Vec<KitBalance> {
+    let reaching =
+        |p: usize, op: usize| pic.product_rate_per_h[p] * pic.visits[p].get(op).copied().unwrap_or(0.0);
+    let mut out = Vec::new();
+    for (p, prod) in plant.products.iter().enumerate() {
+        for kit in &prod.kits {
+            let needed_per_h = reaching(p, kit.op);
+            let parts: Vec<(usize, u32, f64)> = kit
+                .parts
+                .iter()
+                .map(|&(c, q)| {
+                    // Where it is consumed: its operation with no next at the assembly
+                    // department (a scrap branch to a shipping dock also has none).
+                    let at = prod.routing[kit.op].department;
+                    let routing = &plant.products[c].routing;
+                    let last =
+                        routing.iter().position(|o| o.next.is_empty() && o.department == at).unwrap_or(0);
+                    (c, q, reaching(c, last))
+                })
+                .collect();
+            let kits_per_h = parts.iter().fold(needed_per_h, |m, &(_, q, r)| m.min(r / f64::from(q)));
+            out.push(KitBalance { product: p, op: kit.op, needed_per_h, parts, kits_per_h });
+        }
+    }
+    out
 }

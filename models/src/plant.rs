@@ -463,6 +463,23 @@ pub struct Product {
     /// Each lot is due this long after its release (`due: { within: 3 d }`), s;
     /// `None`: no allowance (a trace order may still give its own due date).
     pub due_within_s: Option<f64>,
+    /// Assembly steps: operations that wait for a kit of component products
+    /// before they start (`parts:`); empty for a product that assembles nothing.
+    pub kits: Vec<Kit>,
+    /// A component (`into:` on its last step): the product it is consumed
+    /// into, at the department of that product's assembly step; `None` otherwise.
+    pub into: Option<usize>,
+}
+
+/// One assembly step of a product: the operation waits until these
+/// quantities of component lots are at its department, then consumes them
+/// (first come, first served; docs/scenario-format.md, "Assembly").
+#[derive(Debug, Clone, PartialEq)]
+pub struct Kit {
+    /// The assembly operation (index into the product's `routing`).
+    pub op: usize,
+    /// (component product index, lots per kit ≥ 1), in listed order.
+    pub parts: Vec<(usize, u32)>,
 }
 
 // Written out so that a product without a random first operation,
@@ -488,6 +505,12 @@ impl fmt::Debug for Product {
         }
         if let Some(d) = &self.due_within_s {
             s.field("due_within_s", d);
+        }
+        if !self.kits.is_empty() {
+            s.field("kits", &self.kits);
+        }
+        if let Some(p) = &self.into {
+            s.field("into", p);
         }
         s.finish()
     }
@@ -902,6 +925,11 @@ impl std::fmt::Debug for RunSettings {
 }
 
 impl Plant {
+    /// Some product assembles kits of components (`parts:`): the assembly metrics are reported.
+    pub fn assembles(&self) -> bool {
+        self.products.iter().any(|p| !p.kits.is_empty())
+    }
+
     /// Distance in metres between two locations.
     pub fn distance(&self, from_location: usize, to_location: usize) -> f64 {
         self.distance[from_location * self.locations.len() + to_location]

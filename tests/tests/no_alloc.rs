@@ -54,6 +54,8 @@ fn allocations_do_not_grow_with_the_horizon() {
     // queue grows to its largest length, like a plain queue.
     // The demo again with every queue order and due dates: ordered queues
     // are heaps that grow to their largest length, like the plain ones.
+    // The assembly demo keeps lots waiting for kits and component stocks
+    // in queues that, too, only grow to their largest length.
     let mut plants: Vec<(String, Plant)> = Vec::new();
     for name in [
         "demo.yaml",
@@ -64,6 +66,7 @@ fn allocations_do_not_grow_with_the_horizon() {
         "validation/two-station-blocking.yaml",
         "validation/alt-movers.yaml",
         "batches-demo.yaml",
+        "assembly-demo.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         plants.push((name.to_string(), load_scenario(&path).unwrap()));

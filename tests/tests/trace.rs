@@ -78,6 +78,9 @@ fn traces_of_the_other_traceable_validation_plants_add_up_too() {
         "validation/calendar-shifts-mg1-finish.yaml",
         "validation/calendar-week.yaml",
         "validation/setups-alternating.yaml",
+        // Assembly: lots waiting for kits, components consumed (their rows end when consumed).
+        "validation/assembly-hand-timed.yaml",
+        "assembly-demo.yaml",
     ] {
         adds_up(file, 0);
     }

@@ -70,6 +70,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
     let _ = writeln!(s);
     alternatives(&mut s, plant);
     queue_orders(&mut s, plant);
+    assembly(&mut s, plant, pic);
 
     from_to_chart(&mut s, plant, pic, measured.is_some());
     let _ = writeln!(
@@ -466,6 +467,105 @@ fn queue_orders(s: &mut String, plant: &Plant) {
     let _ = writeln!(s);
 }
 
+/// Assembly steps: the kits each needs per hour against the kits its
+/// components can make, the predicted kits per hour, and a warning where
+/// they differ. Nothing for a plant that assembles nothing.
+fn assembly(s: &mut String, plant: &Plant, pic: &StaticPicture) {
+    let kits = layflow_models::analysis::kit_balance(plant, pic);
+    if kits.is_empty() {
+        return;
+    }
+    let _ =
+        writeln!(s, "Assembly: kits matched first come, first served (docs/scenario-format.md, Assembly)");
+    let mut t = Table::new(&[
+        "product",
+        "step",
+        "at",
+        "needs kits/h",
+        "component",
+        "per kit",
+        "lots/h",
+        "kits/h it allows",
+    ]);
+    for k in &kits {
+        let prod = &plant.products[k.product];
+        let op = &prod.routing[k.op];
+        for (i, &(c, q, r)) in k.parts.iter().enumerate() {
+            let first = i == 0;
+            t.row(vec![
+                if first { prod.id.clone() } else { String::new() },
+                if first { op.name.clone() } else { String::new() },
+                if first { plant.departments[op.department].id.clone() } else { String::new() },
+                if first { format!("{:.2}", k.needed_per_h) } else { String::new() },
+                plant.products[c].id.clone(),
+                q.to_string(),
+                format!("{r:.2}"),
+                format!("{:.2}", r / f64::from(q)),
+            ]);
+        }
+    }
+    s.push_str(&t.render(2));
+    for k in &kits {
+        let prod = &plant.products[k.product];
+        let _ = writeln!(
+            s,
+            "  {}: {:.2} kits/h predicted (the least of the kits needed and the kits each component allows)",
+            prod.id, k.kits_per_h
+        );
+        for &(c, q, r) in &k.parts {
+            let allows = r / f64::from(q);
+            let tol = 1e-6 * k.needed_per_h.max(allows);
+            if allows + tol < k.needed_per_h {
+                let _ = writeln!(
+                    s,
+                    "  warning: \"{}\" arrives for {allows:.2} kits/h but \"{}\" needs {:.2}: lots waiting for kits pile up without end",
+                    plant.products[c].id, prod.id, k.needed_per_h
+                );
+            } else if allows > k.needed_per_h + tol {
+                let _ = writeln!(
+                    s,
+                    "  warning: \"{}\" arrives for {allows:.2} kits/h but \"{}\" needs only {:.2}: its stock at the assembly piles up without end",
+                    plant.products[c].id, prod.id, k.needed_per_h
+                );
+            }
+        }
+    }
+    let independent = kits.iter().any(|k| {
+        std::iter::once(k.product)
+            .chain(k.parts.iter().map(|p| p.0))
+            .any(|p| matches!(plant.products[p].demand, layflow_models::plant::Demand::Rate { .. }))
+    });
+    if independent {
+        let _ = writeln!(
+        s,
+        "  even at equal rates, parts released apart from the lots that need them (independent demand) make \
+         the stock wander without bound; release them with the orders that need them (an order trace)"
+    );
+    }
+    let _ = writeln!(s);
+}
+
+/// The assembly steps for the JSON form (`assembly`, only for a plant that assembles).
+fn assembly_json(plant: &Plant, pic: &StaticPicture) -> Vec<serde_json::Value> {
+    layflow_models::analysis::kit_balance(plant, pic)
+        .iter()
+        .map(|k| {
+            let prod = &plant.products[k.product];
+            json!({
+                "product": prod.id,
+                "step": prod.routing[k.op].name,
+                "department": plant.departments[prod.routing[k.op].department].id,
+                "kits_needed_per_h": k.needed_per_h,
+                "kits_per_h_predicted": k.kits_per_h,
+                "balanced": k.balanced(),
+                "parts": k.parts.iter().map(|&(c, q, r)| json!({
+                    "product": plant.products[c].id, "per_kit": q, "lots_per_h": r,
+                })).collect::<Vec<_>>(),
+            })
+        })
+        .collect()
+}
+
 /// The queue orders for the JSON form (`queue_orders`, only when the plant orders something).
 fn queue_orders_json(plant: &Plant) -> Option<serde_json::Value> {
     let any = plant.departments.iter().any(|d| d.queue_order != QueueOrder::Fifo)
@@ -581,6 +681,10 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
     // And queue orders: only for a plant that orders something.
     if let Some(q) = queue_orders_json(plant) {
         j["queue_orders"] = q;
+    }
+    // And assembly: only for a plant that assembles.
+    if plant.assembles() {
+        j["assembly"] = json!(assembly_json(plant, pic));
     }
     j
 }

@@ -136,7 +136,20 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         if due {
             header.extend(["late", "tardiness", "lateness", "lateness p95"]);
         }
+        // Assembly: the registry's labels of kits_per_h, kit_wait_s and part_wait_s.
+        let kits = l.products.iter().any(|p| p.kits.is_some() || p.part_wait_s.is_some());
+        if kits {
+            header.extend(["kits/h", "kit wait", "part wait"]);
+        }
         let mut t = Table::new(&header);
+        let kit_u = unit_for(
+            l.products
+                .iter()
+                .flat_map(|p| {
+                    [p.kits.as_ref().map(|k| k.kit_wait_s.mean), p.part_wait_s.as_ref().map(|e| e.mean)]
+                })
+                .flatten(),
+        );
         let flow_u = unit_for(l.products.iter().map(|p| p.flow_time_s.mean));
         let due_u = unit_for(l.products.iter().filter_map(|p| p.due.as_ref()).map(|d| d.lateness_p95_s.mean));
         for p in &l.products {
@@ -155,6 +168,13 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                     ]),
                     None => row.extend(["-".to_string(), "-".into(), "-".into(), "-".into()]),
                 }
+            }
+            if kits {
+                match &p.kits {
+                    Some(k) => row.extend([pm(&k.kits_per_h, 1.0), dur_in(&k.kit_wait_s, kit_u)]),
+                    None => row.extend(["-".to_string(), "-".into()]),
+                }
+                row.push(p.part_wait_s.as_ref().map_or_else(|| "-".to_string(), |e| dur_in(e, kit_u)));
             }
             t.row(row);
         }

@@ -55,6 +55,10 @@ fn applies(plant: &Plant, f: &Features, d: &Def, i: usize) -> bool {
         (When::Batches, Scope::Department) => plant.departments[i].batch.is_some(),
         (When::DueDates, Scope::Plant) => f.due,
         (When::DueDates, Scope::Product) => product_has_due_dates(plant, i),
+        (When::Assembly, Scope::Product) => match d.id {
+            super::registry::Id::ProductPartWait => plant.products[i].into.is_some(),
+            _ => !plant.products[i].kits.is_empty(),
+        },
         _ => false,
     }
 }

@@ -132,6 +132,9 @@ pub enum When {
     DueDates,
     /// The department is a batch machine (`batch`).
     Batches,
+    /// The product assembles kits (`kits_per_h`, `kit_wait_s`), or is a
+    /// component consumed into one (`part_wait_s`).
+    Assembly,
 }
 
 /// Every metric, one variant each: the key [`crate::metrics::value`] computes.
@@ -163,6 +166,9 @@ pub enum Id {
     ProductTardiness,
     ProductLateness,
     ProductLatenessP95,
+    ProductKits,
+    ProductKitWait,
+    ProductPartWait,
     DepartmentWip,
     DepartmentUtilization,
     DepartmentQueue,
@@ -356,6 +362,15 @@ pub const DEFS: &[Def] = &[
         "mean of shipped − due over the product's lots with a due date shipped in the window"),
     def(Id::ProductLatenessP95, Product, "lateness_p95_s", "lateness p95", Seconds, Lower, When::DueDates,
         "the replication's 95th-percentile of shipped − due over the product's lots with a due date"),
+    def(Id::ProductKits, Product, "kits_per_h", "kits/h", PerHour, Higher, When::Assembly,
+        "the product's lots whose kit was complete in the window (parts consumed, on to the assembly \
+        operation) ÷ window hours"),
+    def(Id::ProductKitWait, Product, "kit_wait_s", "kit wait", Seconds, Lower, When::Assembly,
+        "mean time from the product's lot arriving at its assembly step to its kit being complete, over the \
+        kits made in the window"),
+    def(Id::ProductPartWait, Product, "part_wait_s", "part wait", Seconds, Lower, When::Assembly,
+        "mean time from a component lot arriving at the assembly department to its being consumed into a kit, \
+        over the lots consumed in the window"),
     // Each department.
     def(Id::DepartmentWip, Department, "wip_mean", "WIP (lots)", Count, Lower, When::Always,
         "time-average lots at the department (queued, in process, or waiting for a mover)"),

@@ -36,6 +36,21 @@ pub struct ProductSummary {
     /// Lateness against due dates; present when the product's lots have due dates.
     #[serde(flatten, skip_serializing_if = "Option::is_none")]
     pub due: Option<DueSummary>,
+    /// Kits made and the wait for them; present when the product assembles kits.
+    #[serde(flatten, skip_serializing_if = "Option::is_none")]
+    pub kits: Option<KitSummary>,
+    /// A component's mean wait at the assembly department before it is consumed, s.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub part_wait_s: Option<Estimate>,
+}
+
+/// An assembling product's kits, under the registry's names (`kits_per_h`, `kit_wait_s`).
+#[derive(Debug, Clone, Serialize)]
+pub struct KitSummary {
+    /// Kits made per hour.
+    pub kits_per_h: Estimate,
+    /// Mean wait from arriving at the assembly step to the kit being complete, s.
+    pub kit_wait_s: Estimate,
 }
 
 /// Lateness against due dates, under the registry's names (`late_share`,
@@ -390,6 +405,11 @@ impl<'a> LayoutAccumulator<'a> {
                         lateness_s: of(Id::ProductLateness, p),
                         lateness_p95_s: of(Id::ProductLatenessP95, p),
                     }),
+                    kits: (!prod.kits.is_empty()).then(|| KitSummary {
+                        kits_per_h: of(Id::ProductKits, p),
+                        kit_wait_s: of(Id::ProductKitWait, p),
+                    }),
+                    part_wait_s: prod.into.map(|_| of(Id::ProductPartWait, p)),
                 })
                 .collect(),
             departments: plant
@@ -514,6 +534,12 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
     }
     for p in 0..plant.products.len() {
         out.extend([(Id::ProductThroughput, p), (Id::ProductFlowTime, p)]);
+        if !plant.products[p].kits.is_empty() {
+            out.extend([(Id::ProductKits, p), (Id::ProductKitWait, p)]);
+        }
+        if plant.products[p].into.is_some() {
+            out.push((Id::ProductPartWait, p));
+        }
         if product_has_due_dates(plant, p) {
             out.extend(
                 [Id::ProductLateShare, Id::ProductTardiness, Id::ProductLateness, Id::ProductLatenessP95]

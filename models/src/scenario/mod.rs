@@ -9,6 +9,7 @@
 mod alternatives;
 mod area;
 mod batches;
+mod assembly;
 mod compile;
 mod context;
 mod demand;

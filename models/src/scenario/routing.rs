@@ -105,9 +105,12 @@ pub(crate) fn products(
             alternatives,
             priority,
             due_within_s,
+            kits: Vec::new(),
+            into: None,
         });
     }
     super::alternatives::check_plant(&out, departments, ctx)?;
+    super::assembly::link(s, &mut out, departments, ctx)?;
     Ok(out)
 }
 
@@ -160,6 +163,7 @@ fn routing(
     let mut alternatives = Vec::new();
     for (j, st) in steps.iter().enumerate() {
         let sp = rp.index(j);
+        super::assembly::check_step(st, &sp, off, j, steps.len(), departments, ctx)?;
         if j < off {
             if st.time.is_some() || st.either.is_some() || st.rule.is_some() {
                 return Err(ctx
@@ -230,6 +234,8 @@ fn routing(
                 }
                 (None, next_steps(product, st, j, steps.len(), &sp, &step_ids, ctx)?)
             }
+            // A component's last step: consumed into a kit there (`assembly.rs` checked its form).
+            DepartmentRole::Work if st.into.is_some() => (None, Vec::new()),
             DepartmentRole::Work => {
                 let time = match &st.time {
                     Some(t) => processing_time(&t.0, &sp.key("time"), ctx)?,

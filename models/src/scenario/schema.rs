@@ -674,6 +674,12 @@ pub(crate) struct StepSpec {
     pub either: Option<Vec<EitherSpec>>,
     /// How a lot picks one of `either`: `first-free`, `shortest-queue`, `least-work` or `shares`.
     pub rule: Option<String>,
+    /// `parts: { impeller: 1, seal-kit: 2 }`: an assembly step, which waits
+    /// for these component products before its operation (`assembly.rs`).
+    pub parts: Option<Ordered<u32>>,
+    /// `into: pump`: a component's last step, where its lot is consumed into
+    /// a kit of that product (`assembly.rs`).
+    pub into: Option<String>,
 }
 
 /// One alternative department of an operation, with its own processing time

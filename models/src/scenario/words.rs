@@ -354,6 +354,7 @@ mod tests {
             DockSpec,
             Ordered<String>,
             Ordered<Ordered<String>>,
+            Ordered<u32>,
             ProductSpec,
             LotSpec,
             LoadStartSpec,

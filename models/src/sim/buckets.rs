@@ -379,6 +379,7 @@ impl Collector {
                         .collect(),
                     by: Vec::new(),
                     due: b.due,
+                    assembly: None,
                 }
             })
             .collect()

@@ -14,7 +14,7 @@ pub mod trace;
 
 pub use model::trace::simulate_traced;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
-pub use stats::{Deadlock, DueSet, DueStats, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
+pub use stats::{Deadlock, DueSet, DueStats, FleetStats, KitStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
@@ -118,6 +118,11 @@ pub struct Plan {
     pub(crate) batched: bool,
     /// Per department, its batch rules (`None`: one lot at a time).
     pub(crate) batch: Vec<Option<crate::plant::Batching>>,
+    /// Some product assembles kits: lots go through `model/assembly.rs` at
+    /// their arrival. When false the handlers take exactly their paths of before.
+    pub(crate) assembly: bool,
+    /// The kits and who feeds them (empty unless `assembly`).
+    pub(crate) kits: model::assembly::KitPlan,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -465,6 +470,8 @@ impl Plan {
             due: plant.has_due_dates(),
             batched: plant.departments.iter().any(|d| d.batch.is_some()),
             batch: plant.departments.iter().map(|d| d.batch.clone()).collect(),
+            assembly: plant.assembles(),
+            kits: model::assembly::KitPlan::new(plant),
             buckets: None,
             overload: overload::OverloadRule::new(plant, layout),
             aisles: plant.aisles.as_ref().filter(|n| n.needs_simulation()).cloned(),

@@ -15,6 +15,7 @@ use crate::plant::DepartmentRole;
 mod aisles;
 mod alternatives;
 mod batches;
+pub(super) mod assembly;
 mod breakdowns;
 mod buckets;
 mod calendars;
@@ -326,6 +327,8 @@ struct PlantModel<'a> {
     due_stats: Option<Box<super::stats::DueSet>>,
     /// Batch machines' queues and running batches (empty unless `Plan::batched`).
     batches: batches::BatchState,
+    /// Lots waiting for kits and component stocks (empty unless `Plan::assembly`).
+    kit: assembly::KitState,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -577,6 +580,7 @@ impl<'a> PlantModel<'a> {
             order_due: f64::NAN,
             due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
             batches: batches::BatchState::new(plan, spec.seed, replication),
+            kit: assembly::KitState::new(plan),
         }
     }
 
@@ -622,6 +626,7 @@ impl<'a> PlantModel<'a> {
             d.all.reset();
             d.product.iter_mut().for_each(super::stats::DueStats::reset);
         }
+        self.kit.reset();
         self.open_buckets(t);
     }
 
@@ -844,6 +849,9 @@ impl<'a> PlantModel<'a> {
         if self.trace.is_some() {
             self.trace_arrive(id, now);
         }
+        if self.plan.assembly && self.kit_arrive(id, cal) {
+            return;
+        }
         if self.plan.alternatives && self.arrive_chosen(id, dept, cal) {
             return;
         }
@@ -1034,6 +1042,7 @@ impl<'a> PlantModel<'a> {
                 .iter()
                 .map(|b| b.as_ref().map_or((0, 0), |b| (b.batches, b.loads)))
                 .collect(),
+            assembly: self.kit.close(plan),
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);

@@ -157,6 +157,32 @@ impl DueSet {
     }
 }
 
+/// Assembly results per product, in the observation window (docs/metrics.md, "Assembly").
+#[derive(Debug, Clone)]
+pub struct KitStats {
+    /// Kits made of the product (a lot of it consumed its parts and went on to its operation).
+    pub kits: Vec<u64>,
+    /// The product's lots' wait from arriving at an assembly step to their kit being complete.
+    pub kit_wait: Vec<Tally>,
+    /// The product's (a component's) lots' wait from arriving at the assembly department to being consumed.
+    pub part_wait: Vec<Tally>,
+    /// Lots in the kitting area when the run ended (or stopped): an assembling
+    /// product's lots waiting for kits, a component's lots in stock.
+    pub held: Vec<u64>,
+}
+
+impl KitStats {
+    /// Nothing recorded, for `products` products.
+    pub fn new(products: usize) -> KitStats {
+        KitStats {
+            kits: vec![0; products],
+            kit_wait: vec![Tally::new(); products],
+            part_wait: vec![Tally::new(); products],
+            held: vec![0; products],
+        }
+    }
+}
+
 /// Results of one replication of one layout.
 #[derive(Debug, Clone)]
 pub struct RepStats {
@@ -238,6 +264,8 @@ pub struct RepStats {
     pub deadlock: Option<Deadlock>,
     /// Lateness against due dates; `None` unless some lot has a due date.
     pub due: Option<Box<DueSet>>,
+    /// Kits, kit waits and part waits; `None` unless the plant assembles (or per time bucket).
+    pub assembly: Option<Box<KitStats>>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,

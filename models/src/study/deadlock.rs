@@ -40,7 +40,11 @@ pub fn deadlock_message(plant: &Plant, reps: &[RepStats]) -> Option<String> {
 /// deadlocked or the overload rule stopped it.
 pub fn replication_deadlock(plant: &Plant, rep: &RepStats, replication: u64) -> Option<String> {
     if let Some(o) = &rep.overload {
-        return Some(super::overload::overload_message(plant, o, rep, replication));
+        let message = super::overload::overload_message(plant, o, rep, replication);
+        return Some(match kit_stall(plant, rep) {
+            Some(kits) => format!("{kits}; {message}"),
+            None => message,
+        });
     }
     let (i, d) = (replication, rep.deadlock.as_ref()?);
     if !d.movers.is_empty() {
@@ -56,4 +60,51 @@ pub fn replication_deadlock(plant: &Plant, rep: &RepStats, replication: u64) -> 
         crate::units::format_duration(d.time_s),
         names.join(", ")
     ))
+}
+
+/// When lots waiting for kits (or component stock) make up most of what a
+/// stopped replication held: which product waits, for which component, and
+/// what the static picture says about its supply. `None` otherwise.
+fn kit_stall(plant: &Plant, rep: &RepStats) -> Option<String> {
+    let kits = rep.assembly.as_deref()?;
+    let held: u64 = kits.held.iter().sum();
+    let wip = rep.overload.as_ref().map_or(0.0, |o| o.wip);
+    if held == 0 || (held as f64) < 0.5 * wip {
+        return None;
+    }
+    let demand = rep.overload.as_ref().map_or(1.0, |o| o.demand_factor);
+    let pic = crate::analysis::StaticPicture::new(plant, demand);
+    let (p, &n) = kits.held.iter().enumerate().max_by_key(|&(_, n)| *n)?;
+    let prod = &plant.products[p];
+    let what = match prod.into {
+        // The stock of a component piles up: more of it arrives than kits need.
+        Some(parent) => format!(
+            "{n} lots of component \"{}\" were in stock at the assembly, waiting for lots of \"{}\" to need them",
+            prod.id, plant.products[parent].id
+        ),
+        None => format!("{n} lots of \"{}\" were waiting for their kits", prod.id),
+    };
+    let short: Vec<String> = crate::analysis::kit_balance(plant, &pic)
+        .iter()
+        .flat_map(|k| {
+            k.parts.iter().filter_map(move |&(c, q, r)| {
+                let allows = r / f64::from(q);
+                (allows < k.needed_per_h * (1.0 - 1e-6)).then(|| {
+                    format!(
+                        "\"{}\" arrives for {} kits/h against {} needed",
+                        plant.products[c].id,
+                        crate::text::num(allows),
+                        crate::text::num(k.needed_per_h)
+                    )
+                })
+            })
+        })
+        .collect();
+    let why = if short.is_empty() {
+        "the supply of parts and the kits needed do not keep in step (see the Assembly table of `layflow check`)"
+            .to_string()
+    } else {
+        format!("{} (see the Assembly table of `layflow check`)", short.join(", "))
+    };
+    Some(format!("the plant stalled on kits: at the stop {what}; {why}"))
 }
