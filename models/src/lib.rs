@@ -9,6 +9,7 @@
 
 pub mod analysis;
 pub mod areas;
+pub mod crews;
 pub mod datetime;
 pub mod decimals;
 pub mod dist;

@@ -7,10 +7,11 @@
 
 use std::fmt;
 
+pub use crate::crews::Crew;
 use crate::dist::Dist;
 
 /// A whole plant as the scenario describes it, with every layout it names.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Clone, PartialEq)]
 pub struct Plant {
     /// Free-text name shown in reports.
     pub name: String,
@@ -45,6 +46,36 @@ pub struct Plant {
     pub fleet_choice: FleetChoice,
     /// Rules for `layflow search` (pinned departments, empty locations, adjacency, floor costs).
     pub search: SearchRules,
+    /// Named pools of people (`crews:`); empty when the scenario has none.
+    pub crews: Vec<Crew>,
+}
+
+// Written out so that a plant without crews keeps the debug text (and the
+// experiment content hash) it had before crews existed.
+impl fmt::Debug for Plant {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Plant");
+        s.field("name", &self.name)
+            .field("locations", &self.locations)
+            .field("distance_rule", &self.distance_rule)
+            .field("distance", &self.distance)
+            .field("aisles", &self.aisles)
+            .field("departments", &self.departments)
+            .field("layouts", &self.layouts)
+            .field("products", &self.products)
+            .field("handling", &self.handling)
+            .field("run", &self.run)
+            .field("orders", &self.orders)
+            .field("demand_factor", &self.demand_factor)
+            .field("cost_per_load_metre", &self.cost_per_load_metre)
+            .field("currency", &self.currency)
+            .field("fleet_choice", &self.fleet_choice)
+            .field("search", &self.search);
+        if !self.crews.is_empty() {
+            s.field("crews", &self.crews);
+        }
+        s.finish()
+    }
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
@@ -184,6 +215,10 @@ pub struct Department {
     /// Which waiting lot a free machine takes next (the plant's `queue_order`
     /// unless the department gives its own).
     pub queue_order: QueueOrder,
+    /// A person from a crew each operation needs (`people:`); `None`: machines run unattended.
+    pub people: Option<crate::crews::People>,
+    /// The crew (index into [`Plant::crews`]) whose member each repair needs; `None`: repairs start at once.
+    pub technicians: Option<usize>,
 }
 
 /// Which waiting lot is served next: at a department, the lot a free machine
@@ -232,6 +267,12 @@ impl fmt::Debug for Department {
         }
         if self.queue_order != QueueOrder::Fifo {
             s.field("queue_order", &self.queue_order);
+        }
+        if let Some(p) = &self.people {
+            s.field("people", p);
+        }
+        if let Some(t) = &self.technicians {
+            s.field("technicians", t);
         }
         s.finish()
     }

@@ -10,6 +10,7 @@ mod alternatives;
 mod area;
 mod compile;
 mod context;
+mod crews;
 mod demand;
 mod distance;
 mod error;

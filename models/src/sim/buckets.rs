@@ -368,6 +368,8 @@ impl Collector {
                     capped: b.sums[sh.capped()] as u64,
                     wip_peak: f64::NAN,
                     deadlock: None,
+                    crews: Vec::new(),
+                    person_wait: Vec::new(),
                     segments: (0..sh.segments)
                         .map(|s| super::SegmentStats {
                             traversals: b.sums[sh.traversals(s)] as u64,

@@ -17,12 +17,15 @@ mod alternatives;
 mod breakdowns;
 mod buckets;
 mod calendars;
+mod crews;
 mod due;
 mod lots;
 mod movers;
 mod queues;
 mod staging;
 pub(super) mod trace;
+
+pub use crews::CrewRep;
 
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
@@ -81,6 +84,12 @@ enum Event {
     /// A mover travelling the aisle network segment by segment reaches the
     /// end of a segment, or is ready to set off (see `aisles.rs`).
     Step { mover: u32 },
+    /// A machine's loading by a crew member ends (void if the token no longer matches).
+    CrewDone { machine: u32, token: u32 },
+    /// A technician is back home from a repair.
+    CrewBack { crew: u32 },
+    /// A crew goes off duty or comes back.
+    CrewDuty { crew: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -319,6 +328,8 @@ struct PlantModel<'a> {
     order_due: f64,
     /// Lateness of lots shipped in the window; `None` unless `Plan::due`.
     due_stats: Option<Box<super::stats::DueSet>>,
+    /// Crews' people, queues and figures (empty unless `Plan::has_crews`).
+    crew: crews::CrewModel,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -403,6 +414,9 @@ fn drive(mut m: PlantModel<'_>, spec: &RunSpec, step: Option<f64>) -> Run {
     }
     m.start_calendars(&mut cal);
     m.start_breakdowns(&mut cal);
+    if plan.has_crews {
+        m.start_crews(&mut cal);
+    }
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
     events += run_until(&mut m, &mut cal, spec.horizon_s);
@@ -468,6 +482,8 @@ impl<'a> PlantModel<'a> {
                 }
             })
             .collect();
+        let machine_dept: Vec<u32> =
+            if plan.has_crews { machines.iter().map(|m: &Machine| m.dept).collect() } else { Vec::new() };
         let mut mover_rng = Vec::new();
         let any_mover_failures = plan.fleets.iter().any(|f| f.breakdowns.is_some());
         let mut movers = Vec::new();
@@ -569,6 +585,7 @@ impl<'a> PlantModel<'a> {
             pending_due: f64::NAN,
             order_due: f64::NAN,
             due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
+            crew: crews::CrewModel::new(plan, &machine_dept, spec.seed, replication),
         }
     }
 
@@ -590,6 +607,7 @@ impl<'a> PlantModel<'a> {
             d.setup_level.reset(t);
         }
         self.aisle.reset(t);
+        self.crew.reset(t);
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
         self.capped = 0;
@@ -974,6 +992,7 @@ impl<'a> PlantModel<'a> {
             })
             .collect();
         let setup = (0..nd).map(|d| per_machine(d, self.departments[d].setup_level.mean(t))).collect();
+        let (crews, person_wait) = self.crew.finish(t);
         let mut stats = RepStats {
             by: Vec::new(),
             segments,
@@ -1016,6 +1035,8 @@ impl<'a> PlantModel<'a> {
             move_wait_drive_hist_fleet: self.fleets.iter().map(|f| f.drive_hist.clone()).collect(),
             fleets: self.fleets.iter().map(|f| f.acc).collect(),
             due: self.due_stats.take(),
+            crews,
+            person_wait,
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);
@@ -1062,6 +1083,9 @@ impl Model for PlantModel<'_> {
             Event::MoverBack { mover } => self.mover_back(mover, cal),
             Event::DeptShift { dept } => self.dept_shift(dept as usize, cal),
             Event::Step { mover } => self.step(mover, cal),
+            Event::CrewDone { machine, token } => self.loading_done(machine, token, cal),
+            Event::CrewBack { crew } => self.crew_back(crew as usize, cal),
+            Event::CrewDuty { crew } => self.crew_duty(crew as usize, cal),
         }
         if self.trace.is_some() {
             self.trace_poll(cal.now());

@@ -238,6 +238,10 @@ pub struct RepStats {
     pub deadlock: Option<Deadlock>,
     /// Lateness against due dates; `None` unless some lot has a due date.
     pub due: Option<Box<DueSet>>,
+    /// Per crew, what it measured (empty without crews, and per time bucket).
+    pub crews: Vec<super::CrewRep>,
+    /// Per department, its operations' waits for a person (empty without crews, and per time bucket).
+    pub person_wait: Vec<Tally>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,
