@@ -21,6 +21,6 @@ pub use list::{
 };
 pub use registry::{canonical, Better, Def, Id, Kind, Scope, Unit, DEFS};
 pub use summary::{
-    summarize, DepartmentSummary, FleetSummary, LayoutAccumulator, LayoutSummary, ProductSummary,
+    summarize, CrewSummary, DepartmentSummary, FleetSummary, LayoutAccumulator, LayoutSummary, ProductSummary,
     SegmentSummary,
 };

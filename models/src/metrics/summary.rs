@@ -88,6 +88,9 @@ pub struct DepartmentSummary {
     /// The static estimate of the setup share (random mix of products), with setups.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub setup_share_predicted: Option<f64>,
+    /// Mean wait of an operation for a person, s; present when its operations need one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub person_wait_s: Option<Estimate>,
 }
 
 /// Per-fleet results.
@@ -140,6 +143,26 @@ pub struct FleetSummary {
     /// network is simulated segment by segment.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub congestion_share: Option<Estimate>,
+}
+
+/// Per-crew results.
+#[derive(Debug, Clone, Serialize)]
+pub struct CrewSummary {
+    /// Crew id.
+    pub crew: String,
+    /// People in the crew.
+    pub size: u32,
+    /// Time-average people busy ÷ size.
+    pub utilization: Estimate,
+    /// The static prediction: people-hours of work per hour ÷ (size × on-duty share).
+    pub utilization_predicted: f64,
+    /// Busy person time ÷ on-duty person time; present when the crew has shifts.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
+    /// Mean wait of a request for one of its people, s.
+    pub person_wait_s: Estimate,
+    /// Size × cost per hour.
+    pub people_cost_per_h: Estimate,
 }
 
 /// What one aisle segment saw, across replications.
@@ -223,6 +246,15 @@ pub struct LayoutSummary {
     /// Lateness against due dates, every lot with one; present when some lot has a due date.
     #[serde(flatten, skip_serializing_if = "Option::is_none")]
     pub due: Option<DueSummary>,
+    /// People cost per hour, every crew; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub people_cost_per_h: Option<Estimate>,
+    /// Mean wait for a person, every crew, s; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub person_wait_s: Option<Estimate>,
+    /// Per crew; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub crews: Option<Vec<CrewSummary>>,
 }
 
 /// Summarise the replications of layout `spec.layout` (all held in memory;
@@ -350,6 +382,7 @@ impl<'a> LayoutAccumulator<'a> {
         let throughput = of(Id::Throughput, 0);
         let flow = with_hist(of(Id::FlowTime, 0), &self.flow_hist);
         let wip = of(Id::Wip, 0);
+        let has_crews = !plant.crews.is_empty();
         let little_relative_gap = if wip.mean > 0.0 {
             (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean
         } else {
@@ -406,6 +439,7 @@ impl<'a> LayoutAccumulator<'a> {
                     scheduled_share: dep.calendar.as_ref().map(|c| c.scheduled_share()),
                     setup_share: dep.setups.as_ref().map(|_| of(Id::DepartmentSetup, d)),
                     setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
+                    person_wait_s: dep.people.as_ref().map(|_| of(Id::DepartmentPersonWait, d)),
                 })
                 .collect(),
             fleets: plant
@@ -451,6 +485,25 @@ impl<'a> LayoutAccumulator<'a> {
                 tardiness_s: of(Id::Tardiness, 0),
                 lateness_s: of(Id::Lateness, 0),
                 lateness_p95_s: of(Id::LatenessP95, 0),
+            }),
+            people_cost_per_h: has_crews.then(|| of(Id::PeopleCost, 0)),
+            person_wait_s: has_crews.then(|| of(Id::PersonWait, 0)),
+            crews: has_crews.then(|| {
+                let predicted = crate::crews::predicted_utilization(plant, picture);
+                plant
+                    .crews
+                    .iter()
+                    .enumerate()
+                    .map(|(c, crew)| CrewSummary {
+                        crew: crew.id.clone(),
+                        size: crew.size,
+                        utilization: of(Id::CrewUtilization, c),
+                        utilization_predicted: predicted[c],
+                        utilization_scheduled: crew.duty.as_ref().map(|_| of(Id::CrewScheduledUtilization, c)),
+                        person_wait_s: of(Id::CrewPersonWait, c),
+                        people_cost_per_h: of(Id::CrewCost, c),
+                    })
+                    .collect()
             }),
         }
     }
@@ -504,6 +557,9 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
     if features.due {
         out.extend([Id::LateShare, Id::Tardiness, Id::Lateness, Id::LatenessP95].map(|id| (id, 0)));
     }
+    if !plant.crews.is_empty() {
+        out.extend([(Id::PeopleCost, 0), (Id::PersonWait, 0)]);
+    }
     for p in 0..plant.products.len() {
         out.extend([(Id::ProductThroughput, p), (Id::ProductFlowTime, p)]);
         if product_has_due_dates(plant, p) {
@@ -520,6 +576,7 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
             (dep.breakdowns.is_some(), Id::DepartmentAvailability),
             (dep.calendar.is_some(), Id::DepartmentScheduledUtilization),
             (dep.setups.is_some(), Id::DepartmentSetup),
+            (dep.people.is_some(), Id::DepartmentPersonWait),
         ];
         out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, d)));
     }
@@ -549,6 +606,12 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
             (features.aisles, Id::FleetCongestion),
         ];
         out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, f)));
+    }
+    for (c, crew) in plant.crews.iter().enumerate() {
+        out.extend([(Id::CrewUtilization, c), (Id::CrewPersonWait, c), (Id::CrewCost, c)]);
+        if crew.duty.is_some() {
+            out.push((Id::CrewScheduledUtilization, c));
+        }
     }
     if let Some(net) = plant.aisles.as_ref().filter(|n| n.needs_simulation()) {
         for s in 0..net.segments.len() {
