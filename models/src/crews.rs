@@ -101,7 +101,10 @@ pub fn people_hours_per_h(plant: &crate::plant::Plant, picture: &crate::analysis
 
 /// Predicted utilisation of each crew: its people-hours per hour ÷ (size ×
 /// on-duty share) (docs/formulas.md §33). At or above 1 the crew cannot keep up.
-pub fn predicted_utilization(plant: &crate::plant::Plant, picture: &crate::analysis::StaticPicture) -> Vec<f64> {
+pub fn predicted_utilization(
+    plant: &crate::plant::Plant,
+    picture: &crate::analysis::StaticPicture,
+) -> Vec<f64> {
     people_hours_per_h(plant, picture)
         .iter()
         .zip(&plant.crews)

@@ -499,7 +499,10 @@ impl<'a> LayoutAccumulator<'a> {
                         size: crew.size,
                         utilization: of(Id::CrewUtilization, c),
                         utilization_predicted: predicted[c],
-                        utilization_scheduled: crew.duty.as_ref().map(|_| of(Id::CrewScheduledUtilization, c)),
+                        utilization_scheduled: crew
+                            .duty
+                            .as_ref()
+                            .map(|_| of(Id::CrewScheduledUtilization, c)),
                         person_wait_s: of(Id::CrewPersonWait, c),
                         people_cost_per_h: of(Id::CrewCost, c),
                     })
