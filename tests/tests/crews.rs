@@ -222,3 +222,36 @@ fn a_crew_off_duty_finishes_its_task_and_starts_none() {
     }
     c.finish();
 }
+
+#[test]
+fn every_use_of_crews_at_once_keeps_flow_balance_and_little_s_law() {
+    let file = "validation/crews-mixed.yaml";
+    let plant = load(file);
+    let run = run_layout(&plant, 0);
+    let s = &run.summary;
+    let mut c = Checks::new(file);
+    let b = |x: f64| BIAS_REL * x;
+    // Flow balance: a stable plant ships what it receives, 1.5 + 1 lots/h.
+    c.estimate("throughput = arrivals (lots/h)", 2.5, &s.throughput_per_h, K, b(2.5), POWER_TIGHT);
+    check_little(&mut c, "lots", &run, layflow_tests::little_edge_bound(&run));
+    // Little's law for a crew (docs/formulas.md §4): busy people = tasks per
+    // hour × mean time each holds a person. The operators hold a person for
+    // the saws' whole processing time (a failure sends the person away and
+    // the rest of the operation takes one again, so the held time is still
+    // the processing time): 1.5/h × 30 min = 0.75 people. The loader holds
+    // one for the 3 min loading of each of the mill's 1 lot/h: 0.05. (Busy
+    // time failures of the mill count processing only, so a loading is never
+    // cut short.)
+    let crews = s.crews.as_ref().expect("crews");
+    let busy = |i: usize| scaled(&crews[i].utilization, f64::from(plant.crews[i].size));
+    c.estimate("operators busy = 1.5/h × 0.5 h", 0.75, &busy(0), K, b(0.75), POWER);
+    c.estimate("loader busy = 1/h × 3 min", 0.05, &busy(2), K, b(0.05), POWER);
+    // The operators are on duty 23 h a day and the window is 834 whole days:
+    // busy on duty = busy × 24/23, per replication exactly.
+    for r in &run.reps {
+        let u = value(Id::CrewUtilization, &plant, r, 0);
+        let on = value(Id::CrewScheduledUtilization, &plant, r, 0);
+        c.exact("operators: busy on duty = busy × 24/23", u * 24.0 / 23.0, on, 1e-9);
+    }
+    c.finish();
+}

@@ -50,6 +50,9 @@ fn allocations_do_not_grow_with_the_horizon() {
     // least-work and first-free (shared queues) and branches from the dock.
     // The demo again with every queue order and due dates: ordered queues
     // are heaps that grow to their largest length, like the plain ones.
+    // The crews plants use people for operations (with shifts and breaks),
+    // setups and loading, and walking technicians for repairs: each crew's
+    // queue of requests is a ring buffer sized to the machines at the start.
     let mut plants: Vec<(String, Plant)> = Vec::new();
     for name in [
         "demo.yaml",
@@ -59,6 +62,8 @@ fn allocations_do_not_grow_with_the_horizon() {
         "staging-breakdowns.yaml",
         "validation/two-station-blocking.yaml",
         "validation/alt-movers.yaml",
+        "validation/crews-mixed.yaml",
+        "validation/crews-machine-repair.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         plants.push((name.to_string(), load_scenario(&path).unwrap()));
