@@ -100,7 +100,7 @@ pub fn people_hours_per_h(plant: &crate::plant::Plant, picture: &crate::analysis
 }
 
 /// Predicted utilisation of each crew: its people-hours per hour ÷ (size ×
-/// on-duty share) (docs/formulas.md §33). At or above 1 the crew cannot keep up.
+/// on-duty share) (docs/formulas.md §25). At or above 1 the crew cannot keep up.
 pub fn predicted_utilization(
     plant: &crate::plant::Plant,
     picture: &crate::analysis::StaticPicture,

@@ -36,7 +36,7 @@ fn per_rep(run: &Run, f: impl Fn(&RepStats) -> f64) -> Estimate {
     Estimate { mean: iv.mean, half_width: iv.half_width, n: iv.n }
 }
 
-/// The machine-repair model M/M/c//N (docs/formulas.md §33): N machines,
+/// The machine-repair model M/M/c//N (docs/formulas.md §19): N machines,
 /// c repairers, failure rate `lambda` per running machine, repair rate `mu`.
 /// Returns (L down, Lq waiting for a repairer, Wq, availability, repairer utilisation).
 /// Gross, Shortle, Thompson & Harris, Fundamentals of Queueing Theory,
@@ -66,7 +66,7 @@ fn machine_repair(n: u32, c: u32, lambda: f64, mu: f64) -> (f64, f64, f64, f64, 
 #[test]
 fn the_machine_repair_formula_gives_the_published_values() {
     // The worked case: N = 6, c = 2, λ = 0.1/h, μ = 0.5/h (values as
-    // docs/formulas.md §33 lists them, six decimals).
+    // docs/formulas.md §19 lists them, six decimals).
     let (l, lq, wq, a, u) = machine_repair(6, 2, 0.1, 0.5);
     let mut c = Checks::new("machine-repair model M/M/2//6");
     c.exact("L", 1.115351, l, 5e-7);
@@ -122,7 +122,7 @@ fn two_operators_shared_by_three_departments_are_mm2() {
     // Fundamentals of Queueing Theory, M/M/c; from memory): c = 2,
     // λ = 1.5/h, μ = 1/h: Wq = 9/7 h, W = 16/7 h, L = 24/7, ρ = 0.75.
     // Why the plant is exactly M/M/2: scenarios/validation/crews-operators-mm2.yaml
-    // and docs/formulas.md §33 (machines per department ≥ crew size, one
+    // and docs/formulas.md §25 (machines per department ≥ crew size, one
     // first-come-first-served queue of requests for the crew, equal exponential times).
     let th = mmc(2, 1.5, 1.0);
     assert!((th.wq - 9.0 / 7.0).abs() < 1e-12 && (th.l - 24.0 / 7.0).abs() < 1e-12);

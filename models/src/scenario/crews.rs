@@ -19,8 +19,21 @@ pub(crate) fn crews(s: &Scenario, departments: &[Department], ctx: &Ctx) -> Resu
     check_unique(ctx, "crew", list.iter().enumerate().map(|(i, c)| (c.id.as_str(), p.index(i).key("id"))))?;
     let dept_ids: Vec<&str> = departments.iter().map(|d| d.id.as_str()).collect();
     let mut out = Vec::with_capacity(list.len());
+    let fleet_ids: Vec<&str> = s.fleets.iter().flatten().map(|f| f.id.as_str()).collect();
+    let product_ids: Vec<&str> = s.products.iter().map(|p| p.id.as_str()).collect();
     for (i, c) in list.iter().enumerate() {
         let cp = p.index(i);
+        // Metrics are named `ID/METRIC`: a crew sharing an id with another subject would make a name mean two things.
+        for (ids, what) in [(&dept_ids, "department"), (&fleet_ids, "fleet"), (&product_ids, "product")] {
+            if ids.contains(&c.id.as_str()) {
+                return Err(ctx
+                    .err(&cp.key("id"), format!("crew \"{}\" has the id of a {what}", c.id))
+                    .with_hint(format!(
+                        "metrics are named `ID/METRIC`, so give the crew an id no {what} has, e.g. `{}-crew`",
+                        c.id
+                    )));
+            }
+        }
         if c.size == 0 {
             return Err(ctx
                 .err(&cp.key("size"), format!("crew \"{}\" has size 0: a crew needs at least 1 person", c.id))
