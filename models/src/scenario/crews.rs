@@ -159,6 +159,17 @@ pub(crate) fn attach(
                         "add `setups:` to the department, or say `for: operation` or `for: loading`",
                     ));
             }
+            idle_for_the_run(&crews[crew], horizon_s).map_or(Ok(()), |why| {
+                Err(ctx
+                    .err(
+                        &pp.key("crew"),
+                        format!(
+                            "people deadlock: department \"{}\" needs a person from crew \"{}\", but {why}",
+                            d.id, crews[crew].id
+                        ),
+                    )
+                    .with_hint("give the crew a shift that starts before the horizon, or lengthen the run"))
+            })?;
             if let Some(cal) = departments[i].calendar.as_ref() {
                 never_together(&crews[crew], &cal.duty, horizon_s).map_or(Ok(()), |why| {
                     Err(ctx
@@ -176,11 +187,36 @@ pub(crate) fn attach(
         }
         if let Some(b) = &d.breakdowns {
             if let Some(t) = &b.technician {
-                departments[i].technicians = Some(find(t, &dp.key("breakdowns").key("technician"))?);
+                let at = dp.key("breakdowns").key("technician");
+                let crew = find(t, &at)?;
+                idle_for_the_run(&crews[crew], horizon_s).map_or(Ok(()), |why| {
+                    Err(ctx
+                        .err(
+                            &at,
+                            format!(
+                                "the repairs of department \"{}\" need crew \"{}\", but {why}",
+                                d.id, crews[crew].id
+                            ),
+                        )
+                        .with_hint(
+                            "give the crew a shift that starts before the horizon, or lengthen the run",
+                        ))
+                })?;
+                departments[i].technicians = Some(crew);
             }
         }
     }
     Ok(())
+}
+
+/// Why crew `c` is never on duty before the horizon (`None`: it is at some time).
+fn idle_for_the_run(c: &Crew, horizon_s: f64) -> Option<String> {
+    let d = c.duty.as_ref()?;
+    let first = d.on.first().map_or(f64::INFINITY, |w| w.0);
+    (first >= horizon_s).then(|| {
+        "the crew's first shift starts at or after the run's horizon, so it is never on duty in the run"
+            .to_string()
+    })
 }
 
 /// Why crew `c` is never on duty while a department with working windows
