@@ -1,4 +1,4 @@
-//! Crews against theory: technicians as the machine-repair model M/M/c//N, operators as M/M/2 (Erlang C), and hand-timed schedules for people held for setups, loading and across shifts.
+//! Crews against theory: technicians as the machine-repair model M/M/c//N, operators as M/M/2 (Erlang C), and hand-timed schedules for people held for setups, loading, across shifts and walking to repairs.
 //!
 //! Tolerances of the statistical rows follow tests/tests/queueing.rs: K = 3
 //! half-widths of the 40-replication Student t interval (t(0.975, 39) =
@@ -252,6 +252,27 @@ fn every_use_of_crews_at_once_keeps_flow_balance_and_little_s_law() {
         let u = value(Id::CrewUtilization, &plant, r, 0);
         let on = value(Id::CrewScheduledUtilization, &plant, r, 0);
         c.exact("operators: busy on duty = busy × 24/23", u * 24.0 / 23.0, on, 1e-9);
+    }
+    c.finish();
+}
+
+#[test]
+fn a_technician_walks_to_the_repair_and_back() {
+    let file = "validation/crews-walking.yaml";
+    let plant = load(file);
+    let run = run_layout(&plant, 0);
+    let mut c = Checks::new(file);
+    let press = department(&plant, "press");
+    for r in &run.reps {
+        // Timed by hand in the scenario's header: 10 cycles of up 3600 s, down 50 + 1800 s.
+        c.exact("press availability 3600/5450", 3600.0 / 5450.0, r.availability[press], TOL);
+        c.exact(
+            "fitter busy 18 950 s of 54 500",
+            18950.0 / 54500.0,
+            value(Id::CrewUtilization, &plant, r, 0),
+            TOL,
+        );
+        c.exact("repairs never wait for the fitter", 0.0, value(Id::CrewPersonWait, &plant, r, 0), TOL);
     }
     c.finish();
 }
