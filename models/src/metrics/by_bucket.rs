@@ -31,6 +31,13 @@ pub fn bucketed(m: &Metric) -> bool {
     match m.def.id {
         Id::FlowTimeQuantile(p) | Id::MoveWaitQuantile(p) | Id::FleetMoveWaitQuantile(p) => pct(p),
         Id::FleetMoveWaitAssignQuantile(_) | Id::FleetMoveWaitDriveQuantile(_) => false,
+        // Crews' figures are kept for the whole window only, not per bucket.
+        Id::PersonWait
+        | Id::DepartmentPersonWait
+        | Id::CrewUtilization
+        | Id::CrewScheduledUtilization
+        | Id::CrewPersonWait
+        | Id::CrewCost => false,
         _ => m.def.listed,
     }
 }
