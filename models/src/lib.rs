@@ -9,7 +9,7 @@
 
 pub mod analysis;
 pub mod areas;
-pub mod crews;
+pub mod crew_load;
 pub mod datetime;
 pub mod decimals;
 pub mod dist;

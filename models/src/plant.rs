@@ -7,7 +7,6 @@
 
 use std::fmt;
 
-pub use crate::crews::Crew;
 use crate::dist::Dist;
 
 /// A whole plant as the scenario describes it, with every layout it names.
@@ -216,7 +215,7 @@ pub struct Department {
     /// unless the department gives its own).
     pub queue_order: QueueOrder,
     /// A person from a crew each operation needs (`people:`); `None`: machines run unattended.
-    pub people: Option<crate::crews::People>,
+    pub people: Option<People>,
     /// The crew (index into [`Plant::crews`]) whose member each repair needs; `None`: repairs start at once.
     pub technicians: Option<usize>,
 }
@@ -1207,4 +1206,65 @@ pub struct SearchRules {
     pub neighbour_distance_m: Option<f64>,
     /// (department, location, cost per hour) of putting that department there.
     pub floor_costs: Vec<(usize, usize, f64)>,
+}
+
+// Crews: named pools of people that departments' operations and repairs need
+// (read by scenario/crews.rs, run by sim/model/crews.rs).
+
+/// A named pool of identical people.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Crew {
+    /// The scenario's name for it.
+    pub id: String,
+    /// People in the crew (at least 1).
+    pub size: u32,
+    /// Cost of one person per hour on the payroll (the scenario's currency),
+    /// paid for the whole window, on duty or not, busy or idle.
+    pub cost_per_h: f64,
+    /// When the crew works (shifts less breaks); `None`: on duty all the time.
+    pub duty: Option<DutyCalendar>,
+    /// Department the crew waits at between tasks (for walking to repairs); `None`: no walking.
+    pub home: Option<usize>,
+    /// Walking speed, m/s, over the layout's distances from `home`; `None`: no walking.
+    pub walk_speed: Option<f64>,
+}
+
+impl Crew {
+    /// The long-run share of time the crew is on duty (1 without shifts).
+    pub fn on_duty_share(&self) -> f64 {
+        self.duty.as_ref().map_or(1.0, |d| d.on.iter().map(|&(a, b)| b - a).sum::<f64>() / d.period_s)
+    }
+}
+
+/// What part of an operation holds a person.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PersonFor {
+    /// Only the setup (a change of product); an operation without a setup needs nobody.
+    Setup,
+    /// The setup, if any, and the whole processing time.
+    Operation,
+    /// A loading time of its own at the start of the operation, before any setup and processing.
+    Loading,
+}
+
+impl PersonFor {
+    /// The word the scenario uses.
+    pub fn word(self) -> &'static str {
+        match self {
+            PersonFor::Setup => "setup",
+            PersonFor::Operation => "operation",
+            PersonFor::Loading => "loading",
+        }
+    }
+}
+
+/// A department's need for a person from a crew.
+#[derive(Debug, Clone, PartialEq)]
+pub struct People {
+    /// Index into [`crate::plant::Plant::crews`].
+    pub crew: usize,
+    /// Which part of the operation holds the person.
+    pub task: PersonFor,
+    /// The loading time (`task` is [`PersonFor::Loading`] exactly when this is set).
+    pub loading: Option<Dist>,
 }

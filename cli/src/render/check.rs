@@ -592,8 +592,8 @@ fn crews(s: &mut String, plant: &Plant, pic: &StaticPicture) {
         s,
         "Crews: predicted utilisation = people-hours of work per hour ÷ (people × on-duty share)"
     );
-    let hours = layflow_models::crews::people_hours_per_h(plant, pic);
-    let predicted = layflow_models::crews::predicted_utilization(plant, pic);
+    let hours = layflow_models::crew_load::people_hours_per_h(plant, pic);
+    let predicted = layflow_models::crew_load::predicted_utilization(plant, pic);
     let mut t =
         Table::new(&["crew", "people", "on duty", "work (people-h/h)", "utilisation", "needed by", ""]);
     for (c, crew) in plant.crews.iter().enumerate() {
@@ -641,8 +641,8 @@ fn crews_json(plant: &Plant, pic: &StaticPicture) -> Option<serde_json::Value> {
     if plant.crews.is_empty() {
         return None;
     }
-    let hours = layflow_models::crews::people_hours_per_h(plant, pic);
-    let predicted = layflow_models::crews::predicted_utilization(plant, pic);
+    let hours = layflow_models::crew_load::people_hours_per_h(plant, pic);
+    let predicted = layflow_models::crew_load::predicted_utilization(plant, pic);
     Some(json!(plant
         .crews
         .iter()

@@ -489,7 +489,7 @@ impl<'a> LayoutAccumulator<'a> {
             people_cost_per_h: has_crews.then(|| of(Id::PeopleCost, 0)),
             person_wait_s: has_crews.then(|| of(Id::PersonWait, 0)),
             crews: has_crews.then(|| {
-                let predicted = crate::crews::predicted_utilization(plant, picture);
+                let predicted = crate::crew_load::predicted_utilization(plant, picture);
                 plant
                     .crews
                     .iter()

@@ -6,8 +6,8 @@ use super::locate::FieldPath;
 use super::operators::duty_calendar;
 use super::schema::{PersonForSpec, Scenario};
 use super::times::duration;
-use crate::crews::{Crew, People, PersonFor};
 use crate::limits;
+use crate::plant::{Crew, People, PersonFor};
 use crate::plant::{Department, DepartmentRole, DutyCalendar};
 
 /// Compiles `crews:` (empty when absent). `departments` are compiled already (for `home`).

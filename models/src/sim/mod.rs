@@ -13,9 +13,8 @@ mod stats;
 pub mod trace;
 
 pub use model::trace::simulate_traced;
-pub use model::CrewRep;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
-pub use stats::{Deadlock, DueSet, DueStats, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
+pub use stats::{CrewRep, Deadlock, DueSet, DueStats, FleetStats, Overload, RepStats, SegmentStats, TICK_S};
 
 use crate::plant::{
     AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
@@ -120,7 +119,7 @@ pub struct Plan {
     /// Crews, with their duty in the handlers' form.
     pub(crate) crews: Vec<PlanCrew>,
     /// Per department, the person its operations need.
-    pub(crate) people: Vec<Option<crate::crews::People>>,
+    pub(crate) people: Vec<Option<crate::plant::People>>,
     /// Per department, the crew its repairs need.
     pub(crate) technicians: Vec<Option<usize>>,
 }

@@ -25,8 +25,6 @@ mod queues;
 mod staging;
 pub(super) mod trace;
 
-pub use crews::CrewRep;
-
 /// Stream keys: each source of randomness has its own stream (common random numbers).
 /// `ARRIVALS, product` also draws the thinning uniforms of a profiled product
 /// and the extra lot of a trace order scaled by the demand factor: all of

@@ -15,7 +15,8 @@ use std::collections::VecDeque;
 use layflow_engine::{stream, Calendar, Stream, Tally, TimeWeighted};
 
 use super::{Event, PlantModel, NONE};
-use crate::crews::PersonFor;
+use crate::plant::PersonFor;
+use crate::sim::stats::CrewRep;
 use crate::sim::DutyCursor;
 
 /// `CREW, department, machine`: that machine's loading times.
@@ -72,17 +73,6 @@ pub(super) struct CrewModel {
     dept_wait: Vec<Tally>,
     /// Per machine, its loading-time stream (empty unless some department loads).
     rng: Vec<Stream>,
-}
-
-/// What one replication's crews measured.
-#[derive(Debug, Clone)]
-pub struct CrewRep {
-    /// Time-average people busy.
-    pub busy_mean: f64,
-    /// Person-seconds off duty in the window.
-    pub off_s: f64,
-    /// Waits of requests for a person (operations and repairs).
-    pub wait: Tally,
 }
 
 impl CrewModel {
