@@ -9,6 +9,7 @@
 
 pub mod analysis;
 pub mod areas;
+pub mod crew_load;
 pub mod datetime;
 pub mod decimals;
 pub mod dist;

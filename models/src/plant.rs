@@ -10,7 +10,7 @@ use std::fmt;
 use crate::dist::Dist;
 
 /// A whole plant as the scenario describes it, with every layout it names.
-#[derive(Debug, Clone, PartialEq)]
+#[derive(Clone, PartialEq)]
 pub struct Plant {
     /// Free-text name shown in reports.
     pub name: String,
@@ -45,6 +45,36 @@ pub struct Plant {
     pub fleet_choice: FleetChoice,
     /// Rules for `layflow search` (pinned departments, empty locations, adjacency, floor costs).
     pub search: SearchRules,
+    /// Named pools of people (`crews:`); empty when the scenario has none.
+    pub crews: Vec<Crew>,
+}
+
+// Written out so that a plant without crews keeps the debug text (and the
+// experiment content hash) it had before crews existed.
+impl fmt::Debug for Plant {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        let mut s = f.debug_struct("Plant");
+        s.field("name", &self.name)
+            .field("locations", &self.locations)
+            .field("distance_rule", &self.distance_rule)
+            .field("distance", &self.distance)
+            .field("aisles", &self.aisles)
+            .field("departments", &self.departments)
+            .field("layouts", &self.layouts)
+            .field("products", &self.products)
+            .field("handling", &self.handling)
+            .field("run", &self.run)
+            .field("orders", &self.orders)
+            .field("demand_factor", &self.demand_factor)
+            .field("cost_per_load_metre", &self.cost_per_load_metre)
+            .field("currency", &self.currency)
+            .field("fleet_choice", &self.fleet_choice)
+            .field("search", &self.search);
+        if !self.crews.is_empty() {
+            s.field("crews", &self.crews);
+        }
+        s.finish()
+    }
 }
 
 /// A slot on the floor with its pick-up/drop-off point.
@@ -186,6 +216,10 @@ pub struct Department {
     pub queue_order: QueueOrder,
     /// A batch machine's rules (an oven, a wash tank); `None`: one lot at a time.
     pub batch: Option<Batching>,
+    /// A person from a crew each operation needs (`people:`); `None`: machines run unattended.
+    pub people: Option<People>,
+    /// The crew (index into [`Plant::crews`]) whose member each repair needs; `None`: repairs start at once.
+    pub technicians: Option<usize>,
 }
 
 /// How a batch department's machines work: each runs up to `max` loads
@@ -264,6 +298,12 @@ impl fmt::Debug for Department {
         }
         if let Some(b) = &self.batch {
             s.field("batch", b);
+        }
+        if let Some(p) = &self.people {
+            s.field("people", p);
+        }
+        if let Some(t) = &self.technicians {
+            s.field("technicians", t);
         }
         s.finish()
     }
@@ -1226,4 +1266,65 @@ pub struct SearchRules {
     pub neighbour_distance_m: Option<f64>,
     /// (department, location, cost per hour) of putting that department there.
     pub floor_costs: Vec<(usize, usize, f64)>,
+}
+
+// Crews: named pools of people that departments' operations and repairs need
+// (read by scenario/crews.rs, run by sim/model/crews.rs).
+
+/// A named pool of identical people.
+#[derive(Debug, Clone, PartialEq)]
+pub struct Crew {
+    /// The scenario's name for it.
+    pub id: String,
+    /// People in the crew (at least 1).
+    pub size: u32,
+    /// Cost of one person per hour on the payroll (the scenario's currency),
+    /// paid for the whole window, on duty or not, busy or idle.
+    pub cost_per_h: f64,
+    /// When the crew works (shifts less breaks); `None`: on duty all the time.
+    pub duty: Option<DutyCalendar>,
+    /// Department the crew waits at between tasks (for walking to repairs); `None`: no walking.
+    pub home: Option<usize>,
+    /// Walking speed, m/s, over the layout's distances from `home`; `None`: no walking.
+    pub walk_speed: Option<f64>,
+}
+
+impl Crew {
+    /// The long-run share of time the crew is on duty (1 without shifts).
+    pub fn on_duty_share(&self) -> f64 {
+        self.duty.as_ref().map_or(1.0, |d| d.on.iter().map(|&(a, b)| b - a).sum::<f64>() / d.period_s)
+    }
+}
+
+/// What part of an operation holds a person.
+#[derive(Debug, Clone, Copy, PartialEq, Eq)]
+pub enum PersonFor {
+    /// Only the setup (a change of product); an operation without a setup needs nobody.
+    Setup,
+    /// The setup, if any, and the whole processing time.
+    Operation,
+    /// A loading time of its own at the start of the operation, before any setup and processing.
+    Loading,
+}
+
+impl PersonFor {
+    /// The word the scenario uses.
+    pub fn word(self) -> &'static str {
+        match self {
+            PersonFor::Setup => "setup",
+            PersonFor::Operation => "operation",
+            PersonFor::Loading => "loading",
+        }
+    }
+}
+
+/// A department's need for a person from a crew.
+#[derive(Debug, Clone, PartialEq)]
+pub struct People {
+    /// Index into [`crate::plant::Plant::crews`].
+    pub crew: usize,
+    /// Which part of the operation holds the person.
+    pub task: PersonFor,
+    /// The loading time (`task` is [`PersonFor::Loading`] exactly when this is set).
+    pub loading: Option<Dist>,
 }

@@ -56,6 +56,9 @@ fn allocations_do_not_grow_with_the_horizon() {
     // are heaps that grow to their largest length, like the plain ones.
     // The assembly demo keeps lots waiting for kits and component stocks
     // in queues that, too, only grow to their largest length.
+    // The crews plants use people for operations (with shifts and breaks),
+    // setups and loading, and walking technicians for repairs: each crew's
+    // queue of requests is a ring buffer sized to the machines at the start.
     let mut plants: Vec<(String, Plant)> = Vec::new();
     for name in [
         "demo.yaml",
@@ -67,6 +70,8 @@ fn allocations_do_not_grow_with_the_horizon() {
         "validation/alt-movers.yaml",
         "batches-demo.yaml",
         "assembly-demo.yaml",
+        "validation/crews-mixed.yaml",
+        "validation/crews-machine-repair.yaml",
     ] {
         let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("../scenarios").join(name);
         plants.push((name.to_string(), load_scenario(&path).unwrap()));

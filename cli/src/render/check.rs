@@ -161,6 +161,7 @@ pub fn render(plant: &Plant, path: &Path, pic: &StaticPicture, measured: Option<
         );
     }
     let _ = writeln!(s);
+    crews(&mut s, plant, pic);
 
     let currency = plant.currency.as_deref();
     let _ = writeln!(
@@ -686,7 +687,86 @@ pub fn to_json(plant: &Plant, pic: &StaticPicture, measured: Option<&MeasuredCha
     if plant.assembles() {
         j["assembly"] = json!(assembly_json(plant, pic));
     }
+    // And crews: only for a plant that has some.
+    if let Some(c) = crews_json(plant, pic) {
+        j["crews"] = c;
+    }
     j
+}
+
+/// The crews' predicted load (only for a plant with crews, so other plants' text is unchanged).
+fn crews(s: &mut String, plant: &Plant, pic: &StaticPicture) {
+    if plant.crews.is_empty() {
+        return;
+    }
+    let _ = writeln!(
+        s,
+        "Crews: predicted utilisation = people-hours of work per hour ÷ (people × on-duty share)"
+    );
+    let hours = layflow_models::crew_load::people_hours_per_h(plant, pic);
+    let predicted = layflow_models::crew_load::predicted_utilization(plant, pic);
+    let mut t =
+        Table::new(&["crew", "people", "on duty", "work (people-h/h)", "utilisation", "needed by", ""]);
+    for (c, crew) in plant.crews.iter().enumerate() {
+        let users: Vec<String> = plant
+            .departments
+            .iter()
+            .flat_map(|d| {
+                let op = d
+                    .people
+                    .as_ref()
+                    .filter(|p| p.crew == c)
+                    .map(|p| format!("{} ({})", d.id, p.task.word()));
+                let fix = (d.technicians == Some(c)).then(|| format!("{} (repairs)", d.id));
+                op.into_iter().chain(fix)
+            })
+            .collect();
+        let u = predicted[c];
+        t.row(vec![
+            crew.id.clone(),
+            crew.size.to_string(),
+            share(crew.on_duty_share()),
+            format!("{:.3}", hours[c]),
+            share(u),
+            if users.is_empty() { "nobody".to_string() } else { users.join(", ") },
+            if u >= 1.0 {
+                "OVERLOADED".into()
+            } else if u >= 0.85 {
+                "high".into()
+            } else {
+                String::new()
+            },
+        ]);
+    }
+    s.push_str(&t.render(2));
+    let _ = writeln!(
+        s,
+        "  (operation: processing + setups; setup: setups; loading: lots/h × loading time; repairs: failures/h × \
+         repair time, failures as if no repair waited; walking not counted)"
+    );
+    let _ = writeln!(s);
+}
+
+/// The crews' predicted load in JSON, or `None` without crews.
+fn crews_json(plant: &Plant, pic: &StaticPicture) -> Option<serde_json::Value> {
+    if plant.crews.is_empty() {
+        return None;
+    }
+    let hours = layflow_models::crew_load::people_hours_per_h(plant, pic);
+    let predicted = layflow_models::crew_load::predicted_utilization(plant, pic);
+    Some(json!(plant
+        .crews
+        .iter()
+        .enumerate()
+        .map(|(c, crew)| json!({
+            "crew": crew.id,
+            "size": crew.size,
+            "on_duty_share": crew.on_duty_share(),
+            "people_hours_per_h": hours[c],
+            "utilization_predicted": predicted[c],
+            "people_cost_per_h": f64::from(crew.size) * crew.cost_per_h,
+        }))
+        .collect::<Vec<_>>()))
 }
 
 /// Per layout, each department's area needed and its location's area available (m²), and the misfit warnings.

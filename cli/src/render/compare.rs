@@ -96,7 +96,9 @@ pub fn render(plant: &Plant, out: &CompareOutput, metric_list: &[Metric], wall_s
             })
             .map(|r| r.layout.as_str())
             .collect();
-        let _ = if !fleets {
+        // Crews that walk to repairs feel the layout even with instant moves.
+        let walks = plant.crews.iter().any(|c| c.walk_speed.is_some());
+        let _ = if !fleets && !walks {
             writeln!(
                 s,
                 "  Moves are instant in this scenario (moves: instant), so the layout cannot change the \

@@ -186,8 +186,12 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
         let calendars = l.departments.iter().any(|d| d.utilization_scheduled.is_some());
         let setups = l.departments.iter().any(|d| d.setup_share.is_some());
         let batches = l.departments.iter().any(|d| d.batch_size_mean.is_some());
+        let people = l.departments.iter().any(|d| d.person_wait_s.is_some());
         let mut header =
             vec!["department", "machines", "utilisation", "predicted", "queue (lots)", "WIP (lots)"];
+        if people {
+            header.push("wait for a person");
+        }
         if calendars {
             header.extend(["of scheduled", "scheduled"]);
         }
@@ -223,6 +227,10 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 pm(&dep.queue_mean, 1.0),
                 pm(&dep.wip_mean, 1.0),
             ];
+            if people {
+                let u = unit_for(dep.person_wait_s.iter().map(|w| w.mean));
+                row.push(dep.person_wait_s.as_ref().map_or(String::new(), |w| dur_in(w, u)));
+            }
             if calendars {
                 row.push(dep.utilization_scheduled.as_ref().map_or(String::new(), pct));
                 row.push(dep.scheduled_share.map_or(String::new(), share));
@@ -252,6 +260,11 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 "  (utilisation is against clock time; of scheduled = busy ÷ the calendar's working time; \
                  scheduled = its share of the clock)"
             );
+        }
+
+        if let Some(crews) = &l.crews {
+            s.push('\n');
+            s.push_str(&crews_table(crews, plant.currency.as_deref()));
         }
 
         if !l.fleets.is_empty() {
@@ -415,4 +428,32 @@ pub fn headline_cells(l: &LayoutSummary, fleets: bool, units: [(&'static str, f6
         row.push(pm(&l.handling_cost_per_h, 1.0));
     }
     row
+}
+
+/// The crews' table: busy share against the prediction, busy on duty, wait for a person, cost.
+fn crews_table(crews: &[layflow_models::metrics::CrewSummary], currency: Option<&str>) -> String {
+    let cost_h = format!("people cost ({})", money_unit("h", currency));
+    let on_duty = crews.iter().any(|c| c.utilization_scheduled.is_some());
+    let mut header = vec!["crew", "people", "busy", "predicted", "wait", cost_h.as_str()];
+    if on_duty {
+        header.push("busy on duty");
+    }
+    let mut t = Table::new(&header);
+    t.optional(&["predicted"]);
+    let u = unit_for(crews.iter().map(|c| c.person_wait_s.mean));
+    for c in crews {
+        let mut row = vec![
+            c.crew.clone(),
+            c.size.to_string(),
+            pct(&c.utilization),
+            share(c.utilization_predicted),
+            dur_in(&c.person_wait_s, u),
+            pm(&c.people_cost_per_h, 1.0),
+        ];
+        if on_duty {
+            row.push(c.utilization_scheduled.as_ref().map_or(String::new(), pct));
+        }
+        t.row(row);
+    }
+    t.render(2)
 }

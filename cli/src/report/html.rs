@@ -39,6 +39,7 @@ pub fn def_of_row(study: &Study, row: usize) -> Option<&'static Def> {
         "department" => Scope::Department,
         "fleet" => Scope::Fleet,
         "segment" => Scope::Segment,
+        "crew" => Scope::Crew,
         _ => return None,
     };
     find(scope, study.csv.get(row, "metric"))

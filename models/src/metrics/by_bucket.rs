@@ -34,6 +34,13 @@ pub fn bucketed(m: &Metric) -> bool {
         // Kits and their waits are counted for the whole window only (the
         // bucket collector keeps no kitting figures yet: docs/metrics.md, "Assembly").
         Id::ProductKits | Id::ProductKitWait | Id::ProductPartWait => false,
+        // Crews' figures are kept for the whole window only, not per bucket.
+        Id::PersonWait
+        | Id::DepartmentPersonWait
+        | Id::CrewUtilization
+        | Id::CrewScheduledUtilization
+        | Id::CrewPersonWait
+        | Id::CrewCost => false,
         _ => m.def.listed,
     }
 }

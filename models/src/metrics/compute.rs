@@ -61,6 +61,24 @@ fn fleet_capacity_s(plant: &Plant, r: &RepStats, f: usize) -> f64 {
     f64::from(plant.fleets()[f].count) * r.window_s
 }
 
+/// Crew `c`'s figures in replication `r`; `None` when it kept none (a time bucket).
+fn crew(r: &RepStats, c: usize) -> Option<&crate::sim::CrewRep> {
+    r.crews.get(c)
+}
+
+/// The mean wait for a person over every crew's requests; NaN when none was made (or none kept).
+fn person_wait_all(r: &RepStats) -> f64 {
+    let (n, sum) = r
+        .crews
+        .iter()
+        .fold((0u64, 0.0), |(n, s), c| (n + c.wait.count(), s + c.wait.mean() * c.wait.count() as f64));
+    if n == 0 {
+        f64::NAN
+    } else {
+        sum / n as f64
+    }
+}
+
 /// The value of metric `id` for `subject` (the product, department, fleet or
 /// segment index; ignored for the plant) in replication `r` of `plant`.
 pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
@@ -154,6 +172,20 @@ pub fn value(id: Id, plant: &Plant, r: &RepStats, subject: usize) -> f64 {
                 fleet_cost_per_h(plant, r, i) / per_h(moves as f64, r)
             }
         }
+        Id::PeopleCost => plant.crews.iter().map(|c| f64::from(c.size) * c.cost_per_h).sum(),
+        Id::PersonWait => person_wait_all(r),
+        Id::DepartmentPersonWait => r.person_wait.get(i).map_or(f64::NAN, observed),
+        Id::CrewUtilization => crew(r, i).map_or(f64::NAN, |c| c.busy_mean / f64::from(plant.crews[i].size)),
+        Id::CrewScheduledUtilization => crew(r, i).map_or(f64::NAN, |c| {
+            let on = f64::from(plant.crews[i].size) * r.window_s - c.off_s;
+            if on > 0.0 {
+                c.busy_mean * r.window_s / on
+            } else {
+                f64::NAN
+            }
+        }),
+        Id::CrewPersonWait => crew(r, i).map_or(f64::NAN, |c| observed(&c.wait)),
+        Id::CrewCost => f64::from(plant.crews[i].size) * plant.crews[i].cost_per_h,
         // A replication that stopped before anything was recorded has no segment figures.
         Id::SegmentTraversals => segment().map_or(f64::NAN, |g| per_h(g.traversals as f64, r)),
         Id::SegmentOccupancy => segment().map_or(f64::NAN, |g| g.occupancy),

@@ -54,6 +54,9 @@ fn applies(plant: &Plant, f: &Features, d: &Def, i: usize) -> bool {
         (When::Setups, Scope::Department) => plant.departments[i].setups.is_some(),
         (When::Batches, Scope::Department) => plant.departments[i].batch.is_some(),
         (When::DueDates, Scope::Plant) => f.due,
+        (When::Crews, Scope::Plant) => !plant.crews.is_empty(),
+        (When::Crews, Scope::Department) => plant.departments[i].people.is_some(),
+        (When::Calendar, Scope::Crew) => plant.crews[i].duty.is_some(),
         (When::DueDates, Scope::Product) => product_has_due_dates(plant, i),
         (When::Assembly, Scope::Product) => match d.id {
             super::registry::Id::ProductPartWait => plant.products[i].into.is_some(),
@@ -128,6 +131,7 @@ pub fn subjects(plant: &Plant, scope: Scope) -> Vec<(usize, String)> {
         Scope::Product => plant.products.iter().enumerate().map(|(i, p)| (i, p.id.clone())).collect(),
         Scope::Department => plant.departments.iter().enumerate().map(|(i, d)| (i, d.id.clone())).collect(),
         Scope::Fleet => plant.fleets().iter().enumerate().map(|(i, f)| (i, f.id.clone())).collect(),
+        Scope::Crew => plant.crews.iter().enumerate().map(|(i, c)| (i, c.id.clone())).collect(),
         Scope::Segment => {
             let n = if Features::of(plant).aisles {
                 plant.aisles.as_ref().map_or(0, |a| a.segments.len())
@@ -143,7 +147,8 @@ pub fn subjects(plant: &Plant, scope: Scope) -> Vec<(usize, String)> {
 fn all(plant: &Plant, listed_only: bool) -> Vec<Metric> {
     let features = Features::of(plant);
     let mut out = Vec::new();
-    for scope in [Scope::Plant, Scope::Product, Scope::Department, Scope::Fleet, Scope::Segment] {
+    for scope in [Scope::Plant, Scope::Product, Scope::Department, Scope::Fleet, Scope::Crew, Scope::Segment]
+    {
         for (index, subject) in subjects(plant, scope) {
             for def in DEFS.iter().filter(|d| d.scope == scope && (d.listed || !listed_only)) {
                 if applies(plant, &features, def, index) {

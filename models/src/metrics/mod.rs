@@ -21,6 +21,6 @@ pub use list::{
 };
 pub use registry::{canonical, Better, Def, Id, Kind, Scope, Unit, DEFS};
 pub use summary::{
-    summarize, DepartmentSummary, FleetSummary, KitSummary, LayoutAccumulator, LayoutSummary, ProductSummary,
-    SegmentSummary,
+    summarize, CrewSummary, DepartmentSummary, FleetSummary, KitSummary, LayoutAccumulator, LayoutSummary,
+    ProductSummary, SegmentSummary,
 };

@@ -22,6 +22,8 @@ pub enum Scope {
     Fleet,
     /// One aisle segment (subject `segment-3`; with segment-by-segment travel only).
     Segment,
+    /// One crew of people.
+    Crew,
 }
 
 impl Scope {
@@ -33,6 +35,7 @@ impl Scope {
             Scope::Department => "department",
             Scope::Fleet => "fleet",
             Scope::Segment => "segment",
+            Scope::Crew => "crew",
         }
     }
 }
@@ -135,6 +138,8 @@ pub enum When {
     /// The product assembles kits (`kits_per_h`, `kit_wait_s`), or is a
     /// component consumed into one (`part_wait_s`).
     Assembly,
+    /// The plant has crews (the plant); the department's operations need a person (a department).
+    Crews,
 }
 
 /// Every metric, one variant each: the key [`crate::metrics::value`] computes.
@@ -202,6 +207,13 @@ pub enum Id {
     SegmentOccupancy,
     SegmentCongestionDelay,
     SegmentDelayPerTraversal,
+    PeopleCost,
+    PersonWait,
+    DepartmentPersonWait,
+    CrewUtilization,
+    CrewScheduledUtilization,
+    CrewPersonWait,
+    CrewCost,
 }
 
 /// A percentile of one replication's observations.
@@ -262,7 +274,7 @@ impl Def {
 }
 
 use Better::{Higher, Lower, Neither};
-use Scope::{Department, Fleet, Plant, Product, Segment};
+use Scope::{Crew, Department, Fleet, Plant, Product, Segment};
 use Unit::{
     Count, MetresPerHour, MoneyPerHour, MoneyPerLoad, PerBatch, PerHour, Seconds, SecondsPerHour, Share,
 };
@@ -341,6 +353,10 @@ pub const DEFS: &[Def] = &[
         "the replication's 95th-percentile wait for a mover, every fleet"),
     extra(Id::MoveWaitQuantile(Percentile::P99), Plant, "move_wait_p99_s", "wait p99", Seconds, Lower,
         "the replication's 99th-percentile wait for a mover, every fleet"),
+    def(Id::PeopleCost, Plant, "people_cost_per_h", "people cost (/h)", MoneyPerHour, Lower, When::Crews,
+        "every crew's size × a person's cost per hour (paid for the whole window; not in handling_cost_per_h)"),
+    def(Id::PersonWait, Plant, "person_wait_s", "wait for a person", Seconds, Lower, When::Crews,
+        "mean time from a request for a person (an operation or a repair) to a crew member taking it, every crew"),
     def(Id::LateShare, Plant, "late_share", "late", Share, Lower, When::DueDates,
         "lots with a due date shipped in the window after it ÷ lots with a due date shipped in the window"),
     def(Id::Tardiness, Plant, "tardiness_s", "tardiness", Seconds, Lower, When::DueDates,
@@ -390,6 +406,8 @@ pub const DEFS: &[Def] = &[
         "loads in the batches started in the window ÷ those batches"),
     def(Id::DepartmentBatchFill, Department, "batch_fill_share", "batch fill", Share, Higher, When::Batches,
         "loads in the batches started in the window ÷ (those batches × max, the most a batch holds)"),
+    def(Id::DepartmentPersonWait, Department, "person_wait_s", "wait for a person", Seconds, Lower, When::Crews,
+        "mean time an operation on a free machine waits for a person of its crew (0 when one is free)"),
     // Each fleet.
     def(Id::FleetUtilization, Fleet, "utilization", "busy", Share, Neither, When::Always,
         "mover time loaded, empty, loading/unloading, blocked at a full inbound area or held up in the aisles \
@@ -446,6 +464,16 @@ pub const DEFS: &[Def] = &[
         Lower, "the replication's 99th-percentile drive of this fleet's assigned mover to the pick-up"),
     extra(Id::FleetCostPerLoad, Fleet, "handling_cost_per_load", "cost/load", MoneyPerLoad, Lower,
         "the fleet's cost per hour ÷ its moves per hour"),
+    // Each crew.
+    def(Id::CrewUtilization, Crew, "utilization", "busy", Share, Neither, When::Always,
+        "time-average people working (loading, setting up, processing, walking to and from or doing a repair) \
+        ÷ crew size"),
+    def(Id::CrewScheduledUtilization, Crew, "utilization_scheduled", "busy on duty", Share, Neither,
+        When::Calendar, "busy person time ÷ on-duty person time (the crew's shifts less breaks)"),
+    def(Id::CrewPersonWait, Crew, "person_wait_s", "wait", Seconds, Lower, When::Always,
+        "mean time from a request for one of the crew's people to one taking it (operations and repairs)"),
+    def(Id::CrewCost, Crew, "people_cost_per_h", "cost/h", MoneyPerHour, Lower, When::Always,
+        "crew size × a person's cost per hour (paid for the whole window, on duty or not)"),
     // Each aisle segment.
     def(Id::SegmentTraversals, Segment, "traversals_per_h", "traffic (movers/h)", PerHour, Neither, When::Aisles,
         "movers entering the segment, both directions, ÷ window hours"),

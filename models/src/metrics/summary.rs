@@ -109,6 +109,9 @@ pub struct DepartmentSummary {
     /// Mean loads per batch ÷ the most a batch holds; present for a batch department.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub batch_fill_share: Option<Estimate>,
+    /// Mean wait of an operation for a person, s; present when its operations need one.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub person_wait_s: Option<Estimate>,
 }
 
 /// Per-fleet results.
@@ -161,6 +164,26 @@ pub struct FleetSummary {
     /// network is simulated segment by segment.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub congestion_share: Option<Estimate>,
+}
+
+/// Per-crew results.
+#[derive(Debug, Clone, Serialize)]
+pub struct CrewSummary {
+    /// Crew id.
+    pub crew: String,
+    /// People in the crew.
+    pub size: u32,
+    /// Time-average people busy ÷ size.
+    pub utilization: Estimate,
+    /// The static prediction: people-hours of work per hour ÷ (size × on-duty share).
+    pub utilization_predicted: f64,
+    /// Busy person time ÷ on-duty person time; present when the crew has shifts.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub utilization_scheduled: Option<Estimate>,
+    /// Mean wait of a request for one of its people, s.
+    pub person_wait_s: Estimate,
+    /// Size × cost per hour.
+    pub people_cost_per_h: Estimate,
 }
 
 /// What one aisle segment saw, across replications.
@@ -244,6 +267,15 @@ pub struct LayoutSummary {
     /// Lateness against due dates, every lot with one; present when some lot has a due date.
     #[serde(flatten, skip_serializing_if = "Option::is_none")]
     pub due: Option<DueSummary>,
+    /// People cost per hour, every crew; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub people_cost_per_h: Option<Estimate>,
+    /// Mean wait for a person, every crew, s; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub person_wait_s: Option<Estimate>,
+    /// Per crew; present when the plant has crews.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub crews: Option<Vec<CrewSummary>>,
 }
 
 /// Summarise the replications of layout `spec.layout` (all held in memory;
@@ -371,6 +403,7 @@ impl<'a> LayoutAccumulator<'a> {
         let throughput = of(Id::Throughput, 0);
         let flow = with_hist(of(Id::FlowTime, 0), &self.flow_hist);
         let wip = of(Id::Wip, 0);
+        let has_crews = !plant.crews.is_empty();
         let little_relative_gap = if wip.mean > 0.0 {
             (wip.mean - throughput.mean / 3600.0 * flow.mean).abs() / wip.mean
         } else {
@@ -434,6 +467,7 @@ impl<'a> LayoutAccumulator<'a> {
                     setup_share_predicted: dep.setups.as_ref().map(|_| picture.setup_share[d]),
                     batch_size_mean: dep.batch.as_ref().map(|_| of(Id::DepartmentBatchSize, d)),
                     batch_fill_share: dep.batch.as_ref().map(|_| of(Id::DepartmentBatchFill, d)),
+                    person_wait_s: dep.people.as_ref().map(|_| of(Id::DepartmentPersonWait, d)),
                 })
                 .collect(),
             fleets: plant
@@ -479,6 +513,28 @@ impl<'a> LayoutAccumulator<'a> {
                 tardiness_s: of(Id::Tardiness, 0),
                 lateness_s: of(Id::Lateness, 0),
                 lateness_p95_s: of(Id::LatenessP95, 0),
+            }),
+            people_cost_per_h: has_crews.then(|| of(Id::PeopleCost, 0)),
+            person_wait_s: has_crews.then(|| of(Id::PersonWait, 0)),
+            crews: has_crews.then(|| {
+                let predicted = crate::crew_load::predicted_utilization(plant, picture);
+                plant
+                    .crews
+                    .iter()
+                    .enumerate()
+                    .map(|(c, crew)| CrewSummary {
+                        crew: crew.id.clone(),
+                        size: crew.size,
+                        utilization: of(Id::CrewUtilization, c),
+                        utilization_predicted: predicted[c],
+                        utilization_scheduled: crew
+                            .duty
+                            .as_ref()
+                            .map(|_| of(Id::CrewScheduledUtilization, c)),
+                        person_wait_s: of(Id::CrewPersonWait, c),
+                        people_cost_per_h: of(Id::CrewCost, c),
+                    })
+                    .collect()
             }),
         }
     }
@@ -532,6 +588,9 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
     if features.due {
         out.extend([Id::LateShare, Id::Tardiness, Id::Lateness, Id::LatenessP95].map(|id| (id, 0)));
     }
+    if !plant.crews.is_empty() {
+        out.extend([(Id::PeopleCost, 0), (Id::PersonWait, 0)]);
+    }
     for p in 0..plant.products.len() {
         out.extend([(Id::ProductThroughput, p), (Id::ProductFlowTime, p)]);
         if !plant.products[p].kits.is_empty() {
@@ -556,6 +615,7 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
             (dep.setups.is_some(), Id::DepartmentSetup),
             (dep.batch.is_some(), Id::DepartmentBatchSize),
             (dep.batch.is_some(), Id::DepartmentBatchFill),
+            (dep.people.is_some(), Id::DepartmentPersonWait),
         ];
         out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, d)));
     }
@@ -585,6 +645,12 @@ fn slots(plant: &Plant) -> Vec<(Id, usize)> {
             (features.aisles, Id::FleetCongestion),
         ];
         out.extend(extra.into_iter().filter(|(on, _)| *on).map(|(_, id)| (id, f)));
+    }
+    for (c, crew) in plant.crews.iter().enumerate() {
+        out.extend([(Id::CrewUtilization, c), (Id::CrewPersonWait, c), (Id::CrewCost, c)]);
+        if crew.duty.is_some() {
+            out.push((Id::CrewScheduledUtilization, c));
+        }
     }
     if let Some(net) = plant.aisles.as_ref().filter(|n| n.needs_simulation()) {
         for s in 0..net.segments.len() {

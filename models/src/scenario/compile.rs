@@ -91,7 +91,9 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
         .map_err(|m| ctx.err(&root.key("demand_factor"), m))?;
     let locations = locations(&s, ctx)?;
     let (distance_rule, distance, aisles) = distance::compile(&s, &locations, ctx)?;
-    let departments = departments(&s, &locations, ctx)?;
+    let mut departments = departments(&s, &locations, ctx)?;
+    let crews = super::crews::crews(&s, &departments, ctx)?;
+    super::crews::attach(&s, &mut departments, &crews, run.horizon_s, ctx)?;
     if departments.len() > locations.len() {
         return Err(ctx
             .err(
@@ -161,6 +163,7 @@ pub(crate) fn compile(mut s: Scenario, ctx: &Ctx) -> Result<Plant, ScenarioError
         cost_per_load_metre,
         currency: currency(&s, ctx)?,
         search,
+        crews,
         fleet_choice: match s.fleet_choice {
             None | Some(FleetChoiceSpec::FirstListed) => FleetChoice::FirstListed,
             Some(FleetChoiceSpec::NearestIdle) => FleetChoice::NearestIdle,
@@ -374,6 +377,8 @@ fn departments(s: &Scenario, locations: &[Location], ctx: &Ctx) -> Result<Vec<De
             footprint,
             queue_order: super::queueing::department_order(s, i),
             batch,
+            people: None,
+            technicians: None,
         });
     }
     for (role, word) in [(DepartmentRole::Receiving, "receiving"), (DepartmentRole::Shipping, "shipping")] {

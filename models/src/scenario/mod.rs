@@ -8,10 +8,11 @@
 
 mod alternatives;
 mod area;
-mod batches;
 mod assembly;
+mod batches;
 mod compile;
 mod context;
+mod crews;
 mod demand;
 mod distance;
 mod error;

@@ -46,6 +46,54 @@ pub(crate) struct Scenario {
     /// `measured_from_to: { file: flows.csv, per: 8 h }`: a measured from-to chart for
     /// `check` and `search` (read by them: see [`super::measured_source`]).
     pub measured_from_to: Option<MeasuredFromToSpec>,
+    /// `crews: [{ id, size, cost, shifts, breaks, home, walk }]`: named pools of people.
+    pub crews: Option<Vec<CrewSpec>>,
+}
+
+/// One crew: `{ id: machinists, size: 2, cost: { per_hour: 38 }, shifts: ..., breaks: ..., home: DEPT, walk: { speed: 1.2 m/s } }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct CrewSpec {
+    pub id: String,
+    pub size: u32,
+    pub cost: Option<CrewCostSpec>,
+    pub shifts: Option<ShiftsSpec>,
+    pub breaks: Option<Vec<[Seconds; 2]>>,
+    pub home: Option<String>,
+    pub walk: Option<WalkSpec>,
+}
+
+/// `cost: { per_hour: 38 }`: a person's cost per hour.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct CrewCostSpec {
+    pub per_hour: f64,
+}
+
+/// `walk: { speed: 1.2 m/s }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct WalkSpec {
+    pub speed: MetresPerSecond,
+}
+
+/// A department's `people: { crew: machinists, for: operation, loading: 2 min }`.
+#[derive(Debug, DeriveDeserialize)]
+#[serde(deny_unknown_fields)]
+pub(crate) struct PeopleSpec {
+    pub crew: String,
+    #[serde(rename = "for")]
+    pub for_: PersonForSpec,
+    pub loading: Option<TimeSpec>,
+}
+
+/// `for: setup | operation | loading`.
+#[derive(Debug, Clone, Copy, DeriveDeserialize)]
+#[serde(rename_all = "kebab-case")]
+pub(crate) enum PersonForSpec {
+    Setup,
+    Operation,
+    Loading,
 }
 
 /// `queue_order: fifo | priority | earliest-due | shortest-time` (departments),
@@ -229,6 +277,8 @@ pub(crate) struct DepartmentSpec {
     pub queue_order: Option<QueueOrderSpec>,
     /// A batch machine (see `batches.rs`).
     pub batch: Option<BatchSpec>,
+    /// A person from a crew its operations need.
+    pub people: Option<PeopleSpec>,
 }
 
 /// `batch: { max: 6, min: 2, max_wait: 30 min, time: DIST, per_load: 2 min, together: [[a, b], [c]] }`.
@@ -296,6 +346,8 @@ pub(crate) struct BreakdownSpec {
     pub repair: TimeSpec,
     pub counted_in: Option<CountedInSpec>,
     pub interrupted: Option<InterruptedSpec>,
+    /// The crew whose member each repair needs (departments only).
+    pub technician: Option<String>,
 }
 
 /// `counted_in: clock-time | busy-time`.

@@ -70,6 +70,11 @@ pub(crate) fn breakdowns(
     limits::check_period("a mean time between failures", between.mean())
         .map_err(|m| ctx.err(&bp.key("between"), m))?;
     let repair = duration(&spec.repair.0, &bp.key("repair"), "repair time", ctx)?;
+    if !machines && spec.technician.is_some() {
+        return Err(ctx
+            .err(&bp.key("technician"), "`technician` applies to machines' repairs, not movers'")
+            .with_hint("a mover goes to the workshop for repair; name a technician crew on a department's breakdowns"));
+    }
     if !machines && spec.interrupted.is_some() {
         return Err(ctx
             .err(&bp.key("interrupted"), "`interrupted` applies to machines, not movers")

@@ -370,6 +370,8 @@ impl Collector {
                     deadlock: None,
                     // Batches are counted for the whole window only.
                     batch: Vec::new(),
+                    crews: Vec::new(),
+                    person_wait: Vec::new(),
                     segments: (0..sh.segments)
                         .map(|s| super::SegmentStats {
                             traversals: b.sums[sh.traversals(s)] as u64,

@@ -14,7 +14,9 @@ pub mod trace;
 
 pub use model::trace::simulate_traced;
 pub use model::{simulate, simulate_releases, simulate_scan_steps, simulate_wip_series};
-pub use stats::{Deadlock, DueSet, DueStats, FleetStats, KitStats, Overload, RepStats, SegmentStats, TICK_S};
+pub use stats::{
+    CrewRep, Deadlock, DueSet, DueStats, FleetStats, KitStats, Overload, RepStats, SegmentStats, TICK_S,
+};
 
 use crate::plant::{
     AltRule, Breakdowns, Charging, Demand, DepartmentRole, DispatchRule, FleetChoice, Handling, IdleRule,
@@ -123,6 +125,24 @@ pub struct Plan {
     pub(crate) assembly: bool,
     /// The kits and who feeds them (empty unless `assembly`).
     pub(crate) kits: model::assembly::KitPlan,
+    /// The plant has crews: the handlers call `model/crews.rs`. When false
+    /// they take exactly their paths of before.
+    pub(crate) has_crews: bool,
+    /// Crews, with their duty in the handlers' form.
+    pub(crate) crews: Vec<PlanCrew>,
+    /// Per department, the person its operations need.
+    pub(crate) people: Vec<Option<crate::plant::People>>,
+    /// Per department, the crew its repairs need.
+    pub(crate) technicians: Vec<Option<usize>>,
+}
+
+/// A crew as the event handlers read it.
+#[derive(Debug, Clone)]
+pub(crate) struct PlanCrew {
+    pub(crate) size: u32,
+    pub(crate) duty: Option<PlanDuty>,
+    pub(crate) home: Option<usize>,
+    pub(crate) walk_speed: Option<f64>,
 }
 
 /// A department's working hours as the event handlers read them.
@@ -480,9 +500,25 @@ impl Plan {
                 .iter()
                 .map(|d| {
                     d.role == DepartmentRole::Work
-                        && (d.breakdowns.is_some() || d.calendar.is_some() || d.setups.is_some())
+                        && (d.breakdowns.is_some()
+                            || d.calendar.is_some()
+                            || d.setups.is_some()
+                            || d.people.is_some())
                 })
                 .collect(),
+            has_crews: !plant.crews.is_empty(),
+            crews: plant
+                .crews
+                .iter()
+                .map(|c| PlanCrew {
+                    size: c.size,
+                    duty: c.duty.as_ref().map(&plan_duty),
+                    home: c.home,
+                    walk_speed: c.walk_speed,
+                })
+                .collect(),
+            people: plant.departments.iter().map(|d| d.people.clone()).collect(),
+            technicians: plant.departments.iter().map(|d| d.technicians).collect(),
             calendars: plant
                 .departments
                 .iter()

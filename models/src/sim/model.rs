@@ -14,11 +14,12 @@ use crate::plant::DepartmentRole;
 
 mod aisles;
 mod alternatives;
-mod batches;
 pub(super) mod assembly;
+mod batches;
 mod breakdowns;
 mod buckets;
 mod calendars;
+mod crews;
 mod due;
 mod lots;
 mod movers;
@@ -38,6 +39,8 @@ const MACHINE: u64 = 3;
 const MOVER: u64 = 4;
 /// `SETUP, department, machine`: that machine's setup times.
 const SETUP: u64 = 5;
+// Keys taken in other files, each once: 6 `LOAD` (lots.rs), 7 `CREW`
+// (crews.rs), 8 `BATCH` (batches.rs). A new source takes the next number.
 
 const NONE: u32 = u32::MAX;
 
@@ -87,6 +90,12 @@ enum Event {
     BatchEnd { dept: u32, machine: u32 },
     /// A waiting load of a batch department has waited `max_wait`.
     BatchDue { dept: u32 },
+    /// A machine's loading by a crew member ends (void if the token no longer matches).
+    CrewDone { machine: u32, token: u32 },
+    /// A technician is back home from a repair.
+    CrewBack { crew: u32 },
+    /// A crew goes off duty or comes back.
+    CrewDuty { crew: u32 },
 }
 
 /// A lot in the plant. Its own generator supplies its processing times and
@@ -329,6 +338,8 @@ struct PlantModel<'a> {
     batches: batches::BatchState,
     /// Lots waiting for kits and component stocks (empty unless `Plan::assembly`).
     kit: assembly::KitState,
+    /// Crews' people, queues and figures (empty unless `Plan::has_crews`).
+    crew: crews::CrewModel,
 }
 
 /// Run one replication of `plan` and return what it measured.
@@ -413,6 +424,9 @@ fn drive(mut m: PlantModel<'_>, spec: &RunSpec, step: Option<f64>) -> Run {
     }
     m.start_calendars(&mut cal);
     m.start_breakdowns(&mut cal);
+    if plan.has_crews {
+        m.start_crews(&mut cal);
+    }
     let mut events = run_until(&mut m, &mut cal, spec.warmup_s);
     m.reset_statistics(spec.warmup_s);
     events += run_until(&mut m, &mut cal, spec.horizon_s);
@@ -478,6 +492,8 @@ impl<'a> PlantModel<'a> {
                 }
             })
             .collect();
+        let machine_dept: Vec<u32> =
+            if plan.has_crews { machines.iter().map(|m: &Machine| m.dept).collect() } else { Vec::new() };
         let mut mover_rng = Vec::new();
         let any_mover_failures = plan.fleets.iter().any(|f| f.breakdowns.is_some());
         let mut movers = Vec::new();
@@ -581,6 +597,7 @@ impl<'a> PlantModel<'a> {
             due_stats: plan.due.then(|| Box::new(super::stats::DueSet::new(n_products, 3))),
             batches: batches::BatchState::new(plan, spec.seed, replication),
             kit: assembly::KitState::new(plan),
+            crew: crews::CrewModel::new(plan, &machine_dept, spec.seed, replication),
         }
     }
 
@@ -602,6 +619,7 @@ impl<'a> PlantModel<'a> {
             d.setup_level.reset(t);
         }
         self.aisle.reset(t);
+        self.crew.reset(t);
         self.overflow_moves = 0;
         self.turned_away.iter_mut().for_each(|s| *s = 0);
         self.capped = 0;
@@ -994,6 +1012,7 @@ impl<'a> PlantModel<'a> {
             })
             .collect();
         let setup = (0..nd).map(|d| per_machine(d, self.departments[d].setup_level.mean(t))).collect();
+        let (crews, person_wait) = self.crew.finish(t);
         let mut stats = RepStats {
             by: Vec::new(),
             segments,
@@ -1043,6 +1062,8 @@ impl<'a> PlantModel<'a> {
                 .map(|b| b.as_ref().map_or((0, 0), |b| (b.batches, b.loads)))
                 .collect(),
             assembly: self.kit.close(plan),
+            crews,
+            person_wait,
         };
         if let Some(c) = collector {
             stats.by = c.finish(plan, &stats);
@@ -1091,6 +1112,9 @@ impl Model for PlantModel<'_> {
             Event::Step { mover } => self.step(mover, cal),
             Event::BatchEnd { dept, machine } => self.batch_end(dept as usize, machine, cal),
             Event::BatchDue { dept } => self.batch_try_start(dept as usize, cal),
+            Event::CrewDone { machine, token } => self.loading_done(machine, token, cal),
+            Event::CrewBack { crew } => self.crew_back(crew as usize, cal),
+            Event::CrewDuty { crew } => self.crew_duty(crew as usize, cal),
         }
         if self.trace.is_some() {
             self.trace_poll(cal.now());

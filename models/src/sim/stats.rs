@@ -266,6 +266,10 @@ pub struct RepStats {
     pub due: Option<Box<DueSet>>,
     /// Kits, kit waits and part waits; `None` unless the plant assembles (or per time bucket).
     pub assembly: Option<Box<KitStats>>,
+    /// Per crew, what it measured (empty without crews, and per time bucket).
+    pub crews: Vec<CrewRep>,
+    /// Per department, its operations' waits for a person (empty without crews, and per time bucket).
+    pub person_wait: Vec<Tally>,
     /// Per aisle segment, in scenario order; empty unless the network is
     /// simulated segment by segment (`AisleNetwork::needs_simulation`).
     pub segments: Vec<SegmentStats>,
@@ -311,4 +315,15 @@ pub struct Deadlock {
     pub segments: Vec<usize>,
     /// Aisle deadlock: the zone-controlled nodes they hold or wait for, in node order.
     pub zones: Vec<usize>,
+}
+
+/// What one replication's crews measured.
+#[derive(Debug, Clone)]
+pub struct CrewRep {
+    /// Time-average people busy.
+    pub busy_mean: f64,
+    /// Person-seconds off duty in the window.
+    pub off_s: f64,
+    /// Waits of requests for a person (operations and repairs).
+    pub wait: Tally,
 }

@@ -20,7 +20,7 @@ use super::{Event, PlantModel, NONE};
 use crate::plant::Batching;
 
 /// `BATCH, department, machine`: that machine's batch times.
-const BATCH: u64 = 6;
+const BATCH: u64 = 8;
 
 /// One batch department's state in a replication.
 #[derive(Debug)]

@@ -94,6 +94,10 @@ impl PlantModel<'_> {
             m.work_total *= w;
             m.work_left *= w;
         }
+        if self.plan.has_crews {
+            self.crew_run(machine, cal);
+            return;
+        }
         self.run_machine(machine, cal);
     }
 
@@ -159,6 +163,9 @@ impl PlantModel<'_> {
             m.in_setup = false;
             m.setup_left = 0.0;
             self.departments[dept].setup_level.add(now, -1.0);
+            if self.plan.has_crews {
+                self.crew_setup_done(machine, cal);
+            }
             self.run_machine(machine, cal);
             return;
         }
@@ -167,6 +174,9 @@ impl PlantModel<'_> {
         }
         m.work_left = 0.0;
         let lot = m.lot;
+        if self.plan.has_crews {
+            self.crew_op_done(machine, cal);
+        }
         self.end_operation(lot, machine, cal);
     }
 
@@ -196,6 +206,9 @@ impl PlantModel<'_> {
         if processing {
             d.busy_level.add(now, -1.0);
         }
+        if self.plan.has_crews && self.crew_fail(machine, repair, cal) {
+            return; // the repair waits for a technician
+        }
         cal.schedule(now + repair, Event::MachineRepaired { machine });
     }
 
@@ -205,6 +218,10 @@ impl PlantModel<'_> {
         let dept = m.dept as usize;
         let b = self.plan.breakdowns[dept].as_ref().expect("tracked machines have breakdowns");
         m.up = true;
+        if self.plan.has_crews {
+            self.crew_repaired(machine, cal);
+        }
+        let m = &mut self.machines[machine as usize];
         let t = b.between.sample(&mut m.rng);
         match b.clock {
             FailureClock::ClockTime => cal.schedule(now + t, Event::MachineFail { machine, token: NONE }),
@@ -218,7 +235,11 @@ impl PlantModel<'_> {
         if lot != NONE {
             if !blocked && may_work {
                 d.busy_level.add(now, 1.0);
-                self.run_machine(machine, cal);
+                if self.plan.has_crews {
+                    self.crew_run(machine, cal);
+                } else {
+                    self.run_machine(machine, cal);
+                }
             }
             return;
         }

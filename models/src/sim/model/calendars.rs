@@ -73,7 +73,11 @@ impl PlantModel<'_> {
                 // Paused at the end of the last window (or repaired since): go on.
                 if pause && !m.blocked && !m.running {
                     self.departments[d].busy_level.add(now, 1.0);
-                    self.run_machine(k as u32, cal);
+                    if self.plan.has_crews {
+                        self.crew_run(k as u32, cal);
+                    } else {
+                        self.run_machine(k as u32, cal);
+                    }
                 }
                 continue;
             }
