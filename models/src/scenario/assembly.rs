@@ -66,6 +66,17 @@ pub(crate) fn check_step(
             )
             .with_hint("kits are assembled at a work department (one with machines): name it in `at`"));
     }
+    if j >= off {
+        let at = st.at.as_deref().unwrap_or("");
+        if departments.iter().any(|d| d.id == at && d.batch.is_some()) {
+            // Kits are matched lot by lot as each arrives; a batch machine gathers lots by its own rule.
+            return Err(ctx
+                .err(&kp, format!("step \"{}\" is at batch department \"{at}\" and cannot take `{key}`", st.step))
+                .with_hint(
+                    "assemble at a one-lot-at-a-time department, and send the kit to the batch machine in a later step",
+                ));
+        }
+    }
     if let Some(parts) = &st.parts {
         if parts.0.is_empty() {
             return Err(ctx.err(&kp, format!("`parts` of step \"{}\" is empty", st.step)).with_hint(

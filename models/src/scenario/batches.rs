@@ -25,6 +25,7 @@ pub(crate) fn batching(
         (d.breakdowns.is_some(), "breakdowns", "a failure in the middle of a batch is not modelled yet"),
         (d.calendar.is_some(), "calendar", "a batch under way at the end of a shift is not modelled yet"),
         (d.setups.is_some(), "setups", "setups between batches are not modelled yet"),
+        (d.people.is_some(), "people", "a person tending a whole batch is not modelled yet"),
         (d.staging.is_some(), "staging", "finite staging counts lots one at a time, not batches"),
         (
             d.queue_order.is_some(),
