@@ -270,8 +270,10 @@ impl StaticPicture {
             }
             for (k, op) in prod.routing.iter().enumerate() {
                 let d = op.department;
-                // A component consumed into a kit (no time) is not worked there.
-                if plant.departments[d].role == DepartmentRole::Work && op.time.is_some() {
+                // A component consumed into a kit (its last step, where the routing ends) is not
+                // worked there. A step at a batch machine has no time of its own but is worked.
+                let consumed = prod.into.is_some() && op.next.is_empty();
+                if plant.departments[d].role == DepartmentRole::Work && !consumed {
                     arrivals[d] += rate_h * v[k];
                     match mix[d].last_mut() {
                         Some((q, x)) if *q == p => *x += rate_h * v[k],
