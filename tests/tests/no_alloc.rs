@@ -59,6 +59,7 @@ fn allocations_do_not_grow_with_the_horizon() {
     // The crews plants use people for operations (with shifts and breaks),
     // setups and loading, and walking technicians for repairs: each crew's
     // queue of requests is a ring buffer sized to the machines at the start.
+    // The crews-batches-assembly demo runs all three together.
     let mut plants: Vec<(String, Plant)> = Vec::new();
     for name in [
         "demo.yaml",
@@ -70,6 +71,7 @@ fn allocations_do_not_grow_with_the_horizon() {
         "validation/alt-movers.yaml",
         "batches-demo.yaml",
         "assembly-demo.yaml",
+        "crews-batches-assembly-demo.yaml",
         "validation/crews-mixed.yaml",
         "validation/crews-machine-repair.yaml",
     ] {

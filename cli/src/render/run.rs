@@ -116,6 +116,19 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
                 ),
             ]);
         }
+        // Crews: the registry's plant-wide people_cost_per_h and person_wait_s (not part of fleet cost).
+        if let (Some(c), Some(w)) = (&l.people_cost_per_h, &l.person_wait_s) {
+            t.row(vec![
+                "wait for a person".into(),
+                dur_in(w, unit_for([w.mean])),
+                "every crew, operations and repairs".into(),
+            ]);
+            t.row(vec![
+                "people cost".into(),
+                format!("{} {}", pm(c, 1.0), money_unit("h", currency)),
+                "every crew; not in fleet cost".into(),
+            ]);
+        }
         if let Some(d) = &l.due {
             let u = unit_for([d.tardiness_s.mean, d.lateness_s.mean, d.lateness_p95_s.mean]);
             t.row(vec!["late".into(), pct(&d.late_share), "lots shipped after their due date".into()]);
@@ -130,6 +143,13 @@ pub fn render(plant: &Plant, out: &RunOutput, wall_s: f64) -> String {
             let _ = writeln!(s, "  lots turned away at the dock: {} /h", pm(o, 1.0));
         }
         s.push_str(&t.render(2));
+        if plant.assembles() {
+            let _ = writeln!(
+                s,
+                "  (throughput and flow time count every lot that left: shipped, or consumed into a kit; \
+                 finished kits are the assembling product's throughput and kits/h below)"
+            );
+        }
 
         let due = l.products.iter().any(|p| p.due.is_some());
         let mut header = vec!["product", "throughput (lots/h)", "flow time"];
