@@ -116,10 +116,16 @@ fn the_slurm_array_merges_to_the_single_run_after_a_requeue_and_a_cancel() {
         return;
     }
     let t = tempfile::tempdir().unwrap();
-    // 4 design points × 8 replications of 400 days: 8 units a shard, about a
-    // second a unit: even on many cores (4 threads a task) a shard runs long
-    // enough to be interrupted between its first unit and its last.
-    let plan = plan(t.path(), 8, "400 d");
+    // 4 design points × 32 replications of 1000 days: 32 units a shard, each
+    // about 2.7 million events (0.15 s of one core on the development
+    // machine). A stopped shard finishes the units it is running and starts
+    // no more, so the test needs a shard to have many units not yet started
+    // when it is interrupted: after its first unit is saved, a shard on 4
+    // threads has at least 27 still to start, about a second of work. With 8
+    // units a shard (two waves of 4 threads) a cancel that landed during the
+    // second wave let the shard complete, and the test failed (seen in CI).
+    const REPS: usize = 32;
+    let plan = plan(t.path(), REPS as u32, "1000 d");
     let whole = t.path().join("whole");
     single_run(&plan, &whole);
     let out = t.path().join("out");
@@ -146,13 +152,13 @@ fn the_slurm_array_merges_to_the_single_run_after_a_requeue_and_a_cancel() {
     // 1. A lost node: shard 1 is requeued while it runs (what Slurm does to a
     //    --requeue job whose node fails). Its units saved so far are kept.
     wait_for("shard 1 to save a unit", Duration::from_secs(120), || saved(&shard(1)) >= 1);
-    assert!(saved(&shard(1)) < 8, "shard 1 finished before it could be requeued: make the plan slower");
+    assert!(saved(&shard(1)) < REPS, "shard 1 finished before it could be requeued: make the plan slower");
     ok(&format!("scontrol requeue {array}_1"));
     start_now(&format!("{array}_1"));
 
     // 2. A cancelled shard, then requeued by hand (docs/cluster.md, "When a shard fails").
     wait_for("shard 3 to save a unit", Duration::from_secs(180), || saved(&shard(3)) >= 1);
-    assert!(saved(&shard(3)) < 8, "shard 3 finished before it could be cancelled: make the plan slower");
+    assert!(saved(&shard(3)) < REPS, "shard 3 finished before it could be cancelled: make the plan slower");
     ok(&format!("scancel {array}_3"));
     wait_for("shard 3 to be cancelled", Duration::from_secs(60), || {
         job_state(&format!("{array}_3")) == "CANCELLED"
@@ -178,7 +184,7 @@ fn the_slurm_array_merges_to_the_single_run_after_a_requeue_and_a_cancel() {
     // The interrupted shards resumed their own units: no unit twice, and the
     // restart's record found some already done.
     for k in [1, 3] {
-        assert_eq!(saved(&shard(k)), 8, "shard {k} holds each of its units once");
+        assert_eq!(saved(&shard(k)), REPS, "shard {k} holds each of its units once");
         let log = std::fs::read_to_string(out.join(format!("logs/shard-{k}.out"))).unwrap();
         assert_eq!(log.matches("== shard").count(), 2, "shard {k} ran twice, both in its log: {log}");
         let runs = std::fs::read_to_string(shard(k).join("runs.jsonl")).unwrap();
