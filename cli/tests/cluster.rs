@@ -170,9 +170,17 @@ fn the_slurm_array_merges_to_the_single_run_after_a_requeue_and_a_cancel() {
     let tasks: Vec<String> = (1..=4).map(|k| format!("{array}_{k}")).collect();
     ok(&format!("scontrol update JobId={merge} Dependency=afterok:{}", tasks.join(":")));
 
-    wait_for("the merge job to finish", Duration::from_secs(300), || {
-        matches!(job_state(&merge).as_str(), "COMPLETED" | "FAILED" | "CANCELLED" | "TIMEOUT" | "GONE")
-    });
+    let t0 = Instant::now();
+    while !matches!(job_state(&merge).as_str(), "COMPLETED" | "FAILED" | "CANCELLED" | "TIMEOUT" | "GONE") {
+        // Say why it waits (its Reason= and each task's state), not only that it did.
+        assert!(
+            t0.elapsed() < Duration::from_secs(300),
+            "gave up after 300 s waiting for the merge job to finish:\n{}\n{}",
+            text(&sh(&format!("scontrol show job {merge}")).stdout),
+            text(&sh(&format!("squeue --array --states=all --jobs {array},{merge}")).stdout)
+        );
+        std::thread::sleep(Duration::from_millis(50));
+    }
     assert_eq!(
         job_state(&merge),
         "COMPLETED",
