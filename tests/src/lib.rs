@@ -122,6 +122,49 @@ pub struct Run {
     pub picture: StaticPicture,
 }
 
+/// Replication 0 of layout 0 of `plant` (its own run settings) traced into a
+/// temporary folder (lots.csv, visits.csv, ...), and the same replication's
+/// statistics from an untraced run; tracing must read the model, never change it.
+pub fn traced_replication(plant: &Plant) -> (tempfile::TempDir, RepStats) {
+    use layflow_models::sim::trace::{TraceOptions, TraceSink};
+    let plan = Plan::new(plant, 0);
+    let spec = RunSpec {
+        layout: 0,
+        horizon_s: plant.run.horizon_s,
+        warmup_s: plant.run.warmup_s,
+        demand_factor: 1.0,
+        seed: plant.run.seed,
+    };
+    let dir = tempfile::tempdir().expect("temp dir");
+    let mut sink = TraceSink::create(dir.path()).expect("trace files");
+    let opts = TraceOptions::new(plant, (spec.warmup_s, spec.horizon_s));
+    let traced =
+        layflow_models::sim::simulate_traced(&plan, &spec, 0, &mut sink, &opts).expect("trace written");
+    sink.flush().expect("flushed");
+    let rep = layflow_models::sim::simulate(&plan, &spec, 0);
+    assert_eq!(traced.events, rep.events, "tracing reads the model, never changes it");
+    (dir, rep)
+}
+
+/// A traced folder's visits.csv: each lot's (product, start, end), by trace
+/// lot number (for plants where each lot makes one timed visit).
+pub fn visit_times(dir: &Path) -> std::collections::BTreeMap<u32, (String, f64, f64)> {
+    let text = std::fs::read_to_string(dir.join("visits.csv")).expect("visits.csv");
+    let mut lines = text.lines();
+    let head: Vec<&str> = lines.next().expect("header").split(',').collect();
+    let col = |n: &str| head.iter().position(|h| *h == n).expect("column");
+    let mut out = std::collections::BTreeMap::new();
+    for l in lines {
+        let v: Vec<&str> = l.split(',').collect();
+        let num = |n: &str| v[col(n)].parse::<f64>().expect("a number");
+        out.insert(
+            v[col("lot")].parse().expect("lot"),
+            (v[col("product")].to_string(), num("start"), num("end")),
+        );
+    }
+    out
+}
+
 /// Replicates layout `layout` of `plant` with the scenario's own run settings
 /// (horizon, warm-up, replications, seed) and summarises it.
 pub fn run_layout(plant: &Plant, layout: usize) -> Run {

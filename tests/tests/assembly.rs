@@ -17,9 +17,8 @@ use std::collections::BTreeMap;
 
 use layflow_models::metrics::{value, Id};
 use layflow_models::plant::Plant;
-use layflow_models::sim::trace::{TraceOptions, TraceSink};
-use layflow_models::sim::{simulate, simulate_traced, Plan, RepStats, RunSpec};
-use layflow_tests::{check_little, department, load, run_layout, scaled, Checks, HOUR};
+use layflow_models::sim::{simulate, Plan, RepStats, RunSpec};
+use layflow_tests::{check_little, department, load, run_layout, scaled, traced_replication, Checks, HOUR};
 
 const TOL: f64 = 1e-9;
 const MIN: f64 = 60.0;
@@ -44,21 +43,7 @@ fn rows(dir: &std::path::Path, file: &str) -> Vec<BTreeMap<String, String>> {
 type Traced = (Vec<BTreeMap<String, String>>, Vec<BTreeMap<String, String>>, RepStats);
 
 fn traced(plant: &Plant) -> Traced {
-    let plan = Plan::new(plant, 0);
-    let spec = RunSpec {
-        layout: 0,
-        horizon_s: plant.run.horizon_s,
-        warmup_s: plant.run.warmup_s,
-        demand_factor: 1.0,
-        seed: plant.run.seed,
-    };
-    let dir = tempfile::tempdir().expect("temp dir");
-    let mut sink = TraceSink::create(dir.path()).expect("trace files");
-    let opts = TraceOptions::new(plant, (spec.warmup_s, spec.horizon_s));
-    let t = simulate_traced(&plan, &spec, 0, &mut sink, &opts).expect("trace written");
-    sink.flush().expect("flushed");
-    let rep = simulate(&plan, &spec, 0);
-    assert_eq!(t.events, rep.events, "tracing reads the model, never changes it");
+    let (dir, rep) = traced_replication(plant);
     (rows(dir.path(), "lots.csv"), rows(dir.path(), "visits.csv"), rep)
 }
 

@@ -18,9 +18,10 @@ use std::collections::BTreeMap;
 
 use layflow_models::metrics::{value, Id};
 use layflow_models::plant::Plant;
-use layflow_models::sim::trace::{TraceOptions, TraceSink};
-use layflow_models::sim::{simulate, simulate_traced, Plan, RepStats, RunSpec};
-use layflow_tests::{check_little, department, hours, hw, load, run_layout, shifted, Checks};
+use layflow_models::sim::RepStats;
+use layflow_tests::{
+    check_little, department, hours, hw, load, run_layout, shifted, traced_replication, visit_times, Checks,
+};
 
 const K: f64 = 3.0;
 const BIAS_REL: f64 = 1e-3;
@@ -198,35 +199,8 @@ fn bulk_service_queue_matches_its_markov_chain() {
 /// One replication of `plant` traced: each lot's (product, start, end) at
 /// its batch department, by trace lot number, and the replication.
 fn starts_and_ends(plant: &Plant) -> (BTreeMap<u32, (String, f64, f64)>, RepStats) {
-    let plan = Plan::new(plant, 0);
-    let spec = RunSpec {
-        layout: 0,
-        horizon_s: plant.run.horizon_s,
-        warmup_s: plant.run.warmup_s,
-        demand_factor: 1.0,
-        seed: plant.run.seed,
-    };
-    let dir = tempfile::tempdir().expect("temp dir");
-    let mut sink = TraceSink::create(dir.path()).expect("trace files");
-    let opts = TraceOptions::new(plant, (spec.warmup_s, spec.horizon_s));
-    let traced = simulate_traced(&plan, &spec, 0, &mut sink, &opts).expect("trace written");
-    sink.flush().expect("flushed");
-    let rep = simulate(&plan, &spec, 0);
-    assert_eq!(traced.events, rep.events, "tracing reads the model, never changes it");
-    let text = std::fs::read_to_string(dir.path().join("visits.csv")).expect("visits.csv");
-    let mut lines = text.lines();
-    let head: Vec<&str> = lines.next().expect("header").split(',').collect();
-    let col = |n: &str| head.iter().position(|h| *h == n).expect("column");
-    let mut out = BTreeMap::new();
-    for l in lines {
-        let v: Vec<&str> = l.split(',').collect();
-        let num = |n: &str| v[col(n)].parse::<f64>().expect("a number");
-        out.insert(
-            v[col("lot")].parse().expect("lot"),
-            (v[col("product")].to_string(), num("start"), num("end")),
-        );
-    }
-    (out, rep)
+    let (dir, rep) = traced_replication(plant);
+    (visit_times(dir.path()), rep)
 }
 
 /// Little's law exactly (docs/formulas.md §4): every lot is released and

@@ -159,7 +159,8 @@ pub(crate) fn attach(
                         "add `setups:` to the department, or say `for: operation` or `for: loading`",
                     ));
             }
-            idle_for_the_run(&crews[crew], horizon_s).map_or(Ok(()), |why| {
+            // The department would wait for ever for a person: the same message, its own remedy.
+            let deadlock = |why: String, hint: &str| {
                 Err(ctx
                     .err(
                         &pp.key("crew"),
@@ -168,20 +169,18 @@ pub(crate) fn attach(
                             d.id, crews[crew].id
                         ),
                     )
-                    .with_hint("give the crew a shift that starts before the horizon, or lengthen the run"))
-            })?;
+                    .with_hint(hint))
+            };
+            if let Some(why) = idle_for_the_run(&crews[crew], horizon_s) {
+                return deadlock(
+                    why,
+                    "give the crew a shift that starts before the horizon, or lengthen the run",
+                );
+            }
             if let Some(cal) = departments[i].calendar.as_ref() {
-                never_together(&crews[crew], &cal.duty, horizon_s).map_or(Ok(()), |why| {
-                    Err(ctx
-                        .err(
-                            &pp.key("crew"),
-                            format!(
-                            "people deadlock: department \"{}\" needs a person from crew \"{}\", but {why}",
-                            d.id, crews[crew].id
-                        ),
-                        )
-                        .with_hint("give the crew shifts that overlap the department's calendar"))
-                })?;
+                if let Some(why) = never_together(&crews[crew], &cal.duty, horizon_s) {
+                    return deadlock(why, "give the crew shifts that overlap the department's calendar");
+                }
             }
             departments[i].people = Some(People { crew, task, loading });
         }
